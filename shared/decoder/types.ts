@@ -1,0 +1,126 @@
+// The contracts between decoder stages. Every stage is an object with push(chunk) and
+// finish(); it emits to the next stage through a sink given at construction, so any split
+// of the input into chunks gives the same output.
+//
+//   reader (bytes → Transitions) → bits (Transitions → BitChunk per link)
+//     → deframer (BitChunk → RawFrame) → fcs + link (RawFrame → DecodedFrame)
+//
+// Time stays an integer sample index (a float64 holding an integer, so captures beyond
+// 2^32 samples work) until it is shown; seconds = sample * samplePeriod.
+
+/** A problem in the input, kept as a value with its position and turned into a message at the edge. */
+export interface DecodeIssue {
+  /** byte offset in the input where the problem was found */
+  offset: number;
+  /** 1-based line number for text formats */
+  line?: number;
+  /** what the reader expected there */
+  expected: string;
+  /** a sentence a user can act on */
+  message: string;
+}
+
+/** Thrown only at the boundary between the decoder and its caller (CLI, API): never from hot loops. */
+export class DecodeError extends Error {
+  constructor(public readonly issue: DecodeIssue) {
+    super(issue.message);
+    this.name = 'DecodeError';
+  }
+}
+
+export type CaptureFormat = 'vcd' | 'csv' | 'raw' | 'octets' | 'framelog';
+
+export interface ChannelInfo {
+  /** index used in Transitions.channel */
+  index: number;
+  /** display and addressing name: VCD reference (scope.name when ambiguous), CSV header, raw name or bit index */
+  name: string;
+}
+
+/**
+ * Level changes of the captured channels, in time order across channels.
+ * A reader first emits one transition per channel at sample 0 (or its first known sample)
+ * giving the initial level, then one per change. Unknown values (VCD x/z) are value 2.
+ */
+export interface Transitions {
+  channel: Uint8Array;
+  sample: Float64Array;
+  value: Uint8Array;
+  /** number of valid entries */
+  n: number;
+}
+
+/** Recovered line bits of one link after NRZ/NRZI decoding and inversion. */
+export interface BitChunk {
+  /** one bit per element, 0 or 1, valid in [0, n) */
+  bits: Uint8Array;
+  /** sample index at which each bit was taken */
+  samples: Float64Array;
+  n: number;
+}
+
+export type FrameStatus = 'ok' | 'bad-fcs' | 'abort' | 'short' | 'residue';
+
+/** One frame between flags as the deframer found it, before FCS and link decode. */
+export interface RawFrame {
+  /** link name (the data channel's name) */
+  link: string;
+  /** 0-based order of this frame on its link */
+  seq: number;
+  /** sample index of the first bit after the opening flag */
+  firstSample: number;
+  /** sample index of the last bit before the closing flag (or abort) */
+  lastSample: number;
+  /** every whole octet between the flags, FCS included, LSB-first assembly as HDLC sends them */
+  bytes: Uint8Array;
+  /** number of bits after zero-bit deletion (bytes.length * 8 + residue bits) */
+  bitLength: number;
+  /** bit positions, counted in the line bits after the opening flag, of the deleted stuffing zeros */
+  stuffed: number[];
+  /** abort / short / residue are decided here; ok vs bad-fcs by the FCS stage */
+  status: FrameStatus;
+}
+
+export type FrameKind = 'I' | 'S' | 'U';
+
+export interface LinkDecode {
+  address: number;
+  control: number;
+  kind: FrameKind;
+  /** RR, RNR, REJ, SREJ, SNRM, UA, UI, … or 'I' for information frames; '?' for unknown U codes */
+  command: string;
+  ns: number | null;
+  nr: number | null;
+  /** poll/final bit */
+  pf: boolean;
+  /** offset in bytes of the information field (2 for modulo-8 control) */
+  infoOffset: number;
+  /** length of the information field (octets between control and FCS) */
+  infoLength: number;
+}
+
+export interface DecodedFrame extends RawFrame {
+  /** FCS as received: the first octet on the wire is the low-order byte; null when too short */
+  fcsReceived: number | null;
+  /** FCS computed over address, control and information; null when too short */
+  fcsComputed: number | null;
+  /**
+   * For a bad-fcs frame: index of the single bit (in destuffed transmission order, counted
+   * from the first bit of the address, FCS bits included) whose flip makes the FCS good; null if none.
+   */
+  flippedBit: number | null;
+  /** null for frames too short to carry address and control */
+  decode: LinkDecode | null;
+}
+
+/** A change on a handshake line, an idle period or a stretch of fill flags. */
+export interface LineEvent {
+  link: string | null;
+  channel: string;
+  kind: 'rise' | 'fall' | 'idle' | 'flags' | 'unknown';
+  sample: number;
+  /** for idle and flags: sample index where the stretch ended */
+  endSample?: number;
+  /** for flags: how many fill flags */
+  count?: number;
+}

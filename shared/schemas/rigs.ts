@@ -1,0 +1,110 @@
+import { z } from 'zod';
+import { roleSchema } from './common';
+
+export const encodingSchema = z.enum(['nrz', 'nrzi']);
+export const clockEdgeSchema = z.enum(['rising', 'falling']);
+export const bitOrderSchema = z.enum(['lsb-first', 'msb-first']);
+
+export const lineSettingsSchema = z.object({
+  bitRate: z.coerce
+    .number({ error: 'Enter a bit rate' })
+    .int('Use a whole number of bit/s')
+    .min(50, 'At least 50 bit/s')
+    .max(100_000_000, 'At most 100 Mbit/s'),
+  encoding: encodingSchema,
+  clockEdge: clockEdgeSchema,
+  bitOrder: bitOrderSchema,
+});
+export type LineSettings = z.infer<typeof lineSettingsSchema>;
+
+export const rigInputSchema = z.object({
+  name: z.string().trim().min(1, 'Give the rig a name').max(100, 'Use at most 100 characters'),
+  description: z.string().trim().max(2000, 'Use at most 2000 characters').default(''),
+  lineSettings: lineSettingsSchema,
+});
+export type RigInput = z.input<typeof rigInputSchema>;
+
+export const rigPatchSchema = rigInputSchema.partial();
+export type RigPatch = z.input<typeof rigPatchSchema>;
+
+export const stationRoleSchema = z.enum(['server', 'station']);
+
+/** HDLC address octet, entered as decimal or 0x-prefixed hex */
+export const addressSchema = z.preprocess(
+  (v) => (typeof v === 'string' && /^\s*0x[0-9a-f]+\s*$/i.test(v) ? Number.parseInt(v.trim().slice(2), 16) : v),
+  z.coerce.number({ error: 'Enter an address 0–255' }).int('Enter an address 0–255').min(0, 'Enter an address 0–255').max(255, 'Enter an address 0–255'),
+);
+
+export const stationInputSchema = z.object({
+  address: addressSchema,
+  name: z.string().trim().min(1, 'Give the station a name').max(80, 'Use at most 80 characters'),
+  role: stationRoleSchema,
+});
+export type StationInput = z.input<typeof stationInputSchema>;
+export const stationPatchSchema = stationInputSchema.partial();
+
+export interface Station {
+  id: number;
+  rigId: number;
+  address: number;
+  name: string;
+  role: z.infer<typeof stationRoleSchema>;
+}
+
+export interface RigSummary {
+  id: number;
+  name: string;
+  description: string;
+  lineSettings: LineSettings;
+  myRole: z.infer<typeof roleSchema>;
+  stationCount: number;
+  memberCount: number;
+  createdAt: string;
+}
+
+export interface RigDetail extends RigSummary {
+  stations: Station[];
+}
+
+export const memberPatchSchema = z.object({ role: roleSchema });
+
+export interface Member {
+  userId: number;
+  email: string;
+  name: string;
+  role: z.infer<typeof roleSchema>;
+}
+
+export const invitationInputSchema = z.object({
+  email: z.string().trim().toLowerCase().email('Enter a valid e-mail address'),
+  role: roleSchema,
+});
+export type InvitationInput = z.input<typeof invitationInputSchema>;
+
+export interface Invitation {
+  id: number;
+  rigId: number;
+  email: string;
+  role: z.infer<typeof roleSchema>;
+  invitedBy: string;
+  createdAt: string;
+  expiresAt: string;
+}
+
+/** What an invitation link shows before it is accepted */
+export interface InvitationPreview {
+  rigName: string;
+  email: string;
+  role: z.infer<typeof roleSchema>;
+  invitedBy: string;
+  accountExists: boolean;
+}
+
+export interface MailMessage {
+  id: number;
+  to: string;
+  subject: string;
+  text: string;
+  html: string | null;
+  createdAt: string;
+}
