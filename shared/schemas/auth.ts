@@ -37,3 +37,24 @@ export interface SessionInfo {
   /** development mailbox available (fake mail transport) */
   devMailbox: boolean;
 }
+
+/** POST /api/session and POST /api/password-resets/:token answer this (the user is signed in) */
+export interface SignInResult {
+  user: User;
+  csrfToken: string;
+}
+
+/** DELETE /api/session */
+export interface SignOutResult {
+  csrfToken: string;
+}
+
+/** POST /api/invitations/:token/accept */
+export interface AcceptInvitationResult extends SignInResult {
+  rigId: number;
+}
+
+/** GET /api/password-resets/:token */
+export interface PasswordResetPreview {
+  email: string;
+}

@@ -17,14 +17,17 @@ export const lineSettingsSchema = z.object({
 });
 export type LineSettings = z.infer<typeof lineSettingsSchema>;
 
-export const rigInputSchema = z.object({
+const rigFields = {
   name: z.string().trim().min(1, 'Give the rig a name').max(100, 'Use at most 100 characters'),
-  description: z.string().trim().max(2000, 'Use at most 2000 characters').default(''),
+  description: z.string().trim().max(2000, 'Use at most 2000 characters'),
   lineSettings: lineSettingsSchema,
-});
+};
+
+export const rigInputSchema = z.object({ ...rigFields, description: rigFields.description.default('') });
 export type RigInput = z.input<typeof rigInputSchema>;
 
-export const rigPatchSchema = rigInputSchema.partial();
+// No defaults here: a patch that leaves a field out must leave it unchanged.
+export const rigPatchSchema = z.object(rigFields).partial();
 export type RigPatch = z.input<typeof rigPatchSchema>;
 
 export const stationRoleSchema = z.enum(['server', 'station']);

@@ -1,0 +1,82 @@
+import session from 'express-session';
+import { eq, lt } from 'drizzle-orm';
+import type { Db } from '../db/client';
+import { sessions } from '../db/schema';
+
+const DEFAULT_TTL_MS = 14 * 24 * 60 * 60 * 1000;
+const CLEANUP_INTERVAL_MS = 15 * 60 * 1000;
+
+type Callback = (err?: unknown) => void;
+
+/** express-session store on the `sessions` table, so sign-ins survive a server restart. */
+export class SqliteSessionStore extends session.Store {
+  private timer: NodeJS.Timeout;
+
+  constructor(private readonly db: Db) {
+    super();
+    this.clearExpired();
+    this.timer = setInterval(() => this.clearExpired(), CLEANUP_INTERVAL_MS);
+    this.timer.unref();
+  }
+
+  private expiry(sess: session.SessionData): number {
+    const expires = sess.cookie?.expires;
+    if (expires) return new Date(expires).getTime();
+    return Date.now() + (sess.cookie?.maxAge ?? DEFAULT_TTL_MS);
+  }
+
+  clearExpired(): number {
+    return this.db.delete(sessions).where(lt(sessions.expiresAt, Date.now())).run().changes;
+  }
+
+  get(sid: string, cb: (err: unknown, session?: session.SessionData | null) => void): void {
+    try {
+      const row = this.db.select().from(sessions).where(eq(sessions.sid, sid)).get();
+      if (!row) return cb(null, null);
+      if (row.expiresAt < Date.now()) {
+        this.db.delete(sessions).where(eq(sessions.sid, sid)).run();
+        return cb(null, null);
+      }
+      cb(null, JSON.parse(row.data) as session.SessionData);
+    } catch (err) {
+      cb(err);
+    }
+  }
+
+  set(sid: string, sess: session.SessionData, cb?: Callback): void {
+    try {
+      const data = JSON.stringify(sess);
+      const expiresAt = this.expiry(sess);
+      this.db
+        .insert(sessions)
+        .values({ sid, data, expiresAt })
+        .onConflictDoUpdate({ target: sessions.sid, set: { data, expiresAt } })
+        .run();
+      cb?.();
+    } catch (err) {
+      cb?.(err);
+    }
+  }
+
+  destroy(sid: string, cb?: Callback): void {
+    try {
+      this.db.delete(sessions).where(eq(sessions.sid, sid)).run();
+      cb?.();
+    } catch (err) {
+      cb?.(err);
+    }
+  }
+
+  touch(sid: string, sess: session.SessionData, cb?: Callback): void {
+    try {
+      this.db.update(sessions).set({ expiresAt: this.expiry(sess) }).where(eq(sessions.sid, sid)).run();
+      cb?.();
+    } catch (err) {
+      cb?.(err);
+    }
+  }
+
+  close(): void {
+    clearInterval(this.timer);
+  }
+}

@@ -1,0 +1,54 @@
+import { sql } from 'drizzle-orm';
+import type { Role } from '../../shared/schemas';
+import type { PasswordHasher } from '../auth/passwords';
+import type { Db } from '../db/client';
+import { memberships, rigs, stations, users } from '../db/schema';
+
+/** Demo mode only: the sign-in page shows these accounts. */
+export const DEMO_PASSWORD = 'flagline-demo';
+export const DEMO_ACCOUNTS: { email: string; name: string; role: Role }[] = [
+  { email: 'owner@demo.test', name: 'Agnes Pellow', role: 'owner' },
+  { email: 'analyst@demo.test', name: 'Tobias Quill', role: 'analyst' },
+  { email: 'viewer@demo.test', name: 'Mina Hartree', role: 'viewer' },
+];
+
+/** Our own invented scenario: a small parish office network of the early 1980s. */
+export const DEMO_RIG = {
+  name: 'Wrenfield Parish Office, 1983',
+  description:
+    'A small parish office network: a file server in the vestry and three desk stations sharing the ' +
+    'parish registers and one printer over synchronous serial links.',
+  lineSettings: { bitRate: 800_000, encoding: 'nrzi', clockEdge: 'rising', bitOrder: 'lsb-first' } as const,
+  stations: [
+    { address: 0x10, name: 'Vestry file server', role: 'server' },
+    { address: 0x21, name: 'Registry desk', role: 'station' },
+    { address: 0x22, name: 'Treasurer desk', role: 'station' },
+    { address: 0x23, name: 'Choir office', role: 'station' },
+  ] as const,
+};
+
+/** Seeds the demo on an empty database (no users yet); returns whether it did. */
+export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<boolean> {
+  const hasUsers = () => db.select({ n: sql<number>`count(*)` }).from(users).get()!.n > 0;
+  if (hasUsers()) return false;
+  const hashes = await Promise.all(DEMO_ACCOUNTS.map(() => hasher.hash(DEMO_PASSWORD)));
+  return db.transaction((tx) => {
+    if (tx.select({ n: sql<number>`count(*)` }).from(users).get()!.n > 0) return false;
+    const ids = DEMO_ACCOUNTS.map(
+      (a, i) => tx.insert(users).values({ email: a.email, name: a.name, passwordHash: hashes[i] }).returning().get().id,
+    );
+    const rig = tx
+      .insert(rigs)
+      .values({
+        name: DEMO_RIG.name,
+        description: DEMO_RIG.description,
+        ...DEMO_RIG.lineSettings,
+        createdBy: ids[0],
+      })
+      .returning()
+      .get();
+    for (const s of DEMO_RIG.stations) tx.insert(stations).values({ rigId: rig.id, ...s }).run();
+    DEMO_ACCOUNTS.forEach((a, i) => tx.insert(memberships).values({ rigId: rig.id, userId: ids[i], role: a.role }).run());
+    return true;
+  });
+}

@@ -1,0 +1,78 @@
+import { createBrowserRouter } from 'react-router';
+import { NotFound } from '../components/not-found';
+import { ApiError } from '../lib/api';
+import { MailboxPage } from '../features/mailbox/components/mailbox-page';
+import { CreateRigForm } from '../features/rigs/components/create-rig-form';
+import { RigList } from '../features/rigs/components/rig-list';
+import { replaceSession, sessionQueryOptions } from '../features/session/api/get-session';
+import { sessionKeys } from '../features/session/api/session-keys';
+import { ResetPasswordPage } from '../features/session/components/reset-password-page';
+import { ResetRequestPage } from '../features/session/components/reset-request-page';
+import { SignInPage } from '../features/session/components/sign-in-page';
+import { AppLayout } from './layout/app-layout';
+import { queryClient } from './query-client';
+import { InvitationRoute } from './routes/invitation-route';
+import { AppRouteError, RigRouteError } from './routes/route-errors';
+import {
+  MembersRoute,
+  RigRoute,
+  SettingsRoute,
+  StationsRoute,
+  membersLoader,
+  rigListLoader,
+  rigLoader,
+} from './routes/rig-routes';
+import { requireUserLoader, rootLoader, signInLoader } from './routes/session-loaders';
+
+export const router = createBrowserRouter([
+  {
+    id: 'root',
+    loader: rootLoader,
+    errorElement: <AppRouteError />,
+    children: [
+      { path: 'sign-in', loader: signInLoader, element: <SignInPage /> },
+      { path: 'reset-password', element: <ResetRequestPage /> },
+      { path: 'reset-password/:token', element: <ResetPasswordPage /> },
+      { path: 'invitations/:token', element: <InvitationRoute /> },
+      {
+        loader: requireUserLoader,
+        element: <AppLayout />,
+        children: [
+          {
+            errorElement: <AppRouteError />,
+            children: [
+              { index: true, loader: rigListLoader, element: <RigList /> },
+              { path: 'rigs/new', element: <CreateRigForm /> },
+              {
+                path: 'rigs/:rigId',
+                loader: rigLoader,
+                element: <RigRoute />,
+                errorElement: <RigRouteError />,
+                children: [
+                  { index: true, element: <StationsRoute /> },
+                  { path: 'settings', element: <SettingsRoute /> },
+                  { path: 'members', loader: membersLoader, element: <MembersRoute /> },
+                ],
+              },
+              { path: 'dev/mailbox', element: <MailboxPage /> },
+              { path: '*', element: <NotFound /> },
+            ],
+          },
+        ],
+      },
+    ],
+  },
+]);
+
+// A session that ends while the app is open (expiry, sign-out elsewhere) sends the user to sign in.
+queryClient.getQueryCache().subscribe((event) => {
+  if (event.type !== 'updated' || event.action.type !== 'error') return;
+  const error = event.action.error;
+  if (!(error instanceof ApiError) || error.status !== 401) return;
+  if (event.query.queryKey[0] === sessionKeys.all[0]) return;
+  const csrfToken = queryClient.getQueryData(sessionQueryOptions().queryKey)?.csrfToken ?? '';
+  replaceSession(queryClient, { user: null, csrfToken });
+  void queryClient.invalidateQueries({ queryKey: sessionKeys.current() });
+  const here = window.location.pathname + window.location.search;
+  void router.navigate(`/sign-in?next=${encodeURIComponent(here)}`, { replace: true });
+});

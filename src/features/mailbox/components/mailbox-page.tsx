@@ -1,0 +1,55 @@
+import { Button } from '../../../components/button';
+import { Card } from '../../../components/card';
+import { ErrorNotice } from '../../../components/notice';
+import { isApiError } from '../../../lib/api';
+import { formatDateTime } from '../../../lib/format';
+import { useMailbox } from '../api/get-mailbox';
+import { LinkifiedText } from './linkified-text';
+
+export function MailboxPage() {
+  const mailbox = useMailbox();
+  return (
+    <div className="space-y-4">
+      <div className="flex items-end justify-between gap-4">
+        <div>
+          <h1 className="text-xl font-semibold">Development mailbox</h1>
+          <p className="text-sm text-muted">
+            This server keeps outgoing mail here instead of sending it. Newest first.
+          </p>
+        </div>
+        <Button variant="secondary" busy={mailbox.isFetching} onClick={() => mailbox.refetch()}>
+          Refresh
+        </Button>
+      </div>
+      {mailbox.isPending ? <p className="text-sm text-muted">Loading messages…</p> : null}
+      {mailbox.isError ? (
+        <ErrorNotice error={mailbox.error}>
+          {isApiError(mailbox.error, 404)
+            ? 'This server sends real e-mail, so there is no development mailbox.'
+            : isApiError(mailbox.error, 403)
+              ? 'The development mailbox is open to rig owners only.'
+              : undefined}
+        </ErrorNotice>
+      ) : null}
+      {mailbox.data?.length === 0 ? <p className="text-sm text-muted">No messages yet.</p> : null}
+      <ul className="space-y-3">
+        {mailbox.data?.map((message) => (
+          <li key={message.id}>
+            <Card className="p-4">
+              <article aria-label={message.subject}>
+                <header className="mb-2 flex flex-wrap items-baseline justify-between gap-2 border-b border-line pb-2">
+                  <h2 className="font-semibold">{message.subject}</h2>
+                  <span className="text-xs text-muted">{formatDateTime(message.createdAt)}</span>
+                </header>
+                <p className="mb-2 text-xs text-muted">
+                  To <span className="font-mono text-text">{message.to}</span>
+                </p>
+                <LinkifiedText text={message.text} />
+              </article>
+            </Card>
+          </li>
+        ))}
+      </ul>
+    </div>
+  );
+}

@@ -1,0 +1,157 @@
+import { afterAll, describe, expect, it } from 'vitest';
+import type { FlaglineApp } from '../../server/index';
+import { hashToken } from '../../server/auth/tokens';
+import { invitations, passwordResets, rigs, stations } from '../../server/db/schema';
+import { Client, addMember, anonymous, makeUser, rigBody, signedIn, testApp } from './helpers';
+import { listRoutes } from './route-list';
+
+/**
+ * Every API route, with the status each kind of caller gets. The callers:
+ *   anon     no sign-in (but a session and a CSRF token, so the guard is what answers)
+ *   viewer   viewer of rig A · analyst: analyst of rig A · owner: owner of rig A
+ *   stranger owner of another rig B, not a member of rig A
+ * Route parameters point into rig A. A route that exists but is missing here fails the first test.
+ */
+type Caller = 'anon' | 'viewer' | 'analyst' | 'stranger' | 'owner';
+const CALLERS: Caller[] = ['anon', 'viewer', 'analyst', 'stranger', 'owner'];
+type Row = [anon: number, viewer: number, analyst: number, stranger: number, owner: number];
+
+const EVERYONE = (s: number): Row => [s, s, s, s, s];
+const SIGNED_IN = (s: number): Row => [401, s, s, s, s];
+const MEMBER = (s: number): Row => [401, s, s, 403, s];
+const OWNER = (s: number): Row => [401, 403, 403, 403, s];
+
+const MATRIX: Record<string, Row> = {
+  'GET /api/session': EVERYONE(200),
+  'POST /api/session': EVERYONE(200),
+  'DELETE /api/session': SIGNED_IN(200),
+  'POST /api/password-resets': EVERYONE(202),
+  'GET /api/password-resets/:token': EVERYONE(200),
+  'POST /api/password-resets/:token': EVERYONE(200),
+  'GET /api/invitations/:token': EVERYONE(200),
+  'POST /api/invitations/:token/accept': EVERYONE(200),
+  'GET /api/rigs': SIGNED_IN(200),
+  'POST /api/rigs': SIGNED_IN(201),
+  'GET /api/rigs/:rigId': MEMBER(200),
+  'PATCH /api/rigs/:rigId': OWNER(200),
+  'DELETE /api/rigs/:rigId': OWNER(204),
+  'POST /api/rigs/:rigId/stations': OWNER(201),
+  'PATCH /api/rigs/:rigId/stations/:stationId': OWNER(200),
+  'DELETE /api/rigs/:rigId/stations/:stationId': OWNER(204),
+  'GET /api/rigs/:rigId/members': MEMBER(200),
+  // the target is another member; leaving the rig oneself is in rigs.test.ts
+  'PATCH /api/rigs/:rigId/members/:userId': OWNER(200),
+  'DELETE /api/rigs/:rigId/members/:userId': OWNER(204),
+  'GET /api/rigs/:rigId/invitations': OWNER(200),
+  'POST /api/rigs/:rigId/invitations': OWNER(201),
+  'DELETE /api/rigs/:rigId/invitations/:invitationId': OWNER(204),
+  // owners of any rig: the stranger owns rig B
+  'GET /api/dev/mailbox': [401, 403, 403, 200, 200],
+};
+
+/** valid bodies, so a caller the guard lets through gets the route's success status */
+const BODIES: Record<string, object> = {
+  'POST /api/session': { email: 'extra@example.test', password: 'correct horse battery' },
+  'POST /api/password-resets': { email: 'extra@example.test' },
+  'POST /api/password-resets/:token': { password: 'a brand new password' },
+  'POST /api/invitations/:token/accept': { name: 'Ivy Invitee', password: 'a brand new password' },
+  'POST /api/rigs': rigBody('Another rig'),
+  'PATCH /api/rigs/:rigId': { name: 'Renamed' },
+  'POST /api/rigs/:rigId/stations': { address: 0x30, name: 'New desk', role: 'station' },
+  'PATCH /api/rigs/:rigId/stations/:stationId': { name: 'Renamed desk' },
+  'PATCH /api/rigs/:rigId/members/:userId': { role: 'analyst' },
+  'POST /api/rigs/:rigId/invitations': { email: 'someone.new@example.test', role: 'viewer' },
+};
+
+const INVITE_TOKEN = 'role-matrix-invitation-token';
+const RESET_TOKEN = 'role-matrix-reset-token';
+
+interface World {
+  app: FlaglineApp;
+  params: Record<string, number | string>;
+}
+
+async function buildWorld(): Promise<World> {
+  const app = await testApp();
+  const db = app.db.db;
+  const ownerId = await makeUser(app, 'owner@example.test');
+  const viewerId = await makeUser(app, 'viewer@example.test');
+  const analystId = await makeUser(app, 'analyst@example.test');
+  const strangerId = await makeUser(app, 'stranger@example.test');
+  const extraId = await makeUser(app, 'extra@example.test');
+  const rigA = db.insert(rigs).values({ name: 'Rig A', bitRate: 800000, encoding: 'nrzi', clockEdge: 'rising', bitOrder: 'lsb-first' }).returning().get().id;
+  const rigB = db.insert(rigs).values({ name: 'Rig B', bitRate: 9600, encoding: 'nrz', clockEdge: 'falling', bitOrder: 'msb-first' }).returning().get().id;
+  addMember(app, rigA, ownerId, 'owner');
+  addMember(app, rigA, viewerId, 'viewer');
+  addMember(app, rigA, analystId, 'analyst');
+  addMember(app, rigA, extraId, 'viewer');
+  addMember(app, rigB, strangerId, 'owner');
+  const stationId = db.insert(stations).values({ rigId: rigA, address: 0x10, name: 'Server', role: 'server' }).returning().get().id;
+  const hour = 3600_000;
+  const invitationId = db
+    .insert(invitations)
+    .values({ rigId: rigA, email: 'invitee@example.test', role: 'viewer', tokenHash: hashToken(INVITE_TOKEN), invitedBy: ownerId, expiresAt: new Date(Date.now() + hour) })
+    .returning()
+    .get().id;
+  db.insert(passwordResets).values({ userId: extraId, tokenHash: hashToken(RESET_TOKEN), expiresAt: new Date(Date.now() + hour) }).run();
+  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId } };
+}
+
+function fillPath(route: string, params: World['params']): string {
+  const token = route.includes('/invitations/:token') ? INVITE_TOKEN : RESET_TOKEN;
+  return route.replace(/:(\w+)/g, (_, name: string) => String(name === 'token' ? token : params[name]));
+}
+
+async function callerClient(app: FlaglineApp, caller: Caller): Promise<Client> {
+  return caller === 'anon' ? anonymous(app) : signedIn(app, `${caller}@example.test`);
+}
+
+const apps: FlaglineApp[] = [];
+afterAll(() => apps.forEach((a) => a.close()));
+
+describe('role matrix', () => {
+  it('lists every mounted API route, and only those', async () => {
+    const app = await testApp();
+    apps.push(app);
+    const mounted = listRoutes(app.app).filter((r) => r.split(' ')[1].startsWith('/api'));
+    expect(mounted).toEqual(Object.keys(MATRIX).sort());
+  });
+
+  for (const [key, expected] of Object.entries(MATRIX)) {
+    const [method, route] = key.split(' ');
+    it(`${key} answers ${CALLERS.map((c, i) => `${c} ${expected[i]}`).join(', ')}`, async () => {
+      const got: Record<string, number> = {};
+      for (const caller of CALLERS) {
+        // a fresh world per caller: a successful DELETE must not change what the next caller sees
+        const world = await buildWorld();
+        apps.push(world.app);
+        const client = await callerClient(world.app, caller);
+        const res = await client.send(method, fillPath(route, world.params), BODIES[key]);
+        got[caller] = res.status;
+        world.app.close();
+        apps.pop();
+      }
+      expect(got).toEqual(Object.fromEntries(CALLERS.map((c, i) => [c, expected[i]])));
+    });
+  }
+
+  it('answers 404 to a signed-in caller for every rig route with an unknown rig id', async () => {
+    const world = await buildWorld();
+    apps.push(world.app);
+    const owner = await signedIn(world.app, 'owner@example.test');
+    for (const key of Object.keys(MATRIX).filter((k) => k.includes(':rigId'))) {
+      const [method, route] = key.split(' ');
+      const res = await owner.send(method, fillPath(route, { ...world.params, rigId: 987654 }), BODIES[key]);
+      expect([key, res.status]).toEqual([key, 404]);
+    }
+  });
+});
+
+describe('route listing', () => {
+  it('sees a route added after the app was built', async () => {
+    const app = await testApp();
+    apps.push(app);
+    app.app.get('/api/not-in-the-matrix', (_req, res) => res.json({}));
+    expect(listRoutes(app.app)).toContain('GET /api/not-in-the-matrix');
+  });
+});
