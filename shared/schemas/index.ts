@@ -1,3 +1,4 @@
 export * from './common';
 export * from './auth';
 export * from './rigs';
+export * from './captures';
