@@ -41,6 +41,9 @@ export interface ChannelInfo {
  * Level changes of the captured channels, in time order across channels.
  * A reader first emits one transition per channel at sample 0 (or its first known sample)
  * giving the initial level, then one per change. Unknown values (VCD x/z) are value 2.
+ * When the input ends, a reader repeats each channel's current level at the last sample the
+ * capture covers (a transition whose value equals the level: no change), so bit recovery
+ * knows how far the capture reaches. The arrays are reused between calls.
  */
 export interface Transitions {
   channel: Uint8Array;
@@ -123,4 +126,76 @@ export interface LineEvent {
   endSample?: number;
   /** for flags: how many fill flags */
   count?: number;
+}
+
+// ---- Stage interfaces (implemented in readers/, bits.ts, deframe.ts; composed in pipeline.ts) ----
+
+export interface ReaderOptions {
+  /** samples per second: required for raw binary and for CSV with a sample-index column */
+  sampleRate?: number;
+  /** names for raw-binary bits 0,1,2…; defaults to "0","1",… */
+  channelNames?: string[];
+  /** raw binary sample width in bytes */
+  rawWidth?: 1 | 2;
+  /** line bit/s: for octet streams (sample = bit) and frame-log frame ends */
+  bitRate?: number;
+  /** VCD vectors to read as one channel per bit, named reference[bit] (by reference or scope.reference) */
+  vcdBuses?: string[];
+}
+
+/** What a sample-based reader (VCD, CSV, raw) tells the next stage. */
+export interface TransitionSink {
+  /** called once, before any transitions, when the channel list and time base are known */
+  header(channels: ChannelInfo[], samplePeriodSeconds: number): void;
+  transitions(t: Transitions): void;
+}
+
+/** What a reader of pre-cut frames (frame log) emits: frames with bytes, FCS included. */
+export interface FrameLogSink {
+  header(links: ChannelInfo[], samplePeriodSeconds: number): void;
+  frame(link: string, firstSample: number, lastSample: number, bytes: Uint8Array): void;
+}
+
+/** What a reader of raw line-bit octets emits: line bits straight from the adapter. */
+export interface LineBitSink {
+  header(links: ChannelInfo[], samplePeriodSeconds: number): void;
+  bits(link: string, chunk: BitChunk): void;
+}
+
+/**
+ * Every reader has this shape. Problems are collected as values in `issues`; a fatal one
+ * stops the reader (later pushes are ignored) and is also returned by `fatal()`.
+ */
+export interface CaptureReader {
+  push(chunk: Uint8Array): void;
+  finish(): void;
+  /** bytes consumed so far, for progress */
+  readonly bytesRead: number;
+  issues: DecodeIssue[];
+  fatal(): DecodeIssue | null;
+}
+
+export interface BitRecoveryOptions {
+  samplePeriodSeconds: number;
+  /** channel index of the clock; omit to recover the clock from data transitions */
+  clock?: number;
+  /** data channel index per link, with the link's name */
+  data: { channel: number; link: string }[];
+  /** handshake channels (RTS/CTS/DCD…) that become line events */
+  handshake?: { channel: number; name: string; link?: string }[];
+  edge: 'rising' | 'falling';
+  encoding: 'nrz' | 'nrzi';
+  invert: boolean;
+  /** nominal bit/s, required when clock is omitted */
+  bitRate?: number;
+}
+
+export interface BitRecoverySink {
+  bits(link: string, chunk: BitChunk): void;
+  event(e: LineEvent): void;
+}
+
+export interface FrameSink {
+  frame(f: DecodedFrame): void;
+  event(e: LineEvent): void;
 }

@@ -1,0 +1,281 @@
+// `npm run --silent decode -- <capture> [options]`: decodes a capture file to NDJSON on stdout,
+// one frame per line in time order, with a summary on stderr. Bad input exits with code 2 and
+// one message naming the position in the file and what was expected there.
+import { createReadStream, statSync } from 'node:fs';
+import { parseArgs } from 'node:util';
+import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
+import { DecodeError, type DecodedFrame, type DecodeIssue, type FrameStatus, type LineEvent } from '../../shared/decoder/types';
+
+const USAGE = `usage: npm run --silent decode -- <capture> [options]
+  --format auto|vcd|csv|raw|octets|framelog   capture format (default auto: detected from the content)
+  --sample-rate <Hz>        samples per second (raw binary; CSV with a sample-index column)
+  --channels <name,...>     names of raw-binary bits 0,1,2...
+  --raw-width 1|2           raw binary bytes per sample (default 1)
+  --clock <channel>         clock channel (omit to recover the clock from the data)
+  --data <channel>[,...]    data channel(s), one link each
+  --handshake <channel,...> handshake lines reported as line events
+  --bit-rate <bit/s>        nominal bit rate (needed without a clock)
+  --edge rising|falling     clock edge the data is sampled on (default rising)
+  --encoding nrz|nrzi       line coding (default nrz)
+  --invert                  data lines are inverted
+  --fcs 16|32               FCS width (default 16)
+  --events                  also print line events (idle, fill flags, handshake changes)`;
+
+class UsageError extends Error {}
+
+interface Cli {
+  file: string;
+  options: DecoderOptions;
+  events: boolean;
+}
+
+/** Numbers like 800000, 800e3, 800k, 24M. */
+function rate(value: string | undefined, what: string): number | undefined {
+  if (value === undefined) return undefined;
+  const m = /^([0-9]*\.?[0-9]+(?:e[+-]?[0-9]+)?)\s*([kKmMgG]?)(?:hz|Hz|b\/s|bps)?$/.exec(value.trim());
+  const scale = m ? ({ '': 1, k: 1e3, K: 1e3, m: 1e6, M: 1e6, g: 1e9, G: 1e9 } as Record<string, number>)[m[2]] : 0;
+  const n = m ? Number(m[1]) * scale : NaN;
+  if (!(n > 0) || !Number.isFinite(n)) throw new UsageError(`${what} must be a positive number (e.g. 800000 or 800k), got "${value}"`);
+  return n;
+}
+
+function oneOf<T extends string>(value: string | undefined, allowed: readonly T[], what: string): T | undefined {
+  if (value === undefined) return undefined;
+  if (!(allowed as readonly string[]).includes(value)) throw new UsageError(`${what} must be one of ${allowed.join(', ')}, got "${value}"`);
+  return value as T;
+}
+
+function list(value: string | undefined): string[] | undefined {
+  if (value === undefined) return undefined;
+  const items = value.split(',').map((s) => s.trim());
+  if (items.some((s) => s === '')) throw new UsageError(`empty channel name in "${value}"`);
+  return items;
+}
+
+function parse(argv: string[]): Cli {
+  let parsed;
+  try {
+    parsed = parseArgs({
+      args: argv,
+      allowPositionals: true,
+      strict: true,
+      options: {
+        format: { type: 'string' },
+        'sample-rate': { type: 'string' },
+        channels: { type: 'string' },
+        'raw-width': { type: 'string' },
+        clock: { type: 'string' },
+        data: { type: 'string' },
+        handshake: { type: 'string' },
+        'bit-rate': { type: 'string' },
+        edge: { type: 'string' },
+        encoding: { type: 'string' },
+        invert: { type: 'boolean' },
+        fcs: { type: 'string' },
+        events: { type: 'boolean' },
+        help: { type: 'boolean', short: 'h' },
+      },
+    });
+  } catch (e) {
+    throw new UsageError((e as Error).message);
+  }
+  const v = parsed.values;
+  if (v.help) {
+    process.stdout.write(USAGE + '\n');
+    process.exit(0);
+  }
+  if (parsed.positionals.length !== 1) throw new UsageError(parsed.positionals.length === 0 ? 'give the capture file to decode' : `give one capture file, got ${parsed.positionals.length}`);
+  const width = oneOf(v['raw-width'], ['1', '2'] as const, '--raw-width');
+  const fcs = oneOf(v.fcs, ['16', '32'] as const, '--fcs');
+  return {
+    file: parsed.positionals[0],
+    events: v.events === true,
+    options: {
+      format: oneOf(v.format, ['auto', 'vcd', 'csv', 'raw', 'octets', 'framelog'] as const, '--format') ?? 'auto',
+      sampleRate: rate(v['sample-rate'], '--sample-rate'),
+      channelNames: list(v.channels),
+      rawWidth: width ? (Number(width) as 1 | 2) : undefined,
+      clock: v.clock,
+      data: list(v.data),
+      handshake: list(v.handshake),
+      bitRate: rate(v['bit-rate'], '--bit-rate'),
+      edge: oneOf(v.edge, ['rising', 'falling'] as const, '--edge') ?? 'rising',
+      encoding: oneOf(v.encoding, ['nrz', 'nrzi'] as const, '--encoding') ?? 'nrz',
+      invert: v.invert === true,
+      fcs: fcs ? (Number(fcs) as 16 | 32) : 16,
+    },
+  };
+}
+
+function hex(bytes: Uint8Array, end: number): string {
+  let s = '';
+  for (let i = 0; i < end; i++) s += (bytes[i] < 16 ? '0' : '') + bytes[i].toString(16);
+  return s;
+}
+
+/** Seconds with float noise trimmed (sample × period gives e.g. 0.30000000000000004). */
+const seconds = (sample: number, period: number) => Number((sample * period).toPrecision(12));
+
+function frameLine(f: DecodedFrame, period: number, fcsDigits: number): string {
+  const fcsOctets = fcsDigits / 2;
+  const hasFcs = f.fcsReceived !== null;
+  const d = f.decode;
+  const out: Record<string, unknown> = {
+    link: f.link,
+    seq: f.seq,
+    t: seconds(f.firstSample, period),
+    tEnd: seconds(f.lastSample, period),
+    status: f.status,
+    bits: f.bitLength,
+    hex: hex(f.bytes, hasFcs ? f.bytes.length - fcsOctets : f.bytes.length),
+    fcs: hasFcs ? f.fcsReceived!.toString(16).padStart(fcsDigits, '0') : null,
+    address: d ? d.address : null,
+    kind: d ? d.kind : null,
+    command: d ? d.command : null,
+    ns: d ? d.ns : null,
+    nr: d ? d.nr : null,
+    pf: d ? d.pf : null,
+  };
+  if (f.status === 'bad-fcs') {
+    out.fcsComputed = f.fcsComputed!.toString(16).padStart(fcsDigits, '0');
+    out.flippedBit = f.flippedBit;
+  }
+  return JSON.stringify(out);
+}
+
+function eventLine(e: LineEvent, period: number): string {
+  return JSON.stringify({
+    event: e.kind,
+    link: e.link,
+    channel: e.channel,
+    t: seconds(e.sample, period),
+    ...(e.endSample !== undefined ? { tEnd: seconds(e.endSample, period) } : {}),
+    ...(e.count !== undefined ? { count: e.count } : {}),
+  });
+}
+
+function position(issue: DecodeIssue): string {
+  return issue.line !== undefined ? `line ${issue.line} (byte ${issue.offset})` : `byte ${issue.offset}`;
+}
+
+function failInput(file: string, issue: DecodeIssue): never {
+  process.stderr.write(`decode: ${file}: at ${position(issue)}: expected ${issue.expected}. ${issue.message}\n`);
+  process.exit(2);
+}
+
+function main(): void {
+  let cli: Cli;
+  try {
+    cli = parse(process.argv.slice(2));
+  } catch (e) {
+    if (e instanceof UsageError) {
+      process.stderr.write(`decode: ${e.message} (see --help)\n`);
+      process.exit(2);
+    }
+    throw e;
+  }
+  const { file, options } = cli;
+  let size: number;
+  try {
+    const st = statSync(file);
+    if (!st.isFile()) throw Object.assign(new Error('not a file'), { code: 'EISDIR' });
+    size = st.size;
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    const why = code === 'ENOENT' ? 'no such file' : code === 'EACCES' ? 'permission denied' : code === 'EISDIR' ? 'it is a directory' : (e as Error).message;
+    process.stderr.write(`decode: cannot read ${file}: ${why}\n`);
+    process.exit(2);
+  }
+
+  const started = performance.now();
+  const fcsDigits = options.fcs === 32 ? 8 : 4;
+  const counts = new Map<string, Record<FrameStatus, number>>();
+  let lastSample = 0;
+  let out: string[] = [];
+  const decoder = createDecoder(options, {
+    frame(f) {
+      let c = counts.get(f.link);
+      if (!c) counts.set(f.link, (c = { ok: 0, 'bad-fcs': 0, abort: 0, short: 0, residue: 0 }));
+      c[f.status]++;
+      if (f.lastSample > lastSample) lastSample = f.lastSample;
+      out.push(frameLine(f, decoder.samplePeriodSeconds ?? 0, fcsDigits));
+    },
+    event(e) {
+      if (cli.events) out.push(eventLine(e, decoder.samplePeriodSeconds ?? 0));
+    },
+  });
+
+  const stream = createReadStream(file, { highWaterMark: 1 << 20 });
+  process.stdout.on('error', (err: NodeJS.ErrnoException) => {
+    // The reader of our output went away (e.g. `| head`): stop quietly.
+    if (err.code === 'EPIPE') {
+      stream.destroy();
+      process.exit(0);
+    }
+    process.stderr.write(`decode: cannot write output: ${err.message}\n`);
+    process.exit(1);
+  });
+
+  const flush = () => {
+    if (out.length === 0) return true;
+    const text = out.join('\n') + '\n';
+    out = [];
+    return process.stdout.write(text);
+  };
+  const stopIfFatal = () => {
+    const issue = decoder.fatal();
+    if (issue) {
+      flush();
+      stream.destroy();
+      failInput(file, issue);
+    }
+  };
+
+  stream.on('data', (chunk) => {
+    decoder.push(chunk as Buffer);
+    stopIfFatal();
+    if (!flush()) {
+      stream.pause();
+      process.stdout.once('drain', () => stream.resume());
+    }
+  });
+  stream.on('error', (err) => {
+    process.stderr.write(`decode: cannot read ${file}: ${err.message}\n`);
+    process.exit(2);
+  });
+  stream.on('end', () => {
+    decoder.finish();
+    stopIfFatal();
+    flush();
+    const secs = (performance.now() - started) / 1000;
+    const period = decoder.samplePeriodSeconds ?? 0;
+    const lines = [`decode: ${file} (${decoder.format ?? 'unknown format'}): ${decoder.links.length} link(s), last frame ends at ${seconds(lastSample, period)} s`];
+    for (const link of decoder.links) {
+      const c = counts.get(link) ?? { ok: 0, 'bad-fcs': 0, abort: 0, short: 0, residue: 0 };
+      const total = Object.values(c).reduce((a, b) => a + b, 0);
+      lines.push(`  ${link}: ${total} frames — ok ${c.ok}, bad-fcs ${c['bad-fcs']}, abort ${c.abort}, short ${c.short}, residue ${c.residue}`);
+    }
+    const issues = decoder.issues;
+    for (const issue of issues.slice(0, 5)) lines.push(`  warning at ${position(issue)}: ${issue.message}`);
+    if (issues.length > 5) lines.push(`  … and ${issues.length - 5} more warnings`);
+    lines.push(`  read ${(size / 1e6).toFixed(1)} MB in ${secs.toFixed(2)} s (${(size / 1e6 / Math.max(secs, 1e-9)).toFixed(1)} MB/s)`);
+    process.stderr.write(lines.join('\n') + '\n');
+  });
+}
+
+/** Ends the process with one line instead of a stack trace, for throws in any callback. */
+function reportThrown(e: unknown): never {
+  if (e instanceof DecodeError) {
+    process.stderr.write(`decode: at ${position(e.issue)}: expected ${e.issue.expected}. ${e.issue.message}\n`);
+    process.exit(2);
+  }
+  process.stderr.write(`decode: internal error: ${(e as Error)?.message ?? String(e)}\n`);
+  process.exit(1);
+}
+
+process.on('uncaughtException', reportThrown);
+try {
+  main();
+} catch (e) {
+  reportThrown(e);
+}

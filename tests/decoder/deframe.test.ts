@@ -1,0 +1,166 @@
+import { describe, expect, it } from 'vitest';
+import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode/line-bits';
+import { Deframer } from '../../shared/decoder/deframe';
+import type { RawFrame } from '../../shared/decoder/types';
+import { bitsOf, deframeBits } from './deframe-helpers';
+
+const FLAG = '01111110';
+
+describe('Deframer', () => {
+  it('deletes the zero after five ones (Tanenbaum, Computer Networks, bit-stuffing figure, from memory)', () => {
+    // Textbook example: data 011011111111111111110010 is sent as 011011111011111011111010010.
+    const stuffed = '011011111011111011111010010';
+    const data = '011011111111111111110010';
+    const { frames } = deframeBits(bitsOf(FLAG + stuffed + FLAG));
+    expect(frames).toHaveLength(1);
+    const f = frames[0];
+    expect(f.bitLength).toBe(24);
+    const got = Array.from({ length: 24 }, (_, i) => (f.bytes[i >> 3] >> (i & 7)) & 1).join('');
+    expect(got).toBe(data);
+    // Inserted zeros sit after each run of five ones, counted in the line bits after the opening flag.
+    expect(f.stuffed).toEqual([9, 15, 21]);
+    expect(f.firstSample).toBe(8);
+    expect(f.lastSample).toBe(8 + stuffed.length - 1);
+    // Three octets are fewer than address + control + FCS.
+    expect(f.status).toBe('short');
+  });
+
+  it('finds frames between flags and reports a stretch of fill flags as one line event (ISO/IEC 13239 flag 01111110)', () => {
+    const { bits, frames: sent } = encodeLineBits([
+      { kind: 'flags', count: 5 },
+      { kind: 'frame', bytes: new Uint8Array([0x03, 0x13, 0x44]) },
+      { kind: 'flags', count: 3 },
+    ]);
+    const { frames, events } = deframeBits(bits);
+    expect(frames).toHaveLength(1);
+    expect(frames[0].firstSample).toBe(sent[0].startBit);
+    expect(frames[0].lastSample).toBe(sent[0].endBit - 1);
+    expect(Array.from(frames[0].bytes)).toEqual(Array.from(sent[0].wire));
+    const flags = events.filter((e) => e.kind === 'flags');
+    // 5 fill flags + the frame's opening flag; then the closing flag + 3 fill flags.
+    expect(flags.map((e) => e.count)).toEqual([6, 4]);
+    expect(flags[0].sample).toBe(0);
+  });
+
+  it('lets one flag close a frame and open the next (ISO/IEC 13239 shared flag)', () => {
+    const a = new Uint8Array([1, 2, 3]);
+    const b = new Uint8Array([4, 5, 6]);
+    const { bits, frames: sent } = encodeLineBits([
+      { kind: 'frame', bytes: a },
+      { kind: 'frame', bytes: b, sharedFlag: true },
+    ]);
+    expect(sent[1].startBit - sent[0].endBit).toBe(8);
+    const { frames, events } = deframeBits(bits);
+    expect(frames.map((f) => Array.from(f.bytes.subarray(0, 3)))).toEqual([[1, 2, 3], [4, 5, 6]]);
+    expect(events.filter((e) => e.kind === 'flags')).toEqual([]);
+  });
+
+  it('counts flags that share their zero (011111101111110) as separate flags with no frame between', () => {
+    const { bits } = encodeLineBits([
+      { kind: 'flags', count: 4, sharedZero: true },
+      { kind: 'frame', bytes: new Uint8Array([9, 9]) },
+    ]);
+    expect(Array.from(bits.subarray(0, 15)).join('')).toBe('011111101111110');
+    const { frames, events } = deframeBits(bits);
+    expect(frames).toHaveLength(1);
+    expect(frames[0].status).toBe('ok');
+    expect(events.find((e) => e.kind === 'flags')?.count).toBe(5);
+  });
+
+  it('reports seven ones inside a frame as an abort and keeps the bits up to the last zero (ISO/IEC 13239 abort)', () => {
+    const { bits } = encodeLineBits([
+      { kind: 'frame', bytes: new Uint8Array([0x10, 0x20, 0x30, 0x40]), faults: { abortAfterBits: 20 } },
+      { kind: 'flags', count: 2 },
+      { kind: 'frame', bytes: new Uint8Array([0x11, 0x22]) },
+    ]);
+    const { frames } = deframeBits(bits);
+    expect(frames.map((f) => f.status)).toEqual(['abort', 'ok']);
+    // 0x10 0x20 0x30 LSB first: bit 19 is the last 0 before the abort's ones (bits 20.. are 1s of the abort).
+    expect(frames[0].bitLength).toBe(20);
+    expect(Array.from(frames[0].bytes)).toEqual([0x10, 0x20]);
+  });
+
+  it('reports fifteen or more ones as an idle line event with its start and end', () => {
+    const bits = bitsOf(FLAG + '1'.repeat(40) + FLAG);
+    const { frames, events } = deframeBits(bits);
+    expect(frames).toEqual([]);
+    expect(events).toContainEqual({ link: 'L', channel: 'L', kind: 'idle', sample: 8, endSample: 47 });
+  });
+
+  it('does not treat a run of seven to fourteen ones as idle', () => {
+    const { events } = deframeBits(bitsOf(FLAG + '1'.repeat(14) + FLAG));
+    expect(events.filter((e) => e.kind === 'idle')).toEqual([]);
+  });
+
+  it("marks a frame whose bit count is not a multiple of 8 as 'residue'", () => {
+    const { bits } = encodeLineBits([{ kind: 'frame', bytes: new Uint8Array([1, 2, 3]), faults: { residueBits: 3 } }]);
+    const { frames } = deframeBits(bits);
+    expect(frames).toHaveLength(1);
+    expect(frames[0].status).toBe('residue');
+    expect(frames[0].bitLength).toBe(5 * 8 + 3);
+    expect(frames[0].bytes.length).toBe(5);
+  });
+
+  it("marks a frame of fewer than four octets (address, control, FCS) as 'short'", () => {
+    const { bits } = encodeLineBits([{ kind: 'frame', bytes: new Uint8Array([0xff, 0x03, 0x01]), faults: { noFcs: true } }]);
+    const { frames } = deframeBits(bits);
+    expect(frames.map((f) => [f.status, f.bitLength])).toEqual([['short', 24]]);
+  });
+
+  it('ignores bits before the first flag and drops a partial flag at the end of the input', () => {
+    const bits = bitsOf('1101001110' + FLAG + '00000000' + '01011010' + FLAG + '0111');
+    const { frames } = deframeBits(bits, undefined, 2);
+    expect(frames).toHaveLength(1);
+    // LSB first: 01011010 on the line is 0x5A.
+    expect(Array.from(frames[0].bytes)).toEqual([0x00, 0x5a]);
+    expect(frames[0].status).toBe('ok');
+  });
+
+  it("reports a frame cut off by the end of the input as 'abort'", () => {
+    const { bits } = encodeLineBits([{ kind: 'frame', bytes: new Uint8Array([1, 2, 3, 4, 5]), faults: { noClosingFlag: true } }]);
+    const { frames } = deframeBits(bits);
+    expect(frames.map((f) => f.status)).toEqual(['abort']);
+  });
+
+  it("closes a frame that grows past the longest allowed as 'abort' and hunts for the next flag", () => {
+    const frames: RawFrame[] = [];
+    const d = new Deframer('L', { frame: (f) => frames.push(f), event: () => {} }, { maxFrameOctets: 16 });
+    const { bits } = encodeLineBits([
+      { kind: 'frame', bytes: new Uint8Array(40).fill(0x55) },
+      { kind: 'frame', bytes: new Uint8Array([1, 2, 3]) },
+    ]);
+    const samples = Float64Array.from(bits, (_, i) => i);
+    d.push({ bits, samples, n: bits.length });
+    d.finish();
+    expect(frames.map((f) => [f.status, f.bytes.length])).toEqual([
+      ['abort', 16],
+      ['ok', 5],
+    ]);
+  });
+
+  it('gives identical frames and events for every split of the input into chunks (property, seeded PRNG)', () => {
+    const rng = seededRng(2024);
+    for (let round = 0; round < 30; round++) {
+      const items = [];
+      for (let k = 0; k < 20; k++) {
+        const r = rng();
+        if (r < 0.2) items.push({ kind: 'flags' as const, count: 1 + Math.floor(rng() * 4), sharedZero: rng() < 0.3 });
+        else if (r < 0.25) items.push({ kind: 'idle' as const, count: Math.floor(rng() * 30) });
+        else
+          items.push({
+            kind: 'frame' as const,
+            bytes: randomFrame(rng),
+            sharedFlag: rng() < 0.3,
+            faults: rng() < 0.1 ? { abortAfterBits: Math.floor(rng() * 40) } : rng() < 0.1 ? { residueBits: 1 + Math.floor(rng() * 7) } : {},
+          });
+      }
+      const { bits } = encodeLineBits(items);
+      const whole = deframeBits(bits);
+      const sizes = Array.from({ length: 7 }, () => 1 + Math.floor(rng() * 50));
+      const split = deframeBits(bits, sizes);
+      const ones = deframeBits(bits, [1]);
+      expect(split).toEqual(whole);
+      expect(ones).toEqual(whole);
+    }
+  });
+});
