@@ -1,0 +1,199 @@
+import { describe, expect, it } from 'vitest';
+import { applyFieldMap, decodeCpmName, decodeFrameCall } from '../../shared/decoder/calls/apply';
+import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
+import { parseFieldMap } from '../../shared/decoder/calls/field-map';
+import { checkFrame } from '../../shared/decoder/check';
+import { bootRequestExtra, cpmName, requestInfo, responseInfo, sequentialPosition } from '../../shared/decoder/encode/calls';
+import { encodeLineBits, seededRng } from '../../shared/decoder/encode/line-bits';
+
+describe('CP/M file names', () => {
+  // CP/M 2.2 Interface Guide, FCB f1–f8/t1–t3 (from memory): upper-case ASCII, space padded,
+  // the high bit of each character is an attribute: t1' read-only, t2' system, f1'–f4' user.
+  it('masks the high bits for the name and reports them as attributes', () => {
+    const raw = cpmName('PARISH.DAT', { readOnly: true, system: true, f1: true });
+    expect(raw[0]).toBe('P'.charCodeAt(0) | 0x80);
+    expect(raw[8]).toBe('D'.charCodeAt(0) | 0x80);
+    expect(raw[9]).toBe('A'.charCodeAt(0) | 0x80);
+    const d = decodeCpmName(raw);
+    expect(d.text).toBe('PARISH.DAT');
+    expect(d.attributes).toEqual({ f1: true, f2: false, f3: false, f4: false, readOnly: true, system: true, archive: false });
+  });
+
+  it('drops the padding of short names and types', () => {
+    expect(decodeCpmName(cpmName('A.B')).text).toBe('A.B');
+    expect(decodeCpmName(cpmName('NOTYPE')).text).toBe('NOTYPE');
+  });
+});
+
+describe('applying the CP/M call envelope', () => {
+  it('decodes an open request: call name, tag, user, file name and its attributes', () => {
+    const info = requestInfo(BDOS.OPEN_FILE, 0x41, 3, { fcb: { drive: 2, name: 'HYMNS.TXT', attributes: { archive: true } } });
+    const c = applyFieldMap(CPM_ENVELOPE, info, 'request');
+    expect(c).toMatchObject({ layout: 'open-file-request', callCode: 15, callName: 'open file', tag: 0x41, user: 3, fileName: 'HYMNS.TXT', truncated: false, unexplained: 0 });
+    expect(c.attributes?.archive).toBe(true);
+    expect(c.fields.find((f) => f.id === 'dr')!.display).toBe('2 (B)');
+  });
+
+  it('reads the call code of a response with bit 7 cleared and names its status for that call', () => {
+    const c = applyFieldMap(CPM_ENVELOPE, responseInfo(BDOS.OPEN_FILE, 9, 0xff, { fcb: { name: 'LOST.DAT' } }), 'response');
+    expect(c).toMatchObject({ callCode: 15, callName: 'open file', status: 0xff, statusMeaning: 'file not found', fileName: 'LOST.DAT' });
+    const eof = applyFieldMap(CPM_ENVELOPE, responseInfo(BDOS.READ_SEQUENTIAL, 9, 1, { fcb: { name: 'A.B' }, record: new Uint8Array(128) }), 'response');
+    expect(eof.statusMeaning).toBe('end of file');
+  });
+
+  // CP/M 2.2 Interface Guide (from memory): an extent is 16 KB = 128 records, s2 counts modules
+  // of 32 extents, so the record of a sequential call is (s2 * 32 + ex) * 128 + cr.
+  it.each([0, 5, 127, 128, 133, 4095, 4096, 4096 + 129])('gives record %i for a sequential read whose FCB holds that position', (record) => {
+    const pos = sequentialPosition(record);
+    const c = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.READ_SEQUENTIAL, 1, 0, { fcb: { name: 'BIG.DAT', ...pos } }), 'request');
+    expect(c.recordNumber).toBe(record);
+  });
+
+  // CP/M 2.2 Interface Guide, read random (from memory): r0 is the low byte, r1 the high byte, r2 overflow.
+  it('reads the random record number from r0–r2 with r0 the low byte', () => {
+    const info = requestInfo(BDOS.READ_RANDOM, 1, 0, { fcb: { name: 'BAPTISMS.DAT', random: 0x01_02_03 } });
+    expect(info.subarray(3 + 33, 3 + 36)).toEqual(new Uint8Array([0x03, 0x02, 0x01]));
+    expect(applyFieldMap(CPM_ENVELOPE, info, 'request').recordNumber).toBe(0x010203);
+  });
+
+  it('gives the record data of a write request and of a read response', () => {
+    const rec = Uint8Array.from({ length: 128 }, (_, i) => i);
+    const w = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.WRITE_RANDOM, 1, 0, { fcb: { name: 'X.Y', random: 4 }, record: rec }), 'request');
+    expect(w.recordData).toEqual(rec);
+    const r = applyFieldMap(CPM_ENVELOPE, responseInfo(BDOS.READ_RANDOM, 1, 0, { fcb: { name: 'X.Y' }, record: rec }), 'response');
+    expect(r.recordData).toEqual(rec);
+  });
+
+  it('decodes a boot load request: image name as the file name, record number', () => {
+    const c = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.BOOT_LOAD, 1, 0, { extra: bootRequestExtra('WRENBOOT.SYS', 6) }), 'request');
+    expect(c).toMatchObject({ callName: 'boot load', fileName: 'WRENBOOT.SYS', recordNumber: 6, truncated: false });
+  });
+
+  it('shows list output text', () => {
+    const c = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.LIST_OUTPUT, 1, 0, { text: 'Hymn 23\r\n' }), 'request');
+    expect(c.callName).toBe('list output');
+    expect(c.fields.find((f) => f.id === 'text')!.text).toBe('Hymn 23..');
+  });
+
+  it('uses the fallback layout for a call the map does not name', () => {
+    const c = applyFieldMap(CPM_ENVELOPE, new Uint8Array([0x63, 1, 0, 9, 9]), 'request');
+    expect(c).toMatchObject({ layout: 'other-request', callCode: 0x63, callName: null, tag: 1 });
+  });
+});
+
+describe('frames shorter than the map says', () => {
+  it('decodes the fields that are there and marks the rest as truncated', () => {
+    const full = requestInfo(BDOS.READ_RANDOM, 5, 0, { fcb: { name: 'BAPTISMS.DAT', random: 77 } });
+    const cut = full.subarray(0, 3 + 14); // ends inside the FCB, after s1
+    const c = applyFieldMap(CPM_ENVELOPE, cut, 'request');
+    expect(c.truncated).toBe(true);
+    expect(c).toMatchObject({ callName: 'read random', tag: 5, fileName: 'BAPTISMS.DAT', recordNumber: null });
+    const state = Object.fromEntries(c.fields.map((f) => [f.id, [f.truncated, f.available]]));
+    expect(state).toEqual({ call: [false, 1], tag: [false, 1], user: [false, 1], dr: [false, 1], name: [false, 11], ex: [false, 1], s1: [false, 1], s2: [true, 0], rc: [true, 0], d: [true, 0], cr: [true, 0], r: [true, 0] });
+    expect(c.problems[0]).toMatch(/ends inside field “s2”/);
+  });
+
+  it('keeps the octets of a half-present record and gives no record data', () => {
+    const full = responseInfo(BDOS.READ_SEQUENTIAL, 5, 0, { fcb: { name: 'A.B' }, record: new Uint8Array(128).fill(7) });
+    const c = applyFieldMap(CPM_ENVELOPE, full.subarray(0, full.length - 20), 'response');
+    const rec = c.fields.find((f) => f.id === 'record')!;
+    expect([rec.truncated, rec.available, rec.length]).toEqual([true, 108, 128]);
+    expect(c.recordData).toBeNull();
+  });
+
+  it('marks fields placed after a missing field, or sized by one, as truncated too', () => {
+    const map = parseFieldMap({
+      name: 'counted',
+      version: 1,
+      layouts: [
+        {
+          id: 'all',
+          fields: [
+            { id: 'n', type: 'u16le' },
+            { id: 'data', type: 'bytes', length: { field: 'n' } },
+            { id: 'tail', type: 'u8', offset: { after: 'data' } },
+          ],
+        },
+      ],
+    });
+    const ok = applyFieldMap(map, new Uint8Array([2, 0, 9, 9, 4]), 'request');
+    expect(ok.fields.map((f) => [f.id, f.offset, f.length, f.truncated])).toEqual([
+      ['n', 0, 2, false],
+      ['data', 2, 2, false],
+      ['tail', 4, 1, false],
+    ]);
+    const short = applyFieldMap(map, new Uint8Array([1]), 'request');
+    expect(short.fields.map((f) => f.truncated)).toEqual([true, true, true]);
+  });
+
+  it('never throws on random information fields, and its spans stay inside the frame', () => {
+    const rng = seededRng(11);
+    for (let k = 0; k < 2000; k++) {
+      const info = Uint8Array.from({ length: Math.floor(rng() * 200) }, () => Math.floor(rng() * 256));
+      const c = applyFieldMap(CPM_ENVELOPE, info, rng() < 0.5 ? 'request' : 'response');
+      for (const f of c.fields) {
+        if (f.available > 0) expect(f.offset + f.available).toBeLessThanOrEqual(info.length);
+        expect(f.available).toBeLessThanOrEqual(f.length);
+      }
+    }
+  });
+});
+
+describe('decodeFrameCall', () => {
+  const frame = (bytes: number[], faults?: { wrongFcs?: boolean }) => {
+    const enc = encodeLineBits([{ kind: 'frame', bytes: new Uint8Array(bytes), faults }]);
+    const f = enc.frames[0];
+    return checkFrame({ link: 'tx', seq: 0, firstSample: 0, lastSample: 1, bytes: f.wire, bitLength: f.bitLength, stuffed: [], status: 'ok' });
+  };
+  const info = Array.from(requestInfo(BDOS.CLOSE_FILE, 2, 0, { fcb: { name: 'A.B' } }));
+
+  it('decodes the information field of a good I frame (after address and control, before the FCS)', () => {
+    const c = decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x10, ...info]), 'request');
+    expect(c).toMatchObject({ callName: 'close file', tag: 2, fileName: 'A.B', unexplained: 0 });
+  });
+
+  it('decodes the information field of a UI frame too', () => {
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x13, ...info]), 'request')?.callName).toBe('close file');
+  });
+
+  it('gives no call for a damaged frame or an S frame', () => {
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x10, ...info], { wrongFcs: true }), 'request')).toBeNull();
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x11]), 'request')).toBeNull();
+  });
+});
+
+describe('bit fields and counted fields in a user map', () => {
+  const map = parseFieldMap({
+    name: 'station status',
+    version: 2,
+    layouts: [
+      {
+        id: 'status',
+        fields: [
+          {
+            id: 'flags',
+            type: 'bits',
+            bits: [
+              { name: 'ready', shift: 0, values: { '0': 'busy', '1': 'ready' } },
+              { name: 'drive', shift: 4, width: 4 },
+            ],
+          },
+          { id: 'count', type: 'u16be' },
+          { id: 'label', type: 'ascii', length: { field: 'count', add: -1 } },
+        ],
+      },
+    ],
+  });
+
+  it('names each bit field and sizes a field from another one', () => {
+    const c = applyFieldMap(map, new Uint8Array([0x31, 0x00, 0x04, 0x41, 0x42, 0x43, 0x44]), 'response');
+    expect(c.fields[0].bits).toEqual([
+      { name: 'ready', value: 1, valueName: 'ready' },
+      { name: 'drive', value: 3, valueName: null },
+    ]);
+    expect(c.fields[0].display).toBe('ready=ready drive=3');
+    expect(c.fields[1].value).toBe(4);
+    expect(c.fields[2]).toMatchObject({ offset: 3, length: 3, text: 'ABC', truncated: false });
+    expect(c.unexplained).toBe(1);
+  });
+});

@@ -1,0 +1,192 @@
+import { describe, expect, it } from 'vitest';
+import type { DecodedCall } from '../../shared/decoder/calls/apply';
+import { BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
+import { ExchangeTracker, pairExchanges, type CallFrame, type Exchange } from '../../shared/decoder/calls/exchanges';
+import { parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls/field-map';
+import { bootCalls, directoryCalls, readFileCalls, requestInfo, responseInfo, Tags, type SessionScript } from '../../shared/decoder/encode/calls';
+import { BIT_RATE, decodeScript, framesOfSession, pairDecoded, type DecodedSession } from './calls-helpers';
+
+const BIT = 1 / BIT_RATE;
+const text = (n: number) => new TextEncoder().encode('The Lord is my shepherd. '.repeat(Math.ceil(n / 25)).slice(0, n));
+
+/** Two stations, one with RTS; delays from 0.3 to 3 ms, a damaged request, a lost answer, an unanswered call. */
+function script(): SessionScript {
+  const t1 = new Tags();
+  const t2 = new Tags();
+  const reg = [
+    ...bootCalls('WRENBOOT.SYS', text(300), { tags: t1, delay: 0.0007 }),
+    ...directoryCalls('????????.???', [{ name: 'HYMNS.TXT', rc: 3 }, { name: 'BAPTISMS.DAT', rc: 9, attributes: { readOnly: true } }], { tags: t1, delay: 0.0013 }),
+  ];
+  reg[1].damagedRequests = 1;
+  reg[2].damagedResponses = 1;
+  reg[4].serverDelay = 0.0031;
+  const tag = t1.next();
+  reg.push({ request: requestInfo(BDOS.SELECT_DISK, tag, 0, { extra: new Uint8Array([1]) }), response: null, serverDelay: 0, sends: 2 });
+  const choir = readFileCalls('HYMNS.TXT', text(200), { tags: t2, delay: 0.0004 });
+  choir[2].serverDelay = 0.0019;
+  return {
+    bitRate: BIT_RATE,
+    stations: [
+      { address: 0x21, port: 'p1', start: 0.0002, rts: true, calls: reg },
+      { address: 0x23, port: 'p3', start: 0.0005, calls: choir },
+    ],
+  };
+}
+
+function checkAgainstScript(d: DecodedSession, exchanges: Exchange[], rttTolerance: number) {
+  const expected = d.session.exchanges;
+  expect(exchanges).toHaveLength(expected.length);
+  for (const want of expected) {
+    const port = d.session.links.find((l) => l.station === want.station && l.direction === 'to-server')!.name;
+    const got = exchanges.find((e) => e.request.link === port && e.request.seq === want.requestSeq);
+    expect(got, `exchange of station ${want.station} at request ${want.requestSeq}`).toBeDefined();
+    expect(got!.callCode).toBe(want.callCode);
+    expect(got!.tag).toBe(want.tag);
+    expect(got!.outcome).toBe(want.outcome);
+    expect(got!.retries).toHaveLength(want.goodSends - 1);
+    expect(got!.responses[0]?.seq ?? null).toBe(want.responseSeq);
+    if (want.delaySeconds === null) expect(got!.rttSeconds).toBeNull();
+    else expect(Math.abs(got!.rttSeconds! - want.delaySeconds)).toBeLessThanOrEqual(rttTolerance);
+    if (want.serviceDelaySeconds === null) expect(got!.serviceDelaySeconds).toBeNull();
+    else expect(Math.abs(got!.serviceDelaySeconds! - want.serviceDelaySeconds)).toBeLessThanOrEqual(rttTolerance);
+  }
+}
+
+describe('exchanges on encoded sessions with known delays, retries and drops', () => {
+  it('pairs every exchange of a clocked capture, each round trip within one bit time of the encoded delay', () => {
+    const d = decodeScript(script(), { clocked: true });
+    const { exchanges, orphans } = pairDecoded(d);
+    expect(orphans).toEqual([]);
+    checkAgainstScript(d, exchanges, BIT);
+    const outcomes = exchanges.map((e) => e.outcome);
+    expect(outcomes.filter((o) => o === 'retried')).toHaveLength(1);
+    expect(outcomes.filter((o) => o === 'unanswered')).toHaveLength(1);
+  });
+
+  it('pairs every exchange of a capture without a clock (jitter 0.15 bit), round trips within one bit time', () => {
+    const d = decodeScript(script(), { clocked: false, faults: { jitter: 0.15, seed: 4 } });
+    expect(d.frames.filter((f) => f.status !== 'ok')).toHaveLength(2); // the damaged request and the lost answer
+    const { exchanges } = pairDecoded(d);
+    checkAgainstScript(d, exchanges, BIT);
+  });
+
+  it('measures the service delay from RTS rising to the server’s poll', () => {
+    const d = decodeScript(script(), { clocked: true });
+    const { serviceDelays } = pairDecoded(d);
+    const polls = d.session.exchanges.filter((e) => e.station === 0x21);
+    expect(serviceDelays).toHaveLength(polls.length);
+    for (const s of serviceDelays) expect(Math.abs(s.seconds - 0.0005)).toBeLessThanOrEqual(BIT);
+  });
+
+  it('marks a request unanswered when no response comes within the timeout', () => {
+    const { session } = decodeScript(script(), { clocked: true });
+    const fast = framesOfSession(session);
+    const { exchanges } = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles, samplePeriodSeconds: fast.period, timeoutSeconds: 0.0005 });
+    // with a 0.5 ms timeout every answer slower than that is too late, and its response an orphan
+    const slow = session.exchanges.filter((e) => e.delaySeconds !== null && e.delaySeconds > 0.0005);
+    const unanswered = exchanges.filter((e) => e.outcome === 'unanswered');
+    expect(unanswered.length).toBeGreaterThanOrEqual(slow.length + 1);
+  });
+});
+
+// ---- the pairing rules on hand-made call frames ----
+
+const period = 1e-6; // 1 µs per sample
+function callOf(code: number, tag: number | null, direction: 'request' | 'response'): DecodedCall {
+  return {
+    direction,
+    layout: 'x',
+    callCode: code,
+    callName: null,
+    tag,
+    user: 0,
+    fileName: null,
+    attributes: null,
+    recordNumber: null,
+    status: direction === 'response' ? 0 : null,
+    statusMeaning: null,
+    recordData: null,
+    fields: [],
+    truncated: false,
+    unexplained: 0,
+    problems: [],
+  };
+}
+let seq = 0;
+const req = (at: number, code: number, tag: number | null, station = 1): CallFrame => ({
+  ref: { link: 'up', seq: seq++ },
+  station,
+  direction: 'to-server',
+  firstSample: at,
+  lastSample: at + 100,
+  call: callOf(code, tag, 'request'),
+});
+const resp = (at: number, code: number, tag: number | null, station = 1): CallFrame => ({
+  ref: { link: 'down', seq: seq++ },
+  station,
+  direction: 'from-server',
+  firstSample: at,
+  lastSample: at + 100,
+  call: callOf(code, tag, 'response'),
+});
+function run(frames: CallFrame[], byTag = true, timeoutSeconds = 0.5) {
+  const exchanges: Exchange[] = [];
+  const orphans: CallFrame[] = [];
+  const t = new ExchangeTracker({ samplePeriodSeconds: period, timeoutSeconds, byTag }, { exchange: (e) => exchanges.push(e), orphan: (f) => orphans.push(f) });
+  for (const f of frames) t.push(f);
+  t.finish();
+  return { exchanges: exchanges.sort((a, b) => a.firstSample - b.firstSample), orphans };
+}
+
+describe('pairing rules', () => {
+  it('pairs out-of-order responses by tag', () => {
+    const { exchanges } = run([req(0, 20, 1), req(200, 20, 2), resp(400, 20, 2), resp(600, 20, 1)]);
+    expect(exchanges.map((e) => [e.tag, e.rttSeconds])).toEqual([
+      [1, (600 - 100) * period],
+      [2, (400 - 300) * period],
+    ]);
+  });
+
+  it('counts the same call and tag sent again before the answer as a retry, timed from the last send', () => {
+    const { exchanges } = run([req(0, 20, 7), req(5000, 20, 7), resp(6000, 20, 7)]);
+    expect(exchanges).toHaveLength(1);
+    expect(exchanges[0]).toMatchObject({ outcome: 'retried', rttSeconds: (6000 - 5100) * period });
+    expect(exchanges[0].retries).toHaveLength(1);
+  });
+
+  it('closes a request unanswered after the timeout; the same tag later opens a new exchange', () => {
+    const { exchanges } = run([req(0, 20, 7), req(600_000, 20, 7), resp(600_500, 20, 7)]);
+    expect(exchanges.map((e) => e.outcome)).toEqual(['unanswered', 'answered']);
+  });
+
+  it('adds a second answer to an answered exchange, and reports an answer nobody asked for', () => {
+    const { exchanges, orphans } = run([req(0, 15, 3), resp(500, 15, 3), resp(900, 15, 3), resp(1200, 16, 9)]);
+    expect(exchanges[0].responses).toHaveLength(2);
+    expect(orphans.map((o) => o.call!.callCode)).toEqual([16]);
+  });
+
+  it('pairs in order per call code when the map has no tag', () => {
+    const { exchanges } = run([req(0, 20, null), req(150, 33, null), resp(300, 33, null), resp(400, 20, null)], false);
+    expect(exchanges.map((e) => [e.callCode, e.responses[0].seq])).toEqual([
+      [20, exchanges[0].responses[0].seq],
+      [33, exchanges[1].responses[0].seq],
+    ]);
+    expect(exchanges[0].rttSeconds).toBeCloseTo((400 - 100) * period);
+  });
+
+  it('keeps stations apart', () => {
+    const { exchanges, orphans } = run([req(0, 20, 1, 0x21), resp(300, 20, 1, 0x22)]);
+    expect(exchanges[0].outcome).toBe('unanswered');
+    expect(orphans).toHaveLength(1);
+  });
+
+  it('pairs without tags through the call layer when the map defines none', () => {
+    const doc: FieldMapInput = JSON.parse(JSON.stringify(CPM_ENVELOPE_DOCUMENT));
+    for (const l of doc.layouts) for (const f of l.fields) if (f.role === 'tag') delete f.role;
+    const map = parseFieldMap(doc);
+    const { session } = decodeScript(script(), { clocked: true });
+    const fast = framesOfSession(session);
+    const { exchanges } = pairExchanges(fast.frames, [], { map, links: fast.roles, samplePeriodSeconds: fast.period });
+    expect(exchanges.map((e) => e.outcome).filter((o) => o !== 'unanswered').length).toBe(session.exchanges.filter((e) => e.outcome !== 'unanswered').length);
+  });
+});
