@@ -1,0 +1,438 @@
+// Line anomalies for the fault desk, found in the sampled levels beside bit recovery: it reads
+// the same Transitions a sample reader emits (tap them next to BitRecovery) and reports what a
+// clean synchronous line never shows:
+//   glitch         a pulse on a data line shorter than half a bit; short pulses in a row are one anomaly
+//                  spanning them, so a spike in mid-cell reports the pieces it cut that cell into
+//   clock-missing  an interval between active clock edges of about two periods or more (count = edges left out)
+//   clock-extra    an active clock edge far too soon after the previous good one
+//   unknown        a watched channel at an unknown level (VCD x/z, value 2) from `sample` to `endSample`
+//   silence        no activity for `silenceBits` bit times: the clock stopped, or (without a clock,
+//                  NRZI only) the data line stopped changing
+// The stage cannot tell where frames are, so it reports every silence; attachAnomalies() (below)
+// keeps the ones inside a frame's window, which is where a silence means damage (between frames a
+// line may legitimately rest).
+//
+// Thresholds are fractions of the bit period: half a bit for a glitch (the shortest legal pulse
+// is one bit cell, less jitter), under half a period for an extra edge, 1.5 periods or more for
+// missing edges (common practice for edge-interval checks; the encoder's jitter and rate-error
+// faults stay well inside these). The period comes from the nominal bit rate when given, else it
+// is learned from the clock (median of its first intervals, then followed slowly so a few %
+// rate error does not drift into the limits).
+//
+// Per transition the state is a handful of numbers in typed arrays; objects are made only for an
+// anomaly found.
+import type { Transitions } from '../types';
+
+export type AnomalyKind = 'glitch' | 'clock-missing' | 'clock-extra' | 'unknown' | 'silence';
+
+export const ANOMALY_KINDS: readonly AnomalyKind[] = ['glitch', 'clock-missing', 'clock-extra', 'silence', 'unknown'];
+
+export interface LineAnomaly {
+  kind: AnomalyKind;
+  /** the link whose data line it is on; null for the clock, which times every link */
+  link: string | null;
+  /** channel name (the link name for data lines) */
+  channel: string;
+  /**
+   * where it starts: the glitch's first edge; the time the first missing clock edge was due;
+   * the extra edge; the first unknown sample; the last activity before a silence
+   */
+  sample: number;
+  /** where it ends: the glitch's last edge; the edge after the gap; the first known sample; the activity ending a silence */
+  endSample: number;
+  /** glitch: pulses in the burst; clock-missing: edges left out; otherwise 1 */
+  count: number;
+  /** length in bit times (endSample - sample over the bit period; 0 when the period is unknown) */
+  bits: number;
+}
+
+export interface AnomalySink {
+  anomaly(a: LineAnomaly): void;
+}
+
+/** Channel roles as bit recovery takes them; a BitRecoveryOptions object fits. */
+export interface AnomalyTapOptions {
+  samplePeriodSeconds: number;
+  /** clock channel index; omit when the clock is recovered from the data */
+  clock?: number;
+  /** display name of the clock channel (default "clock") */
+  clockName?: string;
+  /** edge the bits are sampled on (default rising); clock intervals are measured between these */
+  edge?: 'rising' | 'falling';
+  data: { channel: number; link: string }[];
+  encoding?: 'nrz' | 'nrzi';
+  /** nominal bit/s; without it the period is learned from the clock (no clock and no rate: no period-based checks) */
+  bitRate?: number;
+  /** bit times without activity that make a silence (default 16: beyond any flag, abort or stuffed run) */
+  silenceBits?: number;
+  /** pulses shorter than this fraction of a bit are glitches (default 0.5) */
+  glitchFraction?: number;
+}
+
+const CLOCK = 1;
+const DATA = 2;
+/** intervals the period is learned from when no bit rate is given */
+const LEARN_INTERVALS = 16;
+/** data changes held while the period is being learned */
+const HOLD = 4096;
+
+export class AnomalyTap {
+  private readonly role = new Uint8Array(256);
+  private readonly slot = new Int32Array(256);
+  private readonly level = new Uint8Array(256).fill(255);
+  /** sample of the last change per channel (-1 before any) */
+  private readonly lastChange = new Float64Array(256).fill(-1);
+  private readonly unknownFrom = new Float64Array(256).fill(-1);
+  /** per channel: an open burst of short pulses (start, end, pulses); count 0 = none */
+  private readonly burstStart = new Float64Array(256);
+  private readonly burstEnd = new Float64Array(256);
+  private readonly burstCount = new Int32Array(256);
+  private readonly names: string[] = [];
+  private readonly links: (string | null)[] = [];
+  private readonly clock: number;
+  private readonly active: number;
+  private readonly silenceBits: number;
+  private readonly glitchFraction: number;
+  /** data silence is only meaningful where a frame cannot hold a long steady level (NRZI without a clock) */
+  private readonly dataSilence: boolean;
+
+  /** samples per bit; 0 until known */
+  private period = 0;
+  private clockLevel = 255;
+  /** last active clock edge accepted as on time (-1 before the first) */
+  private lastEdge = -1;
+  private lastSeen = 0;
+
+  // learning the period from the clock
+  private learning: boolean;
+  private readonly learnEdges = new Float64Array(LEARN_INTERVALS + 1);
+  private learnCount = 0;
+  private readonly heldChannel = new Uint8Array(HOLD);
+  private readonly heldSample = new Float64Array(HOLD);
+  private readonly heldValue = new Uint8Array(HOLD);
+  private held = 0;
+
+  /** anomalies reported so far */
+  reported = 0;
+
+  constructor(
+    options: AnomalyTapOptions,
+    private readonly sink: AnomalySink,
+  ) {
+    this.clock = options.clock ?? -1;
+    this.active = options.edge === 'falling' ? 0 : 1;
+    this.silenceBits = options.silenceBits ?? 16;
+    this.glitchFraction = options.glitchFraction ?? 0.5;
+    if (this.clock >= 0) {
+      this.role[this.clock] = CLOCK;
+      this.names[this.clock] = options.clockName ?? 'clock';
+      this.links[this.clock] = null;
+    }
+    for (const d of options.data) {
+      if (d.channel === this.clock) continue;
+      this.role[d.channel] = DATA;
+      this.names[d.channel] = d.link;
+      this.links[d.channel] = d.link;
+    }
+    this.dataSilence = this.clock < 0 && options.encoding === 'nrzi';
+    if (options.bitRate && options.bitRate > 0) this.period = 1 / (options.bitRate * options.samplePeriodSeconds);
+    this.learning = this.period === 0 && this.clock >= 0;
+  }
+
+  /** samples per bit in use (0 while unknown) */
+  get samplesPerBit(): number {
+    return this.period;
+  }
+
+  transitions(t: Transitions): void {
+    const { channel, sample, value } = t;
+    const role = this.role;
+    const level = this.level;
+    const n = t.n;
+    for (let i = 0; i < n; i++) {
+      const c = channel[i];
+      const r = role[c];
+      if (r === 0) continue;
+      const v = value[i];
+      const s = sample[i];
+      const old = level[c];
+      // readers repeat a level only to mark the end of the capture
+      if (v === old) continue;
+      level[c] = v;
+      if (v === 2) {
+        this.unknownFrom[c] = s;
+        if (r === DATA) this.closeBurst(c);
+        continue;
+      }
+      if (old === 2) {
+        this.report('unknown', c, this.unknownFrom[c], s, 1);
+        this.unknownFrom[c] = -1;
+        this.lastChange[c] = s;
+        if (r === CLOCK) this.clockLevel = v;
+        continue;
+      }
+      if (r === CLOCK) {
+        const was = this.clockLevel;
+        this.clockLevel = v;
+        // an edge counts only from the idle level: one out of unknown is no edge (as in bit recovery)
+        if (v === this.active && was === 1 - this.active) this.clockEdge(s);
+      } else if (old === 255) {
+        this.lastChange[c] = s;
+      } else if (this.learning) {
+        this.hold(c, s, v);
+      } else {
+        this.dataChange(c, s);
+      }
+    }
+    if (n > 0) this.lastSeen = sample[n - 1];
+  }
+
+  finish(): void {
+    if (this.learning) this.learn();
+    for (let c = 0; c < 256; c++) {
+      if (this.role[c] === DATA) this.closeBurst(c);
+      if (this.role[c] !== 0 && this.level[c] === 2 && this.unknownFrom[c] >= 0) {
+        this.report('unknown', c, this.unknownFrom[c], Math.max(this.lastSeen, this.unknownFrom[c]), 1);
+        this.unknownFrom[c] = -1;
+      }
+    }
+  }
+
+  private clockEdge(s: number): void {
+    if (this.learning) {
+      this.learnEdges[this.learnCount++] = s;
+      if (this.learnCount > LEARN_INTERVALS) this.learn();
+      return;
+    }
+    this.classifyEdge(s);
+  }
+
+  private classifyEdge(s: number): void {
+    const last = this.lastEdge;
+    if (last < 0 || this.period === 0) {
+      this.lastEdge = s;
+      return;
+    }
+    const p = this.period;
+    const d = s - last;
+    if (d < 0.5 * p) {
+      // too soon: measured again from the last good edge, so the real edge after it is not flagged too
+      this.report('clock-extra', this.clock, s, s, 1);
+      return;
+    }
+    if (d >= this.silenceBits * p) {
+      this.report('silence', this.clock, last, s, 1);
+    } else if (d >= 1.5 * p) {
+      this.report('clock-missing', this.clock, Math.round(last + p), s, Math.max(1, Math.round(d / p) - 1));
+    } else {
+      // follow slow rate differences (a few % off nominal, a warm oscillator)
+      this.period = p + (d - p) / 64;
+    }
+    this.lastEdge = s;
+  }
+
+  private dataChange(c: number, s: number): void {
+    const from = this.lastChange[c];
+    this.lastChange[c] = s;
+    if (from < 0 || this.period === 0) return;
+    const w = s - from;
+    if (w < this.glitchFraction * this.period) {
+      if (this.burstCount[c] > 0 && this.burstEnd[c] === from) {
+        this.burstEnd[c] = s;
+        this.burstCount[c]++;
+      } else {
+        this.closeBurst(c);
+        this.burstStart[c] = from;
+        this.burstEnd[c] = s;
+        this.burstCount[c] = 1;
+      }
+      return;
+    }
+    this.closeBurst(c);
+    if (this.dataSilence && w >= this.silenceBits * this.period) this.report('silence', c, from, s, 1);
+  }
+
+  private closeBurst(c: number): void {
+    const k = this.burstCount[c];
+    if (k === 0) return;
+    this.burstCount[c] = 0;
+    this.report('glitch', c, this.burstStart[c], this.burstEnd[c], k);
+  }
+
+  private hold(c: number, s: number, v: number): void {
+    if (this.held === HOLD) this.learn();
+    if (!this.learning) {
+      this.dataChange(c, s);
+      return;
+    }
+    this.heldChannel[this.held] = c;
+    this.heldSample[this.held] = s;
+    this.heldValue[this.held] = v;
+    this.held++;
+  }
+
+  /** sets the period from the clock intervals seen so far, then replays what waited for it */
+  private learn(): void {
+    this.learning = false;
+    const k = this.learnCount - 1;
+    if (k >= 1) {
+      const intervals = new Float64Array(k);
+      for (let i = 0; i < k; i++) intervals[i] = this.learnEdges[i + 1] - this.learnEdges[i];
+      intervals.sort();
+      this.period = intervals[k >> 1];
+    }
+    for (let i = 0; i < this.learnCount; i++) this.classifyEdge(this.learnEdges[i]);
+    this.learnCount = 0;
+    for (let i = 0; i < this.held; i++) this.dataChange(this.heldChannel[i], this.heldSample[i]);
+    this.held = 0;
+  }
+
+  private report(kind: AnomalyKind, c: number, sample: number, endSample: number, count: number): void {
+    this.reported++;
+    this.sink.anomaly({
+      kind,
+      link: this.links[c] ?? null,
+      channel: this.names[c] ?? String(c),
+      sample,
+      endSample,
+      count,
+      bits: this.period > 0 ? (endSample - sample) / this.period : 0,
+    });
+  }
+}
+
+// ---- attaching anomalies to frames ----
+
+/** A frame as far as attachment needs it. */
+export interface FrameWindow {
+  link: string;
+  seq: number;
+  firstSample: number;
+  lastSample: number;
+}
+
+export interface FrameRef {
+  link: string;
+  seq: number;
+}
+
+export interface AttachedAnomaly {
+  anomaly: LineAnomaly;
+  /** frames whose window it falls in: none, one, or (a clock anomaly) one per link in a frame at that time */
+  frames: FrameRef[];
+}
+
+/**
+ * Where an anomaly belongs: a data-line anomaly to the frame of its link, a clock anomaly to the
+ * frame of every link timed by that clock. A glitch, missing or extra edge or unknown stretch
+ * belongs to a frame when it overlaps the frame's [firstSample, lastSample]; a silence only when it
+ * lies wholly inside (a pause that ends or starts at a frame boundary is the line resting).
+ */
+export function anomalyInWindow(a: LineAnomaly, first: number, last: number): boolean {
+  if (a.kind === 'silence') return a.sample >= first && a.endSample <= last;
+  return a.sample <= last && a.endSample >= first;
+}
+
+/** Frame windows per link, for finding the frames an anomaly falls in; compact (typed arrays). */
+export class FrameWindowIndex {
+  private readonly perLink = new Map<string, WindowList>();
+
+  /** `tag`: a number the caller keeps with the frame (the fault desk keeps the station address) */
+  add(link: string, seq: number, firstSample: number, lastSample: number, tag = -1): void {
+    let list = this.perLink.get(link);
+    if (!list) this.perLink.set(link, (list = new WindowList()));
+    list.add(seq, firstSample, lastSample, tag);
+  }
+
+  /** frames (of the anomaly's link, or of every link for a clock anomaly) the anomaly falls in */
+  find(a: LineAnomaly): WindowHit[] {
+    const out: WindowHit[] = [];
+    if (a.link !== null) this.perLink.get(a.link)?.find(a, a.link, out);
+    else for (const [link, list] of this.perLink) list.find(a, link, out);
+    return out;
+  }
+
+  get links(): string[] {
+    return [...this.perLink.keys()];
+  }
+}
+
+export interface WindowHit {
+  link: string;
+  seq: number;
+  first: number;
+  last: number;
+  tag: number;
+}
+
+class WindowList {
+  first = new Float64Array(64);
+  last = new Float64Array(64);
+  seq = new Float64Array(64);
+  tag = new Float64Array(64);
+  n = 0;
+  private sorted = true;
+
+  add(seq: number, first: number, last: number, tag: number): void {
+    if (this.n === this.first.length) {
+      const grow = (a: Float64Array) => {
+        const b = new Float64Array(a.length * 2);
+        b.set(a);
+        return b;
+      };
+      this.first = grow(this.first);
+      this.last = grow(this.last);
+      this.seq = grow(this.seq);
+      this.tag = grow(this.tag);
+    }
+    if (this.n > 0 && first < this.first[this.n - 1]) this.sorted = false;
+    this.first[this.n] = first;
+    this.last[this.n] = last;
+    this.seq[this.n] = seq;
+    this.tag[this.n] = tag;
+    this.n++;
+  }
+
+  private sort(): void {
+    const order = Array.from({ length: this.n }, (_, i) => i).sort((a, b) => this.first[a] - this.first[b]);
+    const f = order.map((i) => this.first[i]);
+    const l = order.map((i) => this.last[i]);
+    const s = order.map((i) => this.seq[i]);
+    const t = order.map((i) => this.tag[i]);
+    this.first.set(f);
+    this.last.set(l);
+    this.seq.set(s);
+    this.tag.set(t);
+    this.sorted = true;
+  }
+
+  find(a: LineAnomaly, link: string, out: WindowHit[]): void {
+    if (!this.sorted) this.sort();
+    // last window starting at or before the anomaly's end; frames of one link do not overlap
+    let lo = 0;
+    let hi = this.n - 1;
+    let at = -1;
+    while (lo <= hi) {
+      const mid = (lo + hi) >> 1;
+      if (this.first[mid] <= a.endSample) {
+        at = mid;
+        lo = mid + 1;
+      } else hi = mid - 1;
+    }
+    const found: number[] = [];
+    for (let i = at; i >= 0 && this.last[i] >= a.sample; i--) {
+      if (anomalyInWindow(a, this.first[i], this.last[i])) found.push(i);
+    }
+    for (let k = found.length - 1; k >= 0; k--) {
+      const i = found[k];
+      out.push({ link, seq: this.seq[i], first: this.first[i], last: this.last[i], tag: this.tag[i] });
+    }
+  }
+}
+
+/** Attaches each anomaly to the frames whose window it falls in (see anomalyInWindow). */
+export function attachAnomalies(anomalies: readonly LineAnomaly[], frames: Iterable<FrameWindow>): AttachedAnomaly[] {
+  const index = new FrameWindowIndex();
+  for (const f of frames) index.add(f.link, f.seq, f.firstSample, f.lastSample);
+  return anomalies.map((anomaly) => ({ anomaly, frames: index.find(anomaly).map(({ link, seq }) => ({ link, seq })) }));
+}
