@@ -14,6 +14,7 @@ import { apiNotFound, errorHandler } from './http/errors';
 import { createRateLimits, DEFAULT_RATE_LIMITS, type RateLimitOptions } from './http/rate-limits';
 import { securityHeaders } from './http/security';
 import { createMailer } from './mail/mailer';
+import { captureRoutes } from './routes/captures';
 import { invitationRoutes } from './routes/invitations';
 import { mailboxRoutes } from './routes/mailbox';
 import { memberRoutes } from './routes/members';
@@ -22,6 +23,7 @@ import { rigRoutes } from './routes/rigs';
 import { sessionRoutes } from './routes/session';
 import { stationRoutes } from './routes/stations';
 import { seedDemo } from './seed/demo';
+import { createCaptureModule } from './services/captures/module';
 import { sessionSecret } from './services/settings';
 
 export interface AppOptions {
@@ -41,6 +43,10 @@ export interface AppOptions {
   smtpUrl?: string;
   /** Express "trust proxy" (default FLAGLINE_TRUST_PROXY or 'loopback'): decides when a request counts as https */
   trustProxy?: string | boolean | number;
+  /** folder of stored captures and upload temp files (default FLAGLINE_DATA_DIR or data/) */
+  dataDir?: string;
+  /** upload size limit in bytes (default FLAGLINE_MAX_UPLOAD_BYTES or 2 GB) */
+  maxUploadBytes?: number;
 }
 
 const SESSION_MAX_AGE_MS = 14 * 24 * 60 * 60 * 1000;
@@ -75,6 +81,7 @@ export async function createApp(opts: AppOptions = {}) {
     demo: opts.demo ?? false,
   };
   if (ctx.demo) await seedDemo(handle.db, hasher);
+  const captureModule = createCaptureModule({ db: handle.db, sqlite: handle.sqlite, dbPath: handle.path, dataDir: opts.dataDir, maxUploadBytes: opts.maxUploadBytes });
 
   const passport = createPassport(ctx);
   const guard = createGuard(ctx);
@@ -113,6 +120,7 @@ export async function createApp(opts: AppOptions = {}) {
   api.use(stationRoutes(ctx, guard));
   api.use(memberRoutes(ctx, guard));
   api.use(mailboxRoutes(ctx, guard));
+  api.use(captureRoutes(captureModule, guard));
   api.use(apiNotFound);
   app.use('/api', api);
 
@@ -125,7 +133,10 @@ export async function createApp(opts: AppOptions = {}) {
     app,
     db: handle,
     ctx,
+    /** the decode queue (tests wait on it and simulate crashes through it) */
+    jobs: captureModule.jobs,
     close() {
+      void captureModule.jobs.close();
       sessionStore.close();
       void vite?.close();
       if (ownsDb) handle.close();

@@ -1,5 +1,5 @@
 import { sql } from 'drizzle-orm';
-import { check, index, integer, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
+import { blob, check, index, integer, real, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
 
 // Timestamps are integer milliseconds (Drizzle maps them to Date); the API sends ISO strings.
 const createdAt = () =>
@@ -116,3 +116,141 @@ export const settings = sqliteTable('settings', {
   key: text('key').primaryKey(),
   value: text('value').notNull(),
 });
+
+// ---- captures, decode runs and their results ----
+
+/** One uploaded recording; the file itself lives content-addressed under data/captures/<sha256>. */
+export const captures = sqliteTable(
+  'captures',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    rigId: integer('rig_id')
+      .notNull()
+      .references(() => rigs.id, { onDelete: 'cascade' }),
+    name: text('name').notNull(),
+    size: integer('size').notNull(),
+    sha256: text('sha256').notNull(),
+    /** detected at upload; the settings may override it */
+    format: text('format', { enum: ['vcd', 'csv', 'raw', 'octets', 'framelog'] }),
+    detectReason: text('detect_reason').notNull().default(''),
+    /** CaptureSettings as JSON, null until the channel roles are set */
+    settings: text('settings'),
+    uploadedBy: integer('uploaded_by').references(() => users.id, { onDelete: 'set null' }),
+    uploadedAt: createdAt(),
+    /** the decode run whose frames the timeline shows (switched in one transaction when a run completes) */
+    currentJobId: integer('current_job_id'),
+  },
+  (t) => [index('captures_rig_idx').on(t.rigId), index('captures_sha_idx').on(t.sha256)],
+);
+
+/** One decode run of a capture; its frames carry its id until a later run replaces them. */
+export const decodeJobs = sqliteTable(
+  'decode_jobs',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    captureId: integer('capture_id')
+      .notNull()
+      .references(() => captures.id, { onDelete: 'cascade' }),
+    state: text('state', { enum: ['queued', 'running', 'done', 'failed', 'cancelled', 'interrupted'] }).notNull(),
+    stage: text('stage').notNull().default('queued'),
+    bytesRead: integer('bytes_read').notNull().default(0),
+    bytesTotal: integer('bytes_total').notNull().default(0),
+    frames: integer('frames').notNull().default(0),
+    events: integer('events').notNull().default(0),
+    error: text('error'),
+    /** the settings the run used (JSON), so a later edit does not change what its rows mean */
+    settings: text('settings').notNull(),
+    samplePeriod: real('sample_period'),
+    /** links as the decoder named them (JSON array) */
+    links: text('links'),
+    /** last sample index the run saw, for the duration */
+    lastSample: real('last_sample'),
+    /** non-fatal reader issues, JSON, at most a few */
+    issues: text('issues'),
+    /** the run's frames, events and seek points are gone (a replaced, failed or cancelled run) */
+    rowsCleared: integer('rows_cleared', { mode: 'boolean' }).notNull().default(false),
+    /** frames of this run with id up to here have their frame_search entries (built after the frames, in chunks) */
+    searchIndexedTo: integer('search_indexed_to').notNull().default(0),
+    createdAt: createdAt(),
+    startedAt: integer('started_at', { mode: 'timestamp_ms' }),
+    finishedAt: integer('finished_at', { mode: 'timestamp_ms' }),
+  },
+  (t) => [index('decode_jobs_capture_idx').on(t.captureId, t.id), index('decode_jobs_state_idx').on(t.state)],
+);
+
+/** Decoded frames; the timeline reads only the rows of the capture's current job. */
+export const frames = sqliteTable(
+  'frames',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    jobId: integer('job_id').notNull(),
+    captureId: integer('capture_id').notNull(),
+    link: text('link').notNull(),
+    seq: integer('seq').notNull(),
+    firstSample: real('first_sample').notNull(),
+    lastSample: real('last_sample').notNull(),
+    t: real('t').notNull(),
+    tEnd: real('t_end').notNull(),
+    status: text('status', { enum: ['ok', 'bad-fcs', 'abort', 'short', 'residue'] }).notNull(),
+    address: integer('address'),
+    control: integer('control'),
+    kind: text('kind', { enum: ['I', 'S', 'U'] }),
+    command: text('command'),
+    ns: integer('ns'),
+    nr: integer('nr'),
+    pf: integer('pf', { mode: 'boolean' }),
+    infoLength: integer('info_length').notNull(),
+    bitLength: integer('bit_length').notNull(),
+    /** every octet between the flags, FCS included */
+    bytes: blob('bytes', { mode: 'buffer' }).notNull(),
+    fcsReceived: integer('fcs_received'),
+    fcsComputed: integer('fcs_computed'),
+    flippedBit: integer('flipped_bit'),
+    /** JSON array of stuffing positions */
+    stuffed: text('stuffed').notNull(),
+    /** lower-case hex of address..info (search column, indexed by frame_search) */
+    hex: text('hex').notNull(),
+    /** the information field as ASCII, non-printables as '.' (search column) */
+    text: text('text').notNull(),
+  },
+  (t) => [
+    index('frames_job_t_idx').on(t.jobId, t.t, t.id),
+    index('frames_job_status_t_idx').on(t.jobId, t.status, t.t),
+    index('frames_job_address_t_idx').on(t.jobId, t.address, t.t),
+    index('frames_job_link_t_idx').on(t.jobId, t.link, t.t),
+  ],
+);
+
+export const lineEvents = sqliteTable(
+  'line_events',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    jobId: integer('job_id').notNull(),
+    captureId: integer('capture_id').notNull(),
+    link: text('link'),
+    channel: text('channel').notNull(),
+    kind: text('kind', { enum: ['rise', 'fall', 'idle', 'flags', 'unknown'] }).notNull(),
+    sample: real('sample').notNull(),
+    endSample: real('end_sample'),
+    count: integer('count'),
+    t: real('t').notNull(),
+    tEnd: real('t_end'),
+  },
+  (t) => [index('line_events_job_t_idx').on(t.jobId, t.t, t.id)],
+);
+
+/**
+ * Seek index of a decode run over a value change dump: every ~256 KB of input, a byte offset
+ * where a reader can resume, the time there and each channel's level (JSON array).
+ */
+export const seekPoints = sqliteTable(
+  'seek_points',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    jobId: integer('job_id').notNull(),
+    byteOffset: integer('byte_offset').notNull(),
+    sample: real('sample').notNull(),
+    levels: text('levels').notNull(),
+  },
+  (t) => [index('seek_points_job_sample_idx').on(t.jobId, t.sample)],
+);

@@ -2,6 +2,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import type { FlaglineApp } from '../../server/index';
 import { hashToken } from '../../server/auth/tokens';
 import { invitations, passwordResets, rigs, stations } from '../../server/db/schema';
+import { clockedVcd, seedDecodedCapture, tempDataDir } from './captures-helpers';
 import { Client, addMember, anonymous, makeUser, rigBody, signedIn, testApp } from './helpers';
 import { listRoutes } from './route-list';
 
@@ -20,6 +21,7 @@ const EVERYONE = (s: number): Row => [s, s, s, s, s];
 const SIGNED_IN = (s: number): Row => [401, s, s, s, s];
 const MEMBER = (s: number): Row => [401, s, s, 403, s];
 const OWNER = (s: number): Row => [401, 403, 403, 403, s];
+const ANALYST = (s: number): Row => [401, 403, s, 403, s];
 
 const MATRIX: Record<string, Row> = {
   'GET /api/session': EVERYONE(200),
@@ -47,6 +49,25 @@ const MATRIX: Record<string, Row> = {
   'DELETE /api/rigs/:rigId/invitations/:invitationId': OWNER(204),
   // owners of any rig: the stranger owns rig B
   'GET /api/dev/mailbox': [401, 403, 403, 200, 200],
+  'GET /api/rigs/:rigId/captures': MEMBER(200),
+  'POST /api/rigs/:rigId/captures': ANALYST(201),
+  'GET /api/rigs/:rigId/captures/:captureId': MEMBER(200),
+  'DELETE /api/rigs/:rigId/captures/:captureId': OWNER(204),
+  'GET /api/rigs/:rigId/captures/:captureId/detection': MEMBER(200),
+  'PUT /api/rigs/:rigId/captures/:captureId/settings': ANALYST(200),
+  'POST /api/rigs/:rigId/captures/:captureId/decode': ANALYST(202),
+  'GET /api/rigs/:rigId/captures/:captureId/job': MEMBER(200),
+  // aimed at a second capture whose run waits in the queue
+  'POST /api/rigs/:rigId/captures/:captureId/job/cancel': ANALYST(200),
+  'GET /api/rigs/:rigId/captures/:captureId/overview': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/timeline': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/timeline/count': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/timeline/at': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/frames/:frameId': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/frames/:frameId/damaged': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/frames/:frameId/waveform': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/export.csv': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/export.json': MEMBER(200),
 };
 
 /** valid bodies, so a caller the guard lets through gets the route's success status */
@@ -61,6 +82,17 @@ const BODIES: Record<string, object> = {
   'PATCH /api/rigs/:rigId/stations/:stationId': { name: 'Renamed desk' },
   'PATCH /api/rigs/:rigId/members/:userId': { role: 'analyst' },
   'POST /api/rigs/:rigId/invitations': { email: 'someone.new@example.test', role: 'viewer' },
+  'PUT /api/rigs/:rigId/captures/:captureId/settings': { format: 'vcd', clock: 'clk', links: [{ channel: 'tx' }], encoding: 'nrz', edge: 'rising' },
+};
+
+/** query strings some routes need to succeed */
+const QUERIES: Record<string, string> = {
+  'GET /api/rigs/:rigId/captures/:captureId/timeline/at': '?t=0',
+};
+
+/** the upload is multipart, not JSON */
+const UPLOADS: Record<string, () => Buffer> = {
+  'POST /api/rigs/:rigId/captures': () => clockedVcd(3).file,
 };
 
 const INVITE_TOKEN = 'role-matrix-invitation-token';
@@ -69,10 +101,14 @@ const RESET_TOKEN = 'role-matrix-reset-token';
 interface World {
   app: FlaglineApp;
   params: Record<string, number | string>;
+  /** the capture with a queued run, for the cancel route */
+  busyCaptureId: number;
+  cleanup(): void;
 }
 
 async function buildWorld(): Promise<World> {
-  const app = await testApp();
+  const data = tempDataDir();
+  const app = await testApp({ dataDir: data.dir });
   const db = app.db.db;
   const ownerId = await makeUser(app, 'owner@example.test');
   const viewerId = await makeUser(app, 'viewer@example.test');
@@ -94,7 +130,8 @@ async function buildWorld(): Promise<World> {
     .returning()
     .get().id;
   db.insert(passwordResets).values({ userId: extraId, tokenHash: hashToken(RESET_TOKEN), expiresAt: new Date(Date.now() + hour) }).run();
-  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId } };
+  const { captureId, frameId, busyCaptureId } = seedDecodedCapture(app, rigA, data.dir, ownerId);
+  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId, captureId, frameId }, busyCaptureId, cleanup: data.cleanup };
 }
 
 function fillPath(route: string, params: World['params']): string {
@@ -107,7 +144,11 @@ async function callerClient(app: FlaglineApp, caller: Caller): Promise<Client> {
 }
 
 const apps: FlaglineApp[] = [];
-afterAll(() => apps.forEach((a) => a.close()));
+const cleanups: (() => void)[] = [];
+afterAll(() => {
+  apps.forEach((a) => a.close());
+  cleanups.forEach((c) => c());
+});
 
 describe('role matrix', () => {
   it('lists every mounted API route, and only those', async () => {
@@ -126,9 +167,15 @@ describe('role matrix', () => {
         const world = await buildWorld();
         apps.push(world.app);
         const client = await callerClient(world.app, caller);
-        const res = await client.send(method, fillPath(route, world.params), BODIES[key]);
+        const params = key.endsWith('/job/cancel') ? { ...world.params, captureId: world.busyCaptureId } : world.params;
+        const url = fillPath(route, params) + (QUERIES[key] ?? '');
+        const res = UPLOADS[key]
+          ? await client.agent.post(url).set('x-csrf-token', client.csrf).attach('file', UPLOADS[key](), 'matrix.vcd')
+          : await client.send(method, url, BODIES[key]);
         got[caller] = res.status;
+        await world.app.jobs.idle();
         world.app.close();
+        world.cleanup();
         apps.pop();
       }
       expect(got).toEqual(Object.fromEntries(CALLERS.map((c, i) => [c, expected[i]])));
@@ -138,6 +185,7 @@ describe('role matrix', () => {
   it('answers 404 to a signed-in caller for every rig route with an unknown rig id', async () => {
     const world = await buildWorld();
     apps.push(world.app);
+    cleanups.push(world.cleanup);
     const owner = await signedIn(world.app, 'owner@example.test');
     for (const key of Object.keys(MATRIX).filter((k) => k.includes(':rigId'))) {
       const [method, route] = key.split(' ');

@@ -1,0 +1,200 @@
+import { Worker } from 'node:worker_threads';
+import type Database from 'better-sqlite3';
+import type { CaptureSettings } from '../../shared/schemas';
+import type { CaptureStore } from '../storage/capture-store';
+import type { DecodeWorkerData, DecodeWorkerMessage } from './decode-worker';
+import { clearRunRows } from './run-rows';
+
+interface Active {
+  jobId: number;
+  captureId: number;
+  worker: Worker;
+  /** set by killForTest: the exit is left unrecorded, as after a crash */
+  killed: boolean;
+  done: Promise<void>;
+}
+
+/**
+ * The server's decode queue: one run at a time (the machine's cores are shared with the API),
+ * each in a worker thread with its own database connection. Runs are rows in decode_jobs; this
+ * object only holds the queue order and the live worker.
+ */
+export class JobRunner {
+  private readonly queue: number[] = [];
+  private active: Active | null = null;
+  private closed = false;
+  private sweeping = false;
+  private readonly idleWaiters: (() => void)[] = [];
+
+  constructor(
+    private readonly sqlite: Database.Database,
+    private readonly dbPath: string,
+    private readonly store: CaptureStore,
+  ) {}
+
+  /** Adds a queued run for the capture and starts it when the queue is free. */
+  enqueue(captureId: number, settings: CaptureSettings, bytesTotal: number): number {
+    const jobId = Number(
+      this.sqlite
+        .prepare("insert into decode_jobs (capture_id, state, stage, bytes_total, settings, created_at) values (?, 'queued', 'queued', ?, ?, ?)")
+        .run(captureId, bytesTotal, JSON.stringify(settings), Date.now()).lastInsertRowid,
+    );
+    this.queue.push(jobId);
+    queueMicrotask(() => this.next());
+    return jobId;
+  }
+
+  isBusy(captureId: number): boolean {
+    return (
+      this.sqlite.prepare("select 1 from decode_jobs where capture_id = ? and state in ('queued', 'running') limit 1").get(captureId) !== undefined
+    );
+  }
+
+  /** Stops the capture's queued or running run; its rows are cleared. */
+  cancel(captureId: number): void {
+    const job = this.sqlite
+      .prepare("select id, state from decode_jobs where capture_id = ? and state in ('queued', 'running') order by id desc limit 1")
+      .get(captureId) as { id: number; state: string } | undefined;
+    if (!job) return;
+    this.sqlite
+      .prepare("update decode_jobs set state = 'cancelled', stage = 'cancelled', finished_at = ? where id = ? and state in ('queued', 'running')")
+      .run(Date.now(), job.id);
+    const at = this.queue.indexOf(job.id);
+    if (at >= 0) this.queue.splice(at, 1);
+    if (this.active?.jobId === job.id) void this.active.worker.terminate();
+    else this.sweep();
+  }
+
+  /** Cancels the capture's run and waits until its worker is gone (before deleting the capture). */
+  async stop(captureId: number): Promise<void> {
+    const a = this.active;
+    this.cancel(captureId);
+    if (a && a.captureId === captureId) await a.done;
+  }
+
+  /**
+   * After a crash: runs left queued or running are marked interrupted (the user can re-run),
+   * and rows of every run that is not some capture's visible one are cleared.
+   */
+  recover(): void {
+    this.sqlite
+      .prepare(
+        "update decode_jobs set state = 'interrupted', stage = 'interrupted', error = 'The server stopped during this run; decode again.', finished_at = ? where state in ('queued', 'running')",
+      )
+      .run(Date.now());
+    this.queue.length = 0;
+    this.sweepNow();
+  }
+
+  /** Tests only: kills the capture's worker without recording anything, as a crash would. */
+  async killForTest(captureId: number): Promise<void> {
+    const a = this.active;
+    if (!a || a.captureId !== captureId) throw new Error(`no worker running for capture ${captureId}`);
+    a.killed = true;
+    await a.worker.terminate();
+    await a.done;
+  }
+
+  /** Resolves when nothing is queued or running (tests, shutdown). */
+  idle(): Promise<void> {
+    if (!this.active && this.queue.length === 0 && !this.sweeping) return Promise.resolve();
+    return new Promise((resolve) => this.idleWaiters.push(resolve));
+  }
+
+  async close(): Promise<void> {
+    this.closed = true;
+    this.queue.length = 0;
+    const a = this.active;
+    if (a) {
+      a.killed = true;
+      await a.worker.terminate();
+    }
+  }
+
+  private next(): void {
+    if (this.closed || this.active) return;
+    const jobId = this.queue.shift();
+    if (jobId === undefined) {
+      if (!this.sweeping) this.idleWaiters.splice(0).forEach((r) => r());
+      return;
+    }
+    const job = this.sqlite
+      .prepare('select j.id, j.capture_id as captureId, j.state, j.settings, c.sha256 from decode_jobs j join captures c on c.id = j.capture_id where j.id = ?')
+      .get(jobId) as { id: number; captureId: number; state: string; settings: string; sha256: string } | undefined;
+    if (!job || job.state !== 'queued') return this.next();
+    if (this.dbPath === ':memory:') {
+      // a worker cannot reach an in-memory database
+      this.finish(jobId, 'failed', 'Decoding needs the database in a file (FLAGLINE_DB); this server runs on an in-memory database.');
+      return this.next();
+    }
+    this.sqlite.prepare("update decode_jobs set state = 'running', stage = 'starting', started_at = ? where id = ?").run(Date.now(), jobId);
+    const data: DecodeWorkerData = {
+      dbPath: this.dbPath,
+      jobId,
+      captureId: job.captureId,
+      filePath: this.store.pathOf(job.sha256),
+      settings: JSON.parse(job.settings) as CaptureSettings,
+    };
+    // a JavaScript entry that registers tsx: runs the TypeScript worker under `tsx` and inside vitest alike
+    const worker = new Worker(new URL('./decode-worker-entry.mjs', import.meta.url), { workerData: data });
+    let outcome: DecodeWorkerMessage | null = null;
+    let resolveDone!: () => void;
+    const active: Active = { jobId, captureId: job.captureId, worker, killed: false, done: new Promise((r) => (resolveDone = r)) };
+    this.active = active;
+    worker.on('message', (m: DecodeWorkerMessage) => (outcome = m));
+    worker.on('error', (err) => (outcome ??= { type: 'failed', error: `The decoder stopped: ${err.message}` }));
+    worker.on('exit', () => {
+      this.active = null;
+      if (!active.killed && !this.closed) {
+        const o = outcome as DecodeWorkerMessage | null;
+        if (!o) this.finish(jobId, 'failed', 'The decode worker stopped unexpectedly.');
+        else if (o.type === 'failed') this.finish(jobId, 'failed', o.error);
+        this.sweep();
+      }
+      resolveDone();
+      this.next();
+    });
+  }
+
+  private finish(jobId: number, state: 'failed', error: string): void {
+    this.sqlite
+      .prepare("update decode_jobs set state = ?, stage = ?, error = ?, finished_at = ? where id = ? and state in ('queued', 'running')")
+      .run(state, state, error, Date.now(), jobId);
+  }
+
+  /** runs whose rows are not needed: finished, not cleared, and not the visible run of their capture */
+  private staleRuns(): number[] {
+    return this.sqlite
+      .prepare(
+        `select j.id from decode_jobs j left join captures c on c.current_job_id = j.id
+         where j.state not in ('queued', 'running') and j.rows_cleared = 0 and c.id is null order by j.id`,
+      )
+      .pluck()
+      .all() as number[];
+  }
+
+  /** Clears stale runs a few batches at a time, yielding to requests in between. */
+  private sweep(): void {
+    if (this.sweeping || this.closed) return;
+    this.sweeping = true;
+    const step = () => {
+      if (this.closed || !this.sqlite.open) {
+        this.sweeping = false;
+        return;
+      }
+      const stale = this.staleRuns();
+      if (stale.length === 0) {
+        this.sweeping = false;
+        if (!this.active && this.queue.length === 0) this.idleWaiters.splice(0).forEach((r) => r());
+        return;
+      }
+      clearRunRows(this.sqlite, stale[0], 4);
+      setImmediate(step);
+    };
+    setImmediate(step);
+  }
+
+  private sweepNow(): void {
+    for (const id of this.staleRuns()) clearRunRows(this.sqlite, id);
+  }
+}

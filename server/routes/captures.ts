@@ -1,0 +1,142 @@
+import { randomUUID } from 'node:crypto';
+import { Router, type RequestHandler } from 'express';
+import multer from 'multer';
+import { z } from 'zod';
+import { captureSettingsSchema, timelineQuerySchema } from '../../shared/schemas';
+import { currentUser, rigAccess, type Guard } from '../auth/guard';
+import { badRequest, HttpError, notFound, parseBody, parseId } from '../http/errors';
+import { deleteCapture } from '../services/captures/delete';
+import { detectCapture } from '../services/captures/detection';
+import { exportFrames } from '../services/captures/export';
+import { findFrame, frameDetail } from '../services/captures/frame-detail';
+import { cancelJob, getJob, startDecode } from '../services/captures/jobs';
+import type { CaptureModule } from '../services/captures/module';
+import { captureOverview } from '../services/captures/overview';
+import { currentJob, findCapture, listCaptures, parseSettings, toSummary } from '../services/captures/rows';
+import { saveSettings } from '../services/captures/settings';
+import { storeUpload } from '../services/captures/upload';
+import { waveformWindow } from '../services/captures/waveform';
+
+const atQuerySchema = z.object({ t: z.coerce.number({ error: 'Give the time in seconds' }).min(0, 'The time cannot be negative') });
+const damagedQuerySchema = z.object({ dir: z.enum(['next', 'prev']).default('next') });
+const waveformQuerySchema = z.object({ bits: z.coerce.number().int().min(1).max(4096).default(16) });
+
+const megabytes = (n: number) => (n >= 1024 ** 3 ? `${(n / 1024 ** 3).toFixed(1)} GB` : `${Math.round(n / 1024 ** 2)} MB`);
+
+export function captureRoutes(m: CaptureModule, guard: Guard): Router {
+  const router = Router();
+  const base = '/rigs/:rigId/captures/:captureId';
+  const capture = (req: { params: unknown }, rigId: number) => findCapture(m, rigId, parseId((req.params as Record<string, string>).captureId, 'capture'));
+
+  const upload = multer({
+    storage: multer.diskStorage({ destination: m.store.tmpDir, filename: (_req, _file, cb) => cb(null, `upload-${randomUUID()}`) }),
+    limits: { fileSize: m.maxUploadBytes, files: 1, fields: 10 },
+  }).single('file');
+  // multer removes its partial file itself when it stops with an error
+  const receiveFile: RequestHandler = (req, res, next) =>
+    upload(req, res, (err: unknown) => {
+      if (!err) return next();
+      if (err instanceof multer.MulterError) {
+        if (err.code === 'LIMIT_FILE_SIZE') return next(new HttpError(413, `The file is larger than the upload limit of ${megabytes(m.maxUploadBytes)}`));
+        return next(badRequest(`The upload was refused: ${err.message}. Send one file in the multipart field "file"`));
+      }
+      next(err);
+    });
+
+  router.get('/rigs/:rigId/captures', guard.requireRigRole('viewer'), (_req, res) => {
+    res.json(listCaptures(m, rigAccess(res).rigId));
+  });
+
+  router.post('/rigs/:rigId/captures', guard.requireRigRole('analyst'), receiveFile, async (req, res) => {
+    const file = req.file;
+    if (!file) throw badRequest('Some fields need attention', { file: 'Attach the capture file in the multipart field "file"' });
+    res.status(201).json(await storeUpload(m, rigAccess(res).rigId, currentUser(req).id, file));
+  });
+
+  router.get(base, guard.requireRigRole('viewer'), (req, res) => {
+    res.json(toSummary(m, capture(req, rigAccess(res).rigId)));
+  });
+
+  router.delete(base, guard.requireRigRole('owner'), async (req, res) => {
+    await deleteCapture(m, capture(req, rigAccess(res).rigId));
+    res.status(204).end();
+  });
+
+  router.get(`${base}/detection`, guard.requireRigRole('viewer'), (req, res) => {
+    res.json(detectCapture(m, capture(req, rigAccess(res).rigId)));
+  });
+
+  router.put(`${base}/settings`, guard.requireRigRole('analyst'), (req, res) => {
+    const c = capture(req, rigAccess(res).rigId);
+    res.json(saveSettings(m, c, parseBody(captureSettingsSchema, req.body)));
+  });
+
+  router.post(`${base}/decode`, guard.requireRigRole('analyst'), (req, res) => {
+    res.status(202).json(startDecode(m, capture(req, rigAccess(res).rigId)));
+  });
+
+  router.get(`${base}/job`, guard.requireRigRole('viewer'), (req, res) => {
+    res.json(getJob(m, capture(req, rigAccess(res).rigId)));
+  });
+
+  router.post(`${base}/job/cancel`, guard.requireRigRole('analyst'), (req, res) => {
+    res.json(cancelJob(m, capture(req, rigAccess(res).rigId)));
+  });
+
+  router.get(`${base}/overview`, guard.requireRigRole('viewer'), (req, res) => {
+    res.json(captureOverview(m, m.timeline, capture(req, rigAccess(res).rigId)));
+  });
+
+  router.get(`${base}/timeline`, guard.requireRigRole('viewer'), (req, res) => {
+    const { rigId } = rigAccess(res);
+    const c = capture(req, rigId);
+    res.json(m.timeline.page(rigId, c.currentJobId, parseBody(timelineQuerySchema, req.query)));
+  });
+
+  router.get(`${base}/timeline/count`, guard.requireRigRole('viewer'), (req, res) => {
+    const c = capture(req, rigAccess(res).rigId);
+    res.json({ count: m.timeline.count(c.currentJobId, parseBody(timelineQuerySchema, req.query)) });
+  });
+
+  router.get(`${base}/timeline/at`, guard.requireRigRole('viewer'), (req, res) => {
+    capture(req, rigAccess(res).rigId);
+    const { t } = parseBody(atQuerySchema, req.query);
+    res.json({ cursor: m.timeline.at(t) });
+  });
+
+  router.get(`${base}/frames/:frameId`, guard.requireRigRole('viewer'), (req, res) => {
+    const { rigId } = rigAccess(res);
+    const c = capture(req, rigId);
+    const f = findFrame(m, c.currentJobId, parseId(req.params.frameId, 'frame'));
+    res.json(frameDetail(m, m.timeline, rigId, f));
+  });
+
+  router.get(`${base}/frames/:frameId/damaged`, guard.requireRigRole('viewer'), (req, res) => {
+    const c = capture(req, rigAccess(res).rigId);
+    const f = findFrame(m, c.currentJobId, parseId(req.params.frameId, 'frame'));
+    const { dir } = parseBody(damagedQuerySchema, req.query);
+    const id = m.timeline.damaged(f.jobId, f, dir);
+    if (id === null) throw notFound(`No damaged frame ${dir === 'next' ? 'after' : 'before'} this one`);
+    res.json({ id });
+  });
+
+  router.get(`${base}/frames/:frameId/waveform`, guard.requireRigRole('viewer'), async (req, res) => {
+    const c = capture(req, rigAccess(res).rigId);
+    const f = findFrame(m, c.currentJobId, parseId(req.params.frameId, 'frame'));
+    const job = currentJob(m, c)!;
+    const settings = parseSettings(job.settings)!;
+    const { bits } = parseBody(waveformQuerySchema, req.query);
+    res.json(await waveformWindow(m, c.sha256, settings, job.samplePeriod ?? 1, f, bits));
+  });
+
+  for (const format of ['csv', 'json'] as const) {
+    router.get(`${base}/export.${format}`, guard.requireRigRole('viewer'), async (req, res) => {
+      const { rigId } = rigAccess(res);
+      const c = capture(req, rigId);
+      const q = parseBody(timelineQuerySchema, req.query);
+      await exportFrames(m, res, { jobId: c.currentJobId, q, names: m.timeline.stationNames(rigId), fileName: c.name, format, selective: m.timeline.selective });
+    });
+  }
+
+  return router;
+}

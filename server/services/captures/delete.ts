@@ -1,0 +1,18 @@
+import { clearRunRows } from '../../jobs/run-rows';
+import type { CaptureDeps } from './deps';
+import type { CaptureRow } from './rows';
+
+/**
+ * Deletes a capture with its runs' rows, its jobs and — when no other capture holds the same
+ * content — its file. A running decode is stopped first so it cannot write after the cleanup.
+ */
+export async function deleteCapture(deps: CaptureDeps, c: CaptureRow): Promise<void> {
+  await deps.jobs.stop(c.id);
+  const jobIds = deps.sqlite.prepare('select id from decode_jobs where capture_id = ?').pluck().all(c.id) as number[];
+  deps.sqlite.transaction(() => {
+    for (const id of jobIds) clearRunRows(deps.sqlite, id);
+    deps.sqlite.prepare('delete from captures where id = ?').run(c.id);
+  })();
+  const others = deps.sqlite.prepare('select 1 from captures where sha256 = ? limit 1').get(c.sha256);
+  if (!others) deps.store.remove(c.sha256);
+}
