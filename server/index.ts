@@ -23,6 +23,7 @@ import { rigRoutes } from './routes/rigs';
 import { sessionRoutes } from './routes/session';
 import { stationRoutes } from './routes/stations';
 import { seedDemo } from './seed/demo';
+import { deleteRigCaptures } from './services/captures/delete';
 import { createCaptureModule } from './services/captures/module';
 import { sessionSecret } from './services/settings';
 
@@ -116,7 +117,7 @@ export async function createApp(opts: AppOptions = {}) {
   api.use(sessionRoutes(ctx, guard, passport, limits));
   api.use(passwordResetRoutes(ctx, limits));
   api.use(invitationRoutes(ctx, guard));
-  api.use(rigRoutes(ctx, guard));
+  api.use(rigRoutes(ctx, guard, (rigId) => deleteRigCaptures(captureModule, rigId)));
   api.use(stationRoutes(ctx, guard));
   api.use(memberRoutes(ctx, guard));
   api.use(mailboxRoutes(ctx, guard));

@@ -18,7 +18,8 @@ function sentKeysOnly(raw: unknown, parsed: Partial<RigValues>): Partial<RigValu
   return out;
 }
 
-export function rigRoutes(ctx: AppContext, guard: Guard): Router {
+/** `beforeDelete` removes what hangs off a rig outside its database cascade (stored captures, decoded rows). */
+export function rigRoutes(ctx: AppContext, guard: Guard, beforeDelete: (rigId: number) => Promise<void>): Router {
   const router = Router();
 
   router.get('/rigs', guard.requireUser, (req, res) => {
@@ -39,7 +40,8 @@ export function rigRoutes(ctx: AppContext, guard: Guard): Router {
     res.json(updateRig(ctx.db, rigAccess(res).rigId, currentUser(req).id, patch));
   });
 
-  router.delete('/rigs/:rigId', guard.requireRigRole('owner'), (_req, res) => {
+  router.delete('/rigs/:rigId', guard.requireRigRole('owner'), async (_req, res) => {
+    await beforeDelete(rigAccess(res).rigId);
     deleteRig(ctx.db, rigAccess(res).rigId);
     res.status(204).end();
   });

@@ -345,4 +345,13 @@ describe('a raw capture without a clock, two links', () => {
       expect((cap.file[s - 1] >> 1) & 1).toBe(1 - v);
     }
   });
+
+  it('deleting the rig removes its captures’ files and decoded rows, not only the rig row', async () => {
+    const list = (await w.viewer.get(`/api/rigs/${w.rigId}/captures`)).body as CaptureSummaryRow[];
+    expect(list.length).toBeGreaterThan(0);
+    expect((await w.owner.delete(`/api/rigs/${w.rigId}`)).status).toBe(204);
+    for (const c of list) expect(fs.existsSync(path.join(w.env.dir, 'captures', c.sha256))).toBe(false);
+    const left = w.handle.sqlite.prepare('select (select count(*) from frames) + (select count(*) from line_events) + (select count(*) from decode_jobs) + (select count(*) from captures) as n').get() as { n: number };
+    expect(left.n).toBe(0);
+  });
 });

@@ -1,3 +1,5 @@
+import { eq } from 'drizzle-orm';
+import { captures } from '../../db/schema';
 import { clearRunRows } from '../../jobs/run-rows';
 import type { CaptureDeps } from './deps';
 import type { CaptureRow } from './rows';
@@ -15,4 +17,10 @@ export async function deleteCapture(deps: CaptureDeps, c: CaptureRow): Promise<v
   })();
   const others = deps.sqlite.prepare('select 1 from captures where sha256 = ? limit 1').get(c.sha256);
   if (!others) deps.store.remove(c.sha256);
+}
+
+/** Deletes every capture of a rig the same way, before the rig row goes (its cascade would leave frames and files behind). */
+export async function deleteRigCaptures(deps: CaptureDeps, rigId: number): Promise<void> {
+  const rows = deps.db.select().from(captures).where(eq(captures.rigId, rigId)).all();
+  for (const c of rows) await deleteCapture(deps, c);
 }
