@@ -23,6 +23,7 @@ import { rigRoutes } from './routes/rigs';
 import { sessionRoutes } from './routes/session';
 import { stationRoutes } from './routes/stations';
 import { seedDemo } from './seed/demo';
+import { seedDemoCaptures } from './seed/demo-captures';
 import { deleteRigCaptures } from './services/captures/delete';
 import { createCaptureModule } from './services/captures/module';
 import { sessionSecret } from './services/settings';
@@ -48,6 +49,8 @@ export interface AppOptions {
   dataDir?: string;
   /** upload size limit in bytes (default FLAGLINE_MAX_UPLOAD_BYTES or 2 GB) */
   maxUploadBytes?: number;
+  /** with `demo`: load samples/ into the demo rig and decode them (default: on when the database is a file) */
+  demoCaptures?: boolean;
 }
 
 const SESSION_MAX_AGE_MS = 14 * 24 * 60 * 60 * 1000;
@@ -81,8 +84,12 @@ export async function createApp(opts: AppOptions = {}) {
     publicUrl: (opts.publicUrl ?? process.env.FLAGLINE_PUBLIC_URL ?? `http://localhost:${process.env.PORT || 3000}`).replace(/\/+$/, ''),
     demo: opts.demo ?? false,
   };
-  if (ctx.demo) await seedDemo(handle.db, hasher);
+  const seeded = ctx.demo ? await seedDemo(handle.db, hasher) : null;
   const captureModule = createCaptureModule({ db: handle.db, sqlite: handle.sqlite, dbPath: handle.path, dataDir: opts.dataDir, maxUploadBytes: opts.maxUploadBytes });
+  // decode workers open the database by path, so an in-memory database cannot take the demo captures
+  if (seeded && (opts.demoCaptures ?? handle.path !== ':memory:')) {
+    await seedDemoCaptures(captureModule, seeded.rigId, seeded.ownerId);
+  }
 
   const passport = createPassport(ctx);
   const guard = createGuard(ctx);

@@ -27,13 +27,18 @@ export const DEMO_RIG = {
   ] as const,
 };
 
-/** Seeds the demo on an empty database (no users yet); returns whether it did. */
-export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<boolean> {
+export interface SeededDemo {
+  rigId: number;
+  ownerId: number;
+}
+
+/** Seeds the demo on an empty database (no users yet); returns the demo rig, or null when it did not seed. */
+export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<SeededDemo | null> {
   const hasUsers = () => db.select({ n: sql<number>`count(*)` }).from(users).get()!.n > 0;
-  if (hasUsers()) return false;
+  if (hasUsers()) return null;
   const hashes = await Promise.all(DEMO_ACCOUNTS.map(() => hasher.hash(DEMO_PASSWORD)));
   return db.transaction((tx) => {
-    if (tx.select({ n: sql<number>`count(*)` }).from(users).get()!.n > 0) return false;
+    if (tx.select({ n: sql<number>`count(*)` }).from(users).get()!.n > 0) return null;
     const ids = DEMO_ACCOUNTS.map(
       (a, i) => tx.insert(users).values({ email: a.email, name: a.name, passwordHash: hashes[i] }).returning().get().id,
     );
@@ -49,6 +54,6 @@ export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<boolean>
       .get();
     for (const s of DEMO_RIG.stations) tx.insert(stations).values({ rigId: rig.id, ...s }).run();
     DEMO_ACCOUNTS.forEach((a, i) => tx.insert(memberships).values({ rigId: rig.id, userId: ids[i], role: a.role }).run());
-    return true;
+    return { rigId: rig.id, ownerId: ids[0] };
   });
 }
