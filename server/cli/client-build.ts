@@ -26,5 +26,7 @@ export function clientBuildReason(): string | null {
 
 export async function buildClient(): Promise<void> {
   const { build } = await import('vite');
-  await build({ root: repoRoot, logLevel: 'warn' });
+  // Always a production build: under vitest NODE_ENV is 'test', which would otherwise leave a
+  // development React in dist/client for `npm start` to serve.
+  await build({ root: repoRoot, logLevel: 'warn', mode: 'production', define: { 'process.env.NODE_ENV': JSON.stringify('production') } });
 }

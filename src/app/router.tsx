@@ -23,6 +23,21 @@ import {
   rigLoader,
 } from './routes/rig-routes';
 import { requireUserLoader, rootLoader, signInLoader } from './routes/session-loaders';
+import {
+  CaptureRoute,
+  CaptureRouteError,
+  CaptureSetupRoute,
+  CapturesRoute,
+  FrameRoute,
+  OverviewRoute,
+  TimelineRoute,
+  UploadRoute,
+  captureLoader,
+  frameLoader,
+  onlyOnPathChange,
+  overviewLoader,
+  uploadLoader,
+} from './routes/capture-routes';
 
 export const router = createBrowserRouter([
   {
@@ -52,6 +67,21 @@ export const router = createBrowserRouter([
                   { index: true, element: <StationsRoute /> },
                   { path: 'settings', element: <SettingsRoute /> },
                   { path: 'members', loader: membersLoader, element: <MembersRoute /> },
+                  { path: 'captures', element: <CapturesRoute /> },
+                ],
+              },
+              { path: 'rigs/:rigId/captures/new', loader: uploadLoader, element: <UploadRoute />, errorElement: <RigRouteError /> },
+              {
+                path: 'rigs/:rigId/captures/:captureId',
+                loader: captureLoader,
+                element: <CaptureRoute />,
+                errorElement: <CaptureRouteError />,
+                shouldRevalidate: onlyOnPathChange,
+                children: [
+                  { index: true, loader: overviewLoader, element: <OverviewRoute /> },
+                  { path: 'setup', element: <CaptureSetupRoute /> },
+                  { path: 'timeline', element: <TimelineRoute />, shouldRevalidate: onlyOnPathChange },
+                  { path: 'frames/:frameId', loader: frameLoader, element: <FrameRoute />, errorElement: <CaptureRouteError /> },
                 ],
               },
               { path: 'dev/mailbox', element: <MailboxPage /> },

@@ -32,6 +32,9 @@ export function RigHeader({ rigId }: { rigId: number }) {
         <NavLink to={`/rigs/${rigId}`} end className={tab}>
           Stations
         </NavLink>
+        <NavLink to={`/rigs/${rigId}/captures`} className={tab}>
+          Captures
+        </NavLink>
         <NavLink to={`/rigs/${rigId}/settings`} className={tab}>
           Line settings
         </NavLink>

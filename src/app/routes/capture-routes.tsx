@@ -1,0 +1,155 @@
+import { data, isRouteErrorResponse, Outlet, useLocation, useParams, useRouteError, type LoaderFunctionArgs, type ShouldRevalidateFunctionArgs } from 'react-router';
+import { idParam } from '../../../shared/schemas';
+import { ButtonLink } from '../../components/button';
+import { Card, CardTitle } from '../../components/card';
+import { NotFound } from '../../components/not-found';
+import { isApiError } from '../../lib/api';
+import { errorText } from '../../lib/error-text';
+import { rigQueryOptions, useRig } from '../../features/rigs/api/get-rig';
+import { captureQueryOptions, useCapture } from '../../features/captures/api/get-captures';
+import { CaptureList } from '../../features/captures/components/capture-list';
+import { CaptureNav } from '../../features/captures/components/capture-nav';
+import { CaptureSetup } from '../../features/captures/components/capture-setup';
+import { canCapture } from '../../features/captures/components/permissions';
+import { UploadPanel } from '../../features/captures/components/upload-panel';
+import { overviewQueryOptions } from '../../features/overview/api/get-overview';
+import { CaptureOverview } from '../../features/overview/components/capture-overview';
+import { TimelineView } from '../../features/timeline/components/timeline-view';
+import { frameQueryOptions } from '../../features/inspector/api/get-frame';
+import { FrameInspector } from '../../features/inspector/components/frame-inspector';
+import { queryClient } from '../query-client';
+
+function idFrom(value: string | undefined, what: string): number {
+  const parsed = idParam.safeParse(value);
+  if (!parsed.success) throw data(`No such ${what}`, { status: 404 });
+  return parsed.data;
+}
+
+export async function captureLoader({ params }: LoaderFunctionArgs) {
+  const rigId = idFrom(params.rigId, 'rig');
+  const captureId = idFrom(params.captureId, 'capture');
+  await Promise.all([queryClient.ensureQueryData(rigQueryOptions(rigId)), queryClient.ensureQueryData(captureQueryOptions(rigId, captureId))]);
+  return null;
+}
+
+export async function uploadLoader({ params }: LoaderFunctionArgs) {
+  await queryClient.ensureQueryData(rigQueryOptions(idFrom(params.rigId, 'rig')));
+  return null;
+}
+
+export async function overviewLoader({ params }: LoaderFunctionArgs) {
+  const rigId = idFrom(params.rigId, 'rig');
+  const captureId = idFrom(params.captureId, 'capture');
+  const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
+  if (capture.status === 'decoded') await queryClient.ensureQueryData(overviewQueryOptions(rigId, captureId));
+  return null;
+}
+
+export async function frameLoader({ params }: LoaderFunctionArgs) {
+  const rigId = idFrom(params.rigId, 'rig');
+  const captureId = idFrom(params.captureId, 'capture');
+  await queryClient.ensureQueryData(frameQueryOptions(rigId, captureId, idFrom(params.frameId, 'frame')));
+  return null;
+}
+
+/** The timeline keeps its view in the search params; changing them must not rerun loaders on every scroll. */
+export function onlyOnPathChange({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevalidateFunctionArgs) {
+  return currentUrl.pathname !== nextUrl.pathname ? defaultShouldRevalidate : false;
+}
+
+function useIds() {
+  const params = useParams();
+  return { rigId: Number(params.rigId), captureId: Number(params.captureId), frameId: Number(params.frameId) };
+}
+
+export function CapturesRoute() {
+  const rig = useRig(useIds().rigId);
+  return <CaptureList rig={rig} />;
+}
+
+export function UploadRoute() {
+  const rig = useRig(useIds().rigId);
+  return (
+    <div className="space-y-4">
+      <header>
+        <p className="text-xs text-muted">
+          <ButtonLink to={`/rigs/${rig.id}/captures`} variant="ghost" className="-ml-3 px-3 py-0.5 text-xs">
+            ← Captures of {rig.name}
+          </ButtonLink>
+        </p>
+        <h1 className="text-xl font-semibold">New capture</h1>
+      </header>
+      {canCapture.upload(rig.myRole) ? (
+        <UploadPanel rigId={rig.id} />
+      ) : (
+        <Card>
+          <CardTitle>Uploading needs an analyst</CardTitle>
+          <p className="text-sm text-muted">You are a viewer on this rig: you can read every capture but not add one. Ask the rig's owner for the analyst role.</p>
+        </Card>
+      )}
+    </div>
+  );
+}
+
+export function CaptureRoute() {
+  const { rigId, captureId } = useIds();
+  const capture = useCapture(rigId, captureId);
+  return (
+    <div className="space-y-5">
+      <CaptureNav rigId={rigId} capture={capture} />
+      <Outlet />
+    </div>
+  );
+}
+
+export function CaptureSetupRoute() {
+  const { rigId, captureId } = useIds();
+  return <CaptureSetup rig={useRig(rigId)} captureId={captureId} />;
+}
+
+function NotDecodedYet({ rigId, captureId }: { rigId: number; captureId: number }) {
+  return (
+    <Card>
+      <CardTitle>Not decoded yet</CardTitle>
+      <p className="mb-4 text-sm text-muted">This capture has no frames yet. Set its channel roles and decode it first.</p>
+      <ButtonLink to={`/rigs/${rigId}/captures/${captureId}/setup`}>Channel roles and decode</ButtonLink>
+    </Card>
+  );
+}
+
+export function OverviewRoute() {
+  const { rigId, captureId } = useIds();
+  const capture = useCapture(rigId, captureId);
+  if (capture.status !== 'decoded') return <NotDecodedYet rigId={rigId} captureId={captureId} />;
+  return <CaptureOverview rigId={rigId} captureId={captureId} />;
+}
+
+export function TimelineRoute() {
+  const { rigId, captureId } = useIds();
+  const rig = useRig(rigId);
+  const capture = useCapture(rigId, captureId);
+  if (capture.status !== 'decoded') return <NotDecodedYet rigId={rigId} captureId={captureId} />;
+  return <TimelineView rig={rig} capture={capture} />;
+}
+
+export function FrameRoute() {
+  const { rigId, captureId, frameId } = useIds();
+  const location = useLocation();
+  const fromTimeline = (location.state as { timelineSearch?: string } | null)?.timelineSearch;
+  const backTo = `/rigs/${rigId}/captures/${captureId}/timeline${fromTimeline ?? `?sel=${frameId}`}`;
+  return <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} />;
+}
+
+export function CaptureRouteError() {
+  const error = useRouteError();
+  if (isApiError(error, 404) || (isRouteErrorResponse(error) && error.status === 404)) {
+    return <NotFound what="capture" message="This capture, rig or frame does not exist, was deleted, or you are not a member of its rig." />;
+  }
+  if (isApiError(error, 403)) return <NotFound what="capture" message="You are not a member of this rig. Ask its owner for an invitation." />;
+  return (
+    <div className="mx-auto max-w-lg py-16 text-center">
+      <h1 className="text-xl font-semibold">This capture could not be shown</h1>
+      <p className="mt-2 text-muted">{errorText(error)}</p>
+    </div>
+  );
+}

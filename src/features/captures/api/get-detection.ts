@@ -1,0 +1,17 @@
+import { queryOptions, useQuery } from '@tanstack/react-query';
+import type { Detection } from '../../../../shared/schemas';
+import { api } from '../../../lib/api';
+import { captureKeys, capturePath } from './capture-keys';
+
+export function fetchDetection(rigId: number, captureId: number): Promise<Detection> {
+  return api(`${capturePath(rigId, captureId)}/detection`);
+}
+
+export function detectionQueryOptions(rigId: number, captureId: number) {
+  // the stored file never changes, so neither does what was detected in it
+  return queryOptions({ queryKey: captureKeys.detection(rigId, captureId), queryFn: () => fetchDetection(rigId, captureId), staleTime: Infinity });
+}
+
+export function useDetection(rigId: number, captureId: number) {
+  return useQuery(detectionQueryOptions(rigId, captureId));
+}

@@ -1,0 +1,19 @@
+import { useMutation, useQueryClient } from '@tanstack/react-query';
+import type { CaptureSettingsInput, CaptureSummaryRow } from '../../../../shared/schemas';
+import { api } from '../../../lib/api';
+import { captureKeys, capturePath } from './capture-keys';
+
+export function saveSettings(rigId: number, captureId: number, settings: CaptureSettingsInput): Promise<CaptureSummaryRow> {
+  return api(`${capturePath(rigId, captureId)}/settings`, { method: 'PUT', body: settings });
+}
+
+export function useSaveSettings(rigId: number, captureId: number) {
+  const queryClient = useQueryClient();
+  return useMutation({
+    mutationFn: (settings: CaptureSettingsInput) => saveSettings(rigId, captureId, settings),
+    onSuccess: (row) => {
+      queryClient.setQueryData(captureKeys.detail(rigId, captureId), row);
+      return queryClient.invalidateQueries({ queryKey: captureKeys.list(rigId) });
+    },
+  });
+}

@@ -1,0 +1,31 @@
+import { Link, NavLink } from 'react-router';
+import type { CaptureSummaryRow } from '../../../../shared/schemas';
+
+/** The capture's title bar and its views. */
+export function CaptureNav({ rigId, capture }: { rigId: number; capture: CaptureSummaryRow }) {
+  const base = `/rigs/${rigId}/captures/${capture.id}`;
+  const tab = ({ isActive }: { isActive: boolean }) =>
+    `-mb-px border-b-2 px-3 py-1.5 text-sm font-medium ${isActive ? 'border-flare-500 text-text' : 'border-transparent text-muted hover:text-text'}`;
+  return (
+    <header className="space-y-2">
+      <p className="text-xs text-muted">
+        <Link to={`/rigs/${rigId}/captures`} className="text-link hover:underline">
+          Captures
+        </Link>{' '}
+        /
+      </p>
+      <h1 className="truncate text-lg font-semibold">{capture.name}</h1>
+      <nav aria-label="Capture views" className="flex gap-1 border-b border-line">
+        <NavLink to={base} end className={tab}>
+          Overview
+        </NavLink>
+        <NavLink to={`${base}/timeline`} className={tab}>
+          Timeline
+        </NavLink>
+        <NavLink to={`${base}/setup`} className={tab}>
+          Channel roles
+        </NavLink>
+      </nav>
+    </header>
+  );
+}

@@ -1,0 +1,117 @@
+import { useEffect, useRef } from 'react';
+import { useQueryClient } from '@tanstack/react-query';
+import { useNavigate } from 'react-router';
+import type { RigDetail } from '../../../../shared/schemas';
+import { ButtonLink } from '../../../components/button';
+import { Card, CardTitle } from '../../../components/card';
+import { ErrorNotice } from '../../../components/notice';
+import { formatBytes } from '../../../components/units';
+import { isJobActive, useCancelDecode, useJob, useStartDecode } from '../api/decode-job';
+import { captureKeys } from '../api/capture-keys';
+import { captureQueryOptions, useCapture } from '../api/get-captures';
+import { useDetection } from '../api/get-detection';
+import { useSaveSettings } from '../api/save-settings';
+import { ChannelRoleForm } from './channel-role-form';
+import { DecodeProgress } from './decode-progress';
+import { canCapture } from './permissions';
+import { SafetyPanel } from './safety-panel';
+
+const formatNames: Record<string, string> = {
+  vcd: 'value change dump',
+  csv: 'CSV sample table',
+  raw: 'raw binary samples',
+  octets: 'octet stream of line bits',
+  framelog: 'hex frame log',
+};
+
+/** Step 2: say what each channel carries, then decode with visible progress; done → overview. */
+export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: number }) {
+  const capture = useCapture(rig.id, captureId);
+  const detection = useDetection(rig.id, captureId);
+  const save = useSaveSettings(rig.id, captureId);
+  const start = useStartDecode(rig.id, captureId);
+  const cancel = useCancelDecode(rig.id, captureId);
+  const job = useJob(rig.id, captureId, capture.job !== null || start.isSuccess);
+  const navigate = useNavigate();
+  const queryClient = useQueryClient();
+  const watched = useRef(false);
+  const mayDecode = canCapture.decode(rig.myRole);
+  const current = job.data ?? capture.job;
+  const active = isJobActive(current);
+
+  if (active) watched.current = true;
+  useEffect(() => {
+    if (!current || active || !watched.current) return;
+    let timer: number | undefined;
+    let live = true;
+    // the job we watched has an outcome: the capture's status and frame count changed with it
+    void (async () => {
+      await queryClient.fetchQuery({ ...captureQueryOptions(rig.id, captureId), staleTime: 0 });
+      await queryClient.invalidateQueries({ queryKey: captureKeys.list(rig.id) });
+      // views of the decoded capture (overview, timeline, frames) key on [view, rigId, captureId, …]; a new decode replaces them all
+      queryClient.removeQueries({ predicate: (q) => q.queryKey[0] !== captureKeys.all[0] && q.queryKey[1] === rig.id && q.queryKey[2] === captureId });
+      // land on the overview, after the full bar has been seen for a moment
+      if (live && current.state === 'done') timer = window.setTimeout(() => navigate(`/rigs/${rig.id}/captures/${captureId}`), 700);
+    })();
+    return () => {
+      live = false;
+      window.clearTimeout(timer);
+    };
+  }, [current?.state, active, navigate, queryClient, rig.id, captureId]);
+
+  return (
+    <div className="grid items-start gap-5 lg:grid-cols-[1fr_22rem]">
+      <div className="space-y-5">
+        <Card>
+          <CardTitle aside={<span className="font-mono text-xs text-muted">{formatBytes(capture.size)}</span>}>{capture.name}</CardTitle>
+          {detection.isPending ? <p className="text-sm text-muted">Reading the head of the file…</p> : null}
+          {detection.error ? <ErrorNotice error={detection.error} /> : null}
+          {detection.data ? (
+            <div className="space-y-5">
+              <p className="rounded-md bg-raised px-3 py-2 text-sm" data-testid="detected-format">
+                {detection.data.format ? (
+                  <>
+                    Detected: <strong>{formatNames[detection.data.format]}</strong> with {detection.data.channels.length} channel
+                    {detection.data.channels.length === 1 ? '' : 's'}. <span className="text-muted">{detection.data.reason}</span>
+                  </>
+                ) : (
+                  <>
+                    <strong>The format could not be detected.</strong> <span className="text-muted">{detection.data.reason}</span> Choose the format
+                    below.
+                  </>
+                )}
+              </p>
+              <ChannelRoleForm
+                rig={rig}
+                capture={capture}
+                detection={detection.data}
+                busy={save.isPending || start.isPending}
+                error={save.error ?? start.error}
+                disabled={!mayDecode || active}
+                onSubmit={(settings) => save.mutate(settings, { onSuccess: () => start.mutate() })}
+              />
+              {!mayDecode ? <p className="text-sm text-muted">Viewers cannot change channel roles or decode; an analyst or the owner can.</p> : null}
+            </div>
+          ) : null}
+        </Card>
+        {current ? (
+          <DecodeProgress job={current} canCancel={mayDecode} cancelling={cancel.isPending} onCancel={() => cancel.mutate()} />
+        ) : null}
+        {cancel.error ? <ErrorNotice error={cancel.error} /> : null}
+        {current?.state === 'failed' ? (
+          <ErrorNotice>
+            <p className="font-medium">The decoder stopped: {current.error ?? 'no reason given.'}</p>
+            <p className="mt-1">
+              Check the settings above: the format, which channel is the clock (or the bit rate when recovering it), the encoding (NRZ or NRZI),
+              the clock edge and inversion. A wrong clock edge or encoding gives no flags at all. Then save and decode again.
+            </p>
+          </ErrorNotice>
+        ) : null}
+        {current?.state === 'done' ? (
+          <ButtonLink to={`/rigs/${rig.id}/captures/${captureId}`}>Open the overview</ButtonLink>
+        ) : null}
+      </div>
+      <SafetyPanel />
+    </div>
+  );
+}

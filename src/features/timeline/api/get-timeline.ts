@@ -1,0 +1,93 @@
+import { keepPreviousData, queryOptions, useInfiniteQuery, useQuery } from '@tanstack/react-query';
+import type { TimelinePage, TimelineRow } from '../../../../shared/schemas';
+import { api } from '../../../lib/api';
+import { filterSearch, type TimelineFilters } from './timeline-filters';
+import { timelineBase, timelineKeys } from './timeline-keys';
+
+export const PAGE_ROWS = 1000;
+/** pages kept in memory; older ones are dropped as the user scrolls on, and fetched again on the way back */
+export const MAX_PAGES = 8;
+
+interface PageParam {
+  cursor: string | null;
+  direction: 'forward' | 'backward';
+}
+
+export interface LoadedPage extends TimelinePage {
+  direction: 'forward' | 'backward';
+}
+
+export async function fetchTimelinePage(
+  rigId: number,
+  captureId: number,
+  filters: TimelineFilters,
+  param: PageParam,
+  signal?: AbortSignal,
+): Promise<LoadedPage> {
+  const q = filterSearch(filters);
+  q.set('limit', String(PAGE_ROWS));
+  q.set('direction', param.direction);
+  if (param.cursor) q.set('cursor', param.cursor);
+  const page = await api<TimelinePage>(`${timelineBase(rigId, captureId)}/timeline?${q}`, { signal });
+  // rows are shown in time order whichever way the page was read
+  const rows = isDescending(page.rows) ? [...page.rows].reverse() : page.rows;
+  return { ...page, rows, direction: param.direction };
+}
+
+function isDescending(rows: TimelineRow[]): boolean {
+  if (rows.length < 2) return false;
+  const a = rows[0];
+  const b = rows[rows.length - 1];
+  return a.t > b.t || (a.t === b.t && a.id > b.id && a.type === b.type);
+}
+
+/**
+ * Pages in both directions from a start cursor (null = the beginning). A page read forward
+ * continues forward with nextCursor and back with prevCursor; a page read backward the other way round.
+ */
+export function useTimelineRows(rigId: number, captureId: number, filters: TimelineFilters, start: string | null, enabled: boolean) {
+  return useInfiniteQuery({
+    queryKey: timelineKeys.rows(rigId, captureId, filters, start),
+    initialPageParam: { cursor: start, direction: 'forward' } as PageParam,
+    queryFn: ({ pageParam, signal }) => fetchTimelinePage(rigId, captureId, filters, pageParam, signal),
+    getNextPageParam: (last): PageParam | undefined => {
+      const cursor = last.direction === 'forward' ? last.nextCursor : last.prevCursor;
+      return cursor ? { cursor, direction: 'forward' } : undefined;
+    },
+    getPreviousPageParam: (first): PageParam | undefined => {
+      const cursor = first.direction === 'forward' ? first.prevCursor : first.nextCursor;
+      return cursor ? { cursor, direction: 'backward' } : undefined;
+    },
+    maxPages: MAX_PAGES,
+    enabled,
+    staleTime: Infinity,
+  });
+}
+
+export function fetchTimelineCount(rigId: number, captureId: number, filters: TimelineFilters): Promise<{ count: number }> {
+  return api(`${timelineBase(rigId, captureId)}/timeline/count?${filterSearch(filters)}`);
+}
+
+export function timelineCountQueryOptions(rigId: number, captureId: number, filters: TimelineFilters) {
+  return queryOptions({ queryKey: timelineKeys.count(rigId, captureId, filters), queryFn: () => fetchTimelineCount(rigId, captureId, filters) });
+}
+
+export function useTimelineCount(rigId: number, captureId: number, filters: TimelineFilters) {
+  return useQuery({ ...timelineCountQueryOptions(rigId, captureId, filters), placeholderData: keepPreviousData });
+}
+
+export function fetchCursorAt(rigId: number, captureId: number, filters: TimelineFilters, t: number): Promise<{ cursor: string | null }> {
+  const q = filterSearch(filters);
+  q.set('t', String(t));
+  return api(`${timelineBase(rigId, captureId)}/timeline/at?${q}`);
+}
+
+/** The cursor of the first row at or after t, so a link with a time opens the view there. */
+export function useCursorAt(rigId: number, captureId: number, filters: TimelineFilters, t: number | null) {
+  return useQuery({
+    queryKey: timelineKeys.at(rigId, captureId, filters, t ?? 0),
+    queryFn: () => fetchCursorAt(rigId, captureId, filters, t ?? 0),
+    enabled: t !== null && t > 0,
+    staleTime: Infinity,
+  });
+}

@@ -1,0 +1,106 @@
+import { createColumnHelper } from '@tanstack/react-table';
+import type { TimelineFrame, TimelineRow } from '../../../../shared/schemas';
+import { StatusChip } from '../../../components/status-chip';
+import { formatDelta, formatSeconds } from '../../../components/units';
+import { formatAddress } from '../../../lib/format';
+
+export interface TimelineMeta {
+  rows: TimelineRow[];
+  selectedT: number | null;
+  linkLabels: Record<string, string>;
+}
+
+const col = createColumnHelper<TimelineRow>();
+const frameOnly = <T,>(fn: (f: TimelineFrame) => T) => (row: TimelineRow) => (row.type === 'frame' ? fn(row) : null);
+
+/** Column widths in px; the summary takes what is left. Shared by header and rows so they line up. */
+export const columnWidths: Record<string, string> = {
+  time: '7.2rem',
+  dprev: '6.4rem',
+  dsel: '6.4rem',
+  link: '6.5rem',
+  station: '9rem',
+  kind: '5.6rem',
+  seq: '6.4rem',
+  length: '3.4rem',
+  status: '6.6rem',
+  summary: 'minmax(10rem,1fr)',
+};
+
+export const timelineColumns = [
+  col.accessor('t', {
+    id: 'time',
+    header: 'Time (s)',
+    cell: (c) => <span className="tabular-nums">{formatSeconds(c.getValue())}</span>,
+  }),
+  col.display({
+    id: 'dprev',
+    header: 'Δ previous',
+    cell: (c) => {
+      const meta = c.table.options.meta as TimelineMeta;
+      const prev = meta.rows[c.row.index - 1];
+      return prev ? <span className="tabular-nums text-muted">{formatDelta(c.row.original.t - prev.t)}</span> : null;
+    },
+  }),
+  col.display({
+    id: 'dsel',
+    header: 'Δ selected',
+    cell: (c) => {
+      const meta = c.table.options.meta as TimelineMeta;
+      return meta.selectedT === null ? null : <span className="tabular-nums text-muted">{formatDelta(c.row.original.t - meta.selectedT)}</span>;
+    },
+  }),
+  col.accessor('link', {
+    id: 'link',
+    header: 'Link',
+    cell: (c) => {
+      const meta = c.table.options.meta as TimelineMeta;
+      const link = c.getValue();
+      return link ? <span title={meta.linkLabels[link] || link}>{link}</span> : null;
+    },
+  }),
+  col.accessor(frameOnly((f) => (f.address === null ? null : (f.stationName ?? formatAddress(f.address)))), {
+    id: 'station',
+    header: 'Station',
+    cell: (c) => c.getValue(),
+  }),
+  col.accessor(frameOnly((f) => [f.kind, f.command !== f.kind ? f.command : null].filter(Boolean).join(' ')), {
+    id: 'kind',
+    header: 'Kind',
+    cell: (c) => <span className="font-medium">{c.getValue()}</span>,
+  }),
+  col.accessor(frameOnly((f) => f), {
+    id: 'seq',
+    header: 'N(S) N(R) P/F',
+    cell: (c) => {
+      const f = c.getValue();
+      if (!f) return null;
+      const part = (v: number | null) => (v === null ? '·' : String(v));
+      return (
+        <span className="tabular-nums">
+          {part(f.ns)} {part(f.nr)} {f.pf === null ? '·' : f.pf ? 'P' : '–'}
+        </span>
+      );
+    },
+  }),
+  col.accessor(frameOnly((f) => f.infoLength), {
+    id: 'length',
+    header: 'Len',
+    cell: (c) => <span className="tabular-nums">{c.getValue()}</span>,
+  }),
+  col.accessor(frameOnly((f) => f.status), {
+    id: 'status',
+    header: 'Status',
+    cell: (c) => {
+      const s = c.getValue();
+      return s ? <StatusChip status={s} /> : null;
+    },
+  }),
+  col.accessor('summary', {
+    id: 'summary',
+    header: 'Summary',
+    cell: (c) => <span className="truncate">{c.getValue()}</span>,
+  }),
+];
+
+export const gridTemplate = timelineColumns.map((c) => columnWidths[c.id!]).join(' ');
