@@ -27,6 +27,14 @@ export function clientBuildReason(): string | null {
 export async function buildClient(): Promise<void> {
   const { build } = await import('vite');
   // Always a production build: under vitest NODE_ENV is 'test', which would otherwise leave a
-  // development React in dist/client for `npm start` to serve.
-  await build({ root: repoRoot, logLevel: 'warn', mode: 'production', define: { 'process.env.NODE_ENV': JSON.stringify('production') } });
+  // development React (and the dev JSX runtime) in dist/client for `npm start` to serve. Vite and
+  // its React plugin both read the variable, so it is set for the build and restored after.
+  const before = process.env.NODE_ENV;
+  process.env.NODE_ENV = 'production';
+  try {
+    await build({ root: repoRoot, logLevel: 'warn', mode: 'production' });
+  } finally {
+    if (before === undefined) delete process.env.NODE_ENV;
+    else process.env.NODE_ENV = before;
+  }
 }
