@@ -44,7 +44,7 @@ interface Row {
 const rows: Row[] = [];
 
 const COLUMNS: [string, number][] = [
-  ['stage', 46],
+  ['stage', 50],
   ['MB/s', 8],
   ['M samples/s', 12],
   ['Mbit/s', 8],

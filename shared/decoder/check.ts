@@ -1,6 +1,6 @@
 // The FCS stage: turns a RawFrame into a DecodedFrame with received and computed FCS, the
 // ok / bad-fcs verdict, the single flipped bit that would explain a bad FCS, and the link decode.
-import { fcs16, fcs16Good, fcs32, locateSingleBitError16, locateSingleBitError32 } from './fcs';
+import { FCS16_GOOD_RESIDUE, fcs16Register, fcs32, locateSingleBitError16, locateSingleBitError32 } from './fcs';
 import { decodeLink } from './link';
 import type { DecodedFrame, RawFrame } from './types';
 
@@ -23,8 +23,10 @@ export function checkFrame(raw: RawFrame, options: CheckOptions = {}): DecodedFr
     if (width === 2) {
       // The first FCS octet on the wire is the low-order byte.
       fcsReceived = bytes[dataLength] | (bytes[dataLength + 1] << 8);
-      fcsComputed = fcs16(bytes, 0, dataLength);
-      if (status === 'ok' && !fcs16Good(bytes, 0, total)) {
+      // one pass: the register over the data gives the FCS; run on over the received FCS for the residue
+      const reg = fcs16Register(0xffff, bytes, 0, dataLength);
+      fcsComputed = reg ^ 0xffff;
+      if (status === 'ok' && fcs16Register(reg, bytes, dataLength, total) !== FCS16_GOOD_RESIDUE) {
         status = 'bad-fcs';
         flippedBit = locateSingleBitError16(bytes, 0, total);
       }

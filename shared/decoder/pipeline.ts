@@ -10,6 +10,7 @@
 import { BitRecovery } from './bits';
 import { checkFrame } from './check';
 import { Deframer } from './deframe';
+import { ClockedRawBits } from './raw-clocked';
 import { createReader } from './readers';
 import { detectFormat } from './readers/detect';
 import { TimeOrder } from './time-order';
@@ -47,6 +48,12 @@ export interface DecoderOptions {
   fcs?: 16 | 32;
   /** frames and events held for time ordering before the earliest is let out regardless */
   maxHeld?: number;
+  /**
+   * Raw binary with a clock goes through one fused loop from bytes to packed bits (default);
+   * false sends it through transitions and bit recovery like every other format, the path the
+   * fused one is tested against.
+   */
+  rawFastPath?: boolean;
 }
 
 export interface Decoder {
@@ -80,7 +87,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
   let links: string[] = [];
   const deframers = new Map<string, Deframer>();
   const deframerList: Deframer[] = [];
-  let recovery: BitRecovery | null = null;
+  let recovery: BitRecovery | ClockedRawBits | null = null;
   const frameLogSeq = new Map<string, number>();
   let finished = false;
 
@@ -151,14 +158,25 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
         invert: options.invert ?? false,
         bitRate: options.bitRate,
       };
-      recovery = new BitRecovery(opts, {
+      const bitSink = {
         bits: (link: string, chunk: BitChunk) => deframers.get(link)!.push(chunk),
         event: (e: LineEvent) => order.event(e),
-      });
+      };
+      recovery = canFuse(opts) ? new ClockedRawBits(opts, bitSink) : new BitRecovery(opts, bitSink);
     },
     transitions(t: Parameters<BitRecovery['transitions']>[0]) {
-      if (recovery && !ownFatal) recovery.transitions(t);
+      if (recovery instanceof BitRecovery && !ownFatal) recovery.transitions(t);
     },
+    rawConsumer() {
+      return recovery instanceof ClockedRawBits && !ownFatal ? recovery : null;
+    },
+  };
+
+  /** the fused raw path covers raw samples with a clock whose channels each have one role */
+  const canFuse = (opts: BitRecoveryOptions): boolean => {
+    if (format !== 'raw' || options.rawFastPath === false || opts.clock === undefined) return false;
+    const used = [opts.clock, ...opts.data.map((d) => d.channel), ...(opts.handshake ?? []).map((h) => h.channel)];
+    return new Set(used).size === used.length;
   };
 
   // Octet streams carry line bits straight from the adapter; NRZI and inversion still apply.
@@ -304,7 +322,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
       }
       if (!reader || ownFatal) return;
       if (!reader.fatal()) reader.finish();
-      const r: BitRecovery | null = recovery;
+      const r: BitRecovery | ClockedRawBits | null = recovery;
       if (r && !fatal()) r.finish();
       for (const d of deframerList) d.finish();
       order.flush();

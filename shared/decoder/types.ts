@@ -55,8 +55,14 @@ export interface Transitions {
 
 /** Recovered line bits of one link after NRZ/NRZI decoding and inversion. */
 export interface BitChunk {
-  /** one bit per element, 0 or 1, valid in [0, n) */
+  /** one bit per element, 0 or 1, valid in [0, n); not filled when `packed` is given */
   bits: Uint8Array;
+  /**
+   * The same bits packed eight to a byte, first bit in bit 0, valid for bit indices [0, n).
+   * A producer that fills this may leave `bits` unfilled; only the deframer reads chunks from
+   * such producers (the fused raw path), and it prefers this form when present.
+   */
+  packed?: Uint8Array;
   /** sample index at which each bit was taken */
   samples: Float64Array;
   n: number;

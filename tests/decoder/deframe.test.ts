@@ -164,3 +164,28 @@ describe('Deframer', () => {
     }
   });
 });
+
+describe('Deframer.pendingFrom (the time-order watermark)', () => {
+  const push = (d: Deframer, line: string) => {
+    const bits = bitsOf(line);
+    const samples = Float64Array.from(bits, (_, i) => i);
+    d.push({ bits, samples, n: bits.length });
+  };
+
+  it('holds back to the start of an open stretch of fill flags, whose line event is still to come (ISO/IEC 13239 flag 01111110)', () => {
+    const events: unknown[] = [];
+    const d = new Deframer('L', { frame: () => {}, event: (e) => events.push(e) });
+    push(d, FLAG + FLAG + FLAG);
+    expect(events).toEqual([]);
+    // the 'flags' event will carry sample 0, so nothing later may be let out yet
+    expect(d.pendingFrom()).toBeLessThanOrEqual(0);
+    d.finish();
+    expect(events).toEqual([{ link: 'L', channel: 'L', kind: 'flags', sample: 0, endSample: 23, count: 3 }]);
+  });
+
+  it('holds back to the start of a run of ones that may still become an idle event', () => {
+    const d = new Deframer('L', { frame: () => {}, event: () => {} });
+    push(d, '0' + '1'.repeat(20));
+    expect(d.pendingFrom()).toBeLessThanOrEqual(1);
+  });
+});

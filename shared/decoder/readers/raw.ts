@@ -2,6 +2,17 @@ import type { CaptureReader, ChannelInfo, DecodeIssue, ReaderOptions, Transition
 import { IssueLog } from './issue-log';
 import { newTransitions } from './transition-batch';
 
+/** Takes raw samples as they are, instead of transitions (the fused raw + clock path). */
+export interface RawSampleConsumer {
+  /** whole samples bytes[start, end), `width` bytes each, the first at sample index `firstSample` */
+  samples(bytes: Uint8Array, start: number, end: number, firstSample: number, width: 1 | 2): void;
+}
+
+/** A transition sink that may, once the header is out, ask for the samples themselves. */
+export interface RawTransitionSink extends TransitionSink {
+  rawConsumer?(): RawSampleConsumer | null;
+}
+
 /** transitions per batch; a module-local constant keeps the hot loops free of imported bindings */
 const BATCH = 16384;
 
@@ -20,10 +31,12 @@ export class RawReader implements CaptureReader {
   private sample = 0;
   private oddByte = -1;
   private started = false;
+  /** undefined until the header is out; then the consumer of raw samples, or null for transitions */
+  private direct: RawSampleConsumer | null | undefined = undefined;
 
   constructor(
     private readonly opts: ReaderOptions,
-    private readonly sink: TransitionSink,
+    private readonly sink: RawTransitionSink,
   ) {
     this.width = opts.rawWidth ?? 1;
     const count = this.width * 8;
@@ -52,6 +65,11 @@ export class RawReader implements CaptureReader {
     if (!this.started) {
       this.started = true;
       this.sink.header(this.channels, 1 / this.opts.sampleRate!);
+      this.direct = this.sink.rawConsumer?.() ?? null;
+    }
+    if (this.direct) {
+      this.pushDirect(chunk, this.direct);
+      return;
     }
     // the scans stop when the batch is full; handing it on happens here, outside the hot loops
     // (a rarely taken call inside them makes the optimizing compiler bail out again and again)
@@ -64,6 +82,27 @@ export class RawReader implements CaptureReader {
       }
     }
     this.bytesRead += chunk.length;
+  }
+
+  private pushDirect(chunk: Uint8Array, direct: RawSampleConsumer): void {
+    const len = chunk.length;
+    let i = 0;
+    if (this.width === 2 && this.oddByte >= 0) {
+      const pair = new Uint8Array([this.oddByte, chunk[0]]);
+      direct.samples(pair, 0, 2, this.sample, 2);
+      this.prev = pair[0] | (pair[1] << 8);
+      this.sample++;
+      this.oddByte = -1;
+      i = 1;
+    }
+    const whole = this.width === 1 ? len - i : (len - i) & ~1;
+    if (whole > 0) {
+      direct.samples(chunk, i, i + whole, this.sample, this.width);
+      this.prev = this.width === 1 ? chunk[i + whole - 1] : chunk[i + whole - 2] | (chunk[i + whole - 1] << 8);
+      this.sample += whole / this.width;
+    }
+    if (i + whole < len) this.oddByte = chunk[len - 1];
+    this.bytesRead += len;
   }
 
   /** scans from byte `from` until the chunk ends or the batch is full; returns where it stopped */
@@ -201,6 +240,8 @@ export class RawReader implements CaptureReader {
       this.log.fatal({ offset: this.bytesRead, expected: 'at least one sample', message: 'The capture holds no samples.' });
       return;
     }
+    // the consumer of raw samples needs no end marker: a repeated level makes no clock edge
+    if (this.direct) return;
     const t = this.t;
     const last = this.sample - 1;
     const count = this.width * 8;

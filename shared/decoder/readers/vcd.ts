@@ -159,6 +159,10 @@ export class VcdReader implements CaptureReader {
     let n = t.n;
     let line = this.line;
     let time = this.time;
+    // reader state the general path (token) may change, in locals between its calls
+    let plain = this.pendingVector === 0 && !this.inComment;
+    let filled = this.filled;
+    let anyValue = this.anyValue;
     let i = from;
     while (i < len) {
       const c = buf[i];
@@ -166,6 +170,51 @@ export class VcdReader implements CaptureReader {
         if (c === 10) line++;
         i++;
         continue;
+      }
+      // The two commonest tokens, read in place without first scanning for the token's end.
+      if (plain && (c === 48 || c === 49) && i + 2 < len) {
+        // a scalar change with a one- or two-character identifier
+        const b1 = buf[i + 1];
+        const b2 = buf[i + 2];
+        let key = -1;
+        let tokenLength = 0;
+        if (b2 <= 32) {
+          if (b1 > 32 && b1 < 128) {
+            key = short[b1];
+            tokenLength = 2;
+          }
+        } else if (b1 > 32 && b1 < 128 && b2 < 128 && i + 3 < len && buf[i + 3] <= 32) {
+          key = short[b1 * 128 + b2];
+          tokenLength = 3;
+        }
+        const ch = key >= 0 ? single[key] : -1;
+        if (ch >= 0) {
+          const v = c - 48;
+          anyValue = true;
+          i += tokenLength;
+          if (cur[ch] !== v) {
+            cur[ch] = v;
+            chs[n] = ch;
+            sms[n] = time;
+            vls[n] = v;
+            n++;
+            if (n >= FAST_LIMIT) break;
+          }
+          continue;
+        }
+      } else if (c === 35 && plain && filled) {
+        let v = 0;
+        let k = i + 1;
+        for (; k < len; k++) {
+          const d = buf[k] - 48;
+          if (d < 0 || d > 9) break;
+          v = v * 10 + d;
+        }
+        if (k < len && buf[k] <= 32 && k - i > 1 && k - i < 17 && v >= time) {
+          time = v;
+          i = k;
+          continue;
+        }
       }
       const start = i;
       i++;
@@ -175,13 +224,13 @@ export class VcdReader implements CaptureReader {
         this.carryOffset = base + start;
         break;
       }
-      if (this.pendingVector === 0 && !this.inComment) {
+      if (plain) {
         if ((c === 48 || c === 49) && (i - start === 2 || (i - start === 3 && buf[start + 1] < 128 && buf[start + 2] < 128))) {
           const key = i - start === 2 ? short[buf[start + 1]] : short[buf[start + 1] * 128 + buf[start + 2]];
           const ch = key >= 0 ? single[key] : -1;
           if (ch >= 0) {
             const v = c - 48;
-            this.anyValue = true;
+            anyValue = true;
             if (cur[ch] !== v) {
               cur[ch] = v;
               chs[n] = ch;
@@ -192,7 +241,7 @@ export class VcdReader implements CaptureReader {
             }
             continue;
           }
-        } else if (c === 35 && this.filled && i - start > 1 && i - start < 17) {
+        } else if (c === 35 && filled && i - start > 1 && i - start < 17) {
           let v = 0;
           let k = start + 1;
           for (; k < i; k++) {
@@ -210,14 +259,19 @@ export class VcdReader implements CaptureReader {
       t.n = n;
       this.line = line;
       this.time = time;
+      this.anyValue = anyValue;
       this.token(buf, start, i, base + start);
       n = t.n;
       time = this.time;
+      plain = this.pendingVector === 0 && !this.inComment;
+      filled = this.filled;
+      anyValue = this.anyValue;
       if (this.log.fatalIssue || n >= FAST_LIMIT) break;
     }
     t.n = n;
     this.line = line;
     this.time = time;
+    this.anyValue = anyValue;
     return i;
   }
 
