@@ -107,9 +107,12 @@ function parse(argv: string[]): Cli {
   };
 }
 
+/** Two hex digits per octet value, built once: output formatting is a large share of CLI time. */
+const HEX_PAIRS = Array.from({ length: 256 }, (_, i) => i.toString(16).padStart(2, '0'));
+
 function hex(bytes: Uint8Array, end: number): string {
   let s = '';
-  for (let i = 0; i < end; i++) s += (bytes[i] < 16 ? '0' : '') + bytes[i].toString(16);
+  for (let i = 0; i < end; i++) s += HEX_PAIRS[bytes[i]];
   return s;
 }
 
