@@ -79,8 +79,8 @@ export function SignInPage() {
                   <span className="font-mono">{account.email}</span>
                   <RoleBadge role={account.role as 'owner' | 'analyst' | 'viewer'} />
                 </span>
-                <Button variant="ghost" className="py-0.5" onClick={() => fill(account.email)}>
-                  Use {account.email}
+                <Button variant="ghost" className="shrink-0 py-0.5" aria-label={`Use ${account.email}`} onClick={() => fill(account.email)}>
+                  Fill in
                 </Button>
               </li>
             ))}
