@@ -8,6 +8,7 @@
 // Channels are named by string in the options and resolved when the reader's header arrives;
 // a name the capture does not have becomes a fatal DecodeIssue listing the names it has.
 import { BitRecovery } from './bits';
+import { AnomalyTap, type AnomalySink } from './faults/anomalies';
 import { checkFrame } from './check';
 import { Deframer } from './deframe';
 import { ClockedRawBits } from './raw-clocked';
@@ -54,6 +55,11 @@ export interface DecoderOptions {
    * fused one is tested against.
    */
   rawFastPath?: boolean;
+  /**
+   * Receives the line anomalies of sample captures (VCD, CSV, raw): glitches, clock edges missing
+   * or extra, unknown levels, silences. Raw captures then go through transitions (no fused path).
+   */
+  anomalies?: AnomalySink;
 }
 
 export interface Decoder {
@@ -88,6 +94,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
   const deframers = new Map<string, Deframer>();
   const deframerList: Deframer[] = [];
   let recovery: BitRecovery | ClockedRawBits | null = null;
+  let tap: AnomalyTap | null = null;
   const frameLogSeq = new Map<string, number>();
   let finished = false;
 
@@ -162,10 +169,14 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
         bits: (link: string, chunk: BitChunk) => deframers.get(link)!.push(chunk),
         event: (e: LineEvent) => order.event(e),
       };
+      if (options.anomalies) tap = new AnomalyTap({ ...opts, clockName: clock?.name }, options.anomalies);
       recovery = canFuse(opts) ? new ClockedRawBits(opts, bitSink) : new BitRecovery(opts, bitSink);
     },
     transitions(t: Parameters<BitRecovery['transitions']>[0]) {
-      if (recovery instanceof BitRecovery && !ownFatal) recovery.transitions(t);
+      if (recovery instanceof BitRecovery && !ownFatal) {
+        recovery.transitions(t);
+        tap?.transitions(t);
+      }
     },
     rawConsumer() {
       return recovery instanceof ClockedRawBits && !ownFatal ? recovery : null;
@@ -174,7 +185,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
 
   /** the fused raw path covers raw samples with a clock whose channels each have one role */
   const canFuse = (opts: BitRecoveryOptions): boolean => {
-    if (format !== 'raw' || options.rawFastPath === false || opts.clock === undefined) return false;
+    if (format !== 'raw' || options.rawFastPath === false || options.anomalies || opts.clock === undefined) return false;
     const used = [opts.clock, ...opts.data.map((d) => d.channel), ...(opts.handshake ?? []).map((h) => h.channel)];
     return new Set(used).size === used.length;
   };
@@ -324,6 +335,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
       if (!reader.fatal()) reader.finish();
       const r: BitRecovery | ClockedRawBits | null = recovery;
       if (r && !fatal()) r.finish();
+      if (tap && !fatal()) tap.finish();
       for (const d of deframerList) d.finish();
       order.flush();
     },

@@ -395,3 +395,23 @@ describe('fault desk on a capture without a clock', () => {
     expect(report.anomalyGroups.find((g) => g.kind === 'silence')).toMatchObject({ inFrames: 0, outside: 0 });
   });
 });
+
+describe('fault desk fed by the decoder pipeline', () => {
+  it('gets the same groups and anomalies from createDecoder with the anomaly tap as from the stages by hand', () => {
+    const sc = scenario();
+    const bytes = capture(sc);
+    const byHand = faultReport(bytes, 7);
+    const desk = new FaultDesk({ samplePeriodSeconds: PERIOD });
+    const decoder = createDecoder({ format: 'vcd', clock: 'clk', data: ['a'], encoding: 'nrz', anomalies: desk }, desk);
+    for (const piece of randomSplit(bytes, 11, 4096)) decoder.push(piece);
+    decoder.finish();
+    expect(decoder.fatal()).toBeNull();
+    const viaPipeline = desk.finish();
+    const shape = (r: FaultReport) => ({
+      groups: r.groups.map((g) => [g.cause, g.count]),
+      anomalies: r.anomalyGroups.map((g) => [g.kind, g.inFrames, g.outside]),
+    });
+    expect(shape(viaPipeline)).toEqual(shape(byHand));
+    expect(viaPipeline.anomalyGroups.some((g) => g.inFrames > 0)).toBe(true);
+  });
+});
