@@ -38,6 +38,7 @@ import {
   overviewLoader,
   uploadLoader,
 } from './routes/capture-routes';
+import { callRoutes } from './routes/call-routes';
 
 export const router = createBrowserRouter([
   {
@@ -82,6 +83,7 @@ export const router = createBrowserRouter([
                   { path: 'setup', element: <CaptureSetupRoute /> },
                   { path: 'timeline', element: <TimelineRoute />, shouldRevalidate: onlyOnPathChange },
                   { path: 'frames/:frameId', loader: frameLoader, element: <FrameRoute />, errorElement: <CaptureRouteError /> },
+                  ...callRoutes,
                 ],
               },
               { path: 'dev/mailbox', element: <MailboxPage /> },

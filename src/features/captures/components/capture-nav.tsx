@@ -22,6 +22,15 @@ export function CaptureNav({ rigId, capture }: { rigId: number; capture: Capture
         <NavLink to={`${base}/timeline`} className={tab}>
           Timeline
         </NavLink>
+        <NavLink to={`${base}/round-trips`} className={tab}>
+          Round trips
+        </NavLink>
+        <NavLink to={`${base}/files`} className={tab}>
+          Recovered files
+        </NavLink>
+        <NavLink to={`${base}/compare`} className={tab}>
+          Compare
+        </NavLink>
         <NavLink to={`${base}/setup`} className={tab}>
           Channel roles
         </NavLink>

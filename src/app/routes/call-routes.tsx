@@ -1,0 +1,163 @@
+import { useEffect, useRef, type ReactNode } from 'react';
+import { useParams, type LoaderFunctionArgs, type RouteObject, type ShouldRevalidateFunctionArgs } from 'react-router';
+import { idParam } from '../../../shared/schemas';
+import { ButtonLink } from '../../components/button';
+import { Card, CardTitle } from '../../components/card';
+import { ErrorNotice } from '../../components/notice';
+import { useCapture, useCaptures } from '../../features/captures/api/get-captures';
+import { useRig } from '../../features/rigs/api/get-rig';
+import { comparisonKeys } from '../../features/compare/api/get-comparison';
+import { CompareView } from '../../features/compare/components/compare-view';
+import { recoveredFileKeys } from '../../features/recovered-files/api/file-keys';
+import { recoveredFilesQueryOptions } from '../../features/recovered-files/api/get-files';
+import { RecoveredFileList } from '../../features/recovered-files/components/recovered-file-list';
+import { exchangeKeys } from '../../features/round-trips/api/exchange-keys';
+import { useCallLayer } from '../../features/round-trips/api/get-call-layer';
+import { exchangeStatsQueryOptions } from '../../features/round-trips/api/get-exchange-stats';
+import { useExchanges } from '../../features/round-trips/api/get-exchanges';
+import { timelineSearchFor } from '../../features/round-trips/components/exchange-order';
+import { ExchangeTable } from '../../features/round-trips/components/exchange-table';
+import { RoundTripsView } from '../../features/round-trips/components/round-trips-view';
+import { queryClient } from '../query-client';
+
+// The call-layer views of a capture (round trips, recovered files, compare), mounted under the
+// capture route by router.tsx. Their view state (station, order, open file, B capture) lives in
+// the search params, so changing it must not rerun loaders.
+
+function ids(params: LoaderFunctionArgs['params']): { rigId: number; captureId: number } | null {
+  const rig = idParam.safeParse(params.rigId);
+  const capture = idParam.safeParse(params.captureId);
+  return rig.success && capture.success ? { rigId: rig.data, captureId: capture.data } : null;
+}
+
+/** Prefetches so the page paints with data; errors are left to the page, which shows them in place. */
+function prefetch(what: (rigId: number, captureId: number) => Promise<void>) {
+  return async ({ params }: LoaderFunctionArgs) => {
+    const got = ids(params);
+    if (got) await what(got.rigId, got.captureId);
+    return null;
+  };
+}
+
+function pathOnly({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevalidateFunctionArgs) {
+  return currentUrl.pathname !== nextUrl.pathname ? defaultShouldRevalidate : false;
+}
+
+function useIds() {
+  const params = useParams();
+  return { rigId: Number(params.rigId), captureId: Number(params.captureId) };
+}
+
+/**
+ * Shows the view once the capture is decoded and its call layer has a visible run; while a run is
+ * queued or running it says so (and polls). When a new run becomes visible, exchange and file
+ * ids change, so every call-layer query of the capture is refetched.
+ */
+function CallLayerGate({ children }: { children: ReactNode }) {
+  const { rigId, captureId } = useIds();
+  const capture = useCapture(rigId, captureId);
+  const layer = useCallLayer(rigId, captureId);
+  const runId = layer.data?.current?.runId ?? null;
+  const seen = useRef(runId);
+  useEffect(() => {
+    if (seen.current !== null && runId !== null && seen.current !== runId) {
+      void queryClient.invalidateQueries({ queryKey: exchangeKeys.capture(rigId, captureId) });
+      void queryClient.invalidateQueries({ queryKey: recoveredFileKeys.capture(rigId, captureId) });
+      void queryClient.invalidateQueries({ queryKey: comparisonKeys.all });
+    }
+    seen.current = runId;
+  }, [runId, rigId, captureId]);
+
+  if (capture.status !== 'decoded') {
+    return (
+      <Card>
+        <CardTitle>Not decoded yet</CardTitle>
+        <p className="mb-4 text-sm text-muted">Exchanges and files come from the decoded frames. Set this capture's channel roles and decode it first.</p>
+        <ButtonLink to={`/rigs/${rigId}/captures/${captureId}/setup`}>Channel roles and decode</ButtonLink>
+      </Card>
+    );
+  }
+  if (layer.error) return <ErrorNotice error={layer.error} />;
+  if (!layer.data) return <p className="text-sm text-muted">Loading the call layer…</p>;
+  const pending = layer.data.pending;
+  const notice =
+    pending && (pending.state === 'queued' || pending.state === 'running') ? (
+      <p role="status" className="rounded-md border border-line bg-raised px-3 py-2 text-sm">
+        Reading calls with the field map “{layer.data.mapName}”… {layer.data.current ? 'The results below are from the previous run.' : ''}
+      </p>
+    ) : pending?.state === 'failed' ? (
+      <ErrorNotice>The call layer could not be run with “{layer.data.mapName}”: {pending.error ?? 'no reason given'}.</ErrorNotice>
+    ) : null;
+  if (!layer.data.current) return notice ?? <p className="text-sm text-muted">The call layer has not run on this capture yet.</p>;
+  return (
+    <div className="space-y-4">
+      {notice}
+      <div key={runId}>{children}</div>
+    </div>
+  );
+}
+
+function RoundTripsRoute() {
+  const { rigId, captureId } = useIds();
+  const rig = useRig(rigId);
+  return (
+    <CallLayerGate>
+      <RoundTripsView rig={rig} captureId={captureId} />
+    </CallLayerGate>
+  );
+}
+
+function FileExchanges({ rigId, captureId, fileId }: { rigId: number; captureId: number; fileId: number }) {
+  const list = useExchanges(rigId, captureId, { file: fileId });
+  const base = `/rigs/${rigId}/captures/${captureId}`;
+  if (list.error) return <ErrorNotice error={list.error} />;
+  if (!list.data) return <p className="text-sm text-muted">Loading exchanges…</p>;
+  return (
+    <ExchangeTable
+      rows={list.data.rows}
+      frameHref={(id) => `${base}/frames/${id}`}
+      timelineHref={(row) => `${base}/timeline${timelineSearchFor(row)}`}
+      caption="Exchanges about this file"
+    />
+  );
+}
+
+function RecoveredFilesRoute() {
+  const { rigId, captureId } = useIds();
+  const rig = useRig(rigId);
+  return (
+    <CallLayerGate>
+      <RecoveredFileList rig={rig} captureId={captureId} renderExchanges={(fileId) => <FileExchanges rigId={rigId} captureId={captureId} fileId={fileId} />} />
+    </CallLayerGate>
+  );
+}
+
+function CompareRoute() {
+  const { rigId, captureId } = useIds();
+  const rig = useRig(rigId);
+  const capture = useCapture(rigId, captureId);
+  const captures = useCaptures(rigId);
+  return (
+    <CallLayerGate>
+      {captures.error ? <ErrorNotice error={captures.error} /> : null}
+      {captures.data ? <CompareView rig={rig} capture={capture} captures={captures.data} /> : <p className="text-sm text-muted">Loading captures…</p>}
+    </CallLayerGate>
+  );
+}
+
+/** Children of the capture route (`rigs/:rigId/captures/:captureId`). */
+export const callRoutes: RouteObject[] = [
+  {
+    path: 'round-trips',
+    loader: prefetch((rigId, captureId) => queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, []))),
+    element: <RoundTripsRoute />,
+    shouldRevalidate: pathOnly,
+  },
+  {
+    path: 'files',
+    loader: prefetch((rigId, captureId) => queryClient.prefetchQuery(recoveredFilesQueryOptions(rigId, captureId))),
+    element: <RecoveredFilesRoute />,
+    shouldRevalidate: pathOnly,
+  },
+  { path: 'compare', element: <CompareRoute />, shouldRevalidate: pathOnly },
+];

@@ -1,0 +1,41 @@
+import { queryOptions, useQuery } from '@tanstack/react-query';
+import type { ExchangePage, ExchangeRow } from '../../../../shared/schemas';
+import { api } from '../../../lib/api';
+import { callsPath, exchangeKeys, type ExchangeListQuery } from './exchange-keys';
+
+/** Enough for any session a person reads as a ladder; past it the view says how many it left out. */
+export const EXCHANGE_READ_LIMIT = 20_000;
+
+export interface ExchangeList {
+  rows: ExchangeRow[];
+  total: number;
+}
+
+/** Every exchange matching the filters, in time order, following the cursor page by page. */
+export async function fetchExchanges(rigId: number, captureId: number, query: ExchangeListQuery, signal?: AbortSignal): Promise<ExchangeList> {
+  const rows: ExchangeRow[] = [];
+  let cursor: string | null = null;
+  let total = 0;
+  do {
+    const params = new URLSearchParams({ limit: '1000', sort: 'time' });
+    if (query.station?.length) params.set('station', query.station.join(','));
+    if (query.file !== undefined) params.set('file', String(query.file));
+    if (cursor) params.set('cursor', cursor);
+    const page: ExchangePage = await api(`${callsPath(rigId, captureId)}/exchanges?${params}`, { signal });
+    rows.push(...page.rows);
+    total = page.total;
+    cursor = page.nextCursor;
+  } while (cursor && rows.length < EXCHANGE_READ_LIMIT);
+  return { rows, total };
+}
+
+export function exchangesQueryOptions(rigId: number, captureId: number, query: ExchangeListQuery) {
+  return queryOptions({
+    queryKey: exchangeKeys.list(rigId, captureId, query),
+    queryFn: ({ signal }) => fetchExchanges(rigId, captureId, query, signal),
+  });
+}
+
+export function useExchanges(rigId: number, captureId: number, query: ExchangeListQuery, enabled = true) {
+  return useQuery({ ...exchangesQueryOptions(rigId, captureId, query), enabled });
+}

@@ -1,0 +1,197 @@
+import { createHash } from 'node:crypto';
+import { readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
+import type { Browser, Page } from 'playwright-core';
+import { launchBrowser, newPage, stepShots } from './support/browser';
+import { signInAsDemo } from './support/flows';
+
+const baseUrl = inject('baseUrl');
+const DEMO_RIG = 'Wrenfield Parish Office, 1983';
+const CLOCKED = 'wrenfield-session-clocked.raw';
+const REPLACEMENT = 'wrenfield-session-replacement.raw';
+
+interface ManifestFile {
+  key: string;
+  recordCount: number;
+  missing: number[];
+  sha256: string;
+}
+const manifest = JSON.parse(readFileSync(join(import.meta.dirname, '../../samples/manifest.json'), 'utf8')) as {
+  captures: { file: string; expected: { exchanges: { total: number; unanswered: number }; files: ManifestFile[] } }[];
+};
+const clockedExpected = manifest.captures.find((c) => c.file === CLOCKED)!.expected;
+
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launchBrowser();
+});
+afterAll(async () => {
+  await browser?.close();
+});
+
+/**
+ * The seed decodes the sample captures in the background when the server starts; waits (through
+ * the API the pages use) until both session captures are decoded and their call layer has run.
+ */
+async function waitForDemoCalls(page: Page): Promise<{ rigId: number; clocked: number; replacement: number }> {
+  return page.evaluate(
+    async ({ rigName, names }) => {
+      const rigs = (await (await fetch('/api/rigs')).json()) as { id: number; name: string }[];
+      const rig = rigs.find((r) => r.name === rigName);
+      if (!rig) throw new Error(`no rig "${rigName}"`);
+      const deadline = Date.now() + 150_000;
+      for (;;) {
+        const captures = (await (await fetch(`/api/rigs/${rig.id}/captures`)).json()) as { id: number; name: string; status: string }[];
+        const ids = names.map((n) => captures.find((c) => c.name === n));
+        if (ids.every((c) => c?.status === 'decoded')) {
+          const layers = await Promise.all(ids.map(async (c) => (await fetch(`/api/rigs/${rig.id}/captures/${c!.id}/field-map`)).json()));
+          if (layers.every((l: { current: unknown }) => l.current)) return { rigId: rig.id, clocked: ids[0]!.id, replacement: ids[1]!.id };
+        }
+        if (Date.now() > deadline) throw new Error(`the demo captures were not decoded in time: ${JSON.stringify(captures.map((c) => [c.name, c.status]))}`);
+        await new Promise((r) => setTimeout(r, 1000));
+      }
+    },
+    { rigName: DEMO_RIG, names: [CLOCKED, REPLACEMENT] },
+  );
+}
+
+async function openClockedCapture(page: Page): Promise<{ rigId: number; clocked: number; replacement: number }> {
+  await signInAsDemo(page, baseUrl, 'viewer@demo.test');
+  const ids = await waitForDemoCalls(page);
+  await page.getByRole('link').filter({ hasText: DEMO_RIG }).first().click();
+  await page.getByRole('link', { name: 'Captures', exact: true }).click();
+  await page.getByRole('link', { name: CLOCKED, exact: true }).click();
+  await page.getByRole('heading', { level: 1, name: CLOCKED }).waitFor();
+  return ids;
+}
+
+describe('call layer views in the browser', () => {
+  it('draws the registry desk ladder with round-trip times, opens an arrow in the inspector and an exchange in the timeline, and lists the unanswered request first', async () => {
+    const shot = stepShots('calls-round-trips');
+    const { context, page } = await newPage(browser);
+    try {
+      await openClockedCapture(page);
+      await page.getByRole('link', { name: 'Round trips', exact: true }).click();
+      const station = page.getByLabel('Station');
+      await expect.poll(async () => (await station.locator('option:checked').innerText()).trim()).toMatch(/^Registry desk \(0x21\)/);
+
+      const ladder = page.getByRole('group', { name: /^Ladder of \d+ exchanges$/ });
+      await ladder.waitFor();
+      const answers = ladder.getByRole('link', { name: /^Answer to .*RTT \d/ });
+      expect(await answers.count()).toBeGreaterThan(5);
+      // every answered arrow says its round trip in a unit a person reads
+      for (const label of (await answers.allTextContents()).slice(0, 5)) expect(label).toMatch(/RTT \d+(\.\d+)? (µs|ms)/);
+      const stats = page.getByLabel('Round-trip statistics', { exact: true });
+      await expect(stats.innerText()).resolves.toMatch(/Median RTT\s*\d/);
+      await page.getByRole('img', { name: /^Round-trip times of \d+ answered exchanges/ }).waitFor();
+      await shot(page, 'registry-desk-ladder');
+
+      // an arrow is a way into its frame
+      await ladder.getByRole('link', { name: /^Request / }).first().click();
+      await page.waitForURL(/\/frames\/\d+$/);
+      await page.getByTestId('hex-view').waitFor();
+      await page.goBack();
+      await ladder.waitFor();
+
+      // and an exchange is a way into the timeline, filtered to its station and time
+      await ladder.getByRole('link', { name: /in the timeline$/ }).first().click();
+      await page.waitForURL(/\/timeline\?/);
+      const search = new URL(page.url()).searchParams;
+      expect(search.get('station')).toBe(String(0x21));
+      expect(Number(search.get('to'))).toBeGreaterThan(Number(search.get('from')));
+      await page.getByRole('grid', { name: 'Frames and line events' }).locator('[data-frame-id]').first().waitFor();
+      await page.goBack();
+      await ladder.waitFor();
+
+      // the choir office's last request is never answered: "Unanswered first" puts it on top
+      await station.selectOption({ label: await station.locator('option', { hasText: 'Choir office' }).innerText() });
+      await page.getByRole('radio', { name: 'Unanswered first' }).click();
+      await expect.poll(() => new URL(page.url()).searchParams.get('order')).toBe('unanswered');
+      const first = page.getByTestId('exchange-row').first();
+      await expect(first.innerText()).resolves.toContain('unanswered');
+      await expect(first.innerText()).resolves.toContain('ANTHEMS.TXT');
+      await ladder.getByText('no answer within the timeout').first().waitFor();
+      await shot(page, 'choir-office-unanswered-first');
+
+      await page.getByRole('radio', { name: 'Slowest first' }).click();
+      const rtts = (await page.getByTestId('exchange-row').getByTestId('rtt').allInnerTexts()).map((t) => t.trim());
+      const seconds = rtts.filter((t) => t !== '—').map((t) => Number.parseFloat(t) * (t.endsWith('µs') ? 1e-6 : t.endsWith('ms') ? 1e-3 : 1));
+      expect(seconds.length).toBeGreaterThan(1);
+      for (let i = 1; i < seconds.length; i++) expect(seconds[i]).toBeLessThanOrEqual(seconds[i - 1]);
+
+      // all stations: a lane each beside the server's, and a table of their figures
+      await station.selectOption('all');
+      await page.getByRole('table', { name: 'Round-trip statistics per station' }).waitFor();
+      await page.getByRole('group', { name: 'Ladder of 24 exchanges' }).waitFor(); // one ladder page of the 38
+      const lanes = await ladder.locator('text').allTextContents();
+      for (const name of ['Registry desk', 'Treasurer desk', 'Choir office', 'Server']) expect(lanes).toContain(name);
+      expect(await ladder.getByRole('link', { name: /^Request / }).count()).toBe(24);
+      await shot(page, 'all-stations');
+    } finally {
+      await context.close();
+    }
+  });
+
+  it('lists the boot image as complete and downloads its exact bytes, and shows the records of ACCOUNTS.DAT that never went over the wire', async () => {
+    const shot = stepShots('calls-recovered-files');
+    const { context, page } = await newPage(browser);
+    try {
+      await openClockedCapture(page);
+      await page.getByRole('link', { name: 'Recovered files', exact: true }).click();
+      const boot = page.locator('[data-testid="recovered-file"][data-file="WRENBOOT.SYS"]');
+      await boot.waitFor();
+      const bootExpected = clockedExpected.files.find((f) => f.key === 'boot:WRENBOOT.SYS')!;
+      await expect(boot.innerText()).resolves.toContain('complete');
+      await boot.getByRole('img', { name: `${bootExpected.recordCount} of ${bootExpected.recordCount} records seen` }).waitFor();
+
+      const [download] = await Promise.all([page.waitForEvent('download'), boot.getByRole('link', { name: 'Download WRENBOOT.SYS' }).click()]);
+      expect(download.suggestedFilename()).toBe('WRENBOOT.SYS');
+      const bytes = readFileSync((await download.path())!);
+      expect(bytes.length).toBe(bootExpected.recordCount * 128); // CP/M 2.2: 128-byte records
+      expect(createHash('sha256').update(bytes).digest('hex')).toBe(bootExpected.sha256);
+
+      const accounts = page.locator('[data-testid="recovered-file"][data-file="ACCOUNTS.DAT"]');
+      const accountsExpected = clockedExpected.files.find((f) => f.key === '0:ACCOUNTS.DAT')!;
+      const missing = accountsExpected.missing;
+      await expect(accounts.innerText()).resolves.toContain('incomplete');
+      await accounts
+        .getByRole('img', { name: `${accountsExpected.recordCount - missing.length} of ${accountsExpected.recordCount} records seen; missing records ${missing[0]}–${missing[missing.length - 1]}` })
+        .waitFor();
+
+      await accounts.getByRole('button', { name: /^Exchanges/ }).click();
+      await expect.poll(() => page.getByTestId('exchange-row').count()).toBeGreaterThan(0);
+      await expect(page.getByTestId('exchange-row').first().innerText()).resolves.toContain('ACCOUNTS.DAT');
+      await shot(page, 'files');
+    } finally {
+      await context.close();
+    }
+  });
+
+  it('compares the original and the replacement server: the differently answered directory search and the slower answers', async () => {
+    const shot = stepShots('calls-compare');
+    const { context, page } = await newPage(browser);
+    try {
+      const { replacement } = await openClockedCapture(page);
+      await page.getByRole('link', { name: 'Compare', exact: true }).click();
+      await page.getByLabel('B (compare with)').selectOption(String(replacement));
+      const summary = page.getByRole('region', { name: 'Comparison summary' });
+      await summary.waitFor();
+      await expect(summary.innerText()).resolves.toMatch(/\d+ of \d+ exchanges differ/);
+
+      const different = page.locator('[data-testid="compare-row"][data-kind="answered-differently"], [data-testid="compare-row"][data-kind="outcome-differs"], [data-testid="compare-row"][data-kind="only-in-a"]');
+      expect(await different.count()).toBeGreaterThan(0);
+      // the replacement hides system files from the directory search, so that answer differs
+      await expect(different.first().innerText()).resolves.toMatch(/SEARCH/i);
+
+      const slower = page.locator('[data-testid="compare-row"][data-kind="slower"]');
+      expect(await slower.count()).toBeGreaterThan(0);
+      const text = await slower.first().innerText();
+      expect(text.match(/RTT \d/g)?.length).toBe(2); // both round trips
+      expect(text).toMatch(/B \+\d/); // and how much longer B took
+      await shot(page, 'compare');
+    } finally {
+      await context.close();
+    }
+  });
+});
