@@ -15,6 +15,10 @@ import { createRateLimits, DEFAULT_RATE_LIMITS, type RateLimitOptions } from './
 import { securityHeaders } from './http/security';
 import { createMailer } from './mail/mailer';
 import { captureRoutes } from './routes/captures';
+import { compareRoutes } from './routes/compare';
+import { exchangeRoutes } from './routes/exchanges';
+import { fieldMapRoutes } from './routes/field-maps';
+import { fileRoutes } from './routes/files';
 import { invitationRoutes } from './routes/invitations';
 import { mailboxRoutes } from './routes/mailbox';
 import { memberRoutes } from './routes/members';
@@ -26,6 +30,7 @@ import { seedDemo } from './seed/demo';
 import { seedDemoCaptures } from './seed/demo-captures';
 import { deleteRigCaptures } from './services/captures/delete';
 import { createCaptureModule } from './services/captures/module';
+import { createCallsModule } from './services/calls/module';
 import { sessionSecret } from './services/settings';
 
 export interface AppOptions {
@@ -55,6 +60,7 @@ export interface AppOptions {
 
 const SESSION_MAX_AGE_MS = 14 * 24 * 60 * 60 * 1000;
 const JSON_BODY_LIMIT = '100kb';
+const FIELD_MAP_BODY_LIMIT = '2mb';
 
 /** FLAGLINE_TRUST_PROXY: 'true'/'false', a hop count, or addresses/names as Express takes them */
 function trustProxyFromEnv(): string | boolean | number | undefined {
@@ -91,6 +97,7 @@ export async function createApp(opts: AppOptions = {}) {
     await seedDemoCaptures(captureModule, seeded.rigId, seeded.ownerId);
   }
 
+  const callsModule = createCallsModule(captureModule);
   const passport = createPassport(ctx);
   const guard = createGuard(ctx);
   const limits = createRateLimits({ ...DEFAULT_RATE_LIMITS, ...opts.rateLimit });
@@ -105,6 +112,8 @@ export async function createApp(opts: AppOptions = {}) {
     res.setHeader('Cache-Control', 'no-store');
     next();
   });
+  // field-map documents are larger than forms: the built-in map alone is about 50 KB
+  api.use('/rigs/:rigId/field-maps', express.json({ limit: FIELD_MAP_BODY_LIMIT }));
   api.use(express.json({ limit: JSON_BODY_LIMIT }));
   api.use(
     session({
@@ -129,6 +138,10 @@ export async function createApp(opts: AppOptions = {}) {
   api.use(memberRoutes(ctx, guard));
   api.use(mailboxRoutes(ctx, guard));
   api.use(captureRoutes(captureModule, guard));
+  api.use(fieldMapRoutes(callsModule, guard));
+  api.use(exchangeRoutes(callsModule, guard));
+  api.use(fileRoutes(callsModule, guard));
+  api.use(compareRoutes(callsModule, guard));
   api.use(apiNotFound);
   app.use('/api', api);
 
@@ -143,7 +156,10 @@ export async function createApp(opts: AppOptions = {}) {
     ctx,
     /** the decode queue (tests wait on it and simulate crashes through it) */
     jobs: captureModule.jobs,
+    /** the queue of call-only re-runs after a map change (tests wait on it) */
+    calls: callsModule.calls,
     close() {
+      callsModule.calls.close();
       void captureModule.jobs.close();
       sessionStore.close();
       void vite?.close();

@@ -254,3 +254,148 @@ export const seekPoints = sqliteTable(
   },
   (t) => [index('seek_points_job_sample_idx').on(t.jobId, t.sample)],
 );
+
+// ---- the call layer: field maps, call runs, exchanges, recovered files ----
+
+/** A rig's field map; its documents are the versions. The built-in map is one read-only row per rig. */
+export const fieldMaps = sqliteTable(
+  'field_maps',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    rigId: integer('rig_id')
+      .notNull()
+      .references(() => rigs.id, { onDelete: 'cascade' }),
+    name: text('name').notNull(),
+    builtIn: integer('built_in', { mode: 'boolean' }).notNull().default(false),
+    latestVersion: integer('latest_version').notNull().default(1),
+    createdAt: createdAt(),
+    updatedAt: integer('updated_at', { mode: 'timestamp_ms' })
+      .notNull()
+      .$defaultFn(() => new Date()),
+  },
+  (t) => [index('field_maps_rig_idx').on(t.rigId)],
+);
+
+/** Every saved version of a field map (documents are never changed once saved). */
+export const fieldMapVersions = sqliteTable(
+  'field_map_versions',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    mapId: integer('map_id')
+      .notNull()
+      .references(() => fieldMaps.id, { onDelete: 'cascade' }),
+    version: integer('version').notNull(),
+    /** the FieldMapInput document as JSON */
+    document: text('document').notNull(),
+    createdBy: integer('created_by').references(() => users.id, { onDelete: 'set null' }),
+    createdAt: createdAt(),
+  },
+  (t) => [uniqueIndex('field_map_versions_map_version_uq').on(t.mapId, t.version)],
+);
+
+/** A capture's chosen map and the call run whose results are visible. */
+export const captureCallLayers = sqliteTable('capture_call_layers', {
+  captureId: integer('capture_id')
+    .primaryKey()
+    .references(() => captures.id, { onDelete: 'cascade' }),
+  mapId: integer('map_id').references(() => fieldMaps.id, { onDelete: 'set null' }),
+  /** null: the latest version at each run */
+  mapVersion: integer('map_version'),
+  currentRunId: integer('current_run_id'),
+});
+
+/** One run of the call layer over a decode run's frames, with one map version. */
+export const callRuns = sqliteTable(
+  'call_runs',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    captureId: integer('capture_id')
+      .notNull()
+      .references(() => captures.id, { onDelete: 'cascade' }),
+    decodeJobId: integer('decode_job_id').notNull(),
+    mapId: integer('map_id').notNull(),
+    mapVersion: integer('map_version').notNull(),
+    state: text('state', { enum: ['queued', 'running', 'done', 'failed'] }).notNull(),
+    error: text('error'),
+    exchanges: integer('exchanges').notNull().default(0),
+    files: integer('files').notNull().default(0),
+    rowsCleared: integer('rows_cleared', { mode: 'boolean' }).notNull().default(false),
+    createdAt: createdAt(),
+    finishedAt: integer('finished_at', { mode: 'timestamp_ms' }),
+  },
+  (t) => [index('call_runs_capture_idx').on(t.captureId, t.id)],
+);
+
+export const exchanges = sqliteTable(
+  'exchanges',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    runId: integer('run_id').notNull(),
+    captureId: integer('capture_id').notNull(),
+    station: integer('station').notNull(),
+    callCode: integer('call_code'),
+    callName: text('call_name'),
+    tag: integer('tag'),
+    fileName: text('file_name'),
+    recordNumber: integer('record_number'),
+    status: integer('status'),
+    statusMeaning: text('status_meaning'),
+    requestFrameId: integer('request_frame_id'),
+    /** JSON arrays of frame ids */
+    retryFrameIds: text('retry_frame_ids').notNull(),
+    responseFrameIds: text('response_frame_ids').notNull(),
+    tRequest: real('t_request').notNull(),
+    tRequestEnd: real('t_request_end').notNull(),
+    tResponse: real('t_response'),
+    rtt: real('rtt'),
+    outcome: text('outcome', { enum: ['answered', 'retried', 'unanswered'] }).notNull(),
+    retries: integer('retries').notNull(),
+    serviceDelay: real('service_delay'),
+    /** the request's user number, for compare and recovered files */
+    user: integer('user'),
+    /** the response's fields without the tag ("id=display | …"), for compare */
+    answer: text('answer'),
+  },
+  (t) => [
+    index('exchanges_run_t_idx').on(t.runId, t.tRequest, t.id),
+    index('exchanges_run_station_t_idx').on(t.runId, t.station, t.tRequest),
+    index('exchanges_run_rtt_idx').on(t.runId, t.rtt),
+  ],
+);
+
+/** Which visible exchange a frame belongs to (request, retry or response), for the inspector. */
+export const exchangeFrames = sqliteTable(
+  'exchange_frames',
+  {
+    runId: integer('run_id').notNull(),
+    frameId: integer('frame_id').notNull(),
+    exchangeId: integer('exchange_id').notNull(),
+  },
+  (t) => [index('exchange_frames_run_frame_idx').on(t.runId, t.frameId)],
+);
+
+export const recoveredFiles = sqliteTable(
+  'recovered_files',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    runId: integer('run_id').notNull(),
+    captureId: integer('capture_id').notNull(),
+    key: text('key').notNull(),
+    name: text('name').notNull(),
+    kind: text('kind', { enum: ['file', 'boot-image'] }).notNull(),
+    user: integer('user'),
+    /** JSON array of station addresses */
+    stations: text('stations').notNull(),
+    recordCount: integer('record_count').notNull(),
+    endKnown: integer('end_known', { mode: 'boolean' }).notNull(),
+    bytes: blob('bytes', { mode: 'buffer' }).notNull(),
+    sha256: text('sha256').notNull(),
+    /** one character per record: s seen, m missing, c conflict */
+    coverage: text('coverage').notNull(),
+    /** JSON [{ record, exchangeIds }] */
+    conflicts: text('conflicts').notNull(),
+    /** JSON array of exchange ids, in time order */
+    exchangeIds: text('exchange_ids').notNull(),
+  },
+  (t) => [index('recovered_files_run_idx').on(t.runId, t.name)],
+);

@@ -4,9 +4,10 @@
 import fs from 'node:fs';
 import { parentPort, workerData } from 'node:worker_threads';
 import Database from 'better-sqlite3';
-import { createDecoder } from '../../shared/decoder/pipeline';
+import { createDecoder, type Decoder } from '../../shared/decoder/pipeline';
 import type { DecodeIssue } from '../../shared/decoder/types';
 import type { CaptureSettings } from '../../shared/schemas';
+import { chosenMap, createCallRun, runCallStage, switchToCallRun } from './call-stage';
 import { decoderOptions } from './decoder-options';
 import { indexSearch, RunWriter } from './run-rows';
 import { VcdSeekTracker } from './vcd-seek';
@@ -38,8 +39,10 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
   db.pragma('cache_size = -65536');
   try {
     let period = 0;
-    const writer = new RunWriter(db, data.jobId, data.captureId, () => period);
-    const decoder = createDecoder(decoderOptions(data.settings), {
+    // Frames reach the writer during push(), as soon as the reader's header has set the time base,
+    // so the writer asks the decoder itself rather than a copy taken between pushes.
+    const writer = new RunWriter(db, data.jobId, data.captureId, () => decoder.samplePeriodSeconds ?? period);
+    const decoder: Decoder = createDecoder(decoderOptions(data.settings), {
       frame: (f) => writer.frame(f),
       event: (e) => writer.event(e),
     });
@@ -70,6 +73,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     writer.flush();
     progress.run(bytes, writer.frames, writer.events, 'indexing', data.jobId);
     indexSearch(db, data.jobId);
+    const calls = await callStage(db, data, period);
     const issues = decoder.issues.slice(0, 20).map(describeIssue);
     const committed = db.transaction(() => {
       const done = db
@@ -81,12 +85,33 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       // cancelled meanwhile: the rows stay invisible and the runner clears them
       if (done.changes === 0) return false;
       db.prepare('update captures set current_job_id = ? where id = ?').run(data.jobId, data.captureId);
+      // the call layer's exchanges and files appear together with the frames they came from
+      if (calls) switchToCallRun(db, data.captureId, calls.runId, calls.counts);
       return true;
     })();
     if (!committed) return { type: 'failed', error: 'The run was cancelled.' };
     return { type: 'done', frames: writer.frames, events: writer.events };
   } finally {
     db.close();
+  }
+}
+
+/**
+ * The call-layer stage over the run's frames with the capture's chosen map. A failure here (a
+ * stored map that no longer parses, say) fails the call run, not the decode.
+ */
+async function callStage(db: Database.Database, data: DecodeWorkerData, period: number) {
+  let runId: number | null = null;
+  try {
+    db.prepare("update decode_jobs set stage = 'calls' where id = ? and state = 'running'").run(data.jobId);
+    const m = chosenMap(db, data.captureId);
+    runId = createCallRun(db, data.captureId, data.jobId, m, 'running');
+    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map: m.map, settings: data.settings, samplePeriod: period });
+    return { runId, counts };
+  } catch (err) {
+    const message = err instanceof Error ? err.message : String(err);
+    if (runId !== null) db.prepare("update call_runs set state = 'failed', error = ?, finished_at = ? where id = ?").run(`The call layer stopped: ${message}`, Date.now(), runId);
+    return null;
   }
 }
 

@@ -3,6 +3,7 @@ import type Database from 'better-sqlite3';
 import type { CaptureSettings } from '../../shared/schemas';
 import type { CaptureStore } from '../storage/capture-store';
 import type { DecodeWorkerData, DecodeWorkerMessage } from './decode-worker';
+import { clearCallRunRows, recoverCallRuns, staleCallRuns } from './call-stage';
 import { clearRunRows } from './run-rows';
 
 interface Active {
@@ -182,6 +183,12 @@ export class JobRunner {
         this.sweeping = false;
         return;
       }
+      const staleCalls = staleCallRuns(this.sqlite);
+      if (staleCalls.length > 0) {
+        clearCallRunRows(this.sqlite, staleCalls[0]);
+        setImmediate(step);
+        return;
+      }
       const stale = this.staleRuns();
       if (stale.length === 0) {
         this.sweeping = false;
@@ -194,7 +201,13 @@ export class JobRunner {
     setImmediate(step);
   }
 
+  /** Starts the cleanup of replaced runs (after a call-only re-run switched runs). */
+  sweepSoon(): void {
+    this.sweep();
+  }
+
   private sweepNow(): void {
+    recoverCallRuns(this.sqlite);
     for (const id of this.staleRuns()) clearRunRows(this.sqlite, id);
   }
 }

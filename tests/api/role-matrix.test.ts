@@ -5,6 +5,8 @@ import { invitations, passwordResets, rigs, stations } from '../../server/db/sch
 import { clockedVcd, seedDecodedCapture, tempDataDir } from './captures-helpers';
 import { Client, addMember, anonymous, makeUser, rigBody, signedIn, testApp } from './helpers';
 import { listRoutes } from './route-list';
+import { seedCallLayer } from './calls-helpers';
+import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
 
 /**
  * Every API route, with the status each kind of caller gets. The callers:
@@ -68,6 +70,22 @@ const MATRIX: Record<string, Row> = {
   'GET /api/rigs/:rigId/captures/:captureId/frames/:frameId/waveform': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/export.csv': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/export.json': MEMBER(200),
+  'GET /api/rigs/:rigId/field-maps': MEMBER(200),
+  'POST /api/rigs/:rigId/field-maps': ANALYST(201),
+  'GET /api/rigs/:rigId/field-maps/:mapId': MEMBER(200),
+  'PUT /api/rigs/:rigId/field-maps/:mapId': ANALYST(200),
+  'GET /api/rigs/:rigId/field-maps/:mapId/export.md': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/field-map': MEMBER(200),
+  'PUT /api/rigs/:rigId/captures/:captureId/field-map': ANALYST(202),
+  'GET /api/rigs/:rigId/captures/:captureId/exchanges': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/exchanges/stats': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/exchanges/export.csv': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/exchanges/export.json': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/files': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/files/:fileId': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/files/:fileId/download': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/frames/:frameId/call': MEMBER(200),
+  'GET /api/rigs/:rigId/compare': MEMBER(200),
 };
 
 /** valid bodies, so a caller the guard lets through gets the route's success status */
@@ -83,11 +101,16 @@ const BODIES: Record<string, object> = {
   'PATCH /api/rigs/:rigId/members/:userId': { role: 'analyst' },
   'POST /api/rigs/:rigId/invitations': { email: 'someone.new@example.test', role: 'viewer' },
   'PUT /api/rigs/:rigId/captures/:captureId/settings': { format: 'vcd', clock: 'clk', links: [{ channel: 'tx' }], encoding: 'nrz', edge: 'rising' },
+  'POST /api/rigs/:rigId/field-maps': { name: 'My envelope', document: CPM_ENVELOPE_DOCUMENT },
+  'PUT /api/rigs/:rigId/field-maps/:mapId': { document: CPM_ENVELOPE_DOCUMENT, baseVersion: 1 },
+  // ids are filled in like path parameters (see fillPath)
+  'PUT /api/rigs/:rigId/captures/:captureId/field-map': { mapId: ':mapId' },
 };
 
 /** query strings some routes need to succeed */
 const QUERIES: Record<string, string> = {
   'GET /api/rigs/:rigId/captures/:captureId/timeline/at': '?t=0',
+  'GET /api/rigs/:rigId/compare': '?a=:captureId&b=:captureId',
 };
 
 /** the upload is multipart, not JSON */
@@ -131,12 +154,19 @@ async function buildWorld(): Promise<World> {
     .get().id;
   db.insert(passwordResets).values({ userId: extraId, tokenHash: hashToken(RESET_TOKEN), expiresAt: new Date(Date.now() + hour) }).run();
   const { captureId, frameId, busyCaptureId } = seedDecodedCapture(app, rigA, data.dir, ownerId);
-  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId, captureId, frameId }, busyCaptureId, cleanup: data.cleanup };
+  const { mapId, fileId } = seedCallLayer(app, rigA, captureId, ownerId);
+  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId, captureId, frameId, mapId, fileId }, busyCaptureId, cleanup: data.cleanup };
 }
 
 function fillPath(route: string, params: World['params']): string {
   const token = route.includes('/invitations/:token') ? INVITE_TOKEN : RESET_TOKEN;
   return route.replace(/:(\w+)/g, (_, name: string) => String(name === 'token' ? token : params[name]));
+}
+
+/** a body value ':name' becomes the world's id of that name */
+function fillBody(body: object | undefined, params: World['params']): object | undefined {
+  if (!body) return body;
+  return Object.fromEntries(Object.entries(body).map(([k, v]) => [k, typeof v === 'string' && /^:\w+$/.test(v) ? params[v.slice(1)] : v]));
 }
 
 async function callerClient(app: FlaglineApp, caller: Caller): Promise<Client> {
@@ -168,10 +198,10 @@ describe('role matrix', () => {
         apps.push(world.app);
         const client = await callerClient(world.app, caller);
         const params = key.endsWith('/job/cancel') ? { ...world.params, captureId: world.busyCaptureId } : world.params;
-        const url = fillPath(route, params) + (QUERIES[key] ?? '');
+        const url = fillPath(route + (QUERIES[key] ?? ''), params);
         const res = UPLOADS[key]
           ? await client.agent.post(url).set('x-csrf-token', client.csrf).attach('file', UPLOADS[key](), 'matrix.vcd')
-          : await client.send(method, url, BODIES[key]);
+          : await client.send(method, url, fillBody(BODIES[key], params));
         got[caller] = res.status;
         await world.app.jobs.idle();
         world.app.close();

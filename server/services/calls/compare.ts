@@ -1,0 +1,105 @@
+// Two captures of one rig side by side at exchange level, through the engine's compareExchanges.
+import type { DecodedCall } from '../../../shared/decoder/calls/apply';
+import { compareExchanges, type Exchange } from '../../../shared/decoder/calls/exchanges';
+import type { ComparedExchange, CompareResult, ComparisonKindName } from '../../../shared/schemas';
+import { HttpError } from '../../http/errors';
+import { findCapture } from '../captures/rows';
+import { visibleRun } from './capture-layer';
+import { stationNames } from './exchanges';
+import type { CallsModule } from './module';
+
+interface Row {
+  id: number;
+  station: number;
+  callCode: number | null;
+  callName: string | null;
+  tag: number | null;
+  fileName: string | null;
+  recordNumber: number | null;
+  status: number | null;
+  statusMeaning: string | null;
+  tRequest: number;
+  tRequestEnd: number;
+  tResponse: number | null;
+  rtt: number | null;
+  outcome: Exchange['outcome'];
+  retries: number;
+  user: number | null;
+  answer: string | null;
+}
+
+const callOf = (r: Row, fields: DecodedCall['fields']): DecodedCall =>
+  ({ fileName: r.fileName, recordNumber: r.recordNumber, user: r.user, fields }) as unknown as DecodedCall;
+
+/**
+ * A stored exchange in the engine's shape, as far as compareExchanges reads it: the answer is the
+ * stored signature of the response's fields (tag left out), times stand in for samples.
+ */
+function asExchange(r: Row): Exchange & { rowId: number } {
+  const answerField = r.answer === null ? [] : [{ id: 'answer', role: null, display: r.answer } as unknown as DecodedCall['fields'][number]];
+  return {
+    rowId: r.id,
+    station: r.station,
+    request: { link: '', seq: r.id },
+    requestCall: callOf(r, []),
+    retries: [],
+    responses: [],
+    responseCall: r.answer === null && r.outcome === 'unanswered' ? null : callOf(r, answerField),
+    callCode: r.callCode,
+    callName: r.callName,
+    tag: r.tag,
+    recordNumber: r.recordNumber,
+    fileName: r.fileName,
+    status: r.status,
+    statusMeaning: r.statusMeaning,
+    firstSample: r.tRequest,
+    answeredSendLastSample: r.tRequestEnd,
+    responseFirstSample: r.tResponse,
+    rttSeconds: r.rtt,
+    outcome: r.outcome,
+    serviceDelaySeconds: null,
+  };
+}
+
+function loadExchanges(m: CallsModule, rigId: number, captureId: number, which: 'a' | 'b'): { name: string; rows: Map<number, Row>; list: (Exchange & { rowId: number })[] } {
+  const c = findCapture(m, rigId, captureId);
+  const run = visibleRun(m, captureId);
+  if (!run) throw new HttpError(422, `Capture ${which.toUpperCase()} (“${c.name}”) has no exchanges yet: decode it first`);
+  const rows = m.sqlite
+    .prepare(
+      `select id, station, call_code as callCode, call_name as callName, tag, file_name as fileName, record_number as recordNumber, status,
+         status_meaning as statusMeaning, t_request as tRequest, t_request_end as tRequestEnd, t_response as tResponse, rtt, outcome, retries, user, answer
+       from exchanges where run_id = ? order by t_request, id`,
+    )
+    .all(run.runId) as Row[];
+  return { name: c.name, rows: new Map(rows.map((r) => [r.id, r])), list: rows.map(asExchange) };
+}
+
+function brief(r: Row): ComparedExchange {
+  return { id: r.id, tRequest: r.tRequest, rttSeconds: r.rtt, outcome: r.outcome, status: r.status, statusMeaning: r.statusMeaning, retries: r.retries, answer: r.answer };
+}
+
+export function compareCaptures(m: CallsModule, rigId: number, q: { a: number; b: number; kind?: ComparisonKindName[] }): CompareResult {
+  const a = loadExchanges(m, rigId, q.a, 'a');
+  const b = loadExchanges(m, rigId, q.b, 'b');
+  const { rows, summary } = compareExchanges(a.list, b.list);
+  const names = stationNames(m, q.a);
+  const wanted = q.kind && q.kind.length ? new Set(q.kind) : null;
+  return {
+    a: { captureId: q.a, name: a.name },
+    b: { captureId: q.b, name: b.name },
+    rows: rows
+      .filter((r) => !wanted || wanted.has(r.kind))
+      .map((r) => ({
+        station: { address: r.station, name: names.get(r.station) ?? null },
+        call: { code: r.callCode, name: r.callName },
+        fileName: r.fileName,
+        recordNumber: r.recordNumber,
+        kind: r.kind,
+        rttDeltaSeconds: r.rttDeltaSeconds,
+        a: r.a ? brief(a.rows.get((r.a as Exchange & { rowId: number }).rowId)!) : null,
+        b: r.b ? brief(b.rows.get((r.b as Exchange & { rowId: number }).rowId)!) : null,
+      })),
+    summary,
+  };
+}

@@ -1,0 +1,82 @@
+// Exchanges of the visible call run as a CSV or JSON file, streamed page by page in time order.
+import type { Response } from 'express';
+import type { ExchangeQuery } from '../../../shared/schemas';
+import { visibleRun } from './capture-layer';
+import { EXCHANGE_COLUMNS, filters, stationNames, toExchangeRow, type Row } from './exchanges';
+import type { CallsModule } from './module';
+
+const PAGE = 2000;
+const CSV_COLUMNS = [
+  'id',
+  'station',
+  'stationName',
+  'callCode',
+  'callName',
+  'tag',
+  'fileName',
+  'recordNumber',
+  'status',
+  'statusMeaning',
+  'outcome',
+  'retries',
+  'tRequest',
+  'tRequestEnd',
+  'tResponse',
+  'rttSeconds',
+  'serviceDelaySeconds',
+  'requestFrameId',
+  'retryFrameIds',
+  'responseFrameIds',
+] as const;
+
+const csvCell = (v: unknown) => {
+  if (v === null || v === undefined) return '';
+  const s = Array.isArray(v) ? v.join(' ') : String(v);
+  return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+};
+
+export async function exportExchanges(
+  m: CallsModule,
+  res: Response,
+  opts: { captureId: number; captureName: string; q: Pick<ExchangeQuery, 'station' | 'call' | 'outcome' | 'file'>; format: 'csv' | 'json' },
+): Promise<void> {
+  const base = opts.captureName.replace(/[^A-Za-z0-9._-]+/g, '_').replace(/\.[^.]*$/, '') || 'capture';
+  res.setHeader('Content-Type', opts.format === 'csv' ? 'text/csv; charset=utf-8' : 'application/json; charset=utf-8');
+  res.setHeader('Content-Disposition', `attachment; filename="${base}-exchanges.${opts.format}"`);
+  const write = async (s: string) => {
+    if (!res.write(s)) await new Promise((r) => res.once('drain', r));
+  };
+  await write(opts.format === 'csv' ? CSV_COLUMNS.join(',') + '\n' : '[');
+  const run = visibleRun(m, opts.captureId);
+  if (run) {
+    const names = stationNames(m, opts.captureId);
+    const { where, params } = filters(m, run.runId, opts.q);
+    const stmt = m.sqlite.prepare(`select ${EXCHANGE_COLUMNS} from exchanges where ${where} and (t_request, id) > (?, ?) order by t_request, id limit ?`);
+    let after = { t: -Infinity, id: 0 };
+    let first = true;
+    for (;;) {
+      const rows = stmt.all(...params, after.t, after.id, PAGE) as Row[];
+      let buffer = '';
+      for (const r of rows) {
+        const x = toExchangeRow(r, names);
+        if (opts.format === 'csv') {
+          const values: Record<(typeof CSV_COLUMNS)[number], unknown> = {
+            ...x,
+            station: x.station.address,
+            stationName: x.station.name,
+            callCode: x.call.code,
+            callName: x.call.name,
+          };
+          buffer += CSV_COLUMNS.map((c) => csvCell(values[c])).join(',') + '\n';
+        } else buffer += (first ? '' : ',\n') + JSON.stringify(x);
+        first = false;
+      }
+      if (buffer) await write(buffer);
+      if (rows.length < PAGE || res.destroyed) break;
+      const last = rows[rows.length - 1];
+      after = { t: last.tRequest, id: last.id };
+    }
+  }
+  if (opts.format === 'json') await write(']\n');
+  res.end();
+}
