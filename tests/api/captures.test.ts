@@ -5,6 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { CaptureSummaryRow, TimelineFrame, TimelinePage, TimelineRow } from '../../shared/schemas';
 import { buildWorld, clockedVcd, closeWorld, put, recoveredRaw, upload, waitForJob, type SentFrame, type TestCapture, type World } from './captures-helpers';
 import type { Client } from './helpers';
+import { fcs16 } from '../../shared/decoder/fcs';
 
 const countBy = <T,>(xs: T[], key: (x: T) => string) => xs.reduce<Record<string, number>>((m, x) => ((m[key(x)] = (m[key(x)] ?? 0) + 1), m), {});
 
@@ -353,5 +354,35 @@ describe('a raw capture without a clock, two links', () => {
     for (const c of list) expect(fs.existsSync(path.join(w.env.dir, 'captures', c.sha256))).toBe(false);
     const left = w.handle.sqlite.prepare('select (select count(*) from frames) + (select count(*) from line_events) + (select count(*) from decode_jobs) + (select count(*) from captures) as n').get() as { n: number };
     expect(left.n).toBe(0);
+  });
+});
+
+describe('a frame log', () => {
+  let w: World;
+  beforeAll(async () => {
+    w = await buildWorld();
+  });
+  afterAll(() => closeWorld(w));
+
+  it('places every frame at the time its log line gives, including frames decoded from the first chunk', async () => {
+    const times = [0.0125, 0.25, 1.5];
+    const lines = times.map((t, i) => {
+      const body = new Uint8Array([0x21, 0x03, 0x41 + i]);
+      const fcs = fcs16(body);
+      const octets = [...body, fcs & 0xff, fcs >> 8];
+      return `${t} ${octets.map((b) => b.toString(16).padStart(2, '0')).join(' ')}`;
+    });
+    const res = await upload(w.analyst, w.rigId, Buffer.from(`# bench log\n${lines.join('\n')}\n`), 'log.txt');
+    expect(res.status, JSON.stringify(res.body)).toBe(201);
+    expect(res.body.format).toBe('framelog');
+    const url = `/api/rigs/${w.rigId}/captures/${res.body.id}`;
+    const settings = { format: 'framelog', clock: null, links: [{ channel: 'log' }], encoding: 'nrz', edge: 'rising', bitRate: 800000 };
+    expect((await put(w.analyst, `${url}/settings`, settings)).status).toBe(200);
+    expect((await w.analyst.post(`${url}/decode`)).status).toBe(202);
+    expect(await waitForJob(w.viewer, url)).toMatchObject({ state: 'done', frames: 3 });
+    const page = (await w.viewer.get(`${url}/timeline?events=0`)).body as TimelinePage;
+    const frames = page.rows.filter((r): r is TimelineFrame => r.type === 'frame');
+    expect(frames.map((f) => f.status)).toEqual(['ok', 'ok', 'ok']);
+    frames.forEach((f, i) => expect(f.t).toBeCloseTo(times[i], 6));
   });
 });
