@@ -36,6 +36,16 @@ function FieldShell({ id, label, error, hint, className = '', children }: FieldS
   );
 }
 
+/** The attributes every control shares: its id, error state, description and classes. */
+function controlProps(id: string, error: string | undefined, hint: ReactNode, className: string) {
+  return {
+    id,
+    'aria-invalid': error ? true : undefined,
+    'aria-describedby': describedBy(id, error, hint),
+    className: `${controlClass} ${borderFor(error)} ${className}`,
+  } as const;
+}
+
 function describedBy(id: string, error?: string, hint?: ReactNode) {
   if (error) return `${id}-error`;
   if (hint) return `${id}-hint`;
@@ -54,10 +64,7 @@ export function TextField({ label, error, hint, wrapperClassName, className = ''
   return (
     <FieldShell id={id} label={label} error={error} hint={hint} className={wrapperClassName}>
       <input
-        id={id}
-        aria-invalid={error ? true : undefined}
-        aria-describedby={describedBy(id, error, hint)}
-        className={`${controlClass} ${borderFor(error)} ${className}`}
+        {...controlProps(id, error, hint, className)}
         {...input}
       />
     </FieldShell>
@@ -76,10 +83,7 @@ export function TextArea({ label, error, hint, wrapperClassName, className = '',
   return (
     <FieldShell id={id} label={label} error={error} hint={hint} className={wrapperClassName}>
       <textarea
-        id={id}
-        aria-invalid={error ? true : undefined}
-        aria-describedby={describedBy(id, error, hint)}
-        className={`${controlClass} ${borderFor(error)} ${className}`}
+        {...controlProps(id, error, hint, className)}
         {...input}
       />
     </FieldShell>
@@ -99,10 +103,7 @@ export function SelectField({ label, error, hint, options, wrapperClassName, cla
   return (
     <FieldShell id={id} label={label} error={error} hint={hint} className={wrapperClassName}>
       <select
-        id={id}
-        aria-invalid={error ? true : undefined}
-        aria-describedby={describedBy(id, error, hint)}
-        className={`${controlClass} ${borderFor(error)} ${className}`}
+        {...controlProps(id, error, hint, className)}
         {...select}
       >
         {options.map((o) => (
