@@ -19,7 +19,9 @@ const USAGE = `usage: npm run --silent decode -- <capture> [options]
   --encoding nrz|nrzi       line coding (default nrz)
   --invert                  data lines are inverted
   --fcs 16|32               FCS width (default 16)
-  --events                  also print line events (idle, fill flags, handshake changes)`;
+  --events                  also print line events (idle, fill flags, handshake changes)
+  --lenient                 skip lines or cells that cannot be read (they are listed as warnings)
+                            instead of failing with exit code 2`;
 
 class UsageError extends Error {}
 
@@ -27,6 +29,7 @@ interface Cli {
   file: string;
   options: DecoderOptions;
   events: boolean;
+  lenient: boolean;
 }
 
 /** Numbers like 800000, 800e3, 800k, 24M. */
@@ -73,6 +76,7 @@ function parse(argv: string[]): Cli {
         invert: { type: 'boolean' },
         fcs: { type: 'string' },
         events: { type: 'boolean' },
+        lenient: { type: 'boolean' },
         help: { type: 'boolean', short: 'h' },
       },
     });
@@ -90,6 +94,7 @@ function parse(argv: string[]): Cli {
   return {
     file: parsed.positionals[0],
     events: v.events === true,
+    lenient: v.lenient === true,
     options: {
       format: oneOf(v.format, ['auto', 'vcd', 'csv', 'raw', 'octets', 'framelog'] as const, '--format') ?? 'auto',
       sampleRate: rate(v['sample-rate'], '--sample-rate'),
@@ -162,7 +167,8 @@ function position(issue: DecodeIssue): string {
 }
 
 function failInput(file: string, issue: DecodeIssue): never {
-  process.stderr.write(`decode: ${file}: at ${position(issue)}: expected ${issue.expected}. ${issue.message}\n`);
+  const hint = issue.skipped ? ' Run with --lenient to decode the rest of the file anyway.' : '';
+  process.stderr.write(`decode: ${file}: at ${position(issue)}: expected ${issue.expected}. ${issue.message}${hint}\n`);
   process.exit(2);
 }
 
@@ -226,7 +232,9 @@ function main(): void {
     return process.stdout.write(text);
   };
   const stopIfFatal = () => {
-    const issue = decoder.fatal();
+    // a malformed part of the file is bad input for the CLI unless --lenient: scripts must not
+    // take a partial decode for a whole one
+    const issue = decoder.fatal() ?? (cli.lenient ? null : decoder.issues.find((i) => i.skipped) ?? null);
     if (issue) {
       flush();
       stream.destroy();

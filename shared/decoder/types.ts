@@ -18,6 +18,12 @@ export interface DecodeIssue {
   expected: string;
   /** a sentence a user can act on */
   message: string;
+  /**
+   * True when part of the input could not be read and was dropped (a malformed line, token or
+   * cell). Tolerant callers (the web app) decode the rest and show it; strict ones (the CLI)
+   * treat it as bad input.
+   */
+  skipped?: boolean;
 }
 
 /** Thrown only at the boundary between the decoder and its caller (CLI, API): never from hot loops. */

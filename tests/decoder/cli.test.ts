@@ -55,6 +55,11 @@ beforeAll(() => {
   writeFileSync(file('prose.txt'), 'Dear diary,\nnothing here is a capture.\n');
   // Cut off inside its header.
   writeFileSync(file('broken.vcd'), '$timescale 1 ns $end\n$scope module top $end\n$var wire 1 ! clk $end\n$var wire 1 " tx $end\n');
+  // A body line that is no time (IEEE 1364-2005 §18.2: simulation time is '#' followed by a decimal number).
+  writeFileSync(
+    file('bad-time.vcd'),
+    '$timescale 1 ns $end\n$scope module top $end\n$var wire 1 ! clk $end\n$var wire 1 " tx $end\n$upscope $end\n$enddefinitions $end\n#0\n0!\n1"\n#1x2\n1!\n',
+  );
 });
 
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -102,6 +107,7 @@ describe('decode CLI', () => {
       [[file('two-links.bin'), ...rawArgs.slice(0, -1), 'txd'], /no channel "txd".*clk, tx, rx/],
       [[file('prose.txt'), '--data', 'x'], /format/],
       [[file('broken.vcd'), '--format', 'vcd', '--clock', 'clk', '--data', 'tx'], /at line 5 .*expected \$enddefinitions/],
+      [[file('bad-time.vcd'), '--clock', 'clk', '--data', 'tx'], /at line 10 .*expected #<decimal time>.*--lenient/],
     ];
     const results = await Promise.all(cases.map(([args]) => run(args)));
     results.forEach((r, i) => {
@@ -110,6 +116,12 @@ describe('decode CLI', () => {
       expect(r.stderr.trim().split('\n')).toHaveLength(1);
       expect(r.stderr).not.toMatch(/\n\s+at /);
     });
+  });
+
+  it('decodes past a malformed line with --lenient and lists it as a warning', async () => {
+    const r = await run([file('bad-time.vcd'), '--clock', 'clk', '--data', 'tx', '--lenient']);
+    expect(r.code).toBe(0);
+    expect(r.stderr).toMatch(/warning at line 10 .*"#1x2" is not a time/);
   });
 
   it('stops quietly when the reader of its output goes away', async () => {

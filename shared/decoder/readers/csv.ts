@@ -231,7 +231,7 @@ export class CsvReader implements CaptureReader {
     else {
       const cell = this.cell(buf, start, end, this.timeColumn);
       if (!cell || !parseDecimal(buf, cell[0], cell[1], this.dec)) {
-        this.log.add({ offset, line, expected: 'a number in the time column', message: `Row ${line} has no readable time; it was skipped.` });
+        this.log.add({ offset, line, expected: 'a number in the time column', message: `Row ${line} has no readable time; it was skipped.`, skipped: true });
         return;
       }
       const d = this.dec;
@@ -255,7 +255,7 @@ export class CsvReader implements CaptureReader {
       }
       sample -= this.origin;
       if (sample < this.lastSample) {
-        this.log.add({ offset, line, expected: 'times in increasing order', message: `Row ${line} goes back in time; it was skipped.` });
+        this.log.add({ offset, line, expected: 'times in increasing order', message: `Row ${line} goes back in time; it was skipped.`, skipped: true });
         return;
       }
     }
@@ -296,6 +296,7 @@ export class CsvReader implements CaptureReader {
       offset,
       line,
       expected: '0 or 1',
+      skipped: true,
       message: `Column "${this.channels[ch].name}" holds something other than 0 or 1 in row ${line}; such cells count as unknown. Later ones in this column are not reported again.`,
     });
   }

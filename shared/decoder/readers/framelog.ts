@@ -186,7 +186,7 @@ export class FrameLogReader implements CaptureReader {
   }
 
   private bad(offset: number, line: number, expected: string, message: string): void {
-    this.log.add({ offset, line, expected, message });
+    this.log.add({ offset, line, expected, message, skipped: true });
   }
 }
 

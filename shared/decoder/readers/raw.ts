@@ -233,6 +233,7 @@ export class RawReader implements CaptureReader {
       this.log.add({
         offset: this.bytesRead - 1,
         expected: 'two bytes per sample',
+        skipped: true,
         message: 'The file ends in half a 2-byte sample; the last byte was ignored. Check the sample width.',
       });
     }

@@ -314,7 +314,7 @@ export class VcdReader implements CaptureReader {
   private headerToken(tok: string, offset: number): void {
     if (this.command === null) {
       if (tok[0] !== '$') {
-        this.issue(offset, 'a $keyword of the header', `"${tok.slice(0, 40)}" is not a header keyword; it was skipped.`);
+        this.malformed(offset, 'a $keyword of the header', `"${tok.slice(0, 40)}" is not a header keyword; it was skipped.`);
         return;
       }
       this.command = tok;
@@ -368,7 +368,7 @@ export class VcdReader implements CaptureReader {
     const [type, size, id, ref, select] = args;
     const width = Number(size);
     if (!type || !id || !ref || !(width >= 1)) {
-      this.issue(offset, '$var type size identifier reference $end', `A $var declaration "${args.join(' ')}" is incomplete; it was skipped.`);
+      this.malformed(offset, '$var type size identifier reference $end', `A $var declaration "${args.join(' ')}" is incomplete; it was skipped.`);
       return;
     }
     const reference = select && select.startsWith('[') ? ref + select : ref;
@@ -554,12 +554,12 @@ export class VcdReader implements CaptureReader {
         if (word === '$comment') this.inComment = true;
         // $dumpvars, $dumpon, $dumpoff, $dumpall and $end only bracket ordinary changes
         else if (!['$dumpvars', '$dumpon', '$dumpoff', '$dumpall', '$end'].includes(word)) {
-          this.issue(offset, 'a value change or #time', `Unexpected "${word}" among the value changes; it was skipped.`);
+          this.malformed(offset, 'a value change or #time', `Unexpected "${word}" among the value changes; it was skipped.`);
         }
         return;
       }
       default:
-        this.issue(offset, 'a value change or #time', `"${latin1(buf, start, Math.min(end, start + 40))}" is not a value change; it was skipped.`);
+        this.malformed(offset, 'a value change or #time', `"${latin1(buf, start, Math.min(end, start + 40))}" is not a value change; it was skipped.`);
     }
   }
 
@@ -568,13 +568,13 @@ export class VcdReader implements CaptureReader {
     for (let i = start + 1; i < end; i++) {
       const d = buf[i] - 48;
       if (d < 0 || d > 9 || end - start > 17) {
-        this.issue(offset, '#<decimal time>', `"${latin1(buf, start, Math.min(end, start + 40))}" is not a time; it was skipped.`);
+        this.malformed(offset, '#<decimal time>', `"${latin1(buf, start, Math.min(end, start + 40))}" is not a time; it was skipped.`);
         return;
       }
       t = t * 10 + d;
     }
     if (end - start === 1) {
-      this.issue(offset, '#<decimal time>', 'A "#" without a time was skipped.');
+      this.malformed(offset, '#<decimal time>', 'A "#" without a time was skipped.');
       return;
     }
     if (t < this.time) {
@@ -637,11 +637,16 @@ export class VcdReader implements CaptureReader {
   }
 
   private unknownId(buf: Uint8Array, start: number, end: number, offset: number): void {
-    this.issue(offset, 'an identifier code declared by $var', `Identifier code "${latin1(buf, start, Math.min(end, start + 40))}" was never declared; the change was skipped.`);
+    this.malformed(offset, 'an identifier code declared by $var', `Identifier code "${latin1(buf, start, Math.min(end, start + 40))}" was never declared; the change was skipped.`);
   }
 
-  private issue(offset: number, expected: string, message: string): void {
-    this.log.add({ offset, line: this.line, expected, message });
+  private issue(offset: number, expected: string, message: string, skipped = false): void {
+    this.log.add({ offset, line: this.line, expected, message, ...(skipped ? { skipped } : {}) });
+  }
+
+  /** input that could not be read and was dropped */
+  private malformed(offset: number, expected: string, message: string): void {
+    this.issue(offset, expected, message, true);
   }
 }
 
