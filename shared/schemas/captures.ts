@@ -99,6 +99,8 @@ export interface DecodeJob {
   frames: number;
   /** the decoder's message when failed, with the file position */
   error: string | null;
+  /** what the decoder read past in a finished run (malformed lines, unknown levels…), with positions */
+  warnings: string[];
   startedAt: string | null;
   finishedAt: string | null;
 }

@@ -365,24 +365,29 @@ describe('a frame log', () => {
   afterAll(() => closeWorld(w));
 
   it('places every frame at the time its log line gives, including frames decoded from the first chunk', async () => {
-    const times = [0.0125, 0.25, 1.5];
+    const times = [0.0125, 0.25, 1.5, ...Array.from({ length: 17 }, (_, i) => 2 + i * 0.125)];
     const lines = times.map((t, i) => {
-      const body = new Uint8Array([0x21, 0x03, 0x41 + i]);
+      const body = new Uint8Array([0x21, 0x03, 0x41 + (i % 26)]);
       const fcs = fcs16(body);
       const octets = [...body, fcs & 0xff, fcs >> 8];
       return `${t} ${octets.map((b) => b.toString(16).padStart(2, '0')).join(' ')}`;
     });
-    const res = await upload(w.analyst, w.rigId, Buffer.from(`# bench log\n${lines.join('\n')}\n`), 'log.txt');
+    // one malformed line between good ones: the web app reads past it and says where
+    const text = `# bench log\n${lines[0]}\n${lines[1]}\n0.75 21 03 zz\n${lines.slice(2).join('\n')}\n`;
+    const res = await upload(w.analyst, w.rigId, Buffer.from(text), 'log.txt');
     expect(res.status, JSON.stringify(res.body)).toBe(201);
     expect(res.body.format).toBe('framelog');
     const url = `/api/rigs/${w.rigId}/captures/${res.body.id}`;
     const settings = { format: 'framelog', clock: null, links: [{ channel: 'log' }], encoding: 'nrz', edge: 'rising', bitRate: 800000 };
     expect((await put(w.analyst, `${url}/settings`, settings)).status).toBe(200);
     expect((await w.analyst.post(`${url}/decode`)).status).toBe(202);
-    expect(await waitForJob(w.viewer, url)).toMatchObject({ state: 'done', frames: 3 });
+    const job = await waitForJob(w.viewer, url);
+    expect(job).toMatchObject({ state: 'done', frames: times.length });
+    expect(job.warnings).toHaveLength(1);
+    expect(job.warnings[0]).toMatch(/line 4/);
     const page = (await w.viewer.get(`${url}/timeline?events=0`)).body as TimelinePage;
     const frames = page.rows.filter((r): r is TimelineFrame => r.type === 'frame');
-    expect(frames.map((f) => f.status)).toEqual(['ok', 'ok', 'ok']);
+    expect(frames.map((f) => f.status)).toEqual(times.map(() => 'ok'));
     frames.forEach((f, i) => expect(f.t).toBeCloseTo(times[i], 6));
   });
 });

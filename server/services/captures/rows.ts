@@ -7,6 +7,16 @@ import type { CaptureDeps } from './deps';
 export type CaptureRow = typeof captures.$inferSelect;
 export type JobRow = typeof decodeJobs.$inferSelect;
 
+function parseWarnings(json: string | null): string[] {
+  if (!json) return [];
+  try {
+    const v: unknown = JSON.parse(json);
+    return Array.isArray(v) ? v.filter((x): x is string => typeof x === 'string') : [];
+  } catch {
+    return [];
+  }
+}
+
 export function toDecodeJob(j: JobRow): DecodeJob {
   return {
     id: j.id,
@@ -17,6 +27,7 @@ export function toDecodeJob(j: JobRow): DecodeJob {
     bytesTotal: j.bytesTotal,
     frames: j.frames,
     error: j.error,
+    warnings: parseWarnings(j.issues),
     startedAt: j.startedAt?.toISOString() ?? null,
     finishedAt: j.finishedAt?.toISOString() ?? null,
   };

@@ -37,6 +37,18 @@ export function DecodeProgress({ job, onCancel, cancelling, canCancel }: { job: 
           <dd className="font-mono">{job.stage || '—'}</dd>
         </div>
       </dl>
+      {job.state === 'done' && job.warnings.length > 0 ? (
+        <details className="rounded-md border border-line bg-raised px-3 py-2 text-sm">
+          <summary className="cursor-pointer font-medium">
+            {job.warnings.length === 1 ? '1 part of the file was read past' : `${job.warnings.length} parts of the file were read past`}
+          </summary>
+          <ul className="mt-2 list-disc space-y-1 pl-5 text-muted">
+            {job.warnings.map((w, i) => (
+              <li key={i}>{w}</li>
+            ))}
+          </ul>
+        </details>
+      ) : null}
     </section>
   );
 }
