@@ -17,11 +17,13 @@ import { createMailer } from './mail/mailer';
 import { captureRoutes } from './routes/captures';
 import { compareRoutes } from './routes/compare';
 import { exchangeRoutes } from './routes/exchanges';
+import { faultRoutes } from './routes/faults';
 import { fieldMapRoutes } from './routes/field-maps';
 import { fileRoutes } from './routes/files';
 import { invitationRoutes } from './routes/invitations';
 import { mailboxRoutes } from './routes/mailbox';
 import { memberRoutes } from './routes/members';
+import { noteRoutes } from './routes/notes';
 import { passwordResetRoutes } from './routes/password-resets';
 import { rigRoutes } from './routes/rigs';
 import { sessionRoutes } from './routes/session';
@@ -142,6 +144,8 @@ export async function createApp(opts: AppOptions = {}) {
   api.use(exchangeRoutes(callsModule, guard));
   api.use(fileRoutes(callsModule, guard));
   api.use(compareRoutes(callsModule, guard));
+  api.use(faultRoutes(captureModule, guard));
+  api.use(noteRoutes(captureModule, guard));
   api.use(apiNotFound);
   app.use('/api', api);
 

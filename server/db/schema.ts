@@ -255,6 +255,56 @@ export const seekPoints = sqliteTable(
   (t) => [index('seek_points_job_sample_idx').on(t.jobId, t.sample)],
 );
 
+/**
+ * The fault desk of a decode run: every damaged frame (and every good frame with a line anomaly
+ * inside) with its diagnosis. Tagged with the run's job id, so it becomes visible with the frames.
+ */
+export const faultRows = sqliteTable(
+  'fault_rows',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    jobId: integer('job_id')
+      .notNull()
+      .references(() => decodeJobs.id, { onDelete: 'cascade' }),
+    link: text('link').notNull(),
+    seq: integer('seq').notNull(),
+    /** the frame's row of the same run (null only if it could not be matched) */
+    frameId: integer('frame_id'),
+    firstSample: real('first_sample').notNull(),
+    cause: text('cause', { enum: ['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'line-anomaly'] }).notNull(),
+    station: integer('station'),
+    corrected: integer('corrected', { mode: 'boolean' }).notNull().default(false),
+    flippedBit: integer('flipped_bit'),
+    suspectLineBit: integer('suspect_line_bit'),
+    suspectSample: real('suspect_sample'),
+    suspectExact: integer('suspect_exact', { mode: 'boolean' }),
+    focusSample: real('focus_sample'),
+    /** JSON array of LineAnomaly inside the frame's window */
+    anomalies: text('anomalies').notNull(),
+    nextSeq: integer('next_seq'),
+    nextFrameId: integer('next_frame_id'),
+    retransmissionSeq: integer('retransmission_seq'),
+    retransmissionFrameId: integer('retransmission_frame_id'),
+    retransmissionBy: text('retransmission_by', { enum: ['call', 'ns'] }),
+    retransmissionSearch: text('retransmission_search', { enum: ['found', 'not-found', 'capture-ended', 'not-applicable'] }).notNull(),
+  },
+  (t) => [index('fault_rows_job_sample_idx').on(t.jobId, t.firstSample), index('fault_rows_job_cause_idx').on(t.jobId, t.cause, t.firstSample)],
+);
+
+/** Per decode run: group counts, anomaly groups, anomalies outside frames (first few) and counts over time, as JSON. */
+export const faultSummaries = sqliteTable('fault_summaries', {
+  jobId: integer('job_id')
+    .primaryKey()
+    .references(() => decodeJobs.id, { onDelete: 'cascade' }),
+  groups: text('groups').notNull(),
+  anomalyGroups: text('anomaly_groups').notNull(),
+  outside: text('outside').notNull(),
+  outsideTotal: integer('outside_total').notNull(),
+  bins: text('bins').notNull(),
+  framesSeen: integer('frames_seen').notNull(),
+  anomaliesDropped: integer('anomalies_dropped').notNull(),
+});
+
 // ---- the call layer: field maps, call runs, exchanges, recovered files ----
 
 /** A rig's field map; its documents are the versions. The built-in map is one read-only row per rig. */
@@ -398,4 +448,39 @@ export const recoveredFiles = sqliteTable(
     exchangeIds: text('exchange_ids').notNull(),
   },
   (t) => [index('recovered_files_run_idx').on(t.runId, t.name)],
+);
+
+// ---- notes ----
+
+/**
+ * A member's note pinned to a capture, a frame or a byte range of a frame (or, later, a field of a
+ * field map). Frames are pinned by link + seq, not by frame id: a re-decode replaces the frame rows,
+ * and the same settings give the same link + seq, so the note finds its frame again.
+ */
+export const notes = sqliteTable(
+  'notes',
+  {
+    id: integer('id').primaryKey({ autoIncrement: true }),
+    rigId: integer('rig_id')
+      .notNull()
+      .references(() => rigs.id, { onDelete: 'cascade' }),
+    captureId: integer('capture_id')
+      .notNull()
+      .references(() => captures.id, { onDelete: 'cascade' }),
+    target: text('target', { enum: ['capture', 'frame', 'bytes', 'field'] }).notNull(),
+    link: text('link'),
+    seq: integer('seq'),
+    /** offsets into the frame's octets between the flags (address first, FCS included); end inclusive */
+    byteStart: integer('byte_start'),
+    byteEnd: integer('byte_end'),
+    fieldMapId: integer('field_map_id').references(() => fieldMaps.id, { onDelete: 'cascade' }),
+    fieldPath: text('field_path'),
+    body: text('body').notNull(),
+    authorId: integer('author_id').references(() => users.id, { onDelete: 'set null' }),
+    createdAt: createdAt(),
+    updatedAt: integer('updated_at', { mode: 'timestamp_ms' })
+      .notNull()
+      .$defaultFn(() => new Date()),
+  },
+  (t) => [index('notes_capture_frame_idx').on(t.captureId, t.link, t.seq), index('notes_rig_idx').on(t.rigId)],
 );

@@ -9,6 +9,7 @@ import type { DecodeIssue } from '../../shared/decoder/types';
 import type { CaptureSettings } from '../../shared/schemas';
 import { chosenMap, createCallRun, runCallStage, switchToCallRun } from './call-stage';
 import { decoderOptions } from './decoder-options';
+import { FaultRecorder, faultCallKey, storeFaultReport } from './fault-rows';
 import { indexSearch, RunWriter } from './run-rows';
 import { VcdSeekTracker } from './vcd-seek';
 
@@ -42,10 +43,20 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     // Frames reach the writer during push(), as soon as the reader's header has set the time base,
     // so the writer asks the decoder itself rather than a copy taken between pushes.
     const writer = new RunWriter(db, data.jobId, data.captureId, () => decoder.samplePeriodSeconds ?? period);
-    const decoder: Decoder = createDecoder(decoderOptions(data.settings), {
-      frame: (f) => writer.frame(f),
-      event: (e) => writer.event(e),
-    });
+    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.captureId, data.settings));
+    const decoder: Decoder = createDecoder(
+      { ...decoderOptions(data.settings), anomalies: faults },
+      {
+        frame: (f) => {
+          writer.frame(f);
+          faults.frame(f);
+        },
+        event: (e) => {
+          writer.event(e);
+          faults.event(e);
+        },
+      },
+    );
     const addSeek = db.prepare('insert into seek_points (job_id, byte_offset, sample, levels) values (?, ?, ?, ?)');
     const seek = data.settings.format === 'vcd' ? new VcdSeekTracker((p) => addSeek.run(data.jobId, p.byteOffset, p.sample, JSON.stringify(p.levels))) : null;
     const progress = db.prepare("update decode_jobs set bytes_read = ?, frames = ?, events = ?, stage = ? where id = ? and state = 'running'");
@@ -72,6 +83,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     if (fatal) return { type: 'failed', error: describeIssue(fatal) };
     writer.flush();
     progress.run(bytes, writer.frames, writer.events, 'indexing', data.jobId);
+    storeFaultReport(db, data.jobId, data.captureId, period, faults.report(writer.lastSample));
     indexSearch(db, data.jobId);
     const calls = await callStage(db, data, period);
     const issues = decoder.issues.slice(0, 20).map(describeIssue);

@@ -178,6 +178,8 @@ export function clearRunRows(db: Database.Database, jobId: number, maxBatches = 
       db.transaction(() => {
         db.prepare('delete from line_events where job_id = ?').run(jobId);
         db.prepare('delete from seek_points where job_id = ?').run(jobId);
+        db.prepare('delete from fault_rows where job_id = ?').run(jobId);
+        db.prepare('delete from fault_summaries where job_id = ?').run(jobId);
         // the call layer's rows over these frames go with them
         const callRuns = 'select id from call_runs where decode_job_id = ?';
         db.prepare(`delete from exchange_frames where run_id in (${callRuns})`).run(jobId);

@@ -169,6 +169,8 @@ export interface TimelineFrame {
   /** address..info octets (no FCS), lower-case hex, truncated to 64 octets in lists */
   hex: string;
   summary: string;
+  /** timeline rows only: how many notes are pinned to this frame (by link + seq); absent when none */
+  notes?: number;
 }
 
 export interface TimelineEvent {

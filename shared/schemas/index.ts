@@ -3,3 +3,5 @@ export * from './auth';
 export * from './rigs';
 export * from './captures';
 export * from './calls';
+export * from './notes';
+export * from './faults';

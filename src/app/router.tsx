@@ -39,6 +39,9 @@ import {
   uploadLoader,
 } from './routes/capture-routes';
 import { callRoutes } from './routes/call-routes';
+import { faultRoutes } from './routes/fault-routes';
+import { noteRoutes } from './routes/note-routes';
+import { fieldMapRoutes } from './routes/field-map-routes';
 
 export const router = createBrowserRouter([
   {
@@ -69,6 +72,7 @@ export const router = createBrowserRouter([
                   { path: 'settings', element: <SettingsRoute /> },
                   { path: 'members', loader: membersLoader, element: <MembersRoute /> },
                   { path: 'captures', element: <CapturesRoute /> },
+                  ...fieldMapRoutes,
                 ],
               },
               { path: 'rigs/:rigId/captures/new', loader: uploadLoader, element: <UploadRoute />, errorElement: <RigRouteError /> },
@@ -84,6 +88,8 @@ export const router = createBrowserRouter([
                   { path: 'timeline', element: <TimelineRoute />, shouldRevalidate: onlyOnPathChange },
                   { path: 'frames/:frameId', loader: frameLoader, element: <FrameRoute />, errorElement: <CaptureRouteError /> },
                   ...callRoutes,
+                  ...faultRoutes,
+                  ...noteRoutes,
                 ],
               },
               { path: 'dev/mailbox', element: <MailboxPage /> },

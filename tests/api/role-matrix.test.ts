@@ -1,7 +1,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import type { FlaglineApp } from '../../server/index';
 import { hashToken } from '../../server/auth/tokens';
-import { invitations, passwordResets, rigs, stations } from '../../server/db/schema';
+import { invitations, notes, passwordResets, rigs, stations } from '../../server/db/schema';
 import { clockedVcd, seedDecodedCapture, tempDataDir } from './captures-helpers';
 import { Client, addMember, anonymous, makeUser, rigBody, signedIn, testApp } from './helpers';
 import { listRoutes } from './route-list';
@@ -77,6 +77,7 @@ const MATRIX: Record<string, Row> = {
   'GET /api/rigs/:rigId/field-maps/:mapId/export.md': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/field-map': MEMBER(200),
   'PUT /api/rigs/:rigId/captures/:captureId/field-map': ANALYST(202),
+  'GET /api/rigs/:rigId/captures/:captureId/faults': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/exchanges': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/exchanges/stats': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/exchanges/export.csv': MEMBER(200),
@@ -86,6 +87,12 @@ const MATRIX: Record<string, Row> = {
   'GET /api/rigs/:rigId/captures/:captureId/files/:fileId/download': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/frames/:frameId/call': MEMBER(200),
   'GET /api/rigs/:rigId/compare': MEMBER(200),
+  // viewers may comment: every member reads and writes notes
+  'GET /api/rigs/:rigId/captures/:captureId/notes': MEMBER(200),
+  'POST /api/rigs/:rigId/captures/:captureId/notes': MEMBER(201),
+  // the world's note is the analyst's: only its author edits it; its author or an owner deletes it
+  'PATCH /api/rigs/:rigId/captures/:captureId/notes/:noteId': [401, 403, 200, 403, 403],
+  'DELETE /api/rigs/:rigId/captures/:captureId/notes/:noteId': [401, 403, 204, 403, 204],
 };
 
 /** valid bodies, so a caller the guard lets through gets the route's success status */
@@ -105,6 +112,8 @@ const BODIES: Record<string, object> = {
   'PUT /api/rigs/:rigId/field-maps/:mapId': { document: CPM_ENVELOPE_DOCUMENT, baseVersion: 1 },
   // ids are filled in like path parameters (see fillPath)
   'PUT /api/rigs/:rigId/captures/:captureId/field-map': { mapId: ':mapId' },
+  'POST /api/rigs/:rigId/captures/:captureId/notes': { target: { kind: 'capture' }, body: 'Cable swapped before this run' },
+  'PATCH /api/rigs/:rigId/captures/:captureId/notes/:noteId': { body: 'Reworded' },
 };
 
 /** query strings some routes need to succeed */
@@ -155,7 +164,8 @@ async function buildWorld(): Promise<World> {
   db.insert(passwordResets).values({ userId: extraId, tokenHash: hashToken(RESET_TOKEN), expiresAt: new Date(Date.now() + hour) }).run();
   const { captureId, frameId, busyCaptureId } = seedDecodedCapture(app, rigA, data.dir, ownerId);
   const { mapId, fileId } = seedCallLayer(app, rigA, captureId, ownerId);
-  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId, captureId, frameId, mapId, fileId }, busyCaptureId, cleanup: data.cleanup };
+  const noteId = db.insert(notes).values({ rigId: rigA, captureId, target: 'capture', body: "The analyst's note", authorId: analystId }).returning().get().id;
+  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId, captureId, frameId, mapId, fileId, noteId }, busyCaptureId, cleanup: data.cleanup };
 }
 
 function fillPath(route: string, params: World['params']): string {

@@ -132,6 +132,13 @@ function keyset(alias: string, k: number, c: Cursor | null, forward: boolean): S
   return { where: [`${t} < ?`], params: [c.t] };
 }
 
+const noteKey = (link: string, seq: number) => `${link}\u0000${seq}`;
+
+function withNotes(f: TimelineFrame, counts: Map<string, number>): TimelineFrame {
+  const n = counts.get(noteKey(f.link, f.seq));
+  return n ? { ...f, notes: n } : f;
+}
+
 const FRAME_COLUMNS = `f.id, f.link, f.seq, f.t, f.t_end as tEnd, f.status, f.address, f.kind, f.command, f.ns, f.nr, f.pf,
   f.info_length as infoLength, substr(f.hex, 1, 128) as hex, f.flipped_bit as flippedBit`;
 const EVENT_COLUMNS = 'e.id, e.link, e.channel, e.kind, e.t, e.t_end as tEnd, e.count';
@@ -201,6 +208,14 @@ export class TimelineReader {
     return new Map(rows.map((r) => [r.address, r.name]));
   }
 
+  /** notes per frame of the run's capture, keyed link + seq (a capture holds few notes; frames many) */
+  private noteCounts(jobId: number): Map<string, number> {
+    const rows = this.stmt(
+      'select link, seq, count(*) as n from notes where capture_id = (select capture_id from decode_jobs where id = ?) and seq is not null group by link, seq',
+    ).all(jobId) as { link: string; seq: number; n: number }[];
+    return new Map(rows.map((r) => [noteKey(r.link, r.seq), r.n]));
+  }
+
   toFrame(r: FrameDbRow, names: Map<number, string>): TimelineFrame {
     const stationName = r.address === null ? null : (names.get(r.address) ?? null);
     return {
@@ -259,9 +274,10 @@ export class TimelineReader {
     const taken = got.slice(0, q.limit);
     if (!forward) taken.reverse();
     const names = this.stationNames(rigId);
+    const noteCounts = this.noteCounts(jobId);
     const rows: TimelineRow[] = taken.map(({ k, r }) =>
       k === 0
-        ? this.toFrame(r as FrameDbRow, names)
+        ? withNotes(this.toFrame(r as FrameDbRow, names), noteCounts)
         : ({ type: 'event', ...(r as EventDbRow), summary: eventSummary(r as EventDbRow) } satisfies TimelineEvent),
     );
     const keyOf = (x: { k: number; r: { t: number; id: number } }, d: 'f' | 'b'): Cursor => ({ t: x.r.t, k: x.k, id: x.r.id, d });

@@ -15,7 +15,8 @@ import { UploadPanel } from '../../features/captures/components/upload-panel';
 import { overviewQueryOptions } from '../../features/overview/api/get-overview';
 import { CaptureOverview } from '../../features/overview/components/capture-overview';
 import { TimelineView } from '../../features/timeline/components/timeline-view';
-import { frameQueryOptions } from '../../features/inspector/api/get-frame';
+import { frameQueryOptions, useFrame } from '../../features/inspector/api/get-frame';
+import { FrameNotes } from '../../features/notes/components/frame-notes';
 import { FrameInspector } from '../../features/inspector/components/frame-inspector';
 import { queryClient } from '../query-client';
 
@@ -137,7 +138,13 @@ export function FrameRoute() {
   const location = useLocation();
   const fromTimeline = (location.state as { timelineSearch?: string } | null)?.timelineSearch;
   const backTo = `/rigs/${rigId}/captures/${captureId}/timeline${fromTimeline ?? `?sel=${frameId}`}`;
-  return <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} />;
+  const octetCount = useFrame(rigId, captureId, frameId).frame.hexAll.length / 2;
+  return (
+    <div className="space-y-4">
+      <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} />
+      <FrameNotes key={`notes-${frameId}`} rigId={rigId} captureId={captureId} frameId={frameId} octetCount={octetCount} />
+    </div>
+  );
 }
 
 export function CaptureRouteError() {

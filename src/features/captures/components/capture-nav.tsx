@@ -22,6 +22,9 @@ export function CaptureNav({ rigId, capture }: { rigId: number; capture: Capture
         <NavLink to={`${base}/timeline`} className={tab}>
           Timeline
         </NavLink>
+        <NavLink to={`${base}/faults`} className={tab}>
+          Fault desk
+        </NavLink>
         <NavLink to={`${base}/round-trips`} className={tab}>
           Round trips
         </NavLink>
@@ -30,6 +33,9 @@ export function CaptureNav({ rigId, capture }: { rigId: number; capture: Capture
         </NavLink>
         <NavLink to={`${base}/compare`} className={tab}>
           Compare
+        </NavLink>
+        <NavLink to={`${base}/notes`} className={tab}>
+          Notes
         </NavLink>
         <NavLink to={`${base}/setup`} className={tab}>
           Channel roles

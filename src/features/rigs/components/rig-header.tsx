@@ -41,6 +41,9 @@ export function RigHeader({ rigId }: { rigId: number }) {
         <NavLink to={`/rigs/${rigId}/members`} className={tab}>
           Members
         </NavLink>
+        <NavLink to={`/rigs/${rigId}/field-maps`} className={tab}>
+          Field maps
+        </NavLink>
       </nav>
     </header>
   );

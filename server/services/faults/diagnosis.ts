@@ -1,0 +1,59 @@
+import type { DamageCauseName, FaultAnomaly, FaultFrameRow } from '../../../shared/schemas';
+
+// One sentence per fault row, in the words the fault desk shows.
+
+const hex4 = (n: number) => `0x${n.toString(16).toUpperCase().padStart(4, '0')}`;
+
+const ANOMALY_WORDS: Record<FaultAnomaly['kind'], (a: FaultAnomaly) => string> = {
+  glitch: (a) => `${a.count === 1 ? 'a pulse' : `${a.count} pulses`} shorter than half a bit on ${a.channel}`,
+  'clock-missing': (a) => `${a.count === 1 ? 'a clock edge' : `${a.count} clock edges`} missing on ${a.channel}`,
+  'clock-extra': (a) => `an extra clock edge on ${a.channel}`,
+  silence: (a) => `${a.channel} silent for ${Math.round(a.bits)} bit times`,
+  unknown: (a) => `${a.channel} at an unknown level`,
+};
+
+export interface FaultFacts {
+  cause: DamageCauseName;
+  fcsReceived: number | null;
+  fcsComputed: number | null;
+  flippedBit: number | null;
+  suspectLineBit: number | null;
+  /** stuffed zeros on the line before the suspect bit */
+  stuffedBefore: number;
+  anomalies: FaultAnomaly[];
+  retransmissionSeq: number | null;
+  retransmissionBy: 'call' | 'ns' | null;
+  retransmissionSearch: FaultFrameRow['retransmissionSearch'];
+}
+
+export function describeFault(f: FaultFacts): string {
+  const parts: string[] = [];
+  const fcs = f.fcsReceived !== null && f.fcsComputed !== null ? ` (received ${hex4(f.fcsReceived)}, computed ${hex4(f.fcsComputed)})` : '';
+  switch (f.cause) {
+    case 'bad-fcs-explained': {
+      const stuffed = f.stuffedBefore > 0 ? `, line bit ${f.suspectLineBit} after ${f.stuffedBefore} stuffed zero${f.stuffedBefore === 1 ? '' : 's'}` : '';
+      parts.push(`Bad FCS${fcs}: one flipped bit explains it — bit ${f.flippedBit} of the frame (octet ${(f.flippedBit ?? 0) >> 3}, bit ${(f.flippedBit ?? 0) & 7}${stuffed}).`);
+      break;
+    }
+    case 'bad-fcs-unexplained':
+      parts.push(`Bad FCS${fcs}: no single flipped bit explains it.`);
+      break;
+    case 'abort':
+      parts.push('Aborted: seven or more 1s in a row inside the frame.');
+      break;
+    case 'short':
+      parts.push('Short: fewer octets than address, control and FCS.');
+      break;
+    case 'residue':
+      parts.push('Residue: the bits between the flags are not a whole number of octets (a bit lost or doubled).');
+      break;
+    case 'line-anomaly':
+      parts.push('Good FCS, but the line misbehaved inside the frame.');
+      break;
+  }
+  if (f.anomalies.length > 0) parts.push(`On the line: ${f.anomalies.slice(0, 3).map((a) => ANOMALY_WORDS[a.kind](a)).join('; ')}${f.anomalies.length > 3 ? `; ${f.anomalies.length - 3} more` : ''}.`);
+  if (f.retransmissionSearch === 'found') parts.push(`Sent again as frame ${f.retransmissionSeq} (${f.retransmissionBy === 'call' ? 'same call and tag' : 'same N(S)'}).`);
+  else if (f.retransmissionSearch === 'not-found') parts.push('Not sent again in the frames that followed.');
+  else if (f.retransmissionSearch === 'capture-ended') parts.push('The capture ended before a retransmission could show.');
+  return parts.join(' ');
+}

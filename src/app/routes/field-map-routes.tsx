@@ -1,0 +1,71 @@
+import { useParams, useSearchParams, type LoaderFunctionArgs, type RouteObject, type ShouldRevalidateFunctionArgs } from 'react-router';
+import { idParam } from '../../../shared/schemas';
+import { useRig } from '../../features/rigs/api/get-rig';
+import { fieldMapQueryOptions } from '../../features/field-maps/api/get-field-map';
+import { fieldMapsQueryOptions } from '../../features/field-maps/api/get-field-maps';
+import { FieldMapEditor, type EditorViewState } from '../../features/field-maps/components/field-map-editor';
+import { FieldMapList } from '../../features/field-maps/components/field-map-list';
+import { queryClient } from '../query-client';
+
+// The rig's field maps (children of `rigs/:rigId`, under the rig header). The editor's view state
+// (layout, preview capture and frame, diffed versions) lives in the search params.
+
+function pathOnly({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevalidateFunctionArgs) {
+  return currentUrl.pathname !== nextUrl.pathname ? defaultShouldRevalidate : false;
+}
+
+/** Prefetches so the page paints with data; errors are shown in place by the page. */
+async function listLoader({ params }: LoaderFunctionArgs) {
+  const rig = idParam.safeParse(params.rigId);
+  if (rig.success) await queryClient.prefetchQuery(fieldMapsQueryOptions(rig.data));
+  return null;
+}
+
+async function editorLoader({ params }: LoaderFunctionArgs) {
+  const rig = idParam.safeParse(params.rigId);
+  const map = idParam.safeParse(params.mapId);
+  if (rig.success && map.success) await queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data));
+  return null;
+}
+
+function FieldMapsRoute() {
+  const rig = useRig(Number(useParams().rigId));
+  return <FieldMapList rig={rig} />;
+}
+
+const num = (v: string | null) => (v !== null && /^\d+$/.test(v) ? Number(v) : null);
+
+function FieldMapEditorRoute() {
+  const params = useParams();
+  const rig = useRig(Number(params.rigId));
+  const [search, setSearch] = useSearchParams();
+  const view: EditorViewState = {
+    layout: num(search.get('layout')) ?? 0,
+    captureId: num(search.get('capture')),
+    frameId: num(search.get('frame')),
+    diffFrom: num(search.get('from')),
+    diffTo: num(search.get('to')),
+  };
+  const onView = (patch: Partial<EditorViewState>) => {
+    const next = { ...view, ...patch };
+    const out = new URLSearchParams();
+    const put = (k: string, v: number | null) => {
+      if (v !== null) out.set(k, String(v));
+    };
+    put('layout', next.layout || null);
+    put('capture', next.captureId);
+    put('frame', next.frameId);
+    put('from', next.diffFrom);
+    put('to', next.diffTo);
+    setSearch(out, { replace: true });
+  };
+  const mapId = Number(params.mapId);
+  // a new map id starts a new draft
+  return <FieldMapEditor key={mapId} rig={rig} mapId={mapId} view={view} onView={onView} />;
+}
+
+/** Children of the rig route (`rigs/:rigId`). */
+export const fieldMapRoutes: RouteObject[] = [
+  { path: 'field-maps', loader: listLoader, element: <FieldMapsRoute />, shouldRevalidate: pathOnly },
+  { path: 'field-maps/:mapId', loader: editorLoader, element: <FieldMapEditorRoute />, shouldRevalidate: pathOnly },
+];

@@ -1,0 +1,28 @@
+import type { AnomalyKindName, DamageCauseName } from '../../../../shared/schemas';
+
+export const causeLabels: Record<DamageCauseName, string> = {
+  'bad-fcs-explained': 'Bad FCS, one bit explains it',
+  'bad-fcs-unexplained': 'Bad FCS, no single bit',
+  abort: 'Aborted',
+  short: 'Short',
+  residue: 'Residue (bit lost or doubled)',
+  'line-anomaly': 'Good frame, line anomaly',
+};
+
+/** Our own palette for the causes, shared by the group list and the strip. */
+export const causeColours: Record<DamageCauseName, string> = {
+  'bad-fcs-explained': '#e0582f',
+  'bad-fcs-unexplained': '#b8322a',
+  abort: '#a33fb8',
+  short: '#d98b1a',
+  residue: '#4f6fd6',
+  'line-anomaly': '#1f9e94',
+};
+
+export const anomalyLabels: Record<AnomalyKindName, string> = {
+  glitch: 'pulses shorter than half a bit',
+  'clock-missing': 'clock edges missing',
+  'clock-extra': 'clock edges extra',
+  silence: 'silences inside a frame',
+  unknown: 'unknown levels',
+};

@@ -1,0 +1,60 @@
+import { queryOptions, useQuery } from '@tanstack/react-query';
+import type { CaptureSummaryRow, FrameDetail, TimelineFrame, TimelinePage } from '../../../../shared/schemas';
+import { api } from '../../../lib/api';
+import { fieldMapKeys } from './field-map-keys';
+
+// The preview reads frames through the capture and timeline APIs: the rig's captures, the first
+// I frames of one, and the chosen frame's octets.
+
+export function usePreviewCaptures(rigId: number) {
+  return useQuery(
+    queryOptions({
+      queryKey: fieldMapKeys.previewCaptures(rigId),
+      queryFn: () => api<CaptureSummaryRow[]>(`/api/rigs/${rigId}/captures`),
+    }),
+  );
+}
+
+/** I frames with an information field, from the start of the capture. */
+export function usePreviewFrames(rigId: number, captureId: number | null) {
+  return useQuery({
+    queryKey: fieldMapKeys.previewFrames(rigId, captureId ?? 0),
+    queryFn: async () => {
+      const page = await api<TimelinePage>(`/api/rigs/${rigId}/captures/${captureId}/timeline?kind=I&status=ok&limit=20`);
+      return page.rows.filter((r): r is TimelineFrame => r.type === 'frame' && r.infoLength > 0);
+    },
+    enabled: captureId !== null,
+  });
+}
+
+export interface PreviewFrame {
+  frame: FrameDetail['frame'];
+  /** the whole frame between the flags, FCS included */
+  bytes: Uint8Array;
+  infoOffset: number;
+  info: Uint8Array;
+}
+
+export function hexToBytes(hex: string): Uint8Array {
+  const out = new Uint8Array(hex.length >> 1);
+  for (let i = 0; i < out.length; i++) out[i] = parseInt(hex.slice(i * 2, i * 2 + 2), 16);
+  return out;
+}
+
+export async function fetchPreviewFrame(rigId: number, captureId: number, frameId: number): Promise<PreviewFrame> {
+  const detail = await api<FrameDetail>(`/api/rigs/${rigId}/captures/${captureId}/frames/${frameId}`);
+  const bytes = hexToBytes(detail.frame.hexAll);
+  // frame.hex is address..information without the FCS, so the information field is its tail
+  const payload = detail.frame.hex.length >> 1;
+  const infoOffset = Math.max(0, payload - detail.frame.infoLength);
+  return { frame: detail.frame, bytes, infoOffset, info: bytes.slice(infoOffset, payload) };
+}
+
+export function usePreviewFrame(rigId: number, captureId: number | null, frameId: number | null) {
+  return useQuery({
+    queryKey: fieldMapKeys.previewFrame(rigId, captureId ?? 0, frameId ?? 0),
+    queryFn: () => fetchPreviewFrame(rigId, captureId!, frameId!),
+    enabled: captureId !== null && frameId !== null,
+    staleTime: Infinity,
+  });
+}

@@ -1,0 +1,183 @@
+import { useMemo, useState } from 'react';
+import { applyFieldMap, type CallDirection } from '../../../../shared/decoder/calls/apply';
+import type { FieldMap } from '../../../../shared/decoder/calls/field-map';
+import { ErrorNotice } from '../../../components/notice';
+import { usePreviewCaptures, usePreviewFrame, usePreviewFrames } from '../api/get-preview-frame';
+import { swatch } from './field-colours';
+
+interface Props {
+  rigId: number;
+  /** the draft when it is valid, else the last valid draft */
+  map: FieldMap | null;
+  draftValid: boolean;
+  captureId: number | null;
+  frameId: number | null;
+  onPick: (captureId: number | null, frameId: number | null) => void;
+  /** opens the layout the preview used in the form above */
+  onShowLayout: (index: number) => void;
+}
+
+const hex2 = (b: number) => b.toString(16).toUpperCase().padStart(2, '0');
+const control = 'rounded border border-line bg-surface px-2 py-1 text-sm';
+
+/** The draft applied in the browser to one frame's information field: coloured octets and decoded values. */
+export function FramePreview({ rigId, map, draftValid, captureId, frameId, onPick, onShowLayout }: Props) {
+  const captures = usePreviewCaptures(rigId);
+  const decoded = useMemo(
+    () => (captures.data ?? []).filter((c) => c.status === 'decoded').sort((a, b) => b.uploadedAt.localeCompare(a.uploadedAt)),
+    [captures.data],
+  );
+  const capture = captureId ?? decoded[0]?.id ?? null;
+  const frames = usePreviewFrames(rigId, capture);
+  const frameChoice = frameId ?? frames.data?.[0]?.id ?? null;
+  const frame = usePreviewFrame(rigId, capture, frameChoice);
+  const [directionChoice, setDirectionChoice] = useState<'auto' | CallDirection>('auto');
+  const [typedId, setTypedId] = useState('');
+
+  const direction: CallDirection = useMemo(() => {
+    if (directionChoice !== 'auto') return directionChoice;
+    const cc = map?.callCode;
+    const info = frame.data?.info;
+    // a response sets the map's response bits in the call code (the built-in sets 0x80)
+    if (cc && cc.responseMask && info && info.length > cc.offset && (info[cc.offset] & cc.responseMask & 0xff) !== 0) return 'response';
+    return 'request';
+  }, [directionChoice, map, frame.data]);
+
+  const call = useMemo(() => (map && frame.data ? applyFieldMap(map, frame.data.info, direction) : null), [map, frame.data, direction]);
+
+  // octet index of the whole frame → field index
+  const owner = useMemo(() => {
+    const out = new Map<number, number>();
+    if (!call || !frame.data) return out;
+    call.fields.forEach((f, i) => {
+      for (let k = 0; k < f.available; k++) out.set(frame.data!.infoOffset + f.offset + k, i);
+    });
+    return out;
+  }, [call, frame.data]);
+  const layoutIndex = map && call?.layout ? map.layouts.findIndex((l) => l.id === call.layout) : -1;
+  const fieldIndexInLayout = (id: string) => (layoutIndex >= 0 ? map!.layouts[layoutIndex].fields.findIndex((f) => f.id === id) : -1);
+
+  return (
+    <section aria-label="Preview" className="space-y-3">
+      <div className="flex flex-wrap items-end gap-3">
+        <label className="text-sm font-medium">
+          Capture{' '}
+          <select aria-label="Preview capture" className={control} value={capture ?? ''} onChange={(e) => onPick(e.target.value ? Number(e.target.value) : null, null)}>
+            {decoded.length === 0 ? <option value="">no decoded capture</option> : null}
+            {decoded.map((c) => (
+              <option key={c.id} value={c.id}>
+                {c.name}
+              </option>
+            ))}
+          </select>
+        </label>
+        <label className="text-sm font-medium">
+          Frame{' '}
+          <select aria-label="Preview frame" className={control} value={frameChoice ?? ''} onChange={(e) => onPick(capture, e.target.value ? Number(e.target.value) : null)}>
+            {frameChoice !== null && !frames.data?.some((f) => f.id === frameChoice) ? <option value={frameChoice}>frame id {frameChoice}</option> : null}
+            {(frames.data ?? []).map((f) => (
+              <option key={f.id} value={f.id}>
+                {f.link} #{f.seq} · {f.infoLength} octets · {f.summary}
+              </option>
+            ))}
+          </select>
+        </label>
+        <form
+          className="flex items-end gap-1"
+          onSubmit={(e) => {
+            e.preventDefault();
+            const id = Number(typedId);
+            if (Number.isInteger(id) && id > 0) onPick(capture, id);
+          }}
+        >
+          <label className="text-sm font-medium">
+            or frame id <input aria-label="Preview frame id" className={`${control} w-24`} inputMode="numeric" value={typedId} onChange={(e) => setTypedId(e.target.value)} />
+          </label>
+          <button type="submit" className={`${control} hover:bg-raised`}>
+            Show
+          </button>
+        </form>
+        <label className="text-sm font-medium">
+          Read as{' '}
+          <select aria-label="Preview direction" className={control} value={directionChoice} onChange={(e) => setDirectionChoice(e.target.value as 'auto' | CallDirection)}>
+            <option value="auto">auto ({direction})</option>
+            <option value="request">request</option>
+            <option value="response">response</option>
+          </select>
+        </label>
+      </div>
+      {captures.error ? <ErrorNotice error={captures.error} /> : null}
+      {frames.error ? <ErrorNotice error={frames.error} /> : null}
+      {frame.error ? <ErrorNotice error={frame.error} /> : null}
+      {!draftValid ? <p className="text-sm text-flare-700">The draft has problems; the preview shows the last valid draft.</p> : null}
+      {capture !== null && frames.data && frames.data.length === 0 && frameId === null ? <p className="text-sm text-muted">This capture has no I frame with an information field near its start; type a frame id.</p> : null}
+      {frame.data && call ? (
+        <div className="grid gap-4 lg:grid-cols-[minmax(0,1fr)_minmax(0,1fr)]">
+          <div>
+            <p className="mb-1 text-xs text-muted">
+              Frame {frame.data.frame.id} · {frame.data.frame.link} #{frame.data.frame.seq} · information field from octet {frame.data.infoOffset} · layout{' '}
+              <span className="font-mono">{call.layout ?? 'none matched'}</span>
+              {layoutIndex >= 0 ? (
+                <button type="button" className="ml-2 text-link hover:underline" onClick={() => onShowLayout(layoutIndex)}>
+                  Show this layout
+                </button>
+              ) : null}
+            </p>
+            <div aria-label="Preview octets" className="flex flex-wrap gap-x-0.5 gap-y-1 font-mono text-xs">
+              {Array.from(frame.data.bytes, (b, k) => {
+                const f = owner.get(k);
+                const outside = k < frame.data!.infoOffset || k >= frame.data!.infoOffset + frame.data!.info.length;
+                const field = f !== undefined ? call.fields[f] : null;
+                const colourIndex = field ? fieldIndexInLayout(field.id) : -1;
+                return (
+                  <span
+                    key={k}
+                    title={field ? `${field.id} (octet ${k})` : outside ? `octet ${k}: link header or FCS` : `octet ${k}: no field`}
+                    data-field={field?.id}
+                    className={`rounded px-0.5 ${field ? swatch(colourIndex >= 0 ? colourIndex : f!) : outside ? 'text-muted' : 'outline outline-1 outline-dashed outline-line'}`}
+                  >
+                    {hex2(b)}
+                  </span>
+                );
+              })}
+            </div>
+            {call.unexplained ? <p className="mt-2 text-xs text-muted">{call.unexplained} octet(s) after the last field are not described.</p> : null}
+            {call.problems.length ? (
+              <ul className="mt-2 text-xs text-flare-700">
+                {call.problems.map((p) => (
+                  <li key={p}>{p}</li>
+                ))}
+              </ul>
+            ) : null}
+          </div>
+          <table className="text-left text-sm" aria-label="Decoded values">
+            <thead className="text-xs text-muted">
+              <tr>
+                <th className="px-2 py-1">Field</th>
+                <th className="px-2 py-1">Octets</th>
+                <th className="px-2 py-1">Value</th>
+              </tr>
+            </thead>
+            <tbody className="divide-y divide-line">
+              {call.fields.map((f, i) => (
+                <tr key={`${f.id}-${i}`}>
+                  <td className="px-2 py-1">
+                    <span className={`mr-1 inline-block h-3 w-3 rounded-sm ${swatch(fieldIndexInLayout(f.id) >= 0 ? fieldIndexInLayout(f.id) : i)}`} aria-hidden="true" />
+                    <span className="font-mono">{f.id}</span>
+                  </td>
+                  <td className="px-2 py-1 font-mono text-xs">
+                    {frame.data!.infoOffset + f.offset}+{f.length}
+                    {f.truncated ? ` (only ${f.available})` : ''}
+                  </td>
+                  <td className="break-all px-2 py-1 font-mono text-xs">{f.display}</td>
+                </tr>
+              ))}
+            </tbody>
+          </table>
+        </div>
+      ) : frame.isLoading ? (
+        <p className="text-sm text-muted">Loading the frame…</p>
+      ) : null}
+    </section>
+  );
+}
