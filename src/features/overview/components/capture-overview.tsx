@@ -8,6 +8,7 @@ import { useOverview } from '../api/get-overview';
 import { BarList } from './bar-list';
 import { FramesOverTimeChart } from './frames-over-time-chart';
 import { GapHistogram } from './gap-histogram';
+import { TurnaroundHistograms } from './turnaround-histograms';
 
 const statuses = ['ok', 'bad-fcs', 'abort', 'short', 'residue'] as const;
 const directionWords = { 'to-server': 'station → server', 'from-server': 'server → station', unknown: 'direction not set' } as const;
@@ -120,6 +121,10 @@ export function CaptureOverview({ rigId, captureId }: { rigId: number; captureId
       <Card>
         <CardTitle>Gaps between frames</CardTitle>
         <GapHistogram histogram={o.gapHistogram} />
+      </Card>
+      <Card>
+        <CardTitle>Turnaround per station</CardTitle>
+        <TurnaroundHistograms rigId={rigId} captureId={captureId} roundTripsHref={`/rigs/${rigId}/captures/${captureId}/round-trips`} />
       </Card>
     </div>
   );

@@ -3,11 +3,16 @@ import type { TimelineFrame, TimelineRow } from '../../../../shared/schemas';
 import { StatusChip } from '../../../components/status-chip';
 import { formatDelta, formatSeconds } from '../../../components/units';
 import { formatAddress } from '../../../lib/format';
+import type { FrameExchange } from '../api/get-frame-exchanges';
+import { CallMarker } from './call-marker';
 
 export interface TimelineMeta {
   rows: TimelineRow[];
   selectedT: number | null;
   linkLabels: Record<string, string>;
+  /** frame id → its exchange (call layer), for the loaded exchanges */
+  calls?: ReadonlyMap<number, FrameExchange>;
+  callHref?: (e: FrameExchange) => string;
 }
 
 const col = createColumnHelper<TimelineRow>();
@@ -93,13 +98,35 @@ export const timelineColumns = [
     header: 'Status',
     cell: (c) => {
       const s = c.getValue();
-      return s ? <StatusChip status={s} /> : null;
+      const row = c.row.original;
+      const notes = row.type === 'frame' ? (row.notes ?? 0) : 0;
+      return s ? (
+        <>
+          <StatusChip status={s} />
+          {notes > 0 ? (
+            <span className="ml-1 rounded-sm bg-tide-500/15 px-1 text-xs text-tide-700 dark:text-tide-300" title={`${notes} ${notes === 1 ? 'note' : 'notes'} on this frame`} data-testid="note-marker">
+              ✎{notes}
+            </span>
+          ) : null}
+        </>
+      ) : null;
     },
   }),
   col.accessor('summary', {
     id: 'summary',
     header: 'Summary',
-    cell: (c) => <span className="truncate">{c.getValue()}</span>,
+    cell: (c) => {
+      // a frame's part in an exchange leads its summary (a column of its own would push the summary off narrow screens)
+      const meta = c.table.options.meta as TimelineMeta;
+      const row = c.row.original;
+      const e = row.type === 'frame' ? meta.calls?.get(row.id) : undefined;
+      return (
+        <>
+          {e && meta.callHref ? <CallMarker exchange={e} href={meta.callHref(e)} /> : null}
+          <span className="truncate">{c.getValue()}</span>
+        </>
+      );
+    },
   }),
 ];
 

@@ -1,0 +1,35 @@
+import { Link } from 'react-router';
+import { formatDuration } from '../../../components/units';
+import type { FrameExchange } from '../api/get-frame-exchanges';
+
+const roleMarks: Record<FrameExchange['role'], { mark: string; word: string }> = {
+  request: { mark: '→', word: 'request' },
+  retry: { mark: '↻', word: 'retry' },
+  response: { mark: '←', word: 'answer' },
+};
+
+function timing(e: FrameExchange): string {
+  if (e.rttSeconds !== null) return formatDuration(e.rttSeconds);
+  return e.outcome === 'unanswered' ? 'no answer' : '—';
+}
+
+/** The frame's part in an exchange: call name and round trip, linking to the exchange in Round trips. */
+export function CallMarker({ exchange, href }: { exchange: FrameExchange; href: string }) {
+  const role = roleMarks[exchange.role];
+  const text = `${exchange.callName} · ${timing(exchange)}`;
+  return (
+    <Link
+      to={href}
+      data-exchange-id={exchange.exchangeId}
+      title={`${role.word} of exchange ${exchange.exchangeId}: ${text} (open in Round trips)`}
+      aria-label={`${role.word}: ${text}, open in Round trips`}
+      onClick={(e) => e.stopPropagation()}
+      className={`mr-2 shrink-0 rounded border border-line px-1 text-[11.5px] hover:underline ${exchange.outcome === 'unanswered' ? 'text-[#e0582f]' : 'text-link'}`}
+    >
+      <span aria-hidden className="mr-1 text-muted">
+        {role.mark}
+      </span>
+      {text}
+    </Link>
+  );
+}

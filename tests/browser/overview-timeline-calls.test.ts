@@ -1,0 +1,132 @@
+import { mkdirSync } from 'node:fs';
+import { join, resolve } from 'node:path';
+import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
+import type { Browser, Page } from 'playwright-core';
+import { launchBrowser, newPage, stepShots } from './support/browser';
+import { signInAsDemo } from './support/flows';
+
+const baseUrl = inject('baseUrl');
+const DEMO_RIG = 'Wrenfield Parish Office, 1983';
+const CLOCKED = 'wrenfield-session-clocked.raw';
+// beside stepShots' own screenshots of this test (same folder rule as support/browser.ts)
+const artifactsDir = resolve(import.meta.dirname, `../../test-artifacts/${process.env.FLAGLINE_BROWSER_COLOR_SCHEME === 'dark' ? 'browser-dark' : 'browser'}/overview-timeline-calls`);
+mkdirSync(artifactsDir, { recursive: true });
+
+let browser: Browser;
+beforeAll(async () => {
+  browser = await launchBrowser();
+});
+afterAll(async () => {
+  await browser?.close();
+});
+
+interface StationStats {
+  address: number;
+  name: string | null;
+  answered: number;
+  retried: number;
+}
+interface Exchange {
+  id: number;
+  requestFrameId: number | null;
+  responseFrameIds: number[];
+  tRequest: number;
+  station: { address: number };
+  rttSeconds: number | null;
+  call: { name: string | null };
+}
+
+/** Waits (through the API the pages use) until the clocked session is decoded and its call layer has run. */
+async function waitForClocked(page: Page): Promise<{ rigId: number; captureId: number }> {
+  return page.evaluate(
+    async ({ rigName, name }) => {
+      const rigs = (await (await fetch('/api/rigs')).json()) as { id: number; name: string }[];
+      const rig = rigs.find((r) => r.name === rigName);
+      if (!rig) throw new Error(`no rig "${rigName}"`);
+      const deadline = Date.now() + 150_000;
+      for (;;) {
+        const captures = (await (await fetch(`/api/rigs/${rig.id}/captures`)).json()) as { id: number; name: string; status: string }[];
+        const c = captures.find((x) => x.name === name);
+        if (c?.status === 'decoded') {
+          const layer = (await (await fetch(`/api/rigs/${rig.id}/captures/${c.id}/field-map`)).json()) as { current: unknown };
+          if (layer.current) return { rigId: rig.id, captureId: c.id };
+        }
+        if (Date.now() > deadline) throw new Error('the clocked demo capture was not decoded in time');
+        await new Promise((r) => setTimeout(r, 1000));
+      }
+    },
+    { rigName: DEMO_RIG, name: CLOCKED },
+  );
+}
+
+async function getJson<T>(page: Page, path: string): Promise<T> {
+  return page.evaluate(async (p) => (await fetch(p)).json(), path) as Promise<T>;
+}
+
+describe('exchanges on the overview and in the timeline', () => {
+  it('charts each station’s turnaround on the overview, marks a request frame with its call and round trip in the timeline, and opens that exchange in Round trips', async () => {
+    const shot = stepShots('overview-timeline-calls');
+    const { context, page } = await newPage(browser);
+    try {
+      await signInAsDemo(page, baseUrl, 'viewer@demo.test');
+      const { rigId, captureId } = await waitForClocked(page);
+      const stats = await getJson<{ stations: StationStats[] }>(page, `/api/rigs/${rigId}/captures/${captureId}/exchanges/stats`);
+      expect(stats.stations.length).toBeGreaterThan(1);
+
+      await page.getByRole('link').filter({ hasText: DEMO_RIG }).first().click();
+      await page.getByRole('link', { name: 'Captures', exact: true }).click();
+      await page.getByRole('link', { name: CLOCKED, exact: true }).click();
+      await page.getByRole('heading', { level: 1, name: CLOCKED }).waitFor();
+
+      // overview: one turnaround histogram per station that has exchanges, counting its answered ones
+      const list = page.getByRole('list', { name: 'Turnaround per station' });
+      await list.scrollIntoViewIfNeeded();
+      for (const s of stats.stations) {
+        const answered = s.answered + s.retried;
+        if (answered === 0) continue;
+        await list.getByRole('img', { name: new RegExp(`^Turnaround of .*\\(0x${s.address.toString(16).toUpperCase().padStart(2, '0')}\\): ${answered} answered exchanges$`) }).waitFor();
+      }
+      await expect(list.getByRole('listitem').count()).resolves.toBe(stats.stations.length);
+      await expect(list.innerText()).resolves.toContain('Registry desk');
+      await shot(page, 'overview-turnaround');
+
+      // timeline: a request frame carries its call name and round trip, from the exchange it opens
+      await page.getByRole('navigation', { name: 'Capture views' }).getByRole('link', { name: 'Timeline', exact: true }).click();
+      const grid = page.getByRole('grid', { name: 'Frames and line events' });
+      const marker = grid.getByRole('link', { name: /^request: .+ · \d+(\.\d+)? (µs|ms), open in Round trips$/ }).first();
+      await marker.waitFor();
+      const exchangeId = Number(await marker.getAttribute('data-exchange-id'));
+      const frameId = Number(await marker.locator('xpath=ancestor::*[@data-frame-id]').getAttribute('data-frame-id'));
+      const page1 = await getJson<{ rows: Exchange[] }>(page, `/api/rigs/${rigId}/captures/${captureId}/exchanges?limit=1000`);
+      const exchange = page1.rows.find((r) => r.id === exchangeId)!;
+      expect(exchange.requestFrameId).toBe(frameId);
+      expect((await marker.innerText()).trim()).toContain(exchange.call.name!);
+
+      // opened at the request's time, the list starts there and its answer is marked as the answer of the same exchange
+      await page.goto(`${baseUrl}/rigs/${rigId}/captures/${captureId}/timeline?at=${exchange.tRequest}`);
+      const request = grid.locator(`[data-frame-id="${frameId}"] a[data-exchange-id="${exchangeId}"]`);
+      await expect(request.getAttribute('aria-label')).resolves.toMatch(/^request: /);
+      const answer = grid.locator(`[data-frame-id="${exchange.responseFrameIds[0]}"] a[data-exchange-id="${exchangeId}"]`);
+      await expect(answer.getAttribute('aria-label')).resolves.toMatch(/^answer: /);
+      await shot(page, 'timeline-call-markers');
+      // a full-page shot redraws the list from its top; this one scrolls the request to the top of the list first
+      const rowIndex = Number(await grid.locator(`[data-frame-id="${frameId}"]`).getAttribute('aria-rowindex'));
+      await grid.evaluate((el, index) => el.scrollTo({ top: (index - 1) * 30 }), rowIndex);
+      await answer.waitFor();
+      await grid.screenshot({ path: join(artifactsDir, '02b-timeline-request-and-answer.png') });
+
+      // the marker opens Round trips with that exchange highlighted in the ladder
+      await request.click();
+      await page.waitForURL(new RegExp(`/round-trips\\?.*ex=${exchangeId}`));
+      const ladder = page.getByRole('group', { name: /^Ladder of \d+ exchanges$/ });
+      await ladder.waitFor();
+      // the selected exchange's band is the first thing drawn in its group, and only it has one
+      await ladder.locator(`g[data-exchange="${exchangeId}"] > rect:first-child`).waitFor();
+      expect(await ladder.locator('g[data-exchange] > rect:first-child').count()).toBe(1);
+      expect(new URL(page.url()).searchParams.get('station')).toBe(String(exchange.station.address));
+      await shot(page, 'round-trips-highlighted');
+    } finally {
+      await context.close();
+    }
+  });
+});
