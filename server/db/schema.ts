@@ -34,6 +34,8 @@ export const rigs = sqliteTable('rigs', {
   encoding: text('encoding', { enum: ['nrz', 'nrzi'] }).notNull(),
   clockEdge: text('clock_edge', { enum: ['rising', 'falling'] }).notNull(),
   bitOrder: text('bit_order', { enum: ['lsb-first', 'msb-first'] }).notNull(),
+  /** a request with no answer within this many milliseconds counts as unanswered */
+  responseTimeoutMs: integer('response_timeout_ms').notNull().default(500),
   createdAt: createdAt(),
   createdBy: integer('created_by').references(() => users.id, { onDelete: 'set null' }),
 });

@@ -164,6 +164,15 @@ export interface CallStageInput {
   pause?: () => Promise<void>;
 }
 
+/** The capture's rig decides how long a request may wait before it counts as unanswered. */
+export function rigResponseTimeoutSeconds(db: Database.Database, captureId: number): number | undefined {
+  const ms = db
+    .prepare('select r.response_timeout_ms from captures c join rigs r on r.id = c.rig_id where c.id = ?')
+    .pluck()
+    .get(captureId) as number | undefined;
+  return ms === undefined ? undefined : ms / 1000;
+}
+
 /** Runs the call layer over a decode run's frames and writes the call run's rows (invisible until switched to). */
 export async function runCallStage(db: Database.Database, input: CallStageInput): Promise<{ exchanges: number; files: number }> {
   const { links, rts } = callLayerRoles(input.settings);
@@ -223,7 +232,7 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
     pending = [];
   });
   const layer = new CallLayer(
-    { map: input.map, links, rts, samplePeriodSeconds: period, timeoutSeconds: input.timeoutSeconds },
+    { map: input.map, links, rts, samplePeriodSeconds: period, timeoutSeconds: input.timeoutSeconds ?? rigResponseTimeoutSeconds(db, input.captureId) },
     {
       exchange: (e) => pending.push(e),
       call: (cf) => {

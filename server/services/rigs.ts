@@ -8,6 +8,7 @@ export interface RigValues {
   name: string;
   description: string;
   lineSettings: LineSettings;
+  responseTimeoutMs: number;
 }
 
 export const rigExists = (db: Db, rigId: number): boolean =>
@@ -31,6 +32,7 @@ const summaryColumns = {
   encoding: rigs.encoding,
   clockEdge: rigs.clockEdge,
   bitOrder: rigs.bitOrder,
+  responseTimeoutMs: rigs.responseTimeoutMs,
   createdAt: rigs.createdAt,
   myRole: memberships.role,
   stationCount,
@@ -45,6 +47,7 @@ function toSummary(r: {
   encoding: LineSettings['encoding'];
   clockEdge: LineSettings['clockEdge'];
   bitOrder: LineSettings['bitOrder'];
+  responseTimeoutMs: number;
   createdAt: Date;
   myRole: Role;
   stationCount: number;
@@ -55,6 +58,7 @@ function toSummary(r: {
     name: r.name,
     description: r.description,
     lineSettings: { bitRate: r.bitRate, encoding: r.encoding, clockEdge: r.clockEdge, bitOrder: r.bitOrder },
+    responseTimeoutMs: r.responseTimeoutMs,
     myRole: r.myRole,
     stationCount: Number(r.stationCount),
     memberCount: Number(r.memberCount),
@@ -101,7 +105,7 @@ export function createRig(db: Db, userId: number, input: RigValues): RigDetail {
   const rigId = db.transaction((tx) => {
     const rig = tx
       .insert(rigs)
-      .values({ name: input.name, description: input.description, ...input.lineSettings, createdBy: userId })
+      .values({ name: input.name, description: input.description, ...input.lineSettings, responseTimeoutMs: input.responseTimeoutMs, createdBy: userId })
       .returning({ id: rigs.id })
       .get();
     tx.insert(memberships).values({ rigId: rig.id, userId, role: 'owner' }).run();
@@ -116,6 +120,7 @@ export function updateRig(db: Db, rigId: number, userId: number, patch: Partial<
   if (patch.name !== undefined) set.name = patch.name;
   if (patch.description !== undefined) set.description = patch.description;
   if (patch.lineSettings !== undefined) Object.assign(set, patch.lineSettings);
+  if (patch.responseTimeoutMs !== undefined) set.responseTimeoutMs = patch.responseTimeoutMs;
   if (Object.keys(set).length > 0) db.update(rigs).set(set).where(eq(rigs.id, rigId)).run();
   return getRigDetail(db, rigId, userId);
 }

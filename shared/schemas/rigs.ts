@@ -21,9 +21,19 @@ const rigFields = {
   name: z.string().trim().min(1, 'Give the rig a name').max(100, 'Use at most 100 characters'),
   description: z.string().trim().max(2000, 'Use at most 2000 characters'),
   lineSettings: lineSettingsSchema,
+  responseTimeoutMs: z.coerce
+    .number({ error: 'Enter a time in milliseconds' })
+    .int('Use a whole number of milliseconds')
+    .min(1, 'At least 1 ms')
+    .max(60_000, 'At most 60 000 ms'),
 };
 
-export const rigInputSchema = z.object({ ...rigFields, description: rigFields.description.default('') });
+export const rigInputSchema = z.object({
+  ...rigFields,
+  description: rigFields.description.default(''),
+  // common practice for polled file servers: half a second before a station gives up on an answer
+  responseTimeoutMs: rigFields.responseTimeoutMs.default(500),
+});
 export type RigInput = z.input<typeof rigInputSchema>;
 
 // No defaults here: a patch that leaves a field out must leave it unchanged.
@@ -59,6 +69,8 @@ export interface RigSummary {
   name: string;
   description: string;
   lineSettings: LineSettings;
+  /** a request unanswered this long counts as unanswered in exchanges */
+  responseTimeoutMs: number;
   myRole: z.infer<typeof roleSchema>;
   stationCount: number;
   memberCount: number;

@@ -24,6 +24,7 @@ function RigSettingsReadOnly({ rigId }: { rigId: number }) {
     ['Encoding', encodingLabels[s.encoding]],
     ['Clock edge', clockEdgeLabels[s.clockEdge]],
     ['Bit order', bitOrderLabels[s.bitOrder]],
+    ['Answer timeout', `${rig.responseTimeoutMs} ms`],
   ];
   return (
     <Card>
@@ -62,10 +63,19 @@ function RigSettingsForm({ rigId }: { rigId: number }) {
     <Card>
       <CardTitle>Rig and line settings</CardTitle>
       {/* keyed by the saved values so the form shows what the server stored */}
-      <form key={JSON.stringify([rig.name, rig.description, rig.lineSettings])} onSubmit={submit} noValidate className="max-w-2xl space-y-5">
+      <form key={JSON.stringify([rig.name, rig.description, rig.lineSettings, rig.responseTimeoutMs])} onSubmit={submit} noValidate className="max-w-2xl space-y-5">
         <TextField label="Rig name" name="name" defaultValue={rig.name} error={errors.name} />
         <TextArea label="Description" name="description" rows={2} defaultValue={rig.description} error={errors.description} />
         <LineSettingsFields defaults={rig.lineSettings} errors={errors} />
+        <TextField
+          label="Answer timeout (ms)"
+          name="responseTimeoutMs"
+          inputMode="numeric"
+          defaultValue={rig.responseTimeoutMs}
+          error={errors.responseTimeoutMs}
+          hint="A request with no answer within this time counts as unanswered in round trips. Decode a capture again to apply a change."
+          className="max-w-40 font-mono"
+        />
         {update.error ? <ErrorNotice error={update.error} /> : null}
         {saved ? <SuccessNotice>Settings saved.</SuccessNotice> : null}
         <Button type="submit" busy={update.isPending}>

@@ -1,0 +1,1 @@
+ALTER TABLE `rigs` ADD `response_timeout_ms` integer DEFAULT 500 NOT NULL;
