@@ -11,7 +11,8 @@ import { chosenMap, createCallRun, runCallStage, switchToCallRun } from './call-
 import { decoderOptions } from './decoder-options';
 import { FaultRecorder, faultCallKey, storeFaultReport } from './fault-rows';
 import { indexSearch, RunWriter } from './run-rows';
-import { VcdSeekTracker } from './vcd-seek';
+import { CsvSeekTracker } from './csv-seek';
+import { type SeekPoint, VcdSeekTracker } from './vcd-seek';
 
 export interface DecodeWorkerData {
   dbPath: string;
@@ -58,7 +59,13 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       },
     );
     const addSeek = db.prepare('insert into seek_points (job_id, byte_offset, sample, levels) values (?, ?, ?, ?)');
-    const seek = data.settings.format === 'vcd' ? new VcdSeekTracker((p) => addSeek.run(data.jobId, p.byteOffset, p.sample, JSON.stringify(p.levels))) : null;
+    const addPoint = (p: SeekPoint) => addSeek.run(data.jobId, p.byteOffset, p.sample, JSON.stringify(p.levels));
+    const seek =
+      data.settings.format === 'vcd'
+        ? new VcdSeekTracker(addPoint)
+        : data.settings.format === 'csv'
+          ? new CsvSeekTracker({ sampleRate: data.settings.sampleRate ?? undefined }, addPoint)
+          : null;
     const progress = db.prepare("update decode_jobs set bytes_read = ?, frames = ?, events = ?, stage = ? where id = ? and state = 'running'");
     db.prepare("update decode_jobs set stage = 'decoding', bytes_total = ? where id = ?").run(fs.statSync(data.filePath).size, data.jobId);
     let bytes = 0;

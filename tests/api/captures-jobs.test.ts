@@ -199,7 +199,7 @@ describe('the seek index of a value change dump', () => {
     expect((await put(w.analyst, `${url}/settings`, detection.suggested)).status).toBe(200);
     expect((await w.analyst.post(`${url}/decode`)).status).toBe(202);
     const job = await waitForJob(w.viewer, url);
-    expect(job).toMatchObject({ state: 'done', frames: cap.sent.length });
+    expect(job, job.error ?? '').toMatchObject({ state: 'done', frames: cap.sent.length });
     const points = w.handle.sqlite.prepare('select byte_offset as o, sample from seek_points where job_id = ? order by o').all(job.id) as { o: number; sample: number }[];
     expect(points.length).toBeGreaterThanOrEqual(3);
     // each point sits at the start of a "#time" token whose time is after the point's sample

@@ -5,6 +5,7 @@ import type { CaptureSettings, WaveformWindow } from '../../../shared/schemas';
 import { HttpError } from '../../http/errors';
 import type { CaptureDeps } from './deps';
 import type { FrameRecord } from './frame-detail';
+import { csvHeadEnd } from '../../jobs/csv-seek';
 import { headerEnd, headerIds, resumeText } from '../../jobs/vcd-seek';
 
 /** most samples one window may span, so a request cannot make the server read a whole huge file for one picture */
@@ -82,6 +83,23 @@ async function readHeader(filePath: string): Promise<Uint8Array | null> {
   }
 }
 
+/** the CSV reader's head (header and the rows that set its time base), read in growing steps */
+async function readCsvHead(filePath: string): Promise<Uint8Array | null> {
+  const fd = await fs.promises.open(filePath, 'r');
+  try {
+    for (let want = 256 * 1024; want <= 64 << 20; want *= 4) {
+      const buf = Buffer.alloc(want);
+      const { bytesRead } = await fd.read(buf, 0, want, 0);
+      const end = csvHeadEnd(buf.subarray(0, bytesRead));
+      if (end >= 0) return buf.subarray(0, end);
+      if (bytesRead < want) return null;
+    }
+    return null;
+  } finally {
+    await fd.close();
+  }
+}
+
 async function readRange(filePath: string, start: number, end: number, onChunk: (b: Uint8Array) => boolean, chunkSize = CHUNK): Promise<void> {
   if (end <= start) return;
   for await (const chunk of fs.createReadStream(filePath, { start, end: end - 1, highWaterMark: chunkSize })) {
@@ -133,18 +151,25 @@ export async function waveformWindow(deps: CaptureDeps, sha256: string, s: Captu
     reader.finish();
     result = sink.result();
   } else {
-    // VCD: resume at the nearest seek point before the window; CSV (and a VCD without points
-    // that early) is read from the start up to the window
+    // VCD and CSV: resume at the nearest seek point before the window; a capture without points
+    // that early is read from the start up to the window
     const sink = new WindowSink(wanted.map((w) => w.name), from, to);
     const reader = createReader(s.format, { sampleRate: s.sampleRate ?? undefined }, sink);
     let startAt = 0;
     const point =
-      s.format === 'vcd'
+      s.format === 'vcd' || s.format === 'csv'
         ? (deps.sqlite
             .prepare('select byte_offset as byteOffset, sample, levels from seek_points where job_id = ? and sample <= ? order by sample desc limit 1')
             .get(f.jobId, from) as { byteOffset: number; sample: number; levels: string } | undefined)
         : undefined;
-    if (point) {
+    if (point && s.format === 'csv') {
+      // the file's own head gives the resumed reader the decode's time base; every row carries all levels
+      const head = await readCsvHead(filePath);
+      if (head && head.length <= point.byteOffset) {
+        reader.push(head);
+        startAt = point.byteOffset;
+      }
+    } else if (point) {
       const head = await readHeader(filePath);
       if (head) {
         reader.push(head);
