@@ -466,9 +466,8 @@ export const notes = sqliteTable(
     rigId: integer('rig_id')
       .notNull()
       .references(() => rigs.id, { onDelete: 'cascade' }),
-    captureId: integer('capture_id')
-      .notNull()
-      .references(() => captures.id, { onDelete: 'cascade' }),
+    /** null for a note on a field-map field: those belong to the rig, not to one capture */
+    captureId: integer('capture_id').references(() => captures.id, { onDelete: 'cascade' }),
     target: text('target', { enum: ['capture', 'frame', 'bytes', 'field'] }).notNull(),
     link: text('link'),
     seq: integer('seq'),
@@ -484,5 +483,5 @@ export const notes = sqliteTable(
       .notNull()
       .$defaultFn(() => new Date()),
   },
-  (t) => [index('notes_capture_frame_idx').on(t.captureId, t.link, t.seq), index('notes_rig_idx').on(t.rigId)],
+  (t) => [index('notes_capture_frame_idx').on(t.captureId, t.link, t.seq), index('notes_rig_idx').on(t.rigId), index('notes_field_map_idx').on(t.fieldMapId, t.fieldPath)],
 );

@@ -40,11 +40,31 @@ export const noteQuerySchema = z.object({
 });
 export type NoteQuery = z.infer<typeof noteQuerySchema>;
 
+/**
+ * A note on a field of a field map (a rig-level note, POST …/field-maps/:mapId/notes). The field is
+ * named "layout id.field id" (e.g. "read-seq.record"); ids have no dots, so the path is unambiguous.
+ * It must name a field of the map's latest version; fieldMapId, when sent, must be the map of the URL.
+ */
+export const fieldNoteInputSchema = z.strictObject({
+  target: z.strictObject({
+    kind: z.literal('field'),
+    fieldMapId: z.number().int().positive().optional(),
+    fieldPath: z.string().trim().min(1, 'Name the field as layout id.field id').max(81, 'A field path is a layout id, a dot and a field id'),
+  }),
+  body: noteBodySchema,
+});
+export type FieldNoteInput = z.infer<typeof fieldNoteInputSchema>;
+
+/** GET …/field-maps/:mapId/notes query: the notes of one field, or all of the map's */
+export const fieldNoteQuerySchema = z.object({ fieldPath: z.string().trim().min(1).max(81).optional() });
+export type FieldNoteQuery = z.infer<typeof fieldNoteQuerySchema>;
+
 export type NoteTargetKind = 'capture' | 'frame' | 'bytes' | 'field';
 
 export interface Note {
   id: number;
-  captureId: number;
+  /** null for a note on a field-map field (it belongs to the rig) */
+  captureId: number | null;
   target: {
     kind: NoteTargetKind;
     link: string | null;

@@ -153,6 +153,18 @@ describe('notes', () => {
     expect(after.rows.find((r) => r.type === 'frame' && r.id === other.id)).toMatchObject({ notes: 1 });
   });
 
+  it('finds frames from the timeline text search by the text of their notes', async () => {
+    const page = (await w.viewer.get(`${url}/timeline?events=0&link=rx&limit=10`)).body as TimelinePage;
+    const target = page.rows.filter((r): r is TimelineFrame => r.type === 'frame').at(-1)!;
+    await w.viewer.post(`${url}/notes`, { target: { kind: 'frame', frameId: target.id }, body: 'Qzx striped burst, 50% worse on the long cable' });
+    for (const text of ['QZX STRIPED', '50% worse', 'qz']) {
+      const found = (await w.viewer.get(`${url}/timeline?events=0&text=${encodeURIComponent(text)}`)).body as TimelinePage;
+      expect(found.rows.map((r) => r.id)).toEqual([target.id]);
+    }
+    const none = (await w.viewer.get(`${url}/timeline?events=0&text=${encodeURIComponent('qzx-absent')}`)).body as TimelinePage;
+    expect(none.rows).toEqual([]);
+  });
+
   it('answers 404 for a capture of another rig and keeps notes to their capture', async () => {
     const other = await w.analyst.get(`/api/rigs/${w.rigId}/captures/987654/notes`);
     expect(other.status).toBe(404);

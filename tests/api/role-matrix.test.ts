@@ -93,6 +93,11 @@ const MATRIX: Record<string, Row> = {
   // the world's note is the analyst's: only its author edits it; its author or an owner deletes it
   'PATCH /api/rigs/:rigId/captures/:captureId/notes/:noteId': [401, 403, 200, 403, 403],
   'DELETE /api/rigs/:rigId/captures/:captureId/notes/:noteId': [401, 403, 204, 403, 204],
+  // notes on a field-map field: the same rules at rig level (the world's field note is the analyst's)
+  'GET /api/rigs/:rigId/field-maps/:mapId/notes': MEMBER(200),
+  'POST /api/rigs/:rigId/field-maps/:mapId/notes': MEMBER(201),
+  'PATCH /api/rigs/:rigId/field-maps/:mapId/notes/:noteId': [401, 403, 200, 403, 403],
+  'DELETE /api/rigs/:rigId/field-maps/:mapId/notes/:noteId': [401, 403, 204, 403, 204],
 };
 
 /** valid bodies, so a caller the guard lets through gets the route's success status */
@@ -114,6 +119,8 @@ const BODIES: Record<string, object> = {
   'PUT /api/rigs/:rigId/captures/:captureId/field-map': { mapId: ':mapId' },
   'POST /api/rigs/:rigId/captures/:captureId/notes': { target: { kind: 'capture' }, body: 'Cable swapped before this run' },
   'PATCH /api/rigs/:rigId/captures/:captureId/notes/:noteId': { body: 'Reworded' },
+  'POST /api/rigs/:rigId/field-maps/:mapId/notes': { target: { kind: 'field', fieldPath: `${CPM_ENVELOPE_DOCUMENT.layouts[0].id}.${CPM_ENVELOPE_DOCUMENT.layouts[0].fields[0].id}` }, body: 'Counts from 0' },
+  'PATCH /api/rigs/:rigId/field-maps/:mapId/notes/:noteId': { body: 'Reworded' },
 };
 
 /** query strings some routes need to succeed */
@@ -165,7 +172,10 @@ async function buildWorld(): Promise<World> {
   const { captureId, frameId, busyCaptureId } = seedDecodedCapture(app, rigA, data.dir, ownerId);
   const { mapId, fileId } = seedCallLayer(app, rigA, captureId, ownerId);
   const noteId = db.insert(notes).values({ rigId: rigA, captureId, target: 'capture', body: "The analyst's note", authorId: analystId }).returning().get().id;
-  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId, captureId, frameId, mapId, fileId, noteId }, busyCaptureId, cleanup: data.cleanup };
+  const layout = CPM_ENVELOPE_DOCUMENT.layouts[0];
+  const fieldPath = `${layout.id}.${layout.fields[0].id}`;
+  const fieldNoteId = db.insert(notes).values({ rigId: rigA, target: 'field', fieldMapId: mapId, fieldPath, body: "The analyst's field note", authorId: analystId }).returning().get().id;
+  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId, captureId, frameId, mapId, fileId, noteId, fieldNoteId, fieldPath }, busyCaptureId, cleanup: data.cleanup };
 }
 
 function fillPath(route: string, params: World['params']): string {
@@ -207,7 +217,8 @@ describe('role matrix', () => {
         const world = await buildWorld();
         apps.push(world.app);
         const client = await callerClient(world.app, caller);
-        const params = key.endsWith('/job/cancel') ? { ...world.params, captureId: world.busyCaptureId } : world.params;
+        let params = key.endsWith('/job/cancel') ? { ...world.params, captureId: world.busyCaptureId } : world.params;
+        if (key.includes('/field-maps/:mapId/notes/')) params = { ...params, noteId: world.params.fieldNoteId };
         const url = fillPath(route + (QUERIES[key] ?? ''), params);
         const res = UPLOADS[key]
           ? await client.agent.post(url).set('x-csrf-token', client.csrf).attach('file', UPLOADS[key](), 'matrix.vcd')

@@ -5,6 +5,7 @@ import type { FieldMapCreate, FieldMapDetail, FieldMapSave, FieldMapSummary } fr
 import { ensureBuiltInMap } from '../../jobs/call-stage';
 import { badRequest, conflict, notFound } from '../../http/errors';
 import type { CallsModule } from './module';
+import { markdownWithFieldNotes } from '../field-notes';
 
 interface MapRow {
   id: number;
@@ -72,8 +73,8 @@ export function fieldMapDetail(m: CallsModule, rigId: number, mapId: number, ver
 
 export function fieldMapMarkdown(m: CallsModule, rigId: number, mapId: number, version?: number): { name: string; markdown: string } {
   const map = findMap(m, rigId, mapId);
-  const doc = versionDocument(m, mapId, version ?? map.latestVersion);
-  return { name: map.name, markdown: fieldMapToMarkdown(parseFieldMap(JSON.parse(doc))) };
+  const doc = parseFieldMap(JSON.parse(versionDocument(m, mapId, version ?? map.latestVersion)));
+  return { name: map.name, markdown: markdownWithFieldNotes(m, rigId, mapId, doc, fieldMapToMarkdown(doc)) };
 }
 
 /** The document with the server's name and version, validated; 400 names each offending path. */

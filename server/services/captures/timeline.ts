@@ -73,13 +73,15 @@ export function frameFilters(jobId: number, q: TimelineQuery, selective: Selecti
   }
   if (q.text) {
     const escaped = q.text.replace(/[\\%_]/g, (m) => `\\${m}`);
+    // frames whose notes hold the text match too; notes pin frames by link + seq, not by id
+    const notesOfRun = "notes n where n.capture_id = (select capture_id from decode_jobs where id = ?) and n.body like ? escape '\\'";
     // the trigram index answers substrings of three or more characters without LIKE wildcards
     if (q.text.length >= 3 && escaped === q.text && selective('text', `%${q.text}%`)) {
-      where.push('f.id in (select rowid from frame_search where text like ?)');
-      params.push(`%${q.text}%`);
+      where.push(`f.id in (select rowid from frame_search where text like ? union select nf.id from ${notesOfRun.replace('notes n', 'notes n join frames nf on nf.job_id = ? and nf.link = n.link and nf.seq = n.seq')})`);
+      params.push(`%${q.text}%`, jobId, jobId, `%${escaped}%`);
     }
-    where.push("f.text like ? escape '\\'");
-    params.push(`%${escaped}%`);
+    where.push(`(f.text like ? escape '\\' or exists (select 1 from ${notesOfRun} and n.link = f.link and n.seq = f.seq))`);
+    params.push(`%${escaped}%`, jobId, `%${escaped}%`);
   }
   if (q.hex) {
     const tokens = hexTokens(q.hex);
