@@ -267,12 +267,12 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
     const last = rows[rows.length - 1];
     lastT = last.t;
     lastId = last.id;
-    if (pending.length) writePending();
+    if (pending.length) writePending.immediate();
     if (input.pause) await input.pause();
   }
   while (nextRise < rises.length) layer.event(rises[nextRise++]);
   layer.finish();
-  if (pending.length) writePending();
+  if (pending.length) writePending.immediate();
 
   const files = recoverFiles(fileExchanges).filter((f) => f.recordCount > 0);
   const insertFile = db.prepare(
@@ -300,7 +300,7 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
         JSON.stringify(f.exchanges.map(exId).filter((x) => x !== null)),
       );
     }
-  })();
+  }).immediate();
   return { exchanges: count, files: files.length };
 }
 
@@ -320,7 +320,7 @@ export function clearCallRunRows(db: Database.Database, runId: number): void {
     db.prepare('delete from exchanges where run_id = ?').run(runId);
     db.prepare('delete from recovered_files where run_id = ?').run(runId);
     db.prepare('update call_runs set rows_cleared = 1 where id = ?').run(runId);
-  })();
+  }).immediate();
 }
 
 /** Call runs whose rows nobody reads: finished and not their capture's visible run. */

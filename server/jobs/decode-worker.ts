@@ -107,7 +107,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       // the call layer's exchanges and files appear together with the frames they came from
       if (calls) switchToCallRun(db, data.captureId, calls.runId, calls.counts);
       return true;
-    })();
+    }).immediate();
     if (!committed) return { type: 'failed', error: 'The run was cancelled.' };
     return { type: 'done', frames: writer.frames, events: writer.events };
   } finally {

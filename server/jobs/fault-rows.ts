@@ -107,7 +107,7 @@ export function storeFaultReport(db: Database.Database, jobId: number, captureId
       );
     }
   });
-  for (let i = 0; i < rows.length; i += BATCH) writeBatch(i);
+  for (let i = 0; i < rows.length; i += BATCH) writeBatch.immediate(i);
   db.prepare(
     `insert or replace into fault_summaries (job_id, groups, anomaly_groups, outside, outside_total, bins, frames_seen, anomalies_dropped)
      values (?, ?, ?, ?, ?, ?, ?, ?)`,

@@ -36,7 +36,7 @@ export class RunWriter {
   /** one statement for ROWS_PER_INSERT rows: far fewer statement steps in the bulk insert */
   private readonly insertFrames: Database.Statement;
   private readonly insertEvent: Database.Statement;
-  private readonly flushTx: () => void;
+  private readonly flushTx: { immediate: () => void };
   frames = 0;
   events = 0;
   lastSample = 0;
@@ -130,7 +130,7 @@ export class RunWriter {
   }
 
   flush(): void {
-    if (this.frameRows.length > 0 || this.eventRows.length > 0) this.flushTx();
+    if (this.frameRows.length > 0 || this.eventRows.length > 0) this.flushTx.immediate();
   }
 }
 
@@ -150,7 +150,7 @@ export function indexSearch(db: Database.Database, jobId: number, chunk = 20_000
     mark.run(to, jobId);
   });
   for (let from = range.lo; from <= range.hi; from += chunk) {
-    step(from, Math.min(range.hi, from + chunk - 1));
+    step.immediate(from, Math.min(range.hi, from + chunk - 1));
     onChunk?.();
   }
 }
@@ -187,10 +187,10 @@ export function clearRunRows(db: Database.Database, jobId: number, maxBatches = 
         db.prepare(`delete from recovered_files where run_id in (${callRuns})`).run(jobId);
         db.prepare('update call_runs set rows_cleared = 1 where decode_job_id = ?').run(jobId);
         db.prepare('update decode_jobs set rows_cleared = 1 where id = ?').run(jobId);
-      })();
+      }).immediate();
       return true;
     }
-    step(found[0], found[found.length - 1]);
+    step.immediate(found[0], found[found.length - 1]);
   }
   return false;
 }
