@@ -5,6 +5,8 @@ import { fieldMapQueryOptions } from '../../features/field-maps/api/get-field-ma
 import { fieldMapsQueryOptions } from '../../features/field-maps/api/get-field-maps';
 import { FieldMapEditor, type EditorViewState } from '../../features/field-maps/components/field-map-editor';
 import { FieldMapList } from '../../features/field-maps/components/field-map-list';
+import { fieldNotesQueryOptions } from '../../features/notes/api/field-notes';
+import { FieldNotes } from '../../features/notes/components/field-notes';
 import { queryClient } from '../query-client';
 
 // The rig's field maps (children of `rigs/:rigId`, under the rig header). The editor's view state
@@ -24,7 +26,12 @@ async function listLoader({ params }: LoaderFunctionArgs) {
 async function editorLoader({ params }: LoaderFunctionArgs) {
   const rig = idParam.safeParse(params.rigId);
   const map = idParam.safeParse(params.mapId);
-  if (rig.success && map.success) await queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data));
+  if (rig.success && map.success) {
+    await Promise.all([
+      queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data)),
+      queryClient.prefetchQuery(fieldNotesQueryOptions(rig.data, map.data)),
+    ]);
+  }
   return null;
 }
 
@@ -61,7 +68,17 @@ function FieldMapEditorRoute() {
   };
   const mapId = Number(params.mapId);
   // a new map id starts a new draft
-  return <FieldMapEditor key={mapId} rig={rig} mapId={mapId} view={view} onView={onView} />;
+  const rigId = rig.id;
+  return (
+    <FieldMapEditor
+      key={mapId}
+      rig={rig}
+      mapId={mapId}
+      view={view}
+      onView={onView}
+      renderFieldNotes={(fieldPath) => <FieldNotes key={fieldPath} rigId={rigId} mapId={mapId} fieldPath={fieldPath} />}
+    />
+  );
 }
 
 /** Children of the rig route (`rigs/:rigId`). */

@@ -1,4 +1,4 @@
-import { useEffect, useMemo, useRef, useState } from 'react';
+import { useEffect, useMemo, useRef, useState, type ReactNode } from 'react';
 import type { FieldMapInput, FieldMap } from '../../../../shared/decoder/calls/field-map';
 import { validateFieldMap } from '../../../../shared/decoder/calls/field-map';
 import type { RigDetail } from '../../../../shared/schemas';
@@ -29,6 +29,8 @@ interface Props {
   mapId: number;
   view: EditorViewState;
   onView: (patch: Partial<EditorViewState>) => void;
+  /** a field's notes, given its "layout id.field id"; handed in by the route so this feature needs no other */
+  renderFieldNotes?: (fieldPath: string) => ReactNode;
 }
 
 function download(name: string, text: string, type: string) {
@@ -45,7 +47,7 @@ function download(name: string, text: string, type: string) {
 const slug = (s: string) => s.toLowerCase().replace(/[^a-z0-9]+/g, '-').replace(/^-|-$/g, '') || 'field-map';
 
 /** A field map: its layouts and fields in a form, a live preview on a frame, saving, versions and their differences. */
-export function FieldMapEditor({ rig, mapId, view, onView }: Props) {
+export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: Props) {
   const latest = useFieldMap(rig.id, mapId);
   const save = useSaveFieldMap(rig.id, mapId);
   const [draft, setDraft] = useState<FieldMapInput | null>(null);
@@ -311,9 +313,9 @@ export function FieldMapEditor({ rig, mapId, view, onView }: Props) {
           </div>
           <div className="min-w-0">
             {editable ? (
-              <LayoutEditor key={`${generation}-${li}`} doc={draft} li={li} errors={errors} generation={generation} onChange={edit} />
+              <LayoutEditor key={`${generation}-${li}`} doc={draft} li={li} errors={errors} generation={generation} onChange={edit} renderFieldNotes={renderFieldNotes} />
             ) : (
-              <LayoutTable doc={draft} li={li} />
+              <LayoutTable doc={draft} li={li} renderFieldNotes={renderFieldNotes} />
             )}
           </div>
         </div>

@@ -1,4 +1,4 @@
-import { useState } from 'react';
+import { useState, type ReactNode } from 'react';
 import { FIELD_ROLES, FIELD_TYPES, FIXED_SIZE } from '../../../../shared/decoder/calls/field-map';
 import { Button } from '../../../components/button';
 import { errorAt, errorsUnder, type ErrorsByPath } from './draft-errors';
@@ -20,13 +20,15 @@ interface Props {
   onChange: (patch: Partial<FieldIn>) => void;
   onMove: (by: -1 | 1) => void;
   onRemove: () => void;
+  /** the field's notes toggle, shown under its controls */
+  notes?: ReactNode;
 }
 
 type OffsetMode = 'follows' | 'fixed' | 'after';
 type LengthMode = 'type' | 'fixed' | 'rest' | 'field';
 
 /** One field of a layout as a table row of controls, with its validation messages under it. */
-export function FieldRowEditor({ field, index, count, earlier, path, errors, onChange, onMove, onRemove }: Props) {
+export function FieldRowEditor({ field, index, count, earlier, path, errors, onChange, onMove, onRemove, notes }: Props) {
   const n = index + 1;
   const err = (p: string) => errorAt(errors, `${path}.${p}`);
   const offsetMode: OffsetMode = field.offset === undefined ? 'follows' : typeof field.offset === 'number' ? 'fixed' : 'after';
@@ -196,6 +198,14 @@ export function FieldRowEditor({ field, index, count, earlier, path, errors, onC
                 </li>
               ))}
             </ul>
+          </td>
+        </tr>
+      ) : null}
+      {notes ? (
+        <tr>
+          <td />
+          <td colSpan={7} className="px-1 pb-2">
+            {notes}
           </td>
         </tr>
       ) : null}

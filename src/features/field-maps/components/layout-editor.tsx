@@ -1,3 +1,4 @@
+import type { ReactNode } from 'react';
 import type { FieldMapInput } from '../../../../shared/decoder/calls/field-map';
 import { Button } from '../../../components/button';
 import { errorAt, type ErrorsByPath } from './draft-errors';
@@ -14,6 +15,7 @@ interface Props {
   /** remounts the rows (their local text) after a reorder, delete, import or reload */
   generation: number;
   onChange: (doc: FieldMapInput, structural?: boolean) => void;
+  renderFieldNotes?: (fieldPath: string) => ReactNode;
 }
 
 function callsText(layout: LayoutIn): string {
@@ -27,7 +29,7 @@ function parseCalls(text: string): number[] | undefined {
 }
 
 /** One layout: when it applies, then its fields as a table of controls. */
-export function LayoutEditor({ doc, li, errors, generation, onChange }: Props) {
+export function LayoutEditor({ doc, li, errors, generation, onChange, renderFieldNotes }: Props) {
   const layout = doc.layouts[li];
   const path = `layouts[${li}]`;
   const err = (p: string) => errorAt(errors, `${path}.${p}`);
@@ -95,6 +97,7 @@ export function LayoutEditor({ doc, li, errors, generation, onChange }: Props) {
                 onChange={(patch) => onChange(updateField(doc, li, fi, patch))}
                 onMove={(by) => onChange(moveField(doc, li, fi, by), true)}
                 onRemove={() => onChange(removeField(doc, li, fi), true)}
+                notes={renderFieldNotes?.(`${layout.id}.${f.id}`)}
               />
             ))}
           </tbody>

@@ -1,10 +1,11 @@
+import { Fragment, type ReactNode } from 'react';
 import type { FieldMapInput } from '../../../../shared/decoder/calls/field-map';
 import { describeValue } from './field-map-diff';
 import { swatch } from './field-colours';
 import { valueNamesToText } from './value-names-text';
 
 /** A layout read-only: for viewers and the built-in map. */
-export function LayoutTable({ doc, li }: { doc: FieldMapInput; li: number }) {
+export function LayoutTable({ doc, li, renderFieldNotes }: { doc: FieldMapInput; li: number; renderFieldNotes?: (fieldPath: string) => ReactNode }) {
   const layout = doc.layouts[li];
   const when = [layout.when?.direction ? `${layout.when.direction}s` : null, layout.when?.calls ? `calls ${layout.when.calls.join(', ')}` : null].filter(Boolean);
   return (
@@ -29,19 +30,29 @@ export function LayoutTable({ doc, li }: { doc: FieldMapInput; li: number }) {
           </thead>
           <tbody className="divide-y divide-line">
             {layout.fields.map((f, fi) => (
-              <tr key={fi} className="align-top">
-                <td className="px-2 py-1.5">
-                  <span className={`inline-block h-3 w-3 rounded-sm ${swatch(fi)}`} aria-hidden="true" /> {fi + 1}
-                </td>
-                <td className="px-2 py-1.5 font-mono">{f.id}</td>
-                <td className="px-2 py-1.5">{f.name ?? ''}</td>
-                <td className="px-2 py-1.5 font-mono text-xs">{f.offset === undefined ? 'follows' : typeof f.offset === 'number' ? f.offset : `after ${f.offset.after}`}</td>
-                <td className="px-2 py-1.5 font-mono text-xs">{f.length === undefined ? 'type' : describeValue(f.length)}</td>
-                <td className="px-2 py-1.5 font-mono text-xs">{f.type}</td>
-                <td className="px-2 py-1.5 text-xs">{f.role ?? ''}</td>
-                <td className="px-2 py-1.5 text-xs">{f.meaning ?? ''}</td>
-                <td className="whitespace-pre-line px-2 py-1.5 font-mono text-xs">{[valueNamesToText(f.values), f.bits ? f.bits.map((b) => `bit ${b.shift} ${b.name}`).join('\n') : ''].filter(Boolean).join('\n')}</td>
-              </tr>
+              <Fragment key={fi}>
+                <tr className="align-top">
+                  <td className="px-2 py-1.5">
+                    <span className={`inline-block h-3 w-3 rounded-sm ${swatch(fi)}`} aria-hidden="true" /> {fi + 1}
+                  </td>
+                  <td className="px-2 py-1.5 font-mono">{f.id}</td>
+                  <td className="px-2 py-1.5">{f.name ?? ''}</td>
+                  <td className="px-2 py-1.5 font-mono text-xs">{f.offset === undefined ? 'follows' : typeof f.offset === 'number' ? f.offset : `after ${f.offset.after}`}</td>
+                  <td className="px-2 py-1.5 font-mono text-xs">{f.length === undefined ? 'type' : describeValue(f.length)}</td>
+                  <td className="px-2 py-1.5 font-mono text-xs">{f.type}</td>
+                  <td className="px-2 py-1.5 text-xs">{f.role ?? ''}</td>
+                  <td className="px-2 py-1.5 text-xs">{f.meaning ?? ''}</td>
+                  <td className="whitespace-pre-line px-2 py-1.5 font-mono text-xs">{[valueNamesToText(f.values), f.bits ? f.bits.map((b) => `bit ${b.shift} ${b.name}`).join('\n') : ''].filter(Boolean).join('\n')}</td>
+                </tr>
+                {renderFieldNotes ? (
+                  <tr>
+                    <td />
+                    <td colSpan={8} className="px-2 pb-2">
+                      {renderFieldNotes(`${layout.id}.${f.id}`)}
+                    </td>
+                  </tr>
+                ) : null}
+              </Fragment>
             ))}
           </tbody>
         </table>

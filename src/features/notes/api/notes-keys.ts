@@ -8,3 +8,12 @@ export const notesKeys = {
 export function notesPath(rigId: number, captureId: number): string {
   return `/api/rigs/${rigId}/captures/${captureId}/notes`;
 }
+
+/** Notes of a field map's fields; they belong to the rig, not to a capture. */
+export const fieldNotesKeys = {
+  map: (rigId: number, mapId: number) => [...notesKeys.all, 'field-map', rigId, mapId] as const,
+};
+
+export function fieldNotesPath(rigId: number, mapId: number): string {
+  return `/api/rigs/${rigId}/field-maps/${mapId}/notes`;
+}
