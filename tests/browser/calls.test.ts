@@ -108,17 +108,22 @@ describe('call layer views in the browser', () => {
       await station.selectOption({ label: await station.locator('option', { hasText: 'Choir office' }).innerText() });
       await page.getByRole('radio', { name: 'Unanswered first' }).click();
       await expect.poll(() => new URL(page.url()).searchParams.get('order')).toBe('unanswered');
+      // the list re-sorts after the station's exchanges arrive: wait for it rather than read it once
       const first = page.getByTestId('exchange-row').first();
-      await expect(first.innerText()).resolves.toContain('unanswered');
+      await expect.poll(() => first.innerText(), { timeout: 15_000 }).toContain('unanswered');
       await expect(first.innerText()).resolves.toContain('ANTHEMS.TXT');
       await ladder.getByText('no answer within the timeout').first().waitFor();
       await shot(page, 'choir-office-unanswered-first');
 
       await page.getByRole('radio', { name: 'Slowest first' }).click();
-      const rtts = (await page.getByTestId('exchange-row').getByTestId('rtt').allInnerTexts()).map((t) => t.trim());
-      const seconds = rtts.filter((t) => t !== '—').map((t) => Number.parseFloat(t) * (t.endsWith('µs') ? 1e-6 : t.endsWith('ms') ? 1e-3 : 1));
-      expect(seconds.length).toBeGreaterThan(1);
-      for (let i = 1; i < seconds.length; i++) expect(seconds[i]).toBeLessThanOrEqual(seconds[i - 1]);
+      await expect.poll(() => new URL(page.url()).searchParams.get('order')).toBe('slowest');
+      const rttSeconds = async () =>
+        (await page.getByTestId('exchange-row').getByTestId('rtt').allInnerTexts())
+          .map((t) => t.trim())
+          .filter((t) => t !== '—')
+          .map((t) => Number.parseFloat(t) * (t.endsWith('µs') ? 1e-6 : t.endsWith('ms') ? 1e-3 : 1));
+      const descending = (xs: number[]) => xs.length > 1 && xs.every((x, i) => i === 0 || x <= xs[i - 1]);
+      await expect.poll(async () => descending(await rttSeconds()), { timeout: 15_000 }).toBe(true);
 
       // all stations: a lane each beside the server's, and a table of their figures
       await station.selectOption('all');
