@@ -83,7 +83,7 @@ describe('call layer views in the browser', () => {
       // every answered arrow says its round trip in a unit a person reads
       for (const label of (await answers.allTextContents()).slice(0, 5)) expect(label).toMatch(/RTT \d+(\.\d+)? (µs|ms)/);
       const stats = page.getByLabel('Round-trip statistics', { exact: true });
-      await expect(stats.innerText()).resolves.toMatch(/Median RTT\s*\d/);
+      await expect.poll(() => stats.innerText(), { timeout: 15_000 }).toMatch(/Median RTT\s*\d/);
       await page.getByRole('img', { name: /^Round-trip times of \d+ answered exchanges/ }).waitFor();
       await shot(page, 'registry-desk-ladder');
 
@@ -111,7 +111,7 @@ describe('call layer views in the browser', () => {
       // the list re-sorts after the station's exchanges arrive: wait for it rather than read it once
       const first = page.getByTestId('exchange-row').first();
       await expect.poll(() => first.innerText(), { timeout: 15_000 }).toContain('unanswered');
-      await expect(first.innerText()).resolves.toContain('ANTHEMS.TXT');
+      await expect.poll(() => first.innerText(), { timeout: 15_000 }).toContain('ANTHEMS.TXT');
       await ladder.getByText('no answer within the timeout').first().waitFor();
       await shot(page, 'choir-office-unanswered-first');
 
@@ -147,7 +147,7 @@ describe('call layer views in the browser', () => {
       const boot = page.locator('[data-testid="recovered-file"][data-file="WRENBOOT.SYS"]');
       await boot.waitFor();
       const bootExpected = clockedExpected.files.find((f) => f.key === 'boot:WRENBOOT.SYS')!;
-      await expect(boot.innerText()).resolves.toContain('complete');
+      await expect.poll(() => boot.innerText(), { timeout: 15_000 }).toContain('complete');
       await boot.getByRole('img', { name: `${bootExpected.recordCount} of ${bootExpected.recordCount} records seen` }).waitFor();
 
       const [download] = await Promise.all([page.waitForEvent('download'), boot.getByRole('link', { name: 'Download WRENBOOT.SYS' }).click()]);
@@ -159,14 +159,14 @@ describe('call layer views in the browser', () => {
       const accounts = page.locator('[data-testid="recovered-file"][data-file="ACCOUNTS.DAT"]');
       const accountsExpected = clockedExpected.files.find((f) => f.key === '0:ACCOUNTS.DAT')!;
       const missing = accountsExpected.missing;
-      await expect(accounts.innerText()).resolves.toContain('incomplete');
+      await expect.poll(() => accounts.innerText(), { timeout: 15_000 }).toContain('incomplete');
       await accounts
         .getByRole('img', { name: `${accountsExpected.recordCount - missing.length} of ${accountsExpected.recordCount} records seen; missing records ${missing[0]}–${missing[missing.length - 1]}` })
         .waitFor();
 
       await accounts.getByRole('button', { name: /^Exchanges/ }).click();
       await expect.poll(() => page.getByTestId('exchange-row').count()).toBeGreaterThan(0);
-      await expect(page.getByTestId('exchange-row').first().innerText()).resolves.toContain('ACCOUNTS.DAT');
+      await expect.poll(() => page.getByTestId('exchange-row').first().innerText(), { timeout: 15_000 }).toContain('ACCOUNTS.DAT');
       await shot(page, 'files');
     } finally {
       await context.close();
@@ -182,12 +182,12 @@ describe('call layer views in the browser', () => {
       await page.getByLabel('B (compare with)').selectOption(String(replacement));
       const summary = page.getByRole('region', { name: 'Comparison summary' });
       await summary.waitFor();
-      await expect(summary.innerText()).resolves.toMatch(/\d+ of \d+ exchanges differ/);
+      await expect.poll(() => summary.innerText(), { timeout: 15_000 }).toMatch(/\d+ of \d+ exchanges differ/);
 
       const different = page.locator('[data-testid="compare-row"][data-kind="answered-differently"], [data-testid="compare-row"][data-kind="outcome-differs"], [data-testid="compare-row"][data-kind="only-in-a"]');
       expect(await different.count()).toBeGreaterThan(0);
       // the replacement hides system files from the directory search, so that answer differs
-      await expect(different.first().innerText()).resolves.toMatch(/SEARCH/i);
+      await expect.poll(() => different.first().innerText(), { timeout: 15_000 }).toMatch(/SEARCH/i);
 
       const slower = page.locator('[data-testid="compare-row"][data-kind="slower"]');
       expect(await slower.count()).toBeGreaterThan(0);

@@ -75,7 +75,7 @@ describe('captures in the browser', () => {
 
       await page.getByText('Frames over time').waitFor({ timeout: 15_000 });
       const damagedStat = page.locator('div').filter({ has: page.getByText('Damaged frames', { exact: true }) }).last();
-      await expect(damagedStat.innerText()).resolves.toContain(String(capture.damaged.length));
+      await expect.poll(() => damagedStat.innerText(), { timeout: 15_000 }).toContain(String(capture.damaged.length));
       await shot(page, 'overview');
 
       await page.getByRole('link', { name: 'Timeline', exact: true }).click();
@@ -105,13 +105,13 @@ describe('captures in the browser', () => {
       await page.getByRole('button', { name: 'Go', exact: true }).click();
       await page.getByTestId('loaded-range').filter({ hasText: /showing 0\.007/ }).waitFor();
       await page.waitForTimeout(1500);
-      await expect(page.getByTestId('loaded-range').innerText()).resolves.toMatch(/showing 0\.007/);
+      await expect.poll(() => page.getByTestId('loaded-range').innerText(), { timeout: 15_000 }).toMatch(/showing 0\.007/);
       expect(await grid.evaluate((el) => el.scrollTop)).toBeGreaterThan(0);
       // near the end only a few rows follow; the rows loaded above must not push them out of view
       await page.getByLabel('Go to time (s)').fill('0.0143');
       await page.getByRole('button', { name: 'Go', exact: true }).click();
       await page.waitForTimeout(1500);
-      await expect(page.getByTestId('loaded-range').innerText()).resolves.toMatch(/– 0\.014[34]\d+ s/);
+      await expect.poll(() => page.getByTestId('loaded-range').innerText(), { timeout: 15_000 }).toMatch(/– 0\.014[34]\d+ s/);
 
       await page.getByRole('button', { name: 'Damaged only' }).click();
       await page.waitForURL(/status=bad-fcs%2Cabort%2Cshort%2Cresidue|status=bad-fcs,abort,short,residue/);

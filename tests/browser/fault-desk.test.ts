@@ -55,7 +55,7 @@ describe('fault desk', () => {
       await page.getByRole('navigation', { name: 'Capture views' }).getByRole('link', { name: 'Fault desk', exact: true }).click();
       await page.waitForURL(/\/faults$/);
       const groups = page.getByRole('navigation', { name: 'Fault groups' });
-      await expect(groups.getByTestId('group-count-bad-fcs-explained').innerText()).resolves.toBe(String(explained));
+      await expect.poll(() => groups.getByTestId('group-count-bad-fcs-explained').innerText(), { timeout: 15_000 }).toBe(String(explained));
       await page.getByTestId('fault-strip').waitFor();
       await shot(page, 'fault-desk-all');
 
@@ -74,7 +74,7 @@ describe('fault desk', () => {
       await row.getByRole('link', { name: `Open frame ${withRetry.seq} on ${withRetry.link} in the inspector` }).click();
       await page.waitForURL(new RegExp(`/frames/${withRetry.frameId}$`));
       await page.getByRole('heading', { name: `Frame ${withRetry.seq} on ${withRetry.link}` }).waitFor();
-      await expect(page.getByTestId('diagnosis').innerText()).resolves.toMatch(new RegExp(`${withRetry.flippedBit}`));
+      await expect.poll(() => page.getByTestId('diagnosis').innerText(), { timeout: 15_000 }).toMatch(new RegExp(`${withRetry.flippedBit}`));
       await page.getByRole('img', { name: /^Waveform of .* around the frame$/ }).waitFor();
       await shot(page, 'inspector-damaged-frame');
 

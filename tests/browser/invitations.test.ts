@@ -58,7 +58,7 @@ describe('invitations in the browser', () => {
       viewer = await openInNewContext(browser, href);
       const page = viewer.page;
       await page.getByRole('heading', { name: `Join “${rigName}”` }).waitFor();
-      await expect(page.locator('main').innerText()).resolves.toContain(email);
+      await expect.poll(() => page.locator('main').innerText(), { timeout: 15_000 }).toContain(email);
       await shot(page, 'invitation');
       await acceptAsNewAccount(page, 'Vera Viewer');
 
@@ -80,7 +80,7 @@ describe('invitations in the browser', () => {
       await page.getByRole('link', { name: 'Members' }).click();
       await page.getByRole('cell', { name: /Vera Viewer/ }).waitFor();
       const myRow = page.getByRole('row').filter({ hasText: 'Vera Viewer' });
-      await expect(myRow.innerText()).resolves.toContain('viewer');
+      await expect.poll(() => myRow.innerText(), { timeout: 15_000 }).toContain('viewer');
       expect(await page.getByRole('combobox').count()).toBe(0);
       expect(await page.getByRole('button', { name: 'Send invitation' }).count()).toBe(0);
       expect(await page.getByRole('link', { name: 'Dev mailbox' }).count()).toBe(0);

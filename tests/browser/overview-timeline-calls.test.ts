@@ -87,7 +87,7 @@ describe('exchanges on the overview and in the timeline', () => {
         await list.getByRole('img', { name: new RegExp(`^Turnaround of .*\\(0x${s.address.toString(16).toUpperCase().padStart(2, '0')}\\): ${answered} answered exchanges$`) }).waitFor();
       }
       await expect(list.getByRole('listitem').count()).resolves.toBe(stats.stations.length);
-      await expect(list.innerText()).resolves.toContain('Registry desk');
+      await expect.poll(() => list.innerText(), { timeout: 15_000 }).toContain('Registry desk');
       await shot(page, 'overview-turnaround');
 
       // timeline: a request frame carries its call name and round trip, from the exchange it opens

@@ -35,13 +35,13 @@ describe('rigs in the browser', () => {
       await shot(page, 'rig-with-stations');
 
       const rows = page.getByRole('row');
-      await expect(rows.filter({ hasText: 'Vault file server' }).innerText()).resolves.toMatch(/0x10[\s\S]*Server/);
-      await expect(rows.filter({ hasText: 'Desk two' }).innerText()).resolves.toMatch(/0x21 \(33\)[\s\S]*Station/);
+      await expect.poll(() => rows.filter({ hasText: 'Vault file server' }).innerText(), { timeout: 15_000 }).toMatch(/0x10[\s\S]*Server/);
+      await expect.poll(() => rows.filter({ hasText: 'Desk two' }).innerText(), { timeout: 15_000 }).toMatch(/0x21 \(33\)[\s\S]*Station/);
 
       await page.getByRole('link', { name: 'Rigs', exact: true }).click();
       const card = page.getByRole('link').filter({ hasText: rigName });
-      await expect(card.innerText()).resolves.toContain('2 stations');
-      await expect(card.innerText()).resolves.toContain('owner');
+      await expect.poll(() => card.innerText(), { timeout: 15_000 }).toContain('2 stations');
+      await expect.poll(() => card.innerText(), { timeout: 15_000 }).toContain('owner');
       await shot(page, 'rig-list');
       expect(rigId).toBeGreaterThan(0);
     } finally {
@@ -94,7 +94,7 @@ describe('rigs in the browser', () => {
       await edit.getByLabel('Name').fill('New server');
       await edit.getByRole('button', { name: 'Save station' }).click();
       await page.getByRole('cell', { name: 'New server', exact: true }).waitFor();
-      await expect(page.getByRole('row').filter({ hasText: 'New server' }).innerText()).resolves.toMatch(/0x11/);
+      await expect.poll(() => page.getByRole('row').filter({ hasText: 'New server' }).innerText(), { timeout: 15_000 }).toMatch(/0x11/);
 
       await page.getByRole('button', { name: 'Delete Spare desk' }).click();
       await page.getByRole('button', { name: 'Delete', exact: true }).click();
