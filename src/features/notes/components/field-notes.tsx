@@ -3,8 +3,8 @@ import { fieldNoteInputSchema, type Note } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
 import { TextArea } from '../../../components/field';
 import { ErrorNotice } from '../../../components/notice';
-import { formatDateTime } from '../../../lib/format';
 import { parseWith, serverFieldErrors, type FieldErrors } from '../../../lib/form';
+import { NoteCard } from './note-item';
 import { groupByFieldPath, useCreateFieldNote, useDeleteFieldNote, useFieldNotes, useUpdateFieldNote } from '../api/field-notes';
 
 interface FieldNotesProps {
@@ -74,67 +74,9 @@ function AddFieldNote({ rigId, mapId, fieldPath }: FieldNotesProps) {
   );
 }
 
-/** One field note: author, time, text; edit and delete as the server's canEdit / canDelete allow. */
+/** One field note: author, time and text, in the editor's compact form. */
 function FieldNoteItem({ rigId, mapId, note }: { rigId: number; mapId: number; note: Note }) {
-  const [editing, setEditing] = useState(false);
-  const [draft, setDraft] = useState(note.body);
   const update = useUpdateFieldNote(rigId, mapId);
   const remove = useDeleteFieldNote(rigId, mapId);
-  const edited = note.updatedAt !== note.createdAt;
-
-  return (
-    <li className="space-y-1 border-b border-line py-2 last:border-b-0" data-testid="field-note">
-      <div className="flex flex-wrap items-baseline gap-x-2 text-xs text-muted">
-        <span className="font-medium text-text">{note.author?.name ?? 'A former member'}</span>
-        <time dateTime={note.createdAt}>{formatDateTime(note.createdAt)}</time>
-        {edited ? <span>(edited {formatDateTime(note.updatedAt)})</span> : null}
-      </div>
-      {editing ? (
-        <div className="space-y-2">
-          <TextArea label="Edit note" rows={2} value={draft} maxLength={4000} onChange={(e) => setDraft(e.target.value)} error={serverFieldErrors(update.error).body} />
-          <div className="flex gap-2">
-            <Button className="px-2 py-1 text-xs" busy={update.isPending} onClick={() => update.mutate({ noteId: note.id, body: draft }, { onSuccess: () => setEditing(false) })}>
-              Save
-            </Button>
-            <Button
-              variant="secondary"
-              className="px-2 py-1 text-xs"
-              onClick={() => {
-                setEditing(false);
-                setDraft(note.body);
-                update.reset();
-              }}
-            >
-              Cancel
-            </Button>
-          </div>
-        </div>
-      ) : (
-        <p className="whitespace-pre-wrap text-sm text-text">{note.body}</p>
-      )}
-      {!editing && (note.canEdit || note.canDelete) ? (
-        <div className="flex gap-1">
-          {note.canEdit ? (
-            <Button variant="ghost" className="px-2 py-0.5 text-xs" onClick={() => setEditing(true)}>
-              Edit
-            </Button>
-          ) : null}
-          {note.canDelete ? (
-            <Button
-              variant="dangerGhost"
-              className="px-2 py-0.5 text-xs"
-              busy={remove.isPending}
-              onClick={() => {
-                if (window.confirm('Delete this note?')) remove.mutate(note.id);
-              }}
-            >
-              Delete
-            </Button>
-          ) : null}
-        </div>
-      ) : null}
-      {update.error && !serverFieldErrors(update.error).body ? <ErrorNotice error={update.error} /> : null}
-      {remove.error ? <ErrorNotice error={remove.error} /> : null}
-    </li>
-  );
+  return <NoteCard note={note} actions={{ update, remove }} testId="field-note" compact />;
 }

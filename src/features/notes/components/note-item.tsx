@@ -1,4 +1,4 @@
-import { useState } from 'react';
+import { useState, type ReactNode } from 'react';
 import { Link } from 'react-router';
 import type { Note } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
@@ -19,44 +19,61 @@ export function pinLabel(note: Note): string {
   return 'the capture';
 }
 
-/** One note: author, time, where it is pinned, its text; edit and delete where the caller may. */
-export function NoteItem({ rigId, captureId, note, linkFrame = false }: { rigId: number; captureId: number; note: Note; linkFrame?: boolean }) {
+/** The edit and delete calls a note list uses; capture notes and field notes each have their own. */
+export interface NoteActions {
+  update: { mutate(v: { noteId: number; body: string }, o?: { onSuccess?: () => void }): void; isPending: boolean; error: unknown; reset(): void };
+  remove: { mutate(noteId: number): void; isPending: boolean; error: unknown };
+}
+
+/**
+ * One note as every list shows it: author, time, an optional pin, its text, and edit and delete
+ * as the server's canEdit / canDelete allow. `compact` is the denser form used inside the
+ * field-map editor.
+ */
+export function NoteCard({
+  note,
+  actions,
+  pin,
+  testId,
+  compact = false,
+}: {
+  note: Note;
+  actions: NoteActions;
+  pin?: ReactNode;
+  testId: string;
+  compact?: boolean;
+}) {
+  const { update, remove } = actions;
   const [editing, setEditing] = useState(false);
   const [draft, setDraft] = useState(note.body);
-  const update = useUpdateNote(rigId, captureId);
-  const remove = useDeleteNote(rigId, captureId);
   const edited = note.updatedAt !== note.createdAt;
-  const frameLink = linkFrame && note.target.frameId !== null ? `/rigs/${rigId}/captures/${captureId}/frames/${note.target.frameId}` : null;
-
-  function save() {
-    update.mutate({ noteId: note.id, body: draft }, { onSuccess: () => setEditing(false) });
-  }
+  const editButton = compact ? 'px-2 py-1 text-xs' : '';
 
   return (
-    <li className="space-y-1.5 border-b border-line py-3 last:border-b-0" data-testid="note">
-      <div className="flex flex-wrap items-baseline gap-x-2 gap-y-1 text-xs text-muted">
+    <li className={`${compact ? 'space-y-1 py-2' : 'space-y-1.5 py-3'} border-b border-line last:border-b-0`} data-testid={testId}>
+      <div className={`flex flex-wrap items-baseline gap-x-2 ${compact ? '' : 'gap-y-1'} text-xs text-muted`}>
         <span className="font-medium text-text">{note.author?.name ?? 'A former member'}</span>
         <time dateTime={note.createdAt}>{formatDateTime(note.createdAt)}</time>
         {edited ? <span>(edited {formatDateTime(note.updatedAt)})</span> : null}
-        <span>·</span>
-        {frameLink ? (
-          <Link to={frameLink} className="text-link hover:underline">
-            {pinLabel(note)}
-          </Link>
-        ) : (
-          <span data-testid="note-pin">{pinLabel(note)}</span>
-        )}
-        {note.target.kind !== 'capture' && note.target.frameId === null ? <span>(not in the current decode)</span> : null}
+        {pin}
       </div>
       {editing ? (
         <div className="space-y-2">
-          <TextArea label="Edit note" rows={3} value={draft} onChange={(e) => setDraft(e.target.value)} maxLength={4000} error={serverFieldErrors(update.error).body} />
+          <TextArea
+            label="Edit note"
+            rows={compact ? 2 : 3}
+            value={draft}
+            onChange={(e) => setDraft(e.target.value)}
+            maxLength={4000}
+            error={serverFieldErrors(update.error).body}
+          />
           <div className="flex gap-2">
-            <Button onClick={save} busy={update.isPending}>
+            <Button className={editButton} busy={update.isPending} onClick={() => update.mutate({ noteId: note.id, body: draft }, { onSuccess: () => setEditing(false) })}>
               Save
             </Button>
             <Button
               variant="secondary"
+              className={editButton}
               onClick={() => {
                 setEditing(false);
                 setDraft(note.body);
@@ -95,4 +112,25 @@ export function NoteItem({ rigId, captureId, note, linkFrame = false }: { rigId:
       {remove.error ? <ErrorNotice error={remove.error} /> : null}
     </li>
   );
+}
+
+/** A capture note: its pin (linking to the frame where asked) beside author and time. */
+export function NoteItem({ rigId, captureId, note, linkFrame = false }: { rigId: number; captureId: number; note: Note; linkFrame?: boolean }) {
+  const update = useUpdateNote(rigId, captureId);
+  const remove = useDeleteNote(rigId, captureId);
+  const frameLink = linkFrame && note.target.frameId !== null ? `/rigs/${rigId}/captures/${captureId}/frames/${note.target.frameId}` : null;
+  const pin = (
+    <>
+      <span>·</span>
+      {frameLink ? (
+        <Link to={frameLink} className="text-link hover:underline">
+          {pinLabel(note)}
+        </Link>
+      ) : (
+        <span data-testid="note-pin">{pinLabel(note)}</span>
+      )}
+      {note.target.kind !== 'capture' && note.target.frameId === null ? <span>(not in the current decode)</span> : null}
+    </>
+  );
+  return <NoteCard note={note} actions={{ update, remove }} pin={pin} testId="note" />;
 }
