@@ -116,7 +116,7 @@ describe('timeline at scale', () => {
           `reached row ${reachedRow.toLocaleString('en-GB')} · ${fling.rowsInDom} rows in the DOM`,
       );
       // far from the first page: the list kept loading pages (and dropping old ones) while it scrolled
-      expect(reachedRow).toBeGreaterThan(8_000);
+      expect(reachedRow).toBeGreaterThanOrEqual(8_000);
       expect(fling.rowsInDom).toBeLessThan(200);
 
       // the end of the capture through the time jump, then the URL reproduces the view
