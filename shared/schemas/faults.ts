@@ -5,10 +5,22 @@ import { frameStatusSchema } from './captures';
 // line anomalies, and counts over time. Causes and anomaly kinds are the decoder's
 // (shared/decoder/faults).
 
-export const damageCauseSchema = z.enum(['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'line-anomaly']);
+export const damageCauseSchema = z.enum([
+  'bad-fcs-explained',
+  'bad-fcs-unexplained',
+  'abort',
+  'short',
+  'residue',
+  'line-anomaly',
+  // race signatures (shared/decoder/faults/races.ts)
+  'tx-underrun',
+  'underrun-fragment',
+  'rx-overrun',
+  'octet-timing',
+]);
 export type DamageCauseName = z.infer<typeof damageCauseSchema>;
 
-export const anomalyKindSchema = z.enum(['glitch', 'clock-missing', 'clock-extra', 'silence', 'unknown']);
+export const anomalyKindSchema = z.enum(['glitch', 'clock-missing', 'clock-extra', 'clock-stretch', 'silence', 'unknown']);
 export type AnomalyKindName = z.infer<typeof anomalyKindSchema>;
 
 export const faultQuerySchema = z.object({

@@ -1,3 +1,4 @@
+import { RACE_CAUSE_WORDS } from '../../../shared/decoder/faults/race-words';
 import type { DamageCauseName, FaultAnomaly, FaultFrameRow } from '../../../shared/schemas';
 
 // One sentence per fault row, in the words the fault desk shows.
@@ -8,6 +9,7 @@ const ANOMALY_WORDS: Record<FaultAnomaly['kind'], (a: FaultAnomaly) => string> =
   glitch: (a) => `${a.count === 1 ? 'a pulse' : `${a.count} pulses`} shorter than half a bit on ${a.channel}`,
   'clock-missing': (a) => `${a.count === 1 ? 'a clock edge' : `${a.count} clock edges`} missing on ${a.channel}`,
   'clock-extra': (a) => `an extra clock edge on ${a.channel}`,
+  'clock-stretch': (a) => `a clock period of ${a.bits.toFixed(2)} bit times on ${a.channel}`,
   silence: (a) => `${a.channel} silent for ${Math.round(a.bits)} bit times`,
   unknown: (a) => `${a.channel} at an unknown level`,
 };
@@ -49,6 +51,12 @@ export function describeFault(f: FaultFacts): string {
       break;
     case 'line-anomaly':
       parts.push('Good FCS, but the line misbehaved inside the frame.');
+      break;
+    case 'tx-underrun':
+    case 'underrun-fragment':
+    case 'rx-overrun':
+    case 'octet-timing':
+      parts.push(`${RACE_CAUSE_WORDS[f.cause].title}: ${RACE_CAUSE_WORDS[f.cause].explanation}`);
       break;
   }
   if (f.anomalies.length > 0) parts.push(`On the line: ${f.anomalies.slice(0, 3).map((a) => ANOMALY_WORDS[a.kind](a)).join('; ')}${f.anomalies.length > 3 ? `; ${f.anomalies.length - 3} more` : ''}.`);

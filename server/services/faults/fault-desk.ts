@@ -75,7 +75,8 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
   const anomaly = (a: LineAnomaly): FaultAnomaly => ({ ...a, t: a.sample * period });
   const rows: FaultFrameRow[] = stored.map((r) => {
     const anomalies = (JSON.parse(r.anomalies) as LineAnomaly[]).map(anomaly);
-    const status = r.status ?? (r.cause === 'line-anomaly' ? 'ok' : r.cause === 'abort' || r.cause === 'short' || r.cause === 'residue' ? r.cause : 'bad-fcs');
+    const status =
+      r.status ?? (r.cause === 'abort' || r.cause === 'short' || r.cause === 'residue' ? r.cause : r.cause === 'bad-fcs-explained' || r.cause === 'bad-fcs-unexplained' ? 'bad-fcs' : 'ok');
     const stuffedBefore = r.suspect_line_bit !== null && r.flipped_bit !== null ? r.suspect_line_bit - r.flipped_bit : 0;
     return {
       frameId: r.frame_id,

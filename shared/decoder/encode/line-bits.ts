@@ -9,6 +9,12 @@ export interface FrameFaults {
   flipBits?: number[];
   /** send an abort (seven 1s) after this many destuffed bits instead of the rest of the frame */
   abortAfterBits?: number;
+  /**
+   * how many 1s the abort sends (default 7, the fewest ISO/IEC 13239 counts as an abort; a
+   * transmitter that runs dry may keep sending 1s until it is fed again, and fifteen or more
+   * read as an idle line)
+   */
+  abortOnes?: number;
   /** send an FCS that does not match (the correct one with every bit inverted) */
   wrongFcs?: boolean;
   /** extra bits after the FCS, giving a bit count that is not a multiple of 8 */
@@ -135,7 +141,9 @@ export function encodeLineBits(items: LineItem[], options: EncodeOptions = {}): 
       }
       const endBit = w.n;
       if (faults.abortAfterBits !== undefined) {
-        for (let k = 0; k < 7; k++) w.push(1);
+        const ones = faults.abortOnes ?? 7;
+        if (ones < 7) throw new RangeError(`an abort is seven or more 1s, not ${ones}`);
+        for (let k = 0; k < ones; k++) w.push(1);
       } else if (!faults.noClosingFlag) {
         w.flag(false);
       }

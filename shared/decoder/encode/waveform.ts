@@ -44,6 +44,13 @@ export interface WaveformFaults {
   glitches?: Glitch[];
   /** bit indices whose clock pulse is left out, so that bit is never sampled */
   missingClockEdges?: number[];
+  /**
+   * Stretched clock periods: the active clock edge of bit cell `bit` comes `by` bit times late
+   * (the cell's first half is longer), and every later boundary moves with it. The clock period
+   * ending at that edge is 1 + `by` bit times, the ones around it stay one bit; the data still
+   * changes only on cell boundaries, so every bit is sampled as sent.
+   */
+  stretchedClock?: { bit: number; by: number }[];
   /** seed of the jitter's random sequence */
   seed?: number;
 }
@@ -120,13 +127,21 @@ export function renderWaveform(opts: WaveformOptions): Waveform {
 
   // Cell boundaries depend only on the seed: each run regenerates them instead of storing
   // them, so benchmark waveforms of hundreds of millions of samples stay small in memory.
+  // extra samples of each stretched cell, in its first half (before its active clock edge)
+  const stretch = new Map<number, number>();
+  for (const st of faults.stretchedClock ?? []) {
+    if (!(st.by > 0) || !Number.isInteger(st.bit) || st.bit < 0) throw new RangeError(`a stretched clock period needs a bit index ≥ 0 and by > 0 (bit ${st.bit}, by ${st.by})`);
+    stretch.set(st.bit, (stretch.get(st.bit) ?? 0) + st.by * cellLength);
+  }
   const boundaries = () => {
     const rnd = seededRandom(faults.seed ?? 1);
     let prev = -Infinity;
     let i = 0;
+    let shift = 0;
     return (): number => {
       const j = jitter > 0 ? (rnd() * 2 - 1) * jitter : 0;
-      let b = Math.round(lead + i * cellLength + j);
+      if (i > 0) shift += stretch.get(i - 1) ?? 0;
+      let b = Math.round(lead + i * cellLength + shift + j);
       if (b < prev + 2) b = prev + 2;
       if (b < 1) b = 1;
       prev = b;
@@ -216,7 +231,8 @@ export function renderWaveform(opts: WaveformOptions): Waveform {
     };
 
     for (;;) {
-      const cellTime = cell > cells ? Infinity : phase === 0 ? bCur : bCur + Math.floor((bNext - bCur) / 2);
+      const extra = stretch.size > 0 ? Math.round(stretch.get(cell) ?? 0) : 0;
+      const cellTime = cell > cells ? Infinity : phase === 0 ? bCur : bCur + extra + Math.floor((bNext - bCur - extra) / 2);
       const toggleTime = toggleAt < toggles.length ? toggles[toggleAt].time : Infinity;
       const earlyTime = earlyAt < early.length ? early[earlyAt].time : Infinity;
       const time = Math.min(cellTime, toggleTime, earlyTime);

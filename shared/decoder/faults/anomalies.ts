@@ -5,6 +5,8 @@
 //                  spanning them, so a spike in mid-cell reports the pieces it cut that cell into
 //   clock-missing  an interval between active clock edges of about two periods or more (count = edges left out)
 //   clock-extra    an active clock edge far too soon after the previous good one
+//   clock-stretch  an interval between active clock edges longer than usual (a quarter of a period
+//                  or more by default) but short of a missing edge: the transmitter's clock was held
 //   unknown        a watched channel at an unknown level (VCD x/z, value 2) from `sample` to `endSample`
 //   silence        no activity for `silenceBits` bit times: the clock stopped, or (without a clock,
 //                  NRZI only) the data line stopped changing
@@ -15,17 +17,20 @@
 // Thresholds are fractions of the bit period: half a bit for a glitch (the shortest legal pulse
 // is one bit cell, less jitter), under half a period for an extra edge, 1.5 periods or more for
 // missing edges (common practice for edge-interval checks; the encoder's jitter and rate-error
-// faults stay well inside these). The period comes from the nominal bit rate when given, else it
+// faults stay well inside these). Every interval that is neither missing nor extra nor a stopped
+// clock also goes into a histogram of the period (timing/clock-spread.ts), handed to the sink's
+// clockSpread() at the end: the octet timing of the capture. The period comes from the nominal bit rate when given, else it
 // is learned from the clock (median of its first intervals, then followed slowly so a few %
 // rate error does not drift into the limits).
 //
 // Per transition the state is a handful of numbers in typed arrays; objects are made only for an
 // anomaly found.
+import { ClockPeriodHistogram, type ClockSpread } from '../timing/clock-spread';
 import type { Transitions } from '../types';
 
-export type AnomalyKind = 'glitch' | 'clock-missing' | 'clock-extra' | 'unknown' | 'silence';
+export type AnomalyKind = 'glitch' | 'clock-missing' | 'clock-extra' | 'clock-stretch' | 'unknown' | 'silence';
 
-export const ANOMALY_KINDS: readonly AnomalyKind[] = ['glitch', 'clock-missing', 'clock-extra', 'silence', 'unknown'];
+export const ANOMALY_KINDS: readonly AnomalyKind[] = ['glitch', 'clock-missing', 'clock-extra', 'clock-stretch', 'silence', 'unknown'];
 
 export interface LineAnomaly {
   kind: AnomalyKind;
@@ -48,6 +53,8 @@ export interface LineAnomaly {
 
 export interface AnomalySink {
   anomaly(a: LineAnomaly): void;
+  /** at the end, for a capture with a clock channel that ticked: how its period spread */
+  clockSpread?(spread: ClockSpread): void;
 }
 
 /** Channel roles as bit recovery takes them; a BitRecoveryOptions object fits. */
@@ -67,6 +74,8 @@ export interface AnomalyTapOptions {
   silenceBits?: number;
   /** pulses shorter than this fraction of a bit are glitches (default 0.5) */
   glitchFraction?: number;
+  /** clock intervals of at least this many periods (and under 1.5) are stretched (default 1.25) */
+  stretchFraction?: number;
 }
 
 const CLOCK = 1;
@@ -93,6 +102,9 @@ export class AnomalyTap {
   private readonly active: number;
   private readonly silenceBits: number;
   private readonly glitchFraction: number;
+  private readonly stretchFraction: number;
+  private readonly histogram: ClockPeriodHistogram;
+  private readonly samplePeriod: number;
   /** data silence is only meaningful where a frame cannot hold a long steady level (NRZI without a clock) */
   private readonly dataSilence: boolean;
 
@@ -123,6 +135,9 @@ export class AnomalyTap {
     this.active = options.edge === 'falling' ? 0 : 1;
     this.silenceBits = options.silenceBits ?? 16;
     this.glitchFraction = options.glitchFraction ?? 0.5;
+    this.stretchFraction = options.stretchFraction ?? 1.25;
+    this.histogram = new ClockPeriodHistogram(this.stretchFraction);
+    this.samplePeriod = options.samplePeriodSeconds;
     if (this.clock >= 0) {
       this.role[this.clock] = CLOCK;
       this.names[this.clock] = options.clockName ?? 'clock';
@@ -196,6 +211,13 @@ export class AnomalyTap {
         this.unknownFrom[c] = -1;
       }
     }
+    const spread = this.clockSpread();
+    if (spread) this.sink.clockSpread?.(spread);
+  }
+
+  /** how the clock's period spread so far; null without a clock or before its second edge */
+  clockSpread(): ClockSpread | null {
+    return this.clock >= 0 ? this.histogram.spread(this.samplePeriod) : null;
   }
 
   private clockEdge(s: number): void {
@@ -217,16 +239,24 @@ export class AnomalyTap {
     const d = s - last;
     if (d < 0.5 * p) {
       // too soon: measured again from the last good edge, so the real edge after it is not flagged too
+      this.histogram.extra++;
       this.report('clock-extra', this.clock, s, s, 1);
       return;
     }
     if (d >= this.silenceBits * p) {
       this.report('silence', this.clock, last, s, 1);
     } else if (d >= 1.5 * p) {
+      this.histogram.missing++;
       this.report('clock-missing', this.clock, Math.round(last + p), s, Math.max(1, Math.round(d / p) - 1));
     } else {
-      // follow slow rate differences (a few % off nominal, a warm oscillator)
-      this.period = p + (d - p) / 64;
+      this.histogram.add(d, p);
+      if (d >= this.stretchFraction * p) {
+        this.histogram.stretched++;
+        this.report('clock-stretch', this.clock, last, s, 1);
+      } else {
+        // follow slow rate differences (a few % off nominal, a warm oscillator)
+        this.period = p + (d - p) / 64;
+      }
     }
     this.lastEdge = s;
   }
@@ -337,11 +367,19 @@ export function anomalyInWindow(a: LineAnomaly, first: number, last: number): bo
 export class FrameWindowIndex {
   private readonly perLink = new Map<string, WindowList>();
 
-  /** `tag`: a number the caller keeps with the frame (the fault desk keeps the station address) */
-  add(link: string, seq: number, firstSample: number, lastSample: number, tag = -1): void {
+  /**
+   * `tag`: a number the caller keeps with the frame (the fault desk keeps the station address);
+   * `bits`: the frame's line bits, when the caller wants them back
+   */
+  add(link: string, seq: number, firstSample: number, lastSample: number, tag = -1, bits = 0): void {
     let list = this.perLink.get(link);
     if (!list) this.perLink.set(link, (list = new WindowList()));
-    list.add(seq, firstSample, lastSample, tag);
+    list.add(seq, firstSample, lastSample, tag, bits);
+  }
+
+  /** the window of frame `seq` of `link`, if it was added (seq grows with time on a link) */
+  byRef(link: string, seq: number): WindowHit | null {
+    return this.perLink.get(link)?.byRef(link, seq) ?? null;
   }
 
   /** frames (of the anomaly's link, or of every link for a clock anomaly) the anomaly falls in */
@@ -363,6 +401,8 @@ export interface WindowHit {
   first: number;
   last: number;
   tag: number;
+  /** line bits of the frame (0 when not given) */
+  bits: number;
 }
 
 class WindowList {
@@ -370,10 +410,11 @@ class WindowList {
   last = new Float64Array(64);
   seq = new Float64Array(64);
   tag = new Float64Array(64);
+  bits = new Float64Array(64);
   n = 0;
   private sorted = true;
 
-  add(seq: number, first: number, last: number, tag: number): void {
+  add(seq: number, first: number, last: number, tag: number, bits: number): void {
     if (this.n === this.first.length) {
       const grow = (a: Float64Array) => {
         const b = new Float64Array(a.length * 2);
@@ -384,12 +425,14 @@ class WindowList {
       this.last = grow(this.last);
       this.seq = grow(this.seq);
       this.tag = grow(this.tag);
+      this.bits = grow(this.bits);
     }
     if (this.n > 0 && first < this.first[this.n - 1]) this.sorted = false;
     this.first[this.n] = first;
     this.last[this.n] = last;
     this.seq[this.n] = seq;
     this.tag[this.n] = tag;
+    this.bits[this.n] = bits;
     this.n++;
   }
 
@@ -399,10 +442,12 @@ class WindowList {
     const l = order.map((i) => this.last[i]);
     const s = order.map((i) => this.seq[i]);
     const t = order.map((i) => this.tag[i]);
+    const b = order.map((i) => this.bits[i]);
     this.first.set(f);
     this.last.set(l);
     this.seq.set(s);
     this.tag.set(t);
+    this.bits.set(b);
     this.sorted = true;
   }
 
@@ -425,8 +470,26 @@ class WindowList {
     }
     for (let k = found.length - 1; k >= 0; k--) {
       const i = found[k];
-      out.push({ link, seq: this.seq[i], first: this.first[i], last: this.last[i], tag: this.tag[i] });
+      out.push(this.hit(link, i));
     }
+  }
+
+  byRef(link: string, seq: number): WindowHit | null {
+    if (!this.sorted) this.sort();
+    let lo = 0;
+    let hi = this.n - 1;
+    while (lo <= hi) {
+      const mid = (lo + hi) >> 1;
+      const s = this.seq[mid];
+      if (s === seq) return this.hit(link, mid);
+      if (s < seq) lo = mid + 1;
+      else hi = mid - 1;
+    }
+    return null;
+  }
+
+  private hit(link: string, i: number): WindowHit {
+    return { link, seq: this.seq[i], first: this.first[i], last: this.last[i], tag: this.tag[i], bits: this.bits[i] };
   }
 }
 

@@ -12,10 +12,42 @@ import type { DecodedFrame, FrameStatus } from '../types';
  *   bad-fcs-unexplained  bad FCS that no single bit explains (two or more bits, or bits lost or gained)
  *   abort / short / residue as the deframer decided them
  *   line-anomaly         the frame checks good but a line anomaly falls inside it
+ * and the race signatures (races.ts), which take precedence over the status:
+ *   tx-underrun          a transmitter under-run: a frame cut short (valid FCS or abort)
+ *   underrun-fragment    the fragment that followed a cut frame at once
+ *   rx-overrun           a request that crossed the line intact and was lost in the receiver
+ *   octet-timing         a good frame with stretched or missing clock periods inside
  */
-export type DamageCause = 'bad-fcs-explained' | 'bad-fcs-unexplained' | 'abort' | 'short' | 'residue' | 'line-anomaly';
+export type DamageCause =
+  | 'bad-fcs-explained'
+  | 'bad-fcs-unexplained'
+  | 'abort'
+  | 'short'
+  | 'residue'
+  | 'line-anomaly'
+  | 'tx-underrun'
+  | 'underrun-fragment'
+  | 'rx-overrun'
+  | 'octet-timing';
 
-export const DAMAGE_CAUSES: readonly DamageCause[] = ['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'line-anomaly'];
+export const DAMAGE_CAUSES: readonly DamageCause[] = [
+  'bad-fcs-explained',
+  'bad-fcs-unexplained',
+  'abort',
+  'short',
+  'residue',
+  'line-anomaly',
+  'tx-underrun',
+  'underrun-fragment',
+  'rx-overrun',
+  'octet-timing',
+];
+
+/** The race signatures among the causes. */
+export const RACE_CAUSES: readonly DamageCause[] = ['tx-underrun', 'underrun-fragment', 'rx-overrun', 'octet-timing'];
+
+/** Causes that mean a frame did not cross the line as sent (what an over-run symptom must not have). */
+export const WIRE_DAMAGE: ReadonlySet<DamageCause> = new Set<DamageCause>(['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'tx-underrun', 'underrun-fragment']);
 
 /** The cause a frame's status gives; null for a good frame (it may still carry a line anomaly). */
 export function damageCause(f: Pick<DecodedFrame, 'status' | 'flippedBit'>): DamageCause | null {

@@ -1,25 +1,41 @@
 // The fault desk engine: every damaged frame of a capture with its diagnosis, the frame that
 // followed it from the same station, the retransmission when the link or call layer shows one,
-// line anomalies inside frames, and counts over time.
+// line anomalies inside frames, race signatures (races.ts), and counts over time.
 //
 // FaultDesk is a sink: push every decoded frame (good ones too — they are the followers and
-// retransmissions, and a good frame can carry a line anomaly) in the decoder's time order, and
-// every anomaly from the AnomalyTap in any order; finish() gives the report. Good frames cost a
-// few typed-array entries each; only damaged frames and anomalies are kept as objects.
+// retransmissions, a good frame can carry a line anomaly, and a frame cut short by an under-run
+// can check good) in the decoder's time order, every anomaly from the AnomalyTap in any order
+// (and its clock spread), and, where the call layer runs beside it, every exchange; finish()
+// gives the report. Good frames cost a few typed-array entries each; only damaged frames,
+// anomalies and exchanges are kept as objects.
+import type { Exchange } from '../calls/exchanges';
+import { octetBudget, BitRateMeter, DEFAULT_CPU_HZ, type OctetBudget } from '../timing/budget';
+import type { ClockSpread } from '../timing/clock-spread';
+import { countValues } from '../timing/stats';
 import type { DecodedFrame, FrameStatus, LineEvent } from '../types';
 import { ANOMALY_KINDS, FrameWindowIndex, type AnomalyKind, type FrameRef, type LineAnomaly } from './anomalies';
 import {
   binFaults,
   DAMAGE_CAUSES,
   diagnoseFrame,
+  frameLineBits,
+  WIRE_DAMAGE,
   type CallKeyLookup,
   type DamageCause,
   type FaultBins,
+  type FrameDiagnosis,
   type SuspectBit,
 } from './classify';
+import { findOverruns, summarizeOverruns, type OverrunFinding } from './overrun';
+import type { OctetTimingDetail, RaceDetail, RaceSummary, UnderrunDetail } from './races';
+import { refOf, underrunOffset, UnderrunWatch, type CallShapeLookup, type UnderrunFinding } from './underrun';
 
 export * from './anomalies';
 export * from './classify';
+export * from './overrun';
+export * from './race-words';
+export * from './races';
+export * from './underrun';
 
 /** A frame that came after a damaged one. */
 export interface FollowerRef extends FrameRef {
@@ -67,6 +83,8 @@ export interface FaultRow {
   next: FollowerRef | null;
   retransmission: (FollowerRef & { by: 'call' | 'ns' }) | null;
   retransmissionSearch: RetransmissionSearch;
+  /** what shows a race signature (the race causes; octet timing also on damaged frames), else null */
+  race: RaceDetail | null;
 }
 
 export interface FaultGroup {
@@ -97,6 +115,8 @@ export interface FaultReport {
   framesSeen: number;
   /** anomalies not kept because maxAnomalies was reached */
   anomaliesDropped: number;
+  /** the capture-wide side of the race signatures: offsets, repeats, clock spread, budget */
+  races: RaceSummary;
 }
 
 export interface FaultDeskOptions {
@@ -111,6 +131,18 @@ export interface FaultDeskOptions {
   bins?: number;
   /** anomalies kept (default 100 000); more are counted as dropped */
   maxAnomalies?: number;
+  /**
+   * The field map's view of a frame's octets (callShapeFromFieldMap): finds frames cut shorter
+   * than their layout (transmitter under-runs). Without it only a fragment following at once, or
+   * aborts recurring at one offset, show an under-run.
+   */
+  callShape?: CallShapeLookup;
+  /** bit times after a cut frame within which a fragment follows it "at once" (default 40) */
+  fragmentGapBits?: number;
+  /** CPU clock for the budget line, Hz (default 4 MHz; the rig's setting when it has one) */
+  cpuHz?: number;
+  /** the capture settings' bit rate: the budget's rate when neither the clock nor the frames show one */
+  bitRate?: number;
 }
 
 interface Pending {
@@ -129,10 +161,17 @@ export class FaultDesk {
   private endSample = 0;
   private readonly lookahead: number;
   private readonly fcsOctets: 2 | 4;
+  private readonly underruns: UnderrunWatch;
+  private readonly meter = new BitRateMeter();
+  /** octet offset of every aborted frame's row, for the recurring-offset rule */
+  private readonly abortOffsets = new Map<number, number>();
+  private readonly exchanges: Exchange[] = [];
+  private spread: ClockSpread | null = null;
 
   constructor(private readonly options: FaultDeskOptions) {
     this.lookahead = Math.max(1, options.lookahead ?? 8);
     this.fcsOctets = options.fcs === 32 ? 4 : 2;
+    this.underruns = new UnderrunWatch({ fcsOctets: this.fcsOctets, shape: options.callShape, fragmentGapBits: options.fragmentGapBits });
   }
 
   /**
@@ -142,13 +181,26 @@ export class FaultDesk {
   frame(f: DecodedFrame, bitSamples?: ArrayLike<number> | null): void {
     this.frames++;
     if (f.lastSample > this.endSample) this.endSample = f.lastSample;
+    this.meter.frame(f);
     const damaged = f.status !== 'ok';
-    const diag = damaged ? diagnoseFrame(f, { fcsOctets: this.fcsOctets, callKey: this.options.callKey, bitSamples }) : null;
+    const diag = damaged ? this.diagnose(f, bitSamples) : null;
     // identity of this frame as a possible follower: the address (corrected when one bit explains a bad FCS)
     const station = diag ? diag.station : f.decode ? f.decode.address : f.bytes.length > 0 ? f.bytes[0] : null;
-    this.windows.add(f.link, f.seq, f.firstSample, f.lastSample, station ?? -1);
+    this.windows.add(f.link, f.seq, f.firstSample, f.lastSample, station ?? -1, frameLineBits(f));
     if (station !== null) this.follow(f, station, diag ? { kind: diag.kind, ns: diag.ns, key: diag.callKey } : null);
-    if (!diag) return;
+    if (diag) {
+      const index = this.addRow(f, diag);
+      if (f.status === 'abort') this.abortOffsets.set(index, underrunOffset(f, this.fcsOctets));
+    }
+    const cut = this.underruns.frame(f);
+    if (cut) this.underrun(cut, bitSamples);
+  }
+
+  private diagnose(f: DecodedFrame, bitSamples?: ArrayLike<number> | null): FrameDiagnosis {
+    return diagnoseFrame(f, { fcsOctets: this.fcsOctets, callKey: this.options.callKey, bitSamples });
+  }
+
+  private addRow(f: DecodedFrame, diag: FrameDiagnosis): number {
     const row: FaultRow = {
       link: f.link,
       seq: f.seq,
@@ -171,14 +223,46 @@ export class FaultDesk {
       next: null,
       retransmission: null,
       retransmissionSearch: diag.callKey !== null || (diag.kind === 'I' && diag.ns !== null) ? 'capture-ended' : 'not-applicable',
+      race: null,
     };
     const index = this.rows.push(row) - 1;
     this.rowOf.set(refKey(f.link, f.seq), index);
-    if (station !== null) {
-      const key = stationKey(f.link, station);
+    if (diag.station !== null) {
+      const key = stationKey(f.link, diag.station);
       const list = this.pending.get(key);
       if (list) list.push({ row: index, seen: 0 });
       else this.pending.set(key, [{ row: index, seen: 0 }]);
+    }
+    return index;
+  }
+
+  /** the row of a frame, made now for a good one */
+  private rowFor(f: DecodedFrame, bitSamples?: ArrayLike<number> | null): FaultRow {
+    const at = this.rowOf.get(refKey(f.link, f.seq));
+    return this.rows[at ?? this.addRow(f, this.diagnose(f, bitSamples))];
+  }
+
+  private underrun(cut: UnderrunFinding, bitSamples?: ArrayLike<number> | null): void {
+    // the cut frame came before the frame whose bit samples the caller handed over
+    const row = this.rowFor(cut.frame, null);
+    const shape = cut.shape;
+    row.cause = 'tx-underrun';
+    row.race = {
+      kind: 'tx-underrun',
+      end: cut.end,
+      octetOffset: cut.octetOffset,
+      expectedOctets: shape?.known ? shape.expectedOctets : null,
+      field: shape?.known ? shape.truncatedField : null,
+      fieldOctets: shape?.known ? shape.fieldOctets : null,
+      evidence: cut.evidence,
+      fragment: cut.fragment ? refOf(cut.fragment) : null,
+    };
+    if (cut.fragment) {
+      const frag = this.rowFor(cut.fragment, bitSamples);
+      frag.cause = 'underrun-fragment';
+      frag.race = { kind: 'underrun-fragment', of: refOf(cut.frame), octets: Math.max(0, cut.fragment.bytes.length - (cut.fragment.status === 'abort' ? 0 : this.fcsOctets)), rejoins: cut.rejoins };
+      // the fragment is not the station's own frame: nothing to retransmit
+      frag.retransmissionSearch = 'not-applicable';
     }
   }
 
@@ -195,6 +279,19 @@ export class FaultDesk {
       return;
     }
     this.anomalies.push(a);
+  }
+
+  /**
+   * An exchange from the call layer, when it runs beside the desk: the requests among them that
+   * crossed the line intact and were still lost are receiver over-run symptoms.
+   */
+  exchange(e: Exchange): void {
+    this.exchanges.push(e);
+  }
+
+  /** the clock's period spread from the anomaly tap (the desk stands where an AnomalySink is expected) */
+  clockSpread(s: ClockSpread): void {
+    this.spread = s;
   }
 
   /** a frame from `station` on its link: the follower of earlier damaged frames of that station */
@@ -238,6 +335,8 @@ export class FaultDesk {
   /** the report; `endSample` (the capture's last sample) sets the span of the counts over time */
   finish(endSample?: number): FaultReport {
     const end = Math.max(endSample ?? 0, this.endSample);
+    for (const cut of this.underruns.finish()) this.underrun(cut);
+    this.recurringAborts();
     const rows = this.rows;
     const extra: FaultRow[] = [];
     const extraOf = new Map<string, FaultRow>();
@@ -246,6 +345,7 @@ export class FaultDesk {
     const inFrames = new Map<AnomalyKind, number>();
     const outsideCount = new Map<AnomalyKind, number>();
     const binned: number[] = [];
+    const lineBits = new Map<FaultRow, number>();
     for (const a of sorted) {
       const hits = this.windows.find(a);
       if (hits.length === 0) {
@@ -268,9 +368,12 @@ export class FaultDesk {
           extra.push(row);
           extraOf.set(key, row);
         }
+        lineBits.set(row, h.bits);
         row.anomalies.push(a);
       }
     }
+    const timingFrames = this.octetTiming([...rows, ...extra], lineBits);
+    const overruns = this.overruns(rows, extra, extraOf);
     const all = [...rows, ...extra].sort((a, b) => a.firstSample - b.firstSample || (a.link < b.link ? -1 : a.link > b.link ? 1 : a.seq - b.seq));
     for (const r of all) r.focusSample = focusOf(r);
     const groups: FaultGroup[] = DAMAGE_CAUSES.map((cause) => ({ cause, count: 0, rows: [] }));
@@ -296,8 +399,131 @@ export class FaultDesk {
       bins: binFaults(all, binned, end, this.options.samplePeriodSeconds, this.options.bins),
       framesSeen: this.frames,
       anomaliesDropped: this.dropped,
+      races: {
+        underruns: summarizeUnderruns(all),
+        overruns: summarizeOverruns(overruns),
+        octetTiming: { frames: timingFrames, clock: this.spread },
+        budget: this.budget(),
+      },
     };
   }
+
+  /** Aborts that strike a link at the same octet offset as another cut frame of the link are under-runs. */
+  private recurringAborts(): void {
+    const count = new Map<string, number>();
+    const offsetOf = (r: FaultRow, index: number): number | null =>
+      r.race?.kind === 'tx-underrun' ? r.race.octetOffset : r.cause === 'abort' ? (this.abortOffsets.get(index) ?? null) : null;
+    this.rows.forEach((r, i) => {
+      const o = offsetOf(r, i);
+      if (o !== null) count.set(`${r.link}\u0000${o}`, (count.get(`${r.link}\u0000${o}`) ?? 0) + 1);
+    });
+    this.rows.forEach((r, i) => {
+      if (r.cause !== 'abort') return;
+      const o = offsetOf(r, i)!;
+      if ((count.get(`${r.link}\u0000${o}`) ?? 0) < 2) return;
+      r.cause = 'tx-underrun';
+      r.race = { kind: 'tx-underrun', end: 'abort', octetOffset: o, expectedOctets: null, field: null, fieldOctets: null, evidence: ['recurring-offset'], fragment: null };
+    });
+  }
+
+  /** Octet timing details on every row with stretched or missing clock periods; a good frame with only those gets its own cause. */
+  private octetTiming(rows: FaultRow[], lineBits: Map<FaultRow, number>): number {
+    let frames = 0;
+    for (const r of rows) {
+      const clock = r.anomalies.filter((a) => a.kind === 'clock-stretch' || a.kind === 'clock-missing');
+      if (clock.length === 0) continue;
+      frames++;
+      const bits = lineBits.get(r) ?? 0;
+      const span = r.lastSample - r.firstSample;
+      const detail: OctetTimingDetail = {
+        kind: 'octet-timing',
+        stretched: clock.filter((a) => a.kind === 'clock-stretch').length,
+        missing: clock.filter((a) => a.kind === 'clock-missing').reduce((n, a) => n + a.count, 0),
+        longestBits: clock.reduce((m, a) => Math.max(m, a.kind === 'clock-missing' ? a.bits + 1 : a.bits), 0),
+        // where the long period ended, spread evenly over the frame's line bits (stuffing ignored)
+        octets: clock.map((a) => (span > 0 && bits > 1 ? Math.max(0, Math.min(bits - 1, Math.round(((a.endSample - r.firstSample) / span) * (bits - 1)))) >> 3 : 0)),
+      };
+      if (r.race === null) r.race = detail;
+      if (r.cause === 'line-anomaly' && clock.length === r.anomalies.length) r.cause = 'octet-timing';
+    }
+    return frames;
+  }
+
+  /** Receiver over-run symptoms among the exchanges: rows with their own cause on the request. */
+  private overruns(rows: FaultRow[], extra: FaultRow[], extraOf: Map<string, FaultRow>): OverrunFinding[] {
+    if (this.exchanges.length === 0) return [];
+    const byStation = new Map<number, number[]>();
+    const byLink = new Map<string, number[]>();
+    for (const r of rows) {
+      if (!WIRE_DAMAGE.has(r.cause)) continue;
+      if (r.station !== null) (byStation.get(r.station) ?? byStation.set(r.station, []).get(r.station)!).push(r.firstSample);
+      (byLink.get(r.link) ?? byLink.set(r.link, []).get(r.link)!).push(r.firstSample);
+    }
+    for (const list of [...byStation.values(), ...byLink.values()]) list.sort((a, b) => a - b);
+    const any = (list: number[] | undefined, from: number, to: number) => {
+      if (!list) return false;
+      let lo = 0;
+      let hi = list.length;
+      while (lo < hi) {
+        const mid = (lo + hi) >> 1;
+        if (list[mid] < from) lo = mid + 1;
+        else hi = mid;
+      }
+      return lo < list.length && list[lo] <= to;
+    };
+    // the links each station's exchanges used: damage there counts even when its address was hit
+    const linksOf = new Map<number, Set<string>>();
+    for (const e of this.exchanges) {
+      const set = linksOf.get(e.station) ?? linksOf.set(e.station, new Set()).get(e.station)!;
+      set.add(e.request.link);
+      for (const r of e.responses) set.add(r.link);
+    }
+    const found = findOverruns(this.exchanges, (station, from, to) => {
+      if (any(byStation.get(station), from, to)) return true;
+      for (const link of linksOf.get(station) ?? []) if (any(byLink.get(link), from, to)) return true;
+      return false;
+    });
+    for (const o of found) {
+      const key = refKey(o.request.link, o.request.seq);
+      const at = this.rowOf.get(key);
+      let row = at !== undefined ? rows[at] : extraOf.get(key);
+      if (!row) {
+        const w = this.windows.byRef(o.request.link, o.request.seq);
+        row = goodFrameRow(o.request.link, o.request.seq, w ? w.first : o.firstSample, w ? w.last : o.firstSample, o.detail.station);
+        extra.push(row);
+        extraOf.set(key, row);
+      }
+      row.cause = 'rx-overrun';
+      row.race = o.detail;
+    }
+    return found;
+  }
+
+  /** time and cycles per octet at the clock's rate, else the frames', else the settings' */
+  private budget(): OctetBudget | null {
+    const cpu = this.options.cpuHz ?? DEFAULT_CPU_HZ;
+    if (this.spread) return octetBudget(this.spread.bitRate, cpu, 'clock');
+    const measured = this.meter.bitRate(this.options.samplePeriodSeconds);
+    if (measured) return octetBudget(measured, cpu, 'frames');
+    return this.options.bitRate ? octetBudget(this.options.bitRate, cpu, 'nominal') : null;
+  }
+}
+
+/** The under-run part of the race summary, from the rows. */
+function summarizeUnderruns(rows: readonly FaultRow[]): RaceSummary['underruns'] {
+  const cuts = rows.map((r) => r.race).filter((d): d is UnderrunDetail => d?.kind === 'tx-underrun');
+  const offsets = countValues(cuts.map((d) => d.octetOffset))
+    .map(({ value, count }) => ({ offset: value, count }))
+    .sort((a, b) => a.offset - b.offset);
+  const top = countValues(cuts.map((d) => d.octetOffset))[0];
+  return {
+    count: cuts.length,
+    endedWithFcs: cuts.filter((d) => d.end === 'fcs').length,
+    endedWithAbort: cuts.filter((d) => d.end === 'abort').length,
+    fragments: rows.filter((r) => r.cause === 'underrun-fragment').length,
+    offsets,
+    recurring: top && top.count >= 2 ? { offset: top.value, count: top.count, share: top.count / cuts.length } : null,
+  };
 }
 
 function goodFrameRow(link: string, seq: number, first: number, last: number, station: number | null): FaultRow {
@@ -323,13 +549,15 @@ function goodFrameRow(link: string, seq: number, first: number, last: number, st
     next: null,
     retransmission: null,
     retransmissionSearch: 'not-applicable',
+    race: null,
   };
 }
 
 function focusOf(r: FaultRow): number | null {
   if (r.suspect) return r.suspect.sample;
   if (r.anomalies.length > 0) return Math.max(r.firstSample, r.anomalies[0].sample);
-  if (r.cause === 'abort' || r.cause === 'residue') return r.lastSample;
+  // where the frame broke off
+  if (r.cause === 'abort' || r.cause === 'residue' || r.cause === 'tx-underrun') return r.lastSample;
   return null;
 }
 

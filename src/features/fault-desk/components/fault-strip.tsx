@@ -2,7 +2,18 @@ import type { DamageCauseName, FaultBinsView } from '../../../../shared/schemas'
 import { formatDuration, formatSeconds } from '../../../components/units';
 import { causeColours, causeLabels } from './cause-labels';
 
-const ORDER: DamageCauseName[] = ['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'line-anomaly'];
+const ORDER: DamageCauseName[] = [
+  'bad-fcs-explained',
+  'bad-fcs-unexplained',
+  'abort',
+  'short',
+  'residue',
+  'line-anomaly',
+  'tx-underrun',
+  'underrun-fragment',
+  'rx-overrun',
+  'octet-timing',
+];
 
 /** Damaged frames over the capture's time, stacked by cause, with line anomalies as ticks below: clusters stand out. */
 export function FaultStrip({ bins }: { bins: FaultBinsView }) {
