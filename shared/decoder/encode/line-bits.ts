@@ -153,6 +153,26 @@ export function encodeLineBits(items: LineItem[], options: EncodeOptions = {}): 
   return { bits: w.bits.slice(0, w.n), frames };
 }
 
+/**
+ * Line bits between the flags of one frame as encodeLineBits sends it (zero-bit insertion
+ * counted, an abort's 1s not): for placing frames without encoding the whole line.
+ */
+export function frameLineLength(bytes: Uint8Array, faults: FrameFaults = {}, fcs: 16 | 32 = 16): number {
+  const { bits } = frameBits(bytes, faults, fcs);
+  const stop = faults.abortAfterBits !== undefined ? Math.min(faults.abortAfterBits, bits.length) : bits.length;
+  let n = stop;
+  let ones = 0;
+  for (let i = 0; i < stop; i++) {
+    if (bits[i]) {
+      if (++ones === 5) {
+        n++;
+        ones = 0;
+      }
+    } else ones = 0;
+  }
+  return n;
+}
+
 /** Packs line bits into octets LSB first (the octet-stream capture format). */
 export function packLineBits(bits: Uint8Array): Uint8Array {
   const out = new Uint8Array(Math.ceil(bits.length / 8));
