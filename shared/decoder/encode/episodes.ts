@@ -23,6 +23,9 @@
 //   before, it passes it by, `rounds` times in a row. A round nothing on the wire shows (no one
 //   else visited) cannot be counted by a decoder, so skips are for lines where the server polls.
 // - a late station: it takes `answerDelay` longer to answer every frame of the server.
+// - a receiver over-run in the server: a request that crossed the line intact is lost (no answer,
+//   the station asks again later with the same N(S)) or answered with an error status (the
+//   station asks again at once).
 //
 // Frames are placed on whole flags (a gap between frames is a whole number of fill flags), so a
 // frame starts up to 7 bits later than asked; the episode reports where each one really is.
@@ -60,6 +63,12 @@ export interface EpisodeCall {
   responseUnderrun?: Underrun;
   /** unanswered calls: sends in all before the station gives up (default 2) */
   sends?: number;
+  /**
+   * The server's receiver over-runs on this request although it crossed the line intact: it loses
+   * the first `lost` sends (no answer; the station asks again `retryAfter` later, same N(S)), and/or
+   * answers the first readable one with `errorStatus` (the station asks again at once).
+   */
+  overrun?: { lost?: number; errorStatus?: number };
 }
 
 export interface EpisodeStation {
@@ -286,6 +295,8 @@ interface StationState {
   skipArmed: boolean;
   requestCut: boolean;
   answerCut: boolean;
+  lost: number;
+  erred: boolean;
   /** the expected exchange of the current call */
   ex: ExpectedExchange | null;
   answerBits: number;
@@ -324,6 +335,8 @@ export function planEpisode(script: EpisodeScript): Omit<EncodedEpisode, 'links'
       skipArmed: false,
       requestCut: false,
       answerCut: false,
+      lost: 0,
+      erred: false,
       ex: null,
       answerBits: bits(st.answerDelay ?? 0),
     };
@@ -451,6 +464,13 @@ export function planEpisode(script: EpisodeScript): Omit<EncodedEpisode, 'links'
     }
     if (ex.requestSeq < 0) ex.requestSeq = req.seq;
     ex.goodSends++;
+    if (call.overrun?.lost && s.lost < call.overrun.lost) {
+      // intact on the line, lost in the server's receiver: no answer, not even at the link level
+      s.lost++;
+      raise(s, end + retryAfter);
+      visits.push({ station: a, round, startBit: poll.startBit, endBit: end, served: true });
+      return end;
+    }
     s.stVs = (s.stVs + 1) & 7;
     s.srvVr = (s.srvVr + 1) & 7;
     if (!call.response) {
@@ -462,7 +482,15 @@ export function planEpisode(script: EpisodeScript): Omit<EncodedEpisode, 'links'
       return end;
     }
     const rcut = !s.answerCut && call.responseUnderrun ? call.responseUnderrun : undefined;
-    const answered = s.down.send(req.endBit - 1 + bits(call.serverDelay), frame([a, control.i(s.srvVs, s.srvVr, true)], call.response), 'response', a, rcut);
+    const erring = call.overrun?.errorStatus !== undefined && !s.erred;
+    let info = call.response;
+    if (erring) {
+      // the server read a garbled request and says so
+      info = call.response.slice();
+      info[2] = call.overrun!.errorStatus!;
+      s.erred = true;
+    }
+    const answered = s.down.send(req.endBit - 1 + bits(call.serverDelay), frame([a, control.i(s.srvVs, s.srvVr, true)], info), 'response', a, rcut);
     const resp = answered.frame;
     s.srvVs = (s.srvVs + 1) & 7;
     end = (answered.fragment ?? resp).endBit;
@@ -487,6 +515,15 @@ export function planEpisode(script: EpisodeScript): Omit<EncodedEpisode, 'links'
     ex.delaySeconds = (resp.startBit - (req.endBit - 1)) / rate;
     const ack = s.up.send(answerAt(resp.endBit), frame([a, control.rr(s.stVr, true)]), 'ack', a).frame;
     end = ack.endBit;
+    if (erring) {
+      // an answered exchange; the station sends the same request again at once (same tag)
+      ex.outcome = ex.goodSends > 1 ? 'retried' : 'answered';
+      ex.lastBit = end;
+      s.ex = null;
+      raise(s, end + 8);
+      visits.push({ station: a, round, startBit: poll.startBit, endBit: end, served: true });
+      return end;
+    }
     finishCall(s, end);
     visits.push({ station: a, round, startBit: poll.startBit, endBit: end, served: true });
     return end;
@@ -503,6 +540,8 @@ export function planEpisode(script: EpisodeScript): Omit<EncodedEpisode, 'links'
     s.sends = 0;
     s.requestCut = false;
     s.answerCut = false;
+    s.lost = 0;
+    s.erred = false;
     const call = s.st.calls[s.next];
     if (call) raise(s, Math.max(end + 8, bits(call.at)));
     else s.rise = Infinity;

@@ -182,25 +182,33 @@ export class FaultDesk {
     this.frames++;
     if (f.lastSample > this.endSample) this.endSample = f.lastSample;
     this.meter.frame(f);
-    const damaged = f.status !== 'ok';
-    const diag = damaged ? this.diagnose(f, bitSamples) : null;
+    // what this frame says about the one before it on the link: decided first, so a cut frame's row
+    // waits for its retransmission from this frame on
+    const cut = this.underruns.frame(f);
+    if (cut) this.markCut(cut);
+    const fragment = cut !== null && cut.fragment === f;
+    const diag = f.status !== 'ok' || fragment ? this.diagnose(f, bitSamples) : null;
     // identity of this frame as a possible follower: the address (corrected when one bit explains a bad FCS)
     const station = diag ? diag.station : f.decode ? f.decode.address : f.bytes.length > 0 ? f.bytes[0] : null;
     this.windows.add(f.link, f.seq, f.firstSample, f.lastSample, station ?? -1, frameLineBits(f));
     if (station !== null) this.follow(f, station, diag ? { kind: diag.kind, ns: diag.ns, key: diag.callKey } : null);
-    if (diag) {
-      const index = this.addRow(f, diag);
-      if (f.status === 'abort') this.abortOffsets.set(index, underrunOffset(f, this.fcsOctets));
+    if (!diag) return;
+    const index = this.addRow(f, diag, !fragment);
+    if (f.status === 'abort') this.abortOffsets.set(index, underrunOffset(f, this.fcsOctets));
+    if (fragment) {
+      const row = this.rows[index];
+      row.cause = 'underrun-fragment';
+      row.race = { kind: 'underrun-fragment', of: refOf(cut.frame), octets: Math.max(0, f.bytes.length - (f.status === 'abort' ? 0 : this.fcsOctets)), rejoins: cut.rejoins };
+      // not the station's own frame: nothing to retransmit
+      row.retransmissionSearch = 'not-applicable';
     }
-    const cut = this.underruns.frame(f);
-    if (cut) this.underrun(cut, bitSamples);
   }
 
   private diagnose(f: DecodedFrame, bitSamples?: ArrayLike<number> | null): FrameDiagnosis {
     return diagnoseFrame(f, { fcsOctets: this.fcsOctets, callKey: this.options.callKey, bitSamples });
   }
 
-  private addRow(f: DecodedFrame, diag: FrameDiagnosis): number {
+  private addRow(f: DecodedFrame, diag: FrameDiagnosis, followed = true): number {
     const row: FaultRow = {
       link: f.link,
       seq: f.seq,
@@ -227,7 +235,7 @@ export class FaultDesk {
     };
     const index = this.rows.push(row) - 1;
     this.rowOf.set(refKey(f.link, f.seq), index);
-    if (diag.station !== null) {
+    if (followed && diag.station !== null) {
       const key = stationKey(f.link, diag.station);
       const list = this.pending.get(key);
       if (list) list.push({ row: index, seen: 0 });
@@ -236,34 +244,22 @@ export class FaultDesk {
     return index;
   }
 
-  /** the row of a frame, made now for a good one */
-  private rowFor(f: DecodedFrame, bitSamples?: ArrayLike<number> | null): FaultRow {
-    const at = this.rowOf.get(refKey(f.link, f.seq));
-    return this.rows[at ?? this.addRow(f, this.diagnose(f, bitSamples))];
-  }
-
-  private underrun(cut: UnderrunFinding, bitSamples?: ArrayLike<number> | null): void {
-    // the cut frame came before the frame whose bit samples the caller handed over
-    const row = this.rowFor(cut.frame, null);
-    const shape = cut.shape;
+  /** the cut frame's row (made now when it checked good) with its under-run detail */
+  private markCut(cut: UnderrunFinding): void {
+    const at = this.rowOf.get(refKey(cut.frame.link, cut.frame.seq));
+    const row = this.rows[at ?? this.addRow(cut.frame, this.diagnose(cut.frame))];
+    const shape = cut.shape?.known ? cut.shape : null;
     row.cause = 'tx-underrun';
     row.race = {
       kind: 'tx-underrun',
       end: cut.end,
       octetOffset: cut.octetOffset,
-      expectedOctets: shape?.known ? shape.expectedOctets : null,
-      field: shape?.known ? shape.truncatedField : null,
-      fieldOctets: shape?.known ? shape.fieldOctets : null,
+      expectedOctets: shape ? shape.expectedOctets : null,
+      field: shape ? shape.truncatedField : null,
+      fieldOctets: shape ? shape.fieldOctets : null,
       evidence: cut.evidence,
       fragment: cut.fragment ? refOf(cut.fragment) : null,
     };
-    if (cut.fragment) {
-      const frag = this.rowFor(cut.fragment, bitSamples);
-      frag.cause = 'underrun-fragment';
-      frag.race = { kind: 'underrun-fragment', of: refOf(cut.frame), octets: Math.max(0, cut.fragment.bytes.length - (cut.fragment.status === 'abort' ? 0 : this.fcsOctets)), rejoins: cut.rejoins };
-      // the fragment is not the station's own frame: nothing to retransmit
-      frag.retransmissionSearch = 'not-applicable';
-    }
   }
 
   /** line events are not faults; taken so the desk can stand where a FrameSink is expected */
@@ -335,7 +331,7 @@ export class FaultDesk {
   /** the report; `endSample` (the capture's last sample) sets the span of the counts over time */
   finish(endSample?: number): FaultReport {
     const end = Math.max(endSample ?? 0, this.endSample);
-    for (const cut of this.underruns.finish()) this.underrun(cut);
+    for (const cut of this.underruns.finish()) this.markCut(cut);
     this.recurringAborts();
     const rows = this.rows;
     const extra: FaultRow[] = [];

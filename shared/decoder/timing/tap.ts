@@ -80,6 +80,7 @@ export class TimingTap {
 
   /** an exchange from the call layer; its id is its running number among the exchanges given here */
   exchange(e: Exchange): void {
+    const id = this.exchanges++;
     if (this.roster && !this.roster.has(e.station)) return;
     this.timing.exchange({
       station: e.station,
@@ -87,7 +88,7 @@ export class TimingTap {
       end: e.responseFirstSample ?? e.answeredSendLastSample,
       outcome: e.outcome,
       rttSeconds: e.rttSeconds,
-      id: this.exchanges++,
+      id,
     });
   }
 
