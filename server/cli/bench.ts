@@ -7,6 +7,7 @@
 //                                     (bench/reference.c, built with cc -O2) on the same file
 //   npm run bench -- --cli-mb 1024    the memory target: 1 GB raw under 300 MB RSS
 //   npm run bench -- --cli-mb 400 --cli-only   only the CLI and C reference rows
+//   npm run bench -- --timing         only the service statistics (1 M frames) and schedule window rows
 import { spawn, spawnSync } from 'node:child_process';
 import { mkdtempSync, openSync, rmSync, writeSync, closeSync, readFileSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
@@ -14,12 +15,15 @@ import { join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { checkFrame } from '../../shared/decoder/check';
 import { Deframer } from '../../shared/decoder/deframe';
+import { requestInfo, responseInfo } from '../../shared/decoder/encode/calls';
+import { planEpisode, type EpisodeStation } from '../../shared/decoder/encode/episodes';
 import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
 import { renderWaveform, type Waveform } from '../../shared/decoder/encode/waveform';
 import { collect } from '../../shared/decoder/encode/writers/collect';
 import { rawChunks } from '../../shared/decoder/encode/writers/raw';
 import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
 import { createDecoder } from '../../shared/decoder/pipeline';
+import { LineTiming, scheduleWindow, type TimingExchange, type TimingFrame } from '../../shared/decoder/timing';
 
 const mb = (bytes: number) => bytes / 1e6;
 const fmt = (n: number, digits = 1) => n.toFixed(digits);
@@ -210,6 +214,87 @@ function benchVcd(spb: number): void {
   });
 }
 
+const KINDS = ['I', 'S', 'U'] as const;
+
+/** The bench's round-robin episode as columns (the plan itself is dropped before timing starts). */
+function serviceStatsInput() {
+  const record = new Uint8Array(128).fill(0x41);
+  const request = requestInfo(20, 1, 0, { fcb: { name: 'BENCH.DAT' } });
+  const response = responseInfo(20, 1, 0, { fcb: { name: 'BENCH.DAT' }, record });
+  const stations: EpisodeStation[] = Array.from({ length: 8 }, (_, k) => ({
+    address: 0x20 + k,
+    port: `p${k}`,
+    calls: Array.from({ length: 31_500 }, (_, i) => ({ at: i * 0.004 + k * 0.0003, request, response, serverDelay: 0.0003 })),
+  }));
+  const plan = planEpisode({ bitRate: BIT_RATE, wiring: 'per-port', stations, skips: [{ station: 0x23, rounds: 3, after: 1 }] });
+  const all = plan.lines.flatMap((line) => line.frames.map((f) => ({ f, fromServer: line.direction === 'from-server' }))).sort((a, b) => a.f.startBit - b.f.startBit);
+  const n = all.length;
+  const frames = { first: new Float64Array(n), last: new Float64Array(n), station: new Int32Array(n), fromServer: new Uint8Array(n), abort: new Uint8Array(n), kind: new Uint8Array(n), pf: new Uint8Array(n) };
+  all.forEach(({ f, fromServer }, i) => {
+    frames.first[i] = f.startBit;
+    frames.last[i] = f.endBit - 1;
+    frames.station[i] = f.station;
+    frames.fromServer[i] = fromServer ? 1 : 0;
+    frames.abort[i] = f.status === 'abort' ? 1 : 0;
+    frames.kind[i] = KINDS.indexOf(f.kind);
+    frames.pf[i] = (f.bytes[1] & 0x10) !== 0 ? 1 : 0;
+  });
+  const edges = plan.rts.flatMap((r) => r.edges.map((e) => ({ station: r.station, rising: e.level === 1, at: e.bit }))).sort((a, b) => a.at - b.at);
+  const exchanges: TimingExchange[] = plan.exchanges.map((e, i) => ({ station: e.station, first: e.firstBit, end: e.lastBit, outcome: e.outcome, rttSeconds: e.delaySeconds, id: i }));
+  return { frames, edges, exchanges };
+}
+
+/**
+ * Service statistics (visits, rounds, waits, skips, per-station figures) and the schedule's lanes
+ * for about a million frames: a round-robin server with 8 stations on their own ports, every one
+ * asking all the time, planned by the episode encoder (frames placed, no waveform). The frames,
+ * request-line edges and exchanges are made before the clock starts, in the order the decoder and
+ * call layer give them; only the timing stage is timed.
+ */
+function benchServiceStats(): void {
+  const input = serviceStatsInput();
+  const { frames, edges, exchanges } = input;
+  const n = frames.first.length;
+  const run = () => {
+    const lt = new LineTiming({ secondsPerUnit: 1 / BIT_RATE });
+    // one frame object refilled: the stage keeps nothing of it, as with the decoder's short-lived frames
+    const f: TimingFrame = { station: 0, direction: 'to-server', first: 0, last: 0, status: 'ok', kind: 'I', pf: false, id: 0 };
+    for (let i = 0; i < n; i++) {
+      f.station = frames.station[i];
+      f.direction = frames.fromServer[i] ? 'from-server' : 'to-server';
+      f.first = frames.first[i];
+      f.last = frames.last[i];
+      f.status = frames.abort[i] ? 'abort' : 'ok';
+      f.kind = KINDS[frames.kind[i]];
+      f.pf = frames.pf[i] === 1;
+      f.id = i;
+      lt.frame(f);
+    }
+    for (const e of edges) lt.requestLine(e.station, e.rising, e.at);
+    for (const x of exchanges) lt.exchange(x);
+    return lt.finish();
+  };
+  run(); // warm-up
+  let result = run();
+  const { secs, cpu } = best(3, () => (result = run()));
+  const s = result.service;
+  report({
+    stage: `service statistics, ${fmt(n / 1e6, 2)} M frames, 8 stations`,
+    perCpu: `${fmt(n / cpu / 1e6, 2)} M frames`,
+    rssMb: peakRssMb(),
+    target: '1 M frames ≤ 5 s',
+    note: `${fmt(secs, 2)} s wall, ${fmt(cpu, 2)} CPU-s (${fmt((cpu * 1e6) / n, 2)} CPU-s per 1 M frames); ${s.server.visits} visits, ${s.server.rounds} rounds, ${s.skipped.length} skipped, ${s.starved.length} starved`,
+  });
+  const sched = result.schedule;
+  const w = best(3, () => scheduleWindow(sched, { from: sched.from, to: sched.to, width: 1600 }));
+  report({
+    stage: `schedule window of the whole capture, 1600 px`,
+    rssMb: peakRssMb(),
+    target: '—',
+    note: `${fmt(w.secs * 1000, 1)} ms wall, ${fmt(w.cpu * 1000, 1)} CPU-ms for ${exchanges.length} exchanges and ${n} frames in ${sched.lanes.length} lanes`,
+  });
+}
+
 /** Compiles bench/reference.c with `cc -O2` into `dir`; null when there is no C compiler. */
 function compileReference(dir: string): string | null {
   const out = join(dir, 'reference');
@@ -314,19 +399,21 @@ function runMeasured(cmd: string, args: string[], stderr: 'inherit' | 'ignore' =
 }
 
 async function main(): Promise<void> {
-  const { values } = parseArgs({ options: { 'cli-mb': { type: 'string' }, 'cli-only': { type: 'boolean' }, general: { type: 'boolean' } }, strict: true });
+  const { values } = parseArgs({ options: { 'cli-mb': { type: 'string' }, 'cli-only': { type: 'boolean' }, general: { type: 'boolean' }, timing: { type: 'boolean' } }, strict: true });
   process.stdout.write(`Flagline decoder benchmarks (node ${process.version}; load average ${loadavg().map((l) => l.toFixed(1)).join(' ')}; ${cpus().length} CPUs)\n`);
   process.stdout.write(`Sample density: ${BIT_RATE / 1000} kbit/s links sampled at ${(BIT_RATE * DENSE) / 1e6} MHz (${DENSE} samples/bit, as real captures), and at ${SPARSE} samples/bit.\n`);
   process.stdout.write('Rates are wall-clock, best of a few runs; "per CPU-s" is the same work per CPU-second of this process.\n');
   process.stdout.write('Peak RSS of the in-memory stages includes the captures the bench generates; the CLI row is the decoder streaming a file.\n\n');
   printHeader();
-  if (!values['cli-only']) {
+  if (values.timing) benchServiceStats();
+  else if (!values['cli-only']) {
     benchDeframe();
     benchRaw(DENSE);
     benchRaw(SPARSE);
     if (values.general) benchRaw(SPARSE, false);
     benchVcd(DENSE);
     benchVcd(SPARSE);
+    benchServiceStats();
   }
   if (values['cli-mb'] !== undefined) {
     const size = Number(values['cli-mb']);

@@ -158,12 +158,27 @@ export function encodeLineBits(items: LineItem[], options: EncodeOptions = {}): 
  * counted, an abort's 1s not): for placing frames without encoding the whole line.
  */
 export function frameLineLength(bytes: Uint8Array, faults: FrameFaults = {}, fcs: 16 | 32 = 16): number {
-  const { bits } = frameBits(bytes, faults, fcs);
-  const stop = faults.abortAfterBits !== undefined ? Math.min(faults.abortAfterBits, bits.length) : bits.length;
+  let octets: Uint8Array;
+  if (faults.flipBits?.length || faults.residueBits || faults.wrongFcs || faults.noFcs) {
+    const { bits } = frameBits(bytes, faults, fcs);
+    octets = packLineBits(bits);
+    return stuffedLength(octets, faults.abortAfterBits !== undefined ? Math.min(faults.abortAfterBits, bits.length) : bits.length);
+  }
+  // the common case: the octets then the FCS, low-order octet first
+  const f = fcs === 16 ? fcs16(bytes) : fcs32(bytes);
+  octets = new Uint8Array(bytes.length + fcs / 8);
+  octets.set(bytes);
+  for (let k = 0; k < fcs / 8; k++) octets[bytes.length + k] = (f >>> (8 * k)) & 0xff;
+  const total = octets.length * 8;
+  return stuffedLength(octets, faults.abortAfterBits !== undefined ? Math.min(faults.abortAfterBits, total) : total);
+}
+
+/** the first `stop` bits of `octets` (LSB first) plus the 0 inserted after every five 1s among them */
+function stuffedLength(octets: Uint8Array, stop: number): number {
   let n = stop;
   let ones = 0;
   for (let i = 0; i < stop; i++) {
-    if (bits[i]) {
+    if ((octets[i >> 3] >> (i & 7)) & 1) {
       if (++ones === 5) {
         n++;
         ones = 0;

@@ -174,18 +174,20 @@ const FROM_SERVER = 1;
 const GOOD = 2;
 const POLL = 4;
 const FINAL = 8;
+const STATUS_SHIFT = 4;
+const statusCode = (s: FrameStatus) => Math.max(0, FRAME_STATUS_CODES.indexOf(s));
 
 export class LineTiming {
   private readonly index = new Map<number, number>();
   private readonly addresses: number[] = [];
-  // frames
-  private readonly fFirst = new Float64List(1024);
-  private readonly fLast = new Float64List(1024);
-  private readonly fStation = new Int32List(1024);
-  private readonly fFlags = new Int32List(1024);
-  private readonly fStatus = new Int32List(1024);
-  private readonly fId = new Float64List(1024);
-  private ordered = true;
+  // frames, as columns grown together (one capacity check per frame)
+  private fFirst = new Float64Array(1024);
+  private fLast = new Float64Array(1024);
+  private fId = new Float64Array(1024);
+  private fStation = new Int32Array(1024);
+  /** direction and P/F flags in the low bits, status code above them */
+  private fFlags = new Int32Array(1024);
+  private fn = 0;
   // request-line edges
   private readonly eAt = new Float64List();
   private readonly eStation = new Int32List();
@@ -199,6 +201,8 @@ export class LineTiming {
   private readonly xId = new Float64List();
   private readonly unit: number;
   private readonly starveAfter: number;
+  private lastAddress = -1;
+  private lastIndex = -1;
 
   constructor(options: LineTimingOptions) {
     this.unit = options.secondsPerUnit;
@@ -206,29 +210,51 @@ export class LineTiming {
   }
 
   private stationIndex(address: number): number {
+    if (address === this.lastAddress) return this.lastIndex;
     let i = this.index.get(address);
     if (i === undefined) {
       i = this.addresses.length;
       this.index.set(address, i);
       this.addresses.push(address);
     }
+    this.lastAddress = address;
+    this.lastIndex = i;
     return i;
   }
 
+  private grow(): void {
+    const size = this.fFirst.length * 2;
+    const f64 = (a: Float64Array) => {
+      const b = new Float64Array(size);
+      b.set(a);
+      return b;
+    };
+    const i32 = (a: Int32Array) => {
+      const b = new Int32Array(size);
+      b.set(a);
+      return b;
+    };
+    this.fFirst = f64(this.fFirst);
+    this.fLast = f64(this.fLast);
+    this.fId = f64(this.fId);
+    this.fStation = i32(this.fStation);
+    this.fFlags = i32(this.fFlags);
+  }
+
   frame(f: TimingFrame): void {
-    const n = this.fFirst.n;
-    if (n > 0 && f.first < this.fFirst.data[n - 1]) this.ordered = false;
+    const n = this.fn;
+    if (n === this.fFirst.length) this.grow();
     const good = f.status === 'ok';
     let flags = f.direction === 'from-server' ? FROM_SERVER : 0;
     if (good) flags |= GOOD;
     if (good && f.pf && f.kind === 'S' && f.direction === 'from-server') flags |= POLL;
     if (good && f.pf && f.direction === 'to-server') flags |= FINAL;
-    this.fFirst.push(f.first);
-    this.fLast.push(f.last);
-    this.fStation.push(this.stationIndex(f.station));
-    this.fFlags.push(flags);
-    this.fStatus.push(Math.max(0, FRAME_STATUS_CODES.indexOf(f.status)));
-    this.fId.push(f.id ?? -1);
+    this.fFirst[n] = f.first;
+    this.fLast[n] = f.last;
+    this.fId[n] = f.id ?? -1;
+    this.fStation[n] = this.stationIndex(f.station);
+    this.fFlags[n] = flags | ((good ? 0 : statusCode(f.status)) << STATUS_SHIFT);
+    this.fn = n + 1;
   }
 
   /** the station's request line rose (`rising`) or fell at `at` */
@@ -254,7 +280,7 @@ export class LineTiming {
   private snapshot(): Input {
     return {
       addresses: this.addresses,
-      frames: { first: this.fFirst.data, last: this.fLast.data, station: this.fStation.data, flags: this.fFlags.data, status: this.fStatus.data, id: this.fId.data, n: this.fFirst.n, ordered: this.ordered },
+      frames: { first: this.fFirst, last: this.fLast, station: this.fStation, flags: this.fFlags, id: this.fId, n: this.fn },
       edges: { at: this.eAt.data, station: this.eStation.data, rising: this.eRising.data, n: this.eAt.n },
       exchanges: { first: this.xFirst.data, end: this.xEnd.data, station: this.xStation.data, outcome: this.xOutcome.data, rtt: this.xRtt.data, id: this.xId.data, n: this.xFirst.n },
     };
@@ -263,7 +289,7 @@ export class LineTiming {
 
 interface Input {
   addresses: number[];
-  frames: { first: Float64Array; last: Float64Array; station: Int32Array; flags: Int32Array; status: Int32Array; id: Float64Array; n: number; ordered: boolean };
+  frames: { first: Float64Array; last: Float64Array; station: Int32Array; flags: Int32Array; id: Float64Array; n: number };
   edges: { at: Float64Array; station: Int32Array; rising: Int32Array; n: number };
   exchanges: { first: Float64Array; end: Float64Array; station: Int32Array; outcome: Int32Array; rtt: Float64Array; id: Float64Array; n: number };
 }
@@ -280,14 +306,15 @@ interface RawWait {
   visitsUpTo: number;
 }
 
-/** Sorted order of a typed array's first n entries (identity when already sorted). */
-function orderOf(values: Float64Array, n: number, sorted: boolean): Uint32Array {
+/** Sorted order of a typed array's first n entries (identity when already in order, the usual case). */
+function orderOf(values: Float64Array, n: number): Uint32Array {
   const order = new Uint32Array(n);
-  for (let i = 0; i < n; i++) order[i] = i;
-  if (!sorted) {
-    const keys = Array.from(order).sort((a, b) => values[a] - values[b] || a - b);
-    order.set(keys);
+  let sorted = true;
+  for (let i = 0; i < n; i++) {
+    order[i] = i;
+    if (i > 0 && values[i] < values[i - 1]) sorted = false;
   }
+  if (!sorted) order.set(Array.from(order).sort((a, b) => values[a] - values[b] || a - b));
   return order;
 }
 
@@ -327,8 +354,8 @@ class Finisher {
   /** frames and request-line edges in time order → visits and waits */
   private walk(): void {
     const { frames: f, edges: e } = this.input;
-    const fOrder = orderOf(f.first, f.n, f.ordered);
-    const eOrder = orderOf(e.at, e.n, false);
+    const fOrder = orderOf(f.first, f.n);
+    const eOrder = orderOf(e.at, e.n);
     const waitFrom = new Float64Array(this.n).fill(-1);
     const waitVisits = new Int32Array(this.n);
     const rose = new Uint8Array(this.n);
@@ -568,18 +595,20 @@ class Finisher {
     laneOrder.forEach((st, k) => pos.set(st, k));
     const lanes = laneOrder.map(() => ({ line: new SpanBuilder(), from: new SpanBuilder(), to: new SpanBuilder(), ex: new SpanBuilder(), waits: new SpanBuilder() }));
     const f = this.input.frames;
+    const laneOf = Int32Array.from({ length: n }, (_, st) => pos.get(st)!);
     let from = Infinity;
     let to = -Infinity;
     for (let i = 0; i < f.n; i++) {
-      const lane = lanes[pos.get(f.station[i])!];
-      const b = f.flags[i] & FROM_SERVER ? lane.to : lane.from;
-      b.add(f.first[i] * u, f.last[i] * u, f.status[i], f.id[i]);
+      const lane = lanes[laneOf[f.station[i]]];
+      const flags = f.flags[i];
+      const b = flags & FROM_SERVER ? lane.to : lane.from;
+      b.add(f.first[i] * u, f.last[i] * u, flags >> STATUS_SHIFT, f.id[i]);
       if (f.first[i] < from) from = f.first[i];
       if (f.last[i] > to) to = f.last[i];
     }
     // request-line high periods from the edges, per station in time order
     const e = this.input.edges;
-    const eOrder = orderOf(e.at, e.n, false);
+    const eOrder = orderOf(e.at, e.n);
     const high = new Float64Array(n).fill(NaN);
     for (let k = 0; k < e.n; k++) {
       const j = eOrder[k];
@@ -594,7 +623,11 @@ class Finisher {
       if (e.at[j] > to) to = e.at[j];
     }
     const x = this.input.exchanges;
-    for (let i = 0; i < x.n; i++) lanes[pos.get(x.station[i])!].ex.add(x.first[i] * u, x.end[i] * u, Math.max(0, x.outcome[i]), x.id[i]);
+    for (let i = 0; i < x.n; i++) {
+      lanes[pos.get(x.station[i])!].ex.add(x.first[i] * u, x.end[i] * u, Math.max(0, x.outcome[i]), x.id[i]);
+      if (x.first[i] < from) from = x.first[i];
+      if (x.end[i] > to) to = x.end[i];
+    }
     const end = Number.isFinite(to) ? to : 0;
     for (let st = 0; st < n; st++) if (!Number.isNaN(high[st])) lanes[pos.get(st)!].line.add(high[st] * u, Math.max(end, high[st]) * u, 0);
     const laneOfAddress = new Map(laneOrder.map((st, k) => [addr[st], k]));
