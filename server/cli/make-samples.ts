@@ -23,7 +23,9 @@ import {
   type EncodedSession,
   type ScriptCall,
   type SessionScript,
+  writeFileCalls,
 } from '../../shared/decoder/encode/calls';
+import { encodeEpisode, type EncodedEpisode, type EpisodeCall, type EpisodeScript } from '../../shared/decoder/encode/episodes';
 import { seededRng } from '../../shared/decoder/encode/line-bits';
 import { renderWaveform, type WaveformFaults } from '../../shared/decoder/encode/waveform';
 import { csvChunks } from '../../shared/decoder/encode/writers/csv';
@@ -150,6 +152,78 @@ function script(v: Variant): SessionScript {
   };
 }
 
+// ---------------------------------------------------------------- the busy evening (timing episode)
+
+// Advent Sunday evening: all three desks at work while the vestry server goes round its ports,
+// polling each in turn. Two timing races show: the treasurer desk's send loop cannot keep its
+// serial controller fed at 800 kbit/s, so its write requests run dry at the same octet (the
+// controller closes the frame with the FCS, the rest follows at once as a fragment, and the desk
+// sends the record again); and the server, busy with the others, passes the waiting choir office
+// by for three rounds. The registry desk answers late (an older machine), and one clock period
+// of the registry's line is stretched inside a frame.
+
+const COLLECTION = ascii(
+  [
+    'ADVENT SUNDAY 1983 - COLLECTIONS, ST MARY WRENFIELD',
+    'MATINS      PLATE 0041.20   ENVELOPES 0112.00   ORGAN FUND 0012.50',
+    'EVENSONG    PLATE 0027.85   ENVELOPES 0064.00   ORGAN FUND 0008.00',
+    'CHOIR TEA   0009.40         BOOKSTALL 0015.75   BELLS FUND 0004.10',
+    'TOTAL FOR THE DAY 0294.80   COUNTED BY E. THORNBURY, R. PELLOW   ',
+  ].join('\r\n') + '\r\n',
+);
+
+/** octet of the treasurer's write requests at which its transmitter runs dry */
+const TREASURER_RUNS_DRY = 98;
+
+function eveningScript(): EpisodeScript {
+  const rng = seededRng(1224);
+  const timed = (calls: ScriptCall[], from: number, gap: number): EpisodeCall[] =>
+    calls.map((c, i) => ({ at: from + i * gap, request: c.request, response: c.response, serverDelay: 0.0004 + rng() * 0.0004 }));
+  const registry = timed(readFileCalls('BAPTISMS.DAT', BAPTISMS, { tags: new Tags(), delay: 0 }), 0.0005, 0.0015);
+  const treasurer = timed(writeFileCalls('COLLECT.DAT', COLLECTION, { tags: new Tags(), delay: 0 }), 0.0008, 0.0012);
+  // the first and third records run dry at the same octet: a race in the send loop strikes at the same place
+  for (const k of [1, 3]) treasurer[k].underrun = { atOctet: TREASURER_RUNS_DRY, end: 'fcs' };
+  const choir = timed(readFileCalls('HYMNS.TXT', HYMNS, { tags: new Tags(), delay: 0 }), 0.004, 0.001);
+  return {
+    bitRate: BIT_RATE,
+    wiring: 'per-port',
+    stepTime: 0.00003,
+    retryAfter: 0.002,
+    stations: [
+      { address: 0x21, port: 'p1', calls: registry, answerDelay: 0.00012 },
+      { address: 0x22, port: 'p2', calls: treasurer },
+      { address: 0x23, port: 'p3', calls: choir },
+    ],
+    // from its first wait after 4 ms, the server passes the choir office by for three rounds
+    skips: [{ station: 0x23, rounds: 3, after: 0.004 }],
+  };
+}
+
+/** What a decoder must find in the evening: frames, exchanges and files as for the session, and the races. */
+function expectedEvening(e: EncodedEpisode, stretchedFrame: { link: string; seq: number; octet: number }) {
+  const frames: Record<string, Record<string, number>> = {};
+  for (const l of e.links) frames[l.name] = { ok: l.frames.filter((f) => f.status === 'ok').length, 'bad-fcs': 0 };
+  const count = (o: string) => e.exchanges.filter((x) => x.outcome === o).length;
+  const collection = padded(COLLECTION, 0x1a);
+  const whole = (key: string, bytes: Uint8Array) => ({ key, recordCount: bytes.length / 128, missing: [] as number[], sha256: sha256(bytes) });
+  return {
+    frames,
+    exchanges: { total: e.exchanges.length, answered: count('answered'), retried: count('retried'), unanswered: count('unanswered') },
+    files: [whole('0:BAPTISMS.DAT', padded(BAPTISMS, 0x1a)), whole('0:COLLECT.DAT', collection), whole('0:HYMNS.TXT', padded(HYMNS, 0x1a))].sort((a, b) => a.key.localeCompare(b.key)),
+    timing: {
+      order: e.rts.map((r) => r.station),
+      rounds: e.rounds.length,
+      visits: e.visits.length,
+      underruns: e.underruns.map((u) => ({ link: u.link, seq: u.seq, octetOffset: u.atOctet, end: u.end, fragmentSeq: u.fragmentSeq })),
+      skipped: e.skipped.map((s) => ({ station: s.station, round: s.round })),
+      starved: e.waits.filter((w) => w.skipped >= 2).map((w) => ({ station: w.station, passedOver: w.skipped })),
+      stretched: [stretchedFrame],
+      /** service delays by station, seconds (request line up → the poll's first bit, at bit resolution) */
+      longestWait: Object.fromEntries(e.rts.map((r) => [r.station, Math.max(...e.waits.filter((w) => w.station === r.station).map((w) => (w.servedBit - w.riseBit) / e.bitRate))])),
+    },
+  };
+}
+
 // ---------------------------------------------------------------- what a decoder must find
 
 const sha256 = (b: Uint8Array) => createHash('sha256').update(b).digest('hex');
@@ -211,7 +285,7 @@ interface ManifestEntry {
   server: 'original' | 'replacement';
   settings: CaptureSettingsInput;
   cli: string;
-  expected: ReturnType<typeof expected>;
+  expected: ReturnType<typeof expected> & { timing?: ReturnType<typeof expectedEvening>['timing'] };
   bytes: number;
 }
 
@@ -317,6 +391,13 @@ function readme(entries: ManifestEntry[]): string {
     'server never answers. A few frames are damaged on the line (bad FCS): a boot request sent',
     'again, and lost answers that make the station repeat its call.',
     '',
+    'The Advent evening (wrenfield-evening-races.raw) is a timing episode: the server polls its ports',
+    'in turn, the treasurer desk writes COLLECT.DAT but its send loop runs dry at the same octet twice',
+    '(transmitter under-runs), the server passes the waiting choir office by for three rounds',
+    '(starvation), the registry desk answers late and one clock period is stretched inside a frame.',
+    'Its `expected.timing` lists the visiting order, rounds, visits, under-runs with their octet',
+    'offsets, skipped visits, starved waits, the stretched frame and the longest wait per station.',
+    '',
     '`manifest.json` lists every capture with `settings` in the shape of the capture settings form',
     '(shared/schemas/captures.ts: format, sample rate, raw width, channel names, clock, links with',
     'direction and station address, handshake lines, bit rate, encoding, edge) and `expected`: the',
@@ -341,6 +422,13 @@ function readme(entries: ManifestEntry[]): string {
       `- handshake: ${(s.handshake ?? []).map((h) => `\`${h.channel}\` RTS of \`${h.link}\``).join(', ') || 'none'}`,
       `- expect: ${frames}; ${x.exchanges.total} exchanges (${x.exchanges.answered} answered, ${x.exchanges.retried} retried, ${x.exchanges.unanswered} unanswered)` +
         (x.files.length ? `; files ${x.files.map((f) => `${f.key.replace(/^0:/, '')} (${f.recordCount} records${f.missing.length ? `, ${f.missing.length} missing` : ''})`).join(', ')}` : ''),
+      ...(x.timing
+        ? [
+            `- timing: ${x.timing.rounds} rounds of the server (order ${x.timing.order.map((a) => `0x${a.toString(16)}`).join(' → ')}), ` +
+              `${x.timing.underruns.length} under-runs at octet ${[...new Set(x.timing.underruns.map((u) => u.octetOffset))].join(', ')}, ` +
+              `${x.timing.skipped.length} skipped visits, starved: ${x.timing.starved.map((w) => `0x${w.station.toString(16)} (${w.passedOver} rounds)`).join(', ') || 'none'}`,
+          ]
+        : []),
       '',
       '```',
       e.cli,
@@ -441,6 +529,46 @@ function main(): void {
       server: 'original',
       settings: settingsFor('framelog', all, {}),
     }, original);
+  }
+
+  // 8. The busy evening: the server's round, an under-running desk and a starved one, clocked with RTS.
+  {
+    const e = encodeEpisode(eveningScript());
+    for (const u of e.underruns) {
+      // the fragment must not read as a call, or the pairing would see a phantom request: keep the data so
+      if (u.fragmentCarriesCall) throw new Error(`the evening's fragment ${u.link}#${u.fragmentSeq} reads as an I frame: choose another TREASURER_RUNS_DRY`);
+    }
+    // the first registry answer that carries a record
+    const late = e.links.find((l) => l.name === 'p1_rxd')!.frames.find((f) => f.role === 'response' && f.bytes.length > 100)!;
+    const octet = 60;
+    const w = renderWaveform({
+      links: e.links.map((l) => ({ name: l.name, bits: l.bits })),
+      samplesPerBit: 5,
+      samplePeriodSeconds: 2.5e-7,
+      encoding: 'nrzi',
+      clock: { name: 'clk', edge: 'rising' },
+      handshake: e.rts,
+      // one clock period inside a registry answer held 0.4 bit times long
+      faults: { stretchedClock: [{ bit: late.startBit + 8 * octet + 3, by: 0.4 }] },
+    });
+    const names = w.channels.map((c) => c.name);
+    const settings = settingsFor('raw', all, { clock: true, rts: true, sampleRate: 4_000_000, rawWidth: 2, channelNames: names });
+    const bytes = concat(rawChunks(w, { width: 2 }));
+    const file = 'wrenfield-evening-races.raw';
+    writeFileSync(join(OUT, file), bytes);
+    manifest.push({
+      file,
+      title: 'Advent evening: the server’s round, an under-running desk and a starved one (raw samples, clocked)',
+      description:
+        'The vestry server polls its three ports in turn. The treasurer desk’s write requests run dry at octet ' +
+        `${TREASURER_RUNS_DRY} twice (valid FCS, the rest as a fragment, the record sent again), the choir office waits three rounds ` +
+        'while the server passes it by, the registry desk answers late, and one clock period inside a registry answer is stretched.',
+      server: 'original',
+      settings,
+      cli: cliFor(file, settings),
+      bytes: bytes.length,
+      expected: expectedEvening(e, { link: 'p1_rxd', seq: late.seq, octet }),
+    });
   }
 
   writeFileSync(join(OUT, 'README.md'), readme(manifest));

@@ -6,6 +6,8 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
 import { CallLayer, callLayerRoles, type Exchange } from '../../shared/decoder/calls/exchanges';
+import { callKeyFromFieldMap, callShapeFromFieldMap, FaultDesk, type OctetTimingDetail, type UnderrunDetail } from '../../shared/decoder/faults';
+import { TimingTap } from '../../shared/decoder/timing';
 import { missingRanges, recoverFiles } from '../../shared/decoder/calls/files';
 import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
 import type { DecodedFrame } from '../../shared/decoder/types';
@@ -26,6 +28,17 @@ interface Entry {
     frames: Record<string, Record<string, number>>;
     exchanges: { total: number; answered: number; retried: number; unanswered: number };
     files: ExpectedFile[];
+    /** timing episodes: the server's round and the races the encoder put in */
+    timing?: {
+      order: number[];
+      rounds: number;
+      visits: number;
+      underruns: { link: string; seq: number; octetOffset: number; end: 'fcs' | 'abort'; fragmentSeq: number | null }[];
+      skipped: { station: number; round: number }[];
+      starved: { station: number; passedOver: number }[];
+      stretched: { link: string; seq: number; octet: number }[];
+      longestWait: Record<string, number>;
+    };
   };
 }
 
@@ -118,6 +131,78 @@ describe('demo samples', () => {
     });
   }
 
+  for (const entry of manifest.captures.filter((c) => c.expected.timing)) {
+    describe(`${entry.file}: line timing and races`, () => {
+      const timing = entry.expected.timing!;
+      /** the whole chain: decoder with the anomaly tap, call layer, line timing, fault desk with the field map */
+      const decodeTiming = () => {
+        const settings = captureSettingsSchema.parse(entry.settings);
+        const { links, rts } = callLayerRoles(settings);
+        const direction = new Map(settings.links.map((l) => [l.channel, l.direction === 'from-server' ? ('response' as const) : ('request' as const)]));
+        const period = 1 / Number(settings.sampleRate);
+        const desk = new FaultDesk({ samplePeriodSeconds: period, callShape: callShapeFromFieldMap(CPM_ENVELOPE, (l) => direction.get(l) ?? null), callKey: callKeyFromFieldMap(CPM_ENVELOPE, (l) => direction.get(l)!) });
+        const tap = new TimingTap({ links, requestLines: rts, stations: settings.links.map((l) => l.stationAddress!) }, { secondsPerUnit: period });
+        const layer = new CallLayer({ map: CPM_ENVELOPE, links, rts, samplePeriodSeconds: period }, { exchange: (x) => (tap.exchange(x), desk.exchange(x)) });
+        const dec = createDecoder({ ...decoderOptions(entry.settings), anomalies: desk }, {
+          frame(f) {
+            desk.frame(f);
+            tap.frame(f);
+            layer.frame(f);
+          },
+          event(e) {
+            desk.event(e);
+            tap.event(e);
+            layer.event(e);
+          },
+        });
+        dec.push(readFileSync(`samples/${entry.file}`));
+        dec.finish();
+        layer.finish();
+        return { faults: desk.finish(), ...tap.finish(), bitRate: Number(settings.bitRate) };
+      };
+      let cache: ReturnType<typeof decodeTiming> | null = null;
+      const get = () => (cache ??= decodeTiming());
+
+      it('reads the server’s visiting order, its rounds and visits', () => {
+        const { service } = get();
+        expect(service.server.order).toEqual(timing.order);
+        expect(service.server.rounds).toBe(timing.rounds);
+        expect(service.server.visits).toBe(timing.visits);
+      });
+
+      it('finds every under-run at its octet offset with its fragment, and the offset histogram peaking there', () => {
+        const { faults } = get();
+        const cuts = faults.rows.filter((r) => r.cause === 'tx-underrun');
+        expect(cuts.map((r) => ({ link: r.link, seq: r.seq, octetOffset: (r.race as UnderrunDetail).octetOffset, end: (r.race as UnderrunDetail).end, fragmentSeq: (r.race as UnderrunDetail).fragment?.seq ?? null }))).toEqual(timing.underruns);
+        const top = [...new Set(timing.underruns.map((u) => u.octetOffset))];
+        if (top.length === 1 && timing.underruns.length > 1) expect(faults.races.underruns.recurring).toMatchObject({ offset: top[0], count: timing.underruns.length });
+      });
+
+      it('finds every skipped visit and the starved station', () => {
+        const { service } = get();
+        expect(service.skipped.map((s) => ({ station: s.station, round: s.round }))).toEqual(timing.skipped);
+        expect(service.starved.map((w) => ({ station: w.station, passedOver: w.passedOver }))).toEqual(timing.starved);
+      });
+
+      it('measures the longest wait of each station within one bit time', () => {
+        const { service, bitRate } = get();
+        for (const [station, seconds] of Object.entries(timing.longestWait)) {
+          const st = service.stations.find((s) => s.station === Number(station))!;
+          expect(Math.abs(st.longestWait!.seconds - seconds)).toBeLessThanOrEqual(1 / bitRate);
+        }
+      });
+
+      it('shows the stretched clock period as octet timing on its frame', () => {
+        const { faults } = get();
+        const rows = faults.rows.filter((r) => r.cause === 'octet-timing');
+        expect(rows.map((r) => ({ link: r.link, seq: r.seq }))).toEqual(timing.stretched.map(({ link, seq }) => ({ link, seq })));
+        rows.forEach((r, k) => expect(Math.abs((r.race as OctetTimingDetail).octets[0] - timing.stretched[k].octet)).toBeLessThanOrEqual(1));
+        expect(faults.races.octetTiming.clock!.stretched).toBe(timing.stretched.length);
+        expect(faults.races.budget!.cyclesPerOctet).toBeCloseTo(40, 6);
+      });
+    });
+  }
+
   it('decodes every sample with the CLI as samples/README.md tells', () => {
     for (const entry of manifest.captures) {
       const args = entry.cli.replace(/^npm run --silent decode -- /, '').split(' ');
@@ -126,5 +211,5 @@ describe('demo samples', () => {
       const total = Object.values(entry.expected.frames).reduce((n, c) => n + c.ok + c['bad-fcs'], 0);
       expect(lines, entry.file).toHaveLength(total);
     }
-  });
+  }, 240_000);
 });

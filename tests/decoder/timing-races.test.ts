@@ -60,6 +60,10 @@ describe('transmitter under-runs', () => {
     expect(describeRace(row.race!, d.faults.races.budget)).toMatch(/Cut short after 100 octets of the 169 its layout needs \(field “record” holds 59 of 128 octets\) and closed with a valid FCS — 1000\.0 µs into the frame at 10\.00 µs per octet/);
     // the station sent the whole request again: the retransmission of the same call and tag
     expect(row.retransmissionSearch).toBe('found');
+    // and the exchange takes its record from that whole retry, not from the cut first send
+    const ex = d.exchanges.find((x) => x.request.link === row.link && x.request.seq === row.seq)!;
+    expect(ex.outcome).toBe('retried');
+    expect(ex.requestCall.recordData).toEqual(script.stations[0].calls[1].request.subarray(39));
   });
 
   it('finds no race in an episode without any', () => {

@@ -166,6 +166,12 @@ export class ExchangeTracker {
     const retryOf = st.open.find((o) => o.answeredAt === null && this.sameCall(o.ex, call));
     if (retryOf) {
       retryOf.ex.retries.push(f.ref);
+      // a first send cut short that still checked good (a transmitter under-run) is made whole by its retry
+      if (retryOf.ex.requestCall.truncated && !call.truncated) {
+        retryOf.ex.requestCall = call;
+        retryOf.ex.recordNumber = call.recordNumber;
+        retryOf.ex.fileName = call.fileName;
+      }
       retryOf.lastSendEnd = f.lastSample;
       retryOf.ex.answeredSendLastSample = f.lastSample;
       return;
