@@ -192,6 +192,17 @@ describe('line timing from frames given by hand', () => {
     expect(run(4).starved).toHaveLength(0);
   });
 
+  it('reports a capture with no frames, or only request-line edges, without failing', () => {
+    const empty = new LineTiming({ secondsPerUnit: 1 }).finish();
+    expect(empty.service).toMatchObject({ stations: [], starved: [], skipped: [], requestLines: false, server: { order: [], visits: 0, rounds: 0, roundPeriod: null, stepsInOrder: null } });
+    expect(empty.schedule).toMatchObject({ from: 0, to: 0, stations: [], lanes: [] });
+    const lt = new LineTiming({ secondsPerUnit: 1 });
+    lt.requestLine(9, true, 5);
+    const { service } = lt.finish();
+    expect(service.stations).toMatchObject([{ station: 9, visits: 0, waits: 1, unserved: 1, serviceDelay: null }]);
+    expect(service.requestLines).toBe(true);
+  });
+
   it('keeps a wait the station gave up on and one the capture ended in, and puts them in the longest wait', () => {
     const lt = new LineTiming({ secondsPerUnit: 1 });
     for (const f of polled(4, { station: 3, from: 1, to: 4 })) lt.frame(f);
