@@ -2,7 +2,7 @@
 import type { CaptureFormat } from '../types';
 import type { Family } from './family';
 import { formatBitRate, formatSpread, groupDigits } from './rate';
-import { contrasts, type FinderCandidate } from './rank';
+import { coarse, contrasts, type FinderCandidate } from './rank';
 
 export function summaryLine(ranking: FinderCandidate[]): string {
   return [ranking[0].evidence, ...contrasts(ranking)].join(' · ');
@@ -83,10 +83,7 @@ export function describeFailure(families: Family[], ranking: FinderCandidate[], 
         continue;
       }
       const rate = 1 / (r.samplesPerBit * f.period);
-      const low = r.samplesPerBit < 4;
-      out.push(
-        `${name}: data edges suggest ${formatBitRate(rate)} ${formatSpread(r.spread)}, ${r.samplesPerBit.toFixed(1)} samples per bit${low ? ' — too few: sample at least 4 times the bit rate with a clock and 8 times without (common practice)' : ''}.`,
-      );
+      out.push(`${name}: data edges suggest ${formatBitRate(rate)} ${formatSpread(r.spread)}, ${r.samplesPerBit.toFixed(1)} samples per bit.${r.samplesPerBit < 8 ? ` ${coarse(r.samplesPerBit)}` : ''}`);
     }
   }
   out.push('Check the probe points: the data lines of a synchronous serial port, on the logic side of the line drivers, with a common ground.');

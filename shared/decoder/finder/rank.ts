@@ -134,8 +134,16 @@ function candidate(family: Family, k: FamilyCounts, showFormat: boolean): Finder
     links: k.links,
     label,
     evidence,
-    notes: variant === 'nrzi' ? ['NRZI carries the data in level changes (ISO/IEC 13239: a 0 is a transition), so an inverted line decodes the same.'] : [],
+    notes: [
+      ...(variant === 'nrzi' ? ['NRZI carries the data in level changes (ISO/IEC 13239: a 0 is a transition), so an inverted line decodes the same.'] : []),
+      ...(spb && !octets && !framelog && spb < (plan.clock ? 4 : 8) ? [coarse(spb)] : []),
+    ],
   };
+}
+
+/** the sampling advice for a capture with few samples per bit */
+export function coarse(spb: number): string {
+  return `Only ${spb.toFixed(1)} samples per bit: bits are easily lost or doubled; sample at least 4 times the bit rate with a clock and 8 without (common practice).`;
 }
 
 /** How far from data changes the candidate's clock edge lies, in periods (clocked only; 0 otherwise). */
