@@ -1,9 +1,13 @@
 // `npm run --silent decode -- <capture> [options]`: decodes a capture file to NDJSON on stdout,
 // one frame per line in time order, with a summary on stderr. Bad input exits with code 2 and
 // one message naming the position in the file and what was expected there.
+// Settings left out are found by the settings finder (--settings auto, the default when the data
+// channel or the encoding is not given); its choice and the runner-up go to stderr.
 import { createReadStream, statSync } from 'node:fs';
 import { parseArgs } from 'node:util';
+import { decoderOptionsOf, discoveryOf, findSettings, type FinderOptions, type FinderResult } from '../../shared/decoder/finder';
 import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
+import { openFileSource } from '../services/discovery';
 import { DecodeError, type DecodedFrame, type DecodeIssue, type FrameStatus, type LineEvent } from '../../shared/decoder/types';
 
 const USAGE = `usage: npm run --silent decode -- <capture> [options]
@@ -19,6 +23,12 @@ const USAGE = `usage: npm run --silent decode -- <capture> [options]
   --encoding nrz|nrzi       line coding (default nrz)
   --invert                  data lines are inverted
   --fcs 16|32               FCS width (default 16)
+  --settings auto|given     auto: the settings finder finds what is left out (clock, edge, data
+                            channels, encoding, polarity, FCS width, bit rate without a clock)
+                            from trial decodes of the capture's head; given: defaults as above.
+                            Default: auto when --data or --encoding is left out
+  --explain                 with auto: print the finder's whole ranking, what it tried, and the
+                            link directions and stations it inferred (stderr)
   --events                  also print line events (idle, fill flags, handshake changes)
   --lenient                 skip lines or cells that cannot be read (they are listed as warnings)
                             instead of failing with exit code 2`;
@@ -28,6 +38,10 @@ class UsageError extends Error {}
 interface Cli {
   file: string;
   options: DecoderOptions;
+  /** what the user gave, for the finder (everything else is tried) */
+  given: FinderOptions;
+  auto: boolean;
+  explain: boolean;
   events: boolean;
   lenient: boolean;
 }
@@ -75,6 +89,8 @@ function parse(argv: string[]): Cli {
         encoding: { type: 'string' },
         invert: { type: 'boolean' },
         fcs: { type: 'string' },
+        settings: { type: 'string' },
+        explain: { type: 'boolean' },
         events: { type: 'boolean' },
         lenient: { type: 'boolean' },
         help: { type: 'boolean', short: 'h' },
@@ -91,23 +107,45 @@ function parse(argv: string[]): Cli {
   if (parsed.positionals.length !== 1) throw new UsageError(parsed.positionals.length === 0 ? 'give the capture file to decode' : `give one capture file, got ${parsed.positionals.length}`);
   const width = oneOf(v['raw-width'], ['1', '2'] as const, '--raw-width');
   const fcs = oneOf(v.fcs, ['16', '32'] as const, '--fcs');
+  const format = oneOf(v.format, ['auto', 'vcd', 'csv', 'raw', 'octets', 'framelog'] as const, '--format') ?? 'auto';
+  const edge = oneOf(v.edge, ['rising', 'falling'] as const, '--edge');
+  const encoding = oneOf(v.encoding, ['nrz', 'nrzi'] as const, '--encoding');
+  const data = list(v.data);
+  const mode = oneOf(v.settings, ['auto', 'given'] as const, '--settings') ?? (data === undefined || encoding === undefined ? 'auto' : 'given');
+  if (v.explain && mode !== 'auto') throw new UsageError('--explain shows what the settings finder did: use it with --settings auto');
+  const given: FinderOptions = {
+    format: format === 'auto' ? undefined : format,
+    sampleRate: rate(v['sample-rate'], '--sample-rate'),
+    channelNames: list(v.channels),
+    rawWidth: width ? (Number(width) as 1 | 2) : undefined,
+    clock: v.clock,
+    data,
+    bitRate: rate(v['bit-rate'], '--bit-rate'),
+    edge,
+    encoding,
+    invert: v.invert === true ? true : undefined,
+    fcs: fcs ? (Number(fcs) as 16 | 32) : undefined,
+  };
   return {
     file: parsed.positionals[0],
     events: v.events === true,
     lenient: v.lenient === true,
+    auto: mode === 'auto',
+    explain: v.explain === true,
+    given,
     options: {
-      format: oneOf(v.format, ['auto', 'vcd', 'csv', 'raw', 'octets', 'framelog'] as const, '--format') ?? 'auto',
-      sampleRate: rate(v['sample-rate'], '--sample-rate'),
-      channelNames: list(v.channels),
-      rawWidth: width ? (Number(width) as 1 | 2) : undefined,
+      format,
+      sampleRate: given.sampleRate,
+      channelNames: given.channelNames,
+      rawWidth: given.rawWidth,
       clock: v.clock,
-      data: list(v.data),
+      data,
       handshake: list(v.handshake),
-      bitRate: rate(v['bit-rate'], '--bit-rate'),
-      edge: oneOf(v.edge, ['rising', 'falling'] as const, '--edge') ?? 'rising',
-      encoding: oneOf(v.encoding, ['nrz', 'nrzi'] as const, '--encoding') ?? 'nrz',
+      bitRate: given.bitRate,
+      edge: edge ?? 'rising',
+      encoding: encoding ?? 'nrz',
       invert: v.invert === true,
-      fcs: fcs ? (Number(fcs) as 16 | 32) : 16,
+      fcs: given.fcs ?? 16,
     },
   };
 }
@@ -172,7 +210,66 @@ function failInput(file: string, issue: DecodeIssue): never {
   process.exit(2);
 }
 
-function main(): void {
+/**
+ * Runs the settings finder and fills in what the user left out. Prints the choice and the
+ * runner-up (one line each), and with --explain the whole ranking. When no setting decodes a
+ * good frame it returns what was tried and what to check, for the summary.
+ */
+async function findMissing(cli: Cli): Promise<string[]> {
+  const source = await openFileSource(cli.file);
+  let result: FinderResult;
+  let finder;
+  try {
+    ({ result, finder } = await findSettings(source, cli.given));
+  } finally {
+    await source.close();
+  }
+  const out = process.stderr;
+  const best = result.best;
+  if (cli.explain) {
+    out.write(`decode: settings finder read ${(result.bytesRead / 1e6).toFixed(2)} MB in ${result.windows.length} window(s)${result.lineSeconds !== null ? `, ${result.lineSeconds.toPrecision(3)} s of line time` : ''}; tried:\n`);
+    for (const t of result.tried) out.write(`  ${t}\n`);
+    out.write('decode: ranking, best first:\n');
+    result.ranking.forEach((c, i) => {
+      out.write(`  ${String(i + 1).padStart(2)}. ${c.evidence}\n`);
+      for (const n of c.notes) out.write(`      ${n}\n`);
+    });
+  }
+  const advice = best ? [] : [`the settings finder: ${result.summary}`, ...result.advice, `tried: ${result.tried.join('; ')}`, ...result.cautions.map((c) => `caution: ${c}`)];
+  // Nothing good: the setting that found the most frames is decoded anyway (its frames show what
+  // the line carries), or, when a reader problem stopped the finder, the settings as given, so
+  // the problem gets its own message with its position. The advice joins the summary.
+  const chosen = best ?? (result.issues.length === 0 ? result.ranking[0] : undefined);
+  if (!chosen) return advice;
+  if (best) {
+    out.write(`decode: settings found: ${best.evidence}\n`);
+    out.write(`decode: runner-up: ${result.runnerUp ? result.runnerUp.evidence : 'none'}\n`);
+  }
+  if (cli.explain && best) {
+    const d = discoveryOf(finder, result, cli.given);
+    out.write('decode: link directions:\n');
+    for (const v of d.directions) out.write(`  ${v.link}: ${v.direction}${v.station !== null ? `, station 0x${v.station.toString(16).padStart(2, '0')}` : ''} — ${v.reasons[0] ?? ''}\n`);
+    out.write('decode: stations by address:\n');
+    for (const s of d.roster) out.write(`  0x${s.address.toString(16).padStart(2, '0')}: ${s.frames} frames (${s.links.map((l) => `${l.link} ${l.frames}`).join(', ')}), ${s.firstSeconds.toPrecision(3)} s to ${s.lastSeconds.toPrecision(3)} s\n`);
+  }
+  const found = decoderOptionsOf(chosen, cli.given);
+  const o = cli.options;
+  cli.options = {
+    ...o,
+    format: found.format,
+    rawWidth: o.rawWidth ?? found.rawWidth,
+    clock: found.clock,
+    data: o.data ?? found.data,
+    edge: found.edge,
+    encoding: found.encoding,
+    invert: found.invert,
+    fcs: found.fcs,
+    bitRate: o.bitRate ?? found.bitRate,
+  };
+  return advice;
+}
+
+async function main(): Promise<void> {
   let cli: Cli;
   try {
     cli = parse(process.argv.slice(2));
@@ -183,7 +280,7 @@ function main(): void {
     }
     throw e;
   }
-  const { file, options } = cli;
+  const { file } = cli;
   let size: number;
   try {
     const st = statSync(file);
@@ -195,6 +292,8 @@ function main(): void {
     process.stderr.write(`decode: cannot read ${file}: ${why}\n`);
     process.exit(2);
   }
+  const advice = cli.auto && size > 0 ? await findMissing(cli) : [];
+  const options = cli.options;
 
   const started = performance.now();
   const fcsDigits = options.fcs === 32 ? 8 : 4;
@@ -266,6 +365,8 @@ function main(): void {
       const total = Object.values(c).reduce((a, b) => a + b, 0);
       lines.push(`  ${link}: ${total} frames — ok ${c.ok}, bad-fcs ${c['bad-fcs']}, abort ${c.abort}, short ${c.short}, residue ${c.residue}`);
     }
+    const ok = [...counts.values()].reduce((n, c) => n + c.ok, 0);
+    if (ok === 0) for (const a of advice) lines.push(`  ${a}`);
     const issues = decoder.issues;
     for (const issue of issues.slice(0, 5)) lines.push(`  warning at ${position(issue)}: ${issue.message}`);
     if (issues.length > 5) lines.push(`  … and ${issues.length - 5} more warnings`);
@@ -285,8 +386,4 @@ function reportThrown(e: unknown): never {
 }
 
 process.on('uncaughtException', reportThrown);
-try {
-  main();
-} catch (e) {
-  reportThrown(e);
-}
+main().catch(reportThrown);
