@@ -3,7 +3,8 @@
 // their own synchronous ports at 800 kbit/s, NRZI. One morning session is scripted once and
 // then recorded the way different logic analyzers and adapters would have recorded it, plus
 // the same session served by a replacement server. samples/manifest.json lists every file
-// with its decode settings and what a decoder must find in it.
+// with its decode settings and what a decoder must find in it; its `otherRigs` hold a second
+// invented scenario with a file service of its own (samples-saltmarsh.ts).
 import { createHash } from 'node:crypto';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -33,6 +34,7 @@ import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
 import { rawChunks } from '../../shared/decoder/encode/writers/raw';
 import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
 import type { CaptureSettingsInput } from '../../shared/schemas/captures';
+import { saltmarshReadme, writeSaltmarsh } from './samples-saltmarsh';
 
 const OUT = process.argv[2] ?? 'samples';
 const BIT_RATE = 800_000;
@@ -335,8 +337,9 @@ function cliFor(file: string, s: CaptureSettingsInput): string {
   if (s.clock) parts.push(`--clock ${s.clock}`);
   parts.push(`--data ${s.links.map((l) => l.channel).join(',')}`);
   if (s.handshake && s.handshake.length) parts.push(`--handshake ${s.handshake.map((h) => h.channel).join(',')}`);
-  if (!s.clock || s.format === 'octets') parts.push(`--bit-rate ${BIT_RATE}`);
-  parts.push('--encoding nrzi');
+  if ((!s.clock || s.format === 'octets') && s.bitRate) parts.push(`--bit-rate ${s.bitRate}`);
+  parts.push(`--encoding ${s.encoding}`);
+  if (s.invert) parts.push('--invert');
   return parts.join(' ');
 }
 
@@ -571,10 +574,13 @@ function main(): void {
     });
   }
 
-  writeFileSync(join(OUT, 'README.md'), readme(manifest));
-  writeFileSync(join(OUT, 'manifest.json'), JSON.stringify({ rig: 'Wrenfield Parish Office, 1983', server: SERVER, stations: STATIONS, captures: manifest }, null, 2) + '\n');
-  const total = manifest.reduce((n, m) => n + m.bytes, 0);
-  process.stdout.write(manifest.map((m) => `${m.file}: ${(m.bytes / 1024).toFixed(0)} KB`).join('\n') + `\ntotal ${(total / 1e6).toFixed(2)} MB\n`);
+  // the second scenario, with its own file service (samples-saltmarsh.ts)
+  const saltmarsh = writeSaltmarsh(OUT, cliFor);
+  writeFileSync(join(OUT, 'README.md'), [readme(manifest), ...saltmarshReadme(saltmarsh)].join('\n'));
+  writeFileSync(join(OUT, 'manifest.json'), JSON.stringify({ rig: 'Wrenfield Parish Office, 1983', server: SERVER, stations: STATIONS, captures: manifest, otherRigs: [saltmarsh] }, null, 2) + '\n');
+  const written = [...manifest, ...saltmarsh.captures];
+  const total = written.reduce((n, m) => n + m.bytes, 0);
+  process.stdout.write(written.map((m) => `${m.file}: ${(m.bytes / 1024).toFixed(0)} KB`).join('\n') + `\ntotal ${(total / 1e6).toFixed(2)} MB\n`);
 }
 
 main();

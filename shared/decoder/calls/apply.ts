@@ -86,6 +86,8 @@ function readNumber(info: Uint8Array, at: number, type: FieldDef['type'], length
       return (info[at] << 8) | info[at + 1];
     case 'u24le':
       return info[at] | (info[at + 1] << 8) | (info[at + 2] << 16);
+    case 'u24be':
+      return (info[at] << 16) | (info[at + 1] << 8) | info[at + 2];
     default: {
       // bits: little-endian across its octets
       let v = 0;
@@ -192,6 +194,13 @@ export function applyFieldMap(map: FieldMap, info: Uint8Array, direction: CallDi
     if (def.role) roles[def.role] = f;
   }
   out.unexplained = Math.max(0, info.length - furthest);
+  const len = roles.length;
+  if (len && len.value !== null) {
+    const def = layout.fields.find((d) => d.id === len.id)!;
+    const follow = info.length - (len.offset + len.length);
+    const want = len.value - (def.lengthAdd ?? 0);
+    if (want !== follow) out.problems.push(`the length field “${len.id}” says ${want} octets follow it, the frame has ${follow}`);
+  }
   if (out.truncated) {
     const first = out.fields.find((f) => f.truncated)!;
     out.problems.push(`the frame ends inside field “${first.id}”: ${info.length} octets, the layout needs more`);
@@ -252,6 +261,7 @@ function decodeField(def: FieldDef, info: Uint8Array, offset: number, length: nu
     case 'u16le':
     case 'u16be':
     case 'u24le':
+    case 'u24be':
     case 'bits':
       if (!truncated) {
         f.value = readNumber(info, offset, def.type, length);

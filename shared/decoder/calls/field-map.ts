@@ -8,13 +8,14 @@
 // pick a layout is read from `callCode` before any layout is chosen.
 import { z } from 'zod';
 
-export const FIELD_TYPES = ['u8', 'u16le', 'u16be', 'u24le', 'bytes', 'ascii', 'cpm-name', 'bits'] as const;
+export const FIELD_TYPES = ['u8', 'u16le', 'u16be', 'u24le', 'u24be', 'bytes', 'ascii', 'cpm-name', 'bits'] as const;
 export type FieldType = (typeof FIELD_TYPES)[number];
 
 /**
  * What a field means to the call layer. `extent`, `module` and `current-record` are the CP/M
  * FCB's sequential position (ex, s2, cr): together they give the record number of sequential
- * reads and writes when no field has the `record-number` role.
+ * reads and writes when no field has the `record-number` role. `length` counts the octets after
+ * the field (plus the field's `lengthAdd`); a frame that disagrees is reported.
  */
 export const FIELD_ROLES = [
   'call',
@@ -27,12 +28,13 @@ export const FIELD_ROLES = [
   'extent',
   'module',
   'current-record',
+  'length',
 ] as const;
 export type FieldRole = (typeof FIELD_ROLES)[number];
 
 /** Octets of the fixed-size types; cpm-name is 8 name + 3 type characters. */
-export const FIXED_SIZE: Partial<Record<FieldType, number>> = { u8: 1, u16le: 2, u16be: 2, u24le: 3, 'cpm-name': 11 };
-export const NUMERIC_TYPES: readonly FieldType[] = ['u8', 'u16le', 'u16be', 'u24le', 'bits'];
+export const FIXED_SIZE: Partial<Record<FieldType, number>> = { u8: 1, u16le: 2, u16be: 2, u24le: 3, u24be: 3, 'cpm-name': 11 };
+export const NUMERIC_TYPES: readonly FieldType[] = ['u8', 'u16le', 'u16be', 'u24le', 'u24be', 'bits'];
 
 const identifier = z
   .string()
@@ -72,6 +74,8 @@ export const fieldSchema = z
     values: valueNames,
     bits: z.array(bitField).max(24).optional(),
     role: z.enum(FIELD_ROLES).optional(),
+    /** for the length role: the value minus the octets after this field (default 0) */
+    lengthAdd: z.number().int().min(-65535).max(65535).optional(),
   })
   .strict();
 
@@ -90,8 +94,22 @@ export const layoutSchema = z
   })
   .strict();
 
+/**
+ * What a call does to a file, for recovered files: opens and creates name a file; reads and
+ * writes move one record (sequential reads end at an "end of file" answer, status 1); a boot
+ * load reads a system image record by record.
+ */
+export const FILE_CALL_KINDS = ['open', 'read-sequential', 'write-sequential', 'read-random', 'write-random', 'boot-load'] as const;
+export type FileCallKind = (typeof FILE_CALL_KINDS)[number];
+
 export const callNameSchema = z
-  .object({ code: z.number().int().min(0).max(65535), name: z.string().min(1).max(60), meaning: z.string().max(1000).optional() })
+  .object({
+    code: z.number().int().min(0).max(65535),
+    name: z.string().min(1).max(60),
+    meaning: z.string().max(1000).optional(),
+    /** what the call does to a file; maps that name none use the CP/M BDOS numbers */
+    file: z.enum(FILE_CALL_KINDS).optional(),
+  })
   .strict();
 
 const fieldMapBase = z
@@ -167,6 +185,7 @@ export const fieldMapSchema = fieldMapBase.superRefine((map, ctx) => {
         const want = ROLE_TYPES[f.role];
         if (want && !want.includes(f.type)) ctx.addIssue({ code: 'custom', path: fp('role'), message: `the role ${f.role} needs a field of type ${want.join(' or ')}` });
       }
+      if (f.lengthAdd !== undefined && f.role !== 'length') ctx.addIssue({ code: 'custom', path: fp('lengthAdd'), message: 'only a field with the length role has lengthAdd' });
       if (f.length === 'rest') afterRest = true;
       else if (f.offset !== undefined) afterRest = false;
       seen.set(f.id, f);
@@ -174,7 +193,7 @@ export const fieldMapSchema = fieldMapBase.superRefine((map, ctx) => {
   });
 });
 
-const NUMBER_TYPES: FieldType[] = ['u8', 'u16le', 'u16be', 'u24le'];
+const NUMBER_TYPES: FieldType[] = ['u8', 'u16le', 'u16be', 'u24le', 'u24be'];
 const ROLE_TYPES: Partial<Record<FieldRole, FieldType[]>> = {
   call: NUMBER_TYPES,
   tag: NUMBER_TYPES,
@@ -184,6 +203,7 @@ const ROLE_TYPES: Partial<Record<FieldRole, FieldType[]>> = {
   extent: NUMBER_TYPES,
   module: NUMBER_TYPES,
   'current-record': NUMBER_TYPES,
+  length: NUMBER_TYPES,
   'file-name': ['cpm-name', 'ascii'],
   'record-data': ['bytes', 'ascii'],
 };
@@ -287,7 +307,7 @@ export function fieldMapToMarkdown(map: FieldMap): string {
   }
   if (map.calls.length) {
     out.push('## Calls', '', '| code | name | meaning |', '|---|---|---|');
-    for (const c of map.calls) out.push(`| ${c.code} (0x${c.code.toString(16).toUpperCase().padStart(2, '0')}) | ${cell(c.name)} | ${cell(c.meaning ?? '')} |`);
+    for (const c of map.calls) out.push(`| ${c.code} (0x${c.code.toString(16).toUpperCase().padStart(2, '0')}) | ${cell(c.name)} | ${cell([c.meaning ?? '', c.file ? `(file: ${c.file})` : ''].filter(Boolean).join(' '))} |`);
     out.push('');
   }
   out.push('## Layouts', '');

@@ -17,6 +17,7 @@
 import { decodeCpmName, type CpmAttributes } from './apply';
 import { BDOS, CPM_RECORD_BYTES } from './cpm-envelope';
 import type { Exchange, FrameRef } from './exchanges';
+import type { FieldMap } from './field-map';
 
 export type RecordCoverage = 'seen' | 'missing' | 'conflict';
 
@@ -61,6 +62,23 @@ export const CPM_FILE_CALL_SET: FileCalls = {
   randomWrites: [BDOS.WRITE_RANDOM, BDOS.WRITE_RANDOM_ZERO_FILL],
   bootLoad: BDOS.BOOT_LOAD,
 };
+
+/**
+ * The file calls a map names (its calls' `file` kinds); a map that names none is taken to use
+ * the CP/M BDOS function numbers of the built-in envelope.
+ */
+export function fileCallsOf(map: FieldMap): FileCalls {
+  const of = (k: string) => map.calls.filter((c) => c.file === k).map((c) => c.code);
+  if (!map.calls.some((c) => c.file)) return CPM_FILE_CALL_SET;
+  return {
+    opens: of('open'),
+    sequentialRead: of('read-sequential')[0] ?? -1,
+    sequentialWrite: of('write-sequential')[0] ?? -1,
+    randomReads: of('read-random'),
+    randomWrites: of('write-random'),
+    bootLoad: of('boot-load')[0] ?? null,
+  };
+}
 
 interface Building {
   file: Omit<RecoveredFile, 'bytes' | 'coverage' | 'recordCount' | 'endKnown' | 'stations' | 'conflicts'>;

@@ -108,7 +108,12 @@ export function inferDirections(frames: readonly DecodedFrame[], options: Direct
     if (others.length === 1) verdicts.get(lf.link)!.partner = others[0].link;
   }
   for (const lf of facts.values()) linkSetUp(lf, verdicts.get(lf.link)!);
-  if (options.map) for (const lf of facts.values()) responseBit(lf, options.map, verdicts.get(lf.link)!);
+  if (options.map) {
+    for (const lf of facts.values()) {
+      const v = verdicts.get(lf.link)!;
+      responseBit(lf, v.partner ? facts.get(v.partner)! : null, options.map, v);
+    }
+  }
   const pairs = new Set<string>();
   for (const v of verdicts.values()) {
     if (!v.partner) continue;
@@ -153,9 +158,10 @@ function linkSetUp(lf: LinkFacts, v: DirectionVerdict): void {
   if (secondary.size) add(v, -3, `It answers the link set-up (${list(secondary)}): a secondary station, i.e. a station answering the server.`);
 }
 
-function responseBit(lf: LinkFacts, map: FieldMap, v: DirectionVerdict): void {
+/** How many information frames of a link carry the map's response bit, of how many readable. */
+function responseBitShare(lf: LinkFacts, map: FieldMap): { set: number; n: number } | null {
   const cc = map.callCode;
-  if (!cc || !cc.responseMask || lf.info.length < 3) return;
+  if (!cc || !cc.responseMask || lf.info.length < 3) return null;
   let set = 0;
   let n = 0;
   for (const f of lf.info) {
@@ -167,11 +173,33 @@ function responseBit(lf: LinkFacts, map: FieldMap, v: DirectionVerdict): void {
     n++;
     if (value & cc.responseMask) set++;
   }
-  if (n < 3) return;
-  const mask = `0x${cc.responseMask.toString(16).toUpperCase()}`;
-  if (set >= n * 0.9) add(v, 4, `${set} of ${n} information frames have the response bit (${mask}) of the call code set, as “${map.name}” marks answers.`);
-  else if (set <= n * 0.1) add(v, -4, `${n - set} of ${n} information frames have the response bit (${mask}) of the call code clear, as “${map.name}” marks requests.`);
-  else add(v, 0, `The response bit (${mask}) of “${map.name}” is set on ${set} of ${n} information frames: this link mixes requests and answers, or the map does not fit.`);
+  return n < 3 ? null : { set, n };
+}
+
+/**
+ * The response bit says "answer" or "request" per frame. It counts only where it tells the two
+ * directions of a line apart: the same bit on both is a map that does not fit the protocol.
+ */
+function responseBit(lf: LinkFacts, partner: LinkFacts | null, map: FieldMap, v: DirectionVerdict): void {
+  const mine = responseBitShare(lf, map);
+  if (!mine) return;
+  const { set, n } = mine;
+  const mask = `0x${map.callCode!.responseMask.toString(16).toUpperCase()}`;
+  const side = set >= n * 0.9 ? 1 : set <= n * 0.1 ? -1 : 0;
+  if (side === 0) {
+    add(v, 0, `The response bit (${mask}) of “${map.name}” is set on ${set} of ${n} information frames: this link mixes requests and answers, or the map does not fit.`);
+    return;
+  }
+  const other = partner ? responseBitShare(partner, map) : null;
+  if (other) {
+    const otherSide = other.set >= other.n * 0.9 ? 1 : other.set <= other.n * 0.1 ? -1 : 0;
+    if (otherSide === side) {
+      add(v, 0, `The response bit (${mask}) of “${map.name}” is ${side > 0 ? 'set' : 'clear'} on both directions of this line (here ${side > 0 ? set : n - set} of ${n}): the map does not seem to fit the protocol, so it says nothing about direction.`);
+      return;
+    }
+  }
+  if (side > 0) add(v, 4, `${set} of ${n} information frames have the response bit (${mask}) of the call code set, as “${map.name}” marks answers.`);
+  else add(v, -4, `${n - set} of ${n} information frames have the response bit (${mask}) of the call code clear, as “${map.name}” marks requests.`);
 }
 
 /** echo offsets looked at in each information field */
@@ -181,12 +209,14 @@ const ECHO_PAIRS = 2000;
 
 /**
  * Information frames of the two links merged in time order; each frame paired with the next one
- * on the other link. For each order, the share of pairs in which byte j of the second repeats
- * byte i of the first, for the (i, j) where that share differs most between the orders.
+ * on the other link. For every pair of offsets (ia in a frame of link a, jb in a frame of link
+ * b), the share of pairs in which the two octets are equal, once with b's frame following a's
+ * and once the other way round. An answer repeats its request's tag or record number, while the
+ * next request carries a new one: the echo holds in the order request → answer only.
  */
 function echoes(a: LinkFacts, b: LinkFacts, verdicts: Map<string, DirectionVerdict>): void {
   const merged = [...a.info.map((f) => ({ f, side: 0 })), ...b.info.map((f) => ({ f, side: 1 }))].sort((x, y) => x.f.firstSample - y.f.firstSample);
-  // counts[order][i * SPAN + j]: order 0 = a then b, 1 = b then a
+  // counts[order][ia * SPAN + jb]: order 0 = a's frame then b's, 1 = b's then a's
   const counts = [new Int32Array(ECHO_SPAN * ECHO_SPAN), new Int32Array(ECHO_SPAN * ECHO_SPAN)];
   const totals = [0, 0];
   for (let k = 0; k + 1 < merged.length; k++) {
@@ -196,14 +226,16 @@ function echoes(a: LinkFacts, b: LinkFacts, verdicts: Map<string, DirectionVerdi
     const order = x.side;
     if (totals[order] >= ECHO_PAIRS) continue;
     totals[order]++;
-    const xd = x.f.decode!;
-    const yd = y.f.decode!;
-    const xi = Math.min(ECHO_SPAN, xd.infoLength);
-    const yj = Math.min(ECHO_SPAN, yd.infoLength);
+    const fa = order === 0 ? x.f : y.f;
+    const fb = order === 0 ? y.f : x.f;
+    const ad = fa.decode!;
+    const bd = fb.decode!;
+    const na = Math.min(ECHO_SPAN, ad.infoLength);
+    const nb = Math.min(ECHO_SPAN, bd.infoLength);
     const c = counts[order];
-    for (let i = 0; i < xi; i++) {
-      const v = x.f.bytes[xd.infoOffset + i];
-      for (let j = 0; j < yj; j++) if (y.f.bytes[yd.infoOffset + j] === v) c[i * ECHO_SPAN + j]++;
+    for (let i = 0; i < na; i++) {
+      const v = fa.bytes[ad.infoOffset + i];
+      for (let j = 0; j < nb; j++) if (fb.bytes[bd.infoOffset + j] === v) c[i * ECHO_SPAN + j]++;
     }
   }
   if (totals[0] < 3 || totals[1] < 3) return;
@@ -214,12 +246,13 @@ function echoes(a: LinkFacts, b: LinkFacts, verdicts: Map<string, DirectionVerdi
     if (Math.abs(d) > Math.abs(best)) (best = d), (at = k);
   }
   if (Math.abs(best) < 0.5) return;
-  const i = Math.floor(at / ECHO_SPAN);
-  const j = at % ECHO_SPAN;
-  const [req, resp] = best > 0 ? [a, b] : [b, a];
+  const ia = Math.floor(at / ECHO_SPAN);
+  const jb = at % ECHO_SPAN;
+  // best > 0: the echo holds when b follows a, so a asks and b answers
+  const [req, resp, reqAt, respAt] = best > 0 ? [a, b, ia, jb] : [b, a, jb, ia];
   const order = best > 0 ? 0 : 1;
   const share = (n: number, t: number) => `${Math.round((n / t) * 100)} %`;
-  const reason = `Information octet ${j} of frames on ${resp.link} repeats octet ${i} of the frame just before on ${req.link} in ${share(counts[order][at], totals[order])} of ${totals[order]} pairs, and in the other order in ${share(counts[1 - order][at], totals[1 - order])}: an answer echoing its request (a tag or record number).`;
+  const reason = `Information octet ${respAt} of frames on ${resp.link} repeats octet ${reqAt} of the frame just before on ${req.link} in ${share(counts[order][at], totals[order])} of ${totals[order]} pairs, but only in ${share(counts[1 - order][at], totals[1 - order])} the other way round: an answer echoing its request (a tag or record number).`;
   add(verdicts.get(req.link)!, -3 * Math.min(1, Math.abs(best)), reason);
   add(verdicts.get(resp.link)!, 3 * Math.min(1, Math.abs(best)), reason);
 }
@@ -267,6 +300,7 @@ function decide(v: DirectionVerdict, lf: LinkFacts): void {
   v.reasons = ev.filter((e) => Math.sign(e.weight) === Math.sign(score)).map((e) => e.reason);
   const contra = ev.filter((e) => Math.sign(e.weight) === -Math.sign(score));
   if (contra.length) v.reasons.push(`Against it: ${contra.map((e) => e.reason).join(' ')}`);
+  for (const e of ev) if (e.weight === 0) v.reasons.push(e.reason);
 }
 
 /** Stations by the address octet, with counts per link and when each was first and last seen. */
