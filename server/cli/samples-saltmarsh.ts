@@ -61,8 +61,13 @@ export const CREW = ascii(
   ['CREW LIST - MV MARSH WREN', 'MASTER     T. ELLERBY', 'MATE       R. PENHALLOW', 'ENGINEER   D. QUARRIE', 'DECKHAND   S. ABERNETHY', 'DECKHAND   P. MOSSOP'].join('\r\n') + '\r\n',
 );
 
+/** the ticket office's log of the morning's sailings, written to the server */
 export const TICKETS = ascii(
-  ['1984-04-02 06.40 FOOT 14 CARS 3 BICYCLES 2', '1984-04-02 07.20 FOOT 22 CARS 5 VANS 1', '1984-04-02 08.00 FOOT 31 CARS 6 CATTLE 12', '1984-04-02 08.40 FOOT 18 CARS 4'].join('\r\n') + '\r\n',
+  Array.from({ length: 14 }, (_, i) => {
+    const rng = seededRng(400 + i);
+    const t = 6 * 60 + 40 + i * 40;
+    return `1984-04-02 ${String(Math.floor(t / 60)).padStart(2, '0')}.${String(t % 60).padStart(2, '0')} FOOT ${10 + Math.floor(rng() * 30)} CARS ${Math.floor(rng() * 9)}`;
+  }).join('\r\n') + '\r\n',
 );
 
 /** The tide table: one 128-byte record per tide day, 400 records, generated from a seed. */

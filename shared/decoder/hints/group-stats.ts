@@ -1,0 +1,190 @@
+// Streaming statistics of one group of frames (one direction, one selector value or all), by
+// octet offset. Fixed-size typed arrays, a handful of integer updates per offset and frame.
+import { cpmNameAt, nameHasAttributes } from './shapes';
+import type { HintFrame } from './types';
+
+/** offsets looked at from the start of the information field */
+export const SPAN = 64;
+/** frames kept per group to list the frames behind each hint */
+export const RESERVOIR = 1500;
+/** length-field differences looked at: value − octets after the field, −32 … 32 */
+const DIFF = 32;
+const DIFF_BINS = 2 * DIFF + 1;
+/** number readings of a record number around its least significant octet k */
+export const READINGS = ['u8', 'u16be', 'u16le', 'u24be', 'u24le'] as const;
+export type Reading = (typeof READINGS)[number];
+/** length-field readings at offset k */
+export const LENGTH_TYPES = ['u8', 'u16be', 'u16le'] as const;
+/** step outcomes */
+const PLUS = 0;
+const SAME = 1;
+const OTHER = 2;
+
+/** The value of a reading whose least significant octet is at k; -1 when it does not fit. */
+export function readAt(info: Uint8Array, k: number, r: number): number {
+  const n = info.length;
+  switch (r) {
+    case 0:
+      return k < n ? info[k] : -1;
+    case 1:
+      return k >= 1 && k < n ? (info[k - 1] << 8) | info[k] : -1;
+    case 2:
+      return k + 1 < n ? info[k] | (info[k + 1] << 8) : -1;
+    case 3:
+      return k >= 2 && k < n ? (info[k - 2] << 16) | (info[k - 1] << 8) | info[k] : -1;
+    default:
+      return k + 2 < n ? info[k] | (info[k + 1] << 8) | (info[k + 2] << 16) : -1;
+  }
+}
+
+export function lengthValue(info: Uint8Array, k: number, t: number): number {
+  if (t === 0) return k < info.length ? info[k] : -1;
+  if (k + 1 >= info.length) return -1;
+  return t === 1 ? (info[k] << 8) | info[k + 1] : info[k] | (info[k + 1] << 8);
+}
+
+export const lengthWidth = (t: number) => (t === 0 ? 1 : 2);
+
+interface Last {
+  info: Uint8Array;
+}
+
+export class GroupStats {
+  frames = 0;
+  readonly present = new Uint32Array(SPAN);
+  readonly hist = new Uint32Array(SPAN * 256);
+  readonly lengths = new Map<number, number>();
+  /** [scope (0 station, 1 frame)][outcome][k] of u8 steps */
+  readonly steps = new Uint32Array(2 * 3 * SPAN);
+  /** [reading][outcome][k] of steps between requests of the same station and file */
+  readonly fileSteps = new Uint32Array(READINGS.length * 3 * SPAN);
+  /** [type][k][diff] */
+  readonly lenDiff = new Uint32Array(LENGTH_TYPES.length * SPAN * DIFF_BINS);
+  readonly nameFit = new Uint32Array(SPAN);
+  readonly nameAttr = new Uint32Array(SPAN);
+  /** frames whose last 128 octets start at p */
+  readonly blockAt = new Uint32Array(SPAN + 1);
+  /** frames whose printable tail (8 octets or more) starts at k */
+  readonly textAt = new Uint32Array(SPAN);
+  /** frames that were the first of their station to name their file */
+  firstForFile = 0;
+  withName = 0;
+  readonly reservoir: HintFrame[] = [];
+  /** per reservoir frame: its file key ('' when it names none) */
+  readonly reservoirFile: string[] = [];
+  private readonly byStation = new Map<number, Last>();
+  private last: Last | null = null;
+  private readonly byFile = new Map<string, Last>();
+
+  constructor(readonly fileNumbers: boolean) {}
+
+  push(f: HintFrame, file: string, nameAt: number, firstForFile: boolean): void {
+    const info = f.info;
+    const n = info.length;
+    const span = n < SPAN ? n : SPAN;
+    this.frames++;
+    this.lengths.set(n, (this.lengths.get(n) ?? 0) + 1);
+    if (this.reservoir.length < RESERVOIR) {
+      this.reservoir.push(f);
+      this.reservoirFile.push(file);
+    }
+    const hist = this.hist;
+    const present = this.present;
+    for (let k = 0; k < span; k++) {
+      present[k]++;
+      hist[(k << 8) | info[k]]++;
+    }
+    // u8 steps: per station, and frame to frame
+    const st = this.byStation.get(f.station);
+    if (st) this.step(st.info, info, 0);
+    if (this.last) this.step(this.last.info, info, 1);
+    this.byStation.set(f.station, { info });
+    this.last = { info };
+    // numbers that step across consecutive requests of the same station and file
+    if (this.fileNumbers && file) {
+      const prev = this.byFile.get(file);
+      if (prev) this.fileStep(prev.info, info);
+      this.byFile.set(file, { info });
+    }
+    // length fields
+    const ld = this.lenDiff;
+    for (let t = 0; t < LENGTH_TYPES.length; t++) {
+      const w = lengthWidth(t);
+      for (let k = 0; k + w <= span; k++) {
+        const v = lengthValue(info, k, t);
+        const d = v - (n - k - w);
+        if (d >= -DIFF && d <= DIFF) ld[(t * SPAN + k) * DIFF_BINS + d + DIFF]++;
+      }
+    }
+    // a CP/M name (only where it begins: the first fitting offset, as the file key uses)
+    if (nameAt >= 0 && nameAt < SPAN) {
+      this.nameFit[nameAt]++;
+      this.withName++;
+      if (nameHasAttributes(info, nameAt)) this.nameAttr[nameAt]++;
+    }
+    for (let k = nameAt + 1; k < span - 10; k++) if (cpmNameAt(info, k)) this.nameFit[k]++;
+    if (firstForFile) this.firstForFile++;
+    if (n >= 128 && n - 128 <= SPAN) this.blockAt[n - 128]++;
+  }
+
+  textTail(start: number, n: number): void {
+    if (n - start >= 8 && start < SPAN) this.textAt[start]++;
+  }
+
+  private step(prev: Uint8Array, cur: Uint8Array, scope: number): void {
+    const m = Math.min(prev.length, cur.length, SPAN);
+    const base = scope * 3 * SPAN;
+    const s = this.steps;
+    for (let k = 0; k < m; k++) {
+      const d = (cur[k] - prev[k]) & 0xff;
+      s[base + (d === 1 ? PLUS : d === 0 ? SAME : OTHER) * SPAN + k]++;
+    }
+  }
+
+  private fileStep(prev: Uint8Array, cur: Uint8Array): void {
+    const m = Math.min(prev.length, cur.length, SPAN);
+    const s = this.fileSteps;
+    for (let r = 0; r < READINGS.length; r++) {
+      const base = r * 3 * SPAN;
+      for (let k = 0; k < m; k++) {
+        const a = readAt(prev, k, r);
+        const b = readAt(cur, k, r);
+        if (a < 0 || b < 0) continue;
+        const d = b - a;
+        s[base + (d === 1 ? PLUS : d === 0 ? SAME : OTHER) * SPAN + k]++;
+      }
+    }
+  }
+
+  stepCounts(scope: 0 | 1, k: number): { plus: number; same: number; other: number } {
+    const base = scope * 3 * SPAN;
+    return { plus: this.steps[base + PLUS * SPAN + k], same: this.steps[base + SAME * SPAN + k], other: this.steps[base + OTHER * SPAN + k] };
+  }
+
+  fileStepCounts(r: number, k: number): { plus: number; same: number; other: number } {
+    const base = r * 3 * SPAN;
+    return { plus: this.fileSteps[base + PLUS * SPAN + k], same: this.fileSteps[base + SAME * SPAN + k], other: this.fileSteps[base + OTHER * SPAN + k] };
+  }
+
+  /** the most frequent difference (value − octets after) of a length reading, and how often */
+  lengthBest(t: number, k: number): { add: number; count: number } {
+    let best = -1;
+    let at = 0;
+    const base = (t * SPAN + k) * DIFF_BINS;
+    for (let d = 0; d < DIFF_BINS; d++) {
+      const c = this.lenDiff[base + d];
+      if (c > best) (best = c), (at = d);
+    }
+    return { add: at - DIFF, count: best };
+  }
+
+  /** values at offset k, most frequent first */
+  values(k: number): { value: number; count: number }[] {
+    const out: { value: number; count: number }[] = [];
+    for (let v = 0; v < 256; v++) {
+      const c = this.hist[(k << 8) | v];
+      if (c) out.push({ value: v, count: c });
+    }
+    return out.sort((a, b) => b.count - a.count || a.value - b.value);
+  }
+}
