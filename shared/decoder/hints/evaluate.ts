@@ -97,8 +97,10 @@ export function evaluateGroup(g: GroupContext): FieldHint[] {
       if (use.c.plus + use.c.other >= 3 && use.share >= 0.8) {
         const scope = use.c.same > 0 ? 'exchange' : use.scope;
         const words = scope === 'exchange' ? 'per station, repeated on a retry' : scope === 'station' ? 'from one frame of a station to its next' : 'from one frame to the next';
-        const h = base('counter', k, 1, 'u8', use.c.plus, use.c.plus + use.c.other, `octet ${k} counts up by one ${words}: ${pct(use.c.plus, use.c.plus + use.c.other)} steps${use.c.same ? `, the same value again ${use.c.same} times` : ''}`, counterRefs(res, k, use.scope));
-        h.counter = { scope };
+        const x = stats.crossCounts(k);
+        const acrossCalls = x.plus + x.other >= 2 && x.plus >= (x.plus + x.other) * 0.8;
+        const h = base('counter', k, 1, 'u8', use.c.plus, use.c.plus + use.c.other, `octet ${k} counts up by one ${words}: ${pct(use.c.plus, use.c.plus + use.c.other)} steps${use.c.same ? `, the same value again ${use.c.same} times` : ''}${acrossCalls ? `, also from one call to another (${pct(x.plus, x.plus + x.other)})` : ''}`, counterRefs(res, k, use.scope));
+        h.counter = { scope, acrossCalls };
         hints.push(h);
       }
     }

@@ -65,7 +65,7 @@ export class FieldHints {
     const targets = [this.group(f.direction, null)];
     if (sel !== null) targets.push(this.group(f.direction, sel));
     for (const g of targets) {
-      g.stats.push(f, file, at, first);
+      g.stats.push(f, file, at, first, sel ?? -1);
       g.stats.textTail(tail, info.length);
     }
     if (f.direction === 'request') this.pending.set(f.station, f);
@@ -90,7 +90,7 @@ export class FieldHints {
     const reqAll = this.groups.get('request:all');
     if (reqAll) {
       for (const h of evaluateGroup({ direction: 'request', selector: null, selectorOffset: this.selectorOffset, stats: reqAll.stats, echo: null })) {
-        if (h.kind === 'counter' && h.counter!.scope !== 'frame') stationCounters.add(h.offset);
+        if (h.kind === 'counter' && h.counter!.acrossCalls) stationCounters.add(h.offset);
       }
     }
     for (const g of ordered) {
@@ -123,7 +123,7 @@ function assignRoles(groups: HintGroup[], mask: number, selectorOffset: number |
   const respAll = groups.find((g) => g.direction === 'response' && g.selector === null);
   if (!reqAll || !respAll) return;
   const echoOf = (g: HintGroup, i: number) => g.hints.find((h) => h.kind === 'echo' && h.echo!.requestOffset <= i && i < h.echo!.requestOffset + h.length);
-  const tagAt = reqAll.hints.find((h) => h.kind === 'counter' && h.counter!.scope !== 'frame' && h.offset !== selectorOffset && echoOf(respAll, h.offset)?.length === 1);
+  const tagAt = reqAll.hints.find((h) => h.kind === 'counter' && h.counter!.acrossCalls && h.offset !== selectorOffset && echoOf(respAll, h.offset)?.length === 1);
   if (tagAt) {
     tagAt.role = 'tag';
     const e = echoOf(respAll, tagAt.offset)!;

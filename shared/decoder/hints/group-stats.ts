@@ -47,6 +47,7 @@ export const lengthWidth = (t: number) => (t === 0 ? 1 : 2);
 
 interface Last {
   info: Uint8Array;
+  selector: number;
 }
 
 export class GroupStats {
@@ -56,6 +57,8 @@ export class GroupStats {
   readonly lengths = new Map<number, number>();
   /** [scope (0 station, 1 frame)][outcome][k] of u8 steps */
   readonly steps = new Uint32Array(2 * 3 * SPAN);
+  /** [outcome][k] of u8 steps between a station's frames of different selector values (different calls) */
+  readonly crossSteps = new Uint32Array(3 * SPAN);
   /** [reading][outcome][k] of steps between requests of the same station and file */
   readonly fileSteps = new Uint32Array(READINGS.length * 3 * SPAN);
   /** [type][k][diff] */
@@ -78,7 +81,7 @@ export class GroupStats {
 
   constructor(readonly fileNumbers: boolean) {}
 
-  push(f: HintFrame, file: string, nameAt: number, firstForFile: boolean): void {
+  push(f: HintFrame, file: string, nameAt: number, firstForFile: boolean, selector: number): void {
     const info = f.info;
     const n = info.length;
     const span = n < SPAN ? n : SPAN;
@@ -96,15 +99,15 @@ export class GroupStats {
     }
     // u8 steps: per station, and frame to frame
     const st = this.byStation.get(f.station);
-    if (st) this.step(st.info, info, 0);
-    if (this.last) this.step(this.last.info, info, 1);
-    this.byStation.set(f.station, { info });
-    this.last = { info };
+    if (st) this.step(st.info, info, 0, st.selector !== selector);
+    if (this.last) this.step(this.last.info, info, 1, false);
+    this.byStation.set(f.station, { info, selector });
+    this.last = { info, selector };
     // numbers that step across consecutive requests of the same station and file
     if (this.fileNumbers && file) {
       const prev = this.byFile.get(file);
       if (prev) this.fileStep(prev.info, info);
-      this.byFile.set(file, { info });
+      this.byFile.set(file, { info, selector });
     }
     // length fields
     const ld = this.lenDiff;
@@ -131,14 +134,21 @@ export class GroupStats {
     if (n - start >= 8 && start < SPAN) this.textAt[start]++;
   }
 
-  private step(prev: Uint8Array, cur: Uint8Array, scope: number): void {
+  private step(prev: Uint8Array, cur: Uint8Array, scope: number, cross: boolean): void {
     const m = Math.min(prev.length, cur.length, SPAN);
     const base = scope * 3 * SPAN;
     const s = this.steps;
+    const c = this.crossSteps;
     for (let k = 0; k < m; k++) {
       const d = (cur[k] - prev[k]) & 0xff;
-      s[base + (d === 1 ? PLUS : d === 0 ? SAME : OTHER) * SPAN + k]++;
+      const o = (d === 1 ? PLUS : d === 0 ? SAME : OTHER) * SPAN + k;
+      s[base + o]++;
+      if (cross) c[o]++;
     }
+  }
+
+  crossCounts(k: number): { plus: number; same: number; other: number } {
+    return { plus: this.crossSteps[PLUS * SPAN + k], same: this.crossSteps[SAME * SPAN + k], other: this.crossSteps[OTHER * SPAN + k] };
   }
 
   private fileStep(prev: Uint8Array, cur: Uint8Array): void {

@@ -41,8 +41,8 @@ export interface FieldHint {
   contradicting: FrameRef[];
   /** constant and small-set: the values with their counts, most frequent first */
   values?: { value: number; count: number }[];
-  /** counter: what it counts by one */
-  counter?: { scope: 'frame' | 'station' | 'exchange' };
+  /** counter: what it counts by one; acrossCalls: it goes on counting from one call to another (a tag, not a record number) */
+  counter?: { scope: 'frame' | 'station' | 'exchange'; acrossCalls: boolean };
   /** echo: the request octet this response octet repeats */
   echo?: { requestOffset: number };
   /** length: value = octets after the field + add */
