@@ -1,6 +1,7 @@
 // `npm run bench`: decoder throughput. Captures are generated in memory by our own encoder, so
 // the numbers cover only decoding. Targets are printed beside the measured numbers, not asserted.
-//   npm run bench                     in-memory stages (under two minutes)
+//   npm run bench                     in-memory stages, the settings finder and field hints
+//                                     (bench-discovery.ts; under two minutes)
 //   npm run bench -- --general        also the raw capture through the general (transitions) path
 //   npm run bench -- --cli-mb 400     also writes a raw capture of that size to a temp dir, times
 //                                     `decode` on it with its peak RSS, and the C reference
@@ -24,6 +25,7 @@ import { rawChunks } from '../../shared/decoder/encode/writers/raw';
 import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
 import { createDecoder } from '../../shared/decoder/pipeline';
 import { LineTiming, scheduleWindow, type TimingExchange, type TimingFrame } from '../../shared/decoder/timing';
+import { benchDiscovery } from './bench-discovery';
 
 const mb = (bytes: number) => bytes / 1e6;
 const fmt = (n: number, digits = 1) => n.toFixed(digits);
@@ -414,6 +416,7 @@ async function main(): Promise<void> {
     benchVcd(DENSE);
     benchVcd(SPARSE);
     benchServiceStats();
+    for (const r of await benchDiscovery()) report({ stage: r.stage, mbPerS: r.mbPerS, rssMb: peakRssMb(), target: r.target, note: r.note });
   }
   if (values['cli-mb'] !== undefined) {
     const size = Number(values['cli-mb']);

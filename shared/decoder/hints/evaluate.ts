@@ -276,8 +276,8 @@ function counterRefs(res: readonly HintFrame[], k: number, scope: 'station' | 'f
   });
 }
 
-function fileStepRefs(res: readonly HintFrame[], files: readonly string[], k: number, r: number): Refs {
-  const last = new Map<string, number>();
+function fileStepRefs(res: readonly HintFrame[], files: readonly number[], k: number, r: number): Refs {
+  const last = new Map<number, number>();
   return refsOf(res, frameRef, (f, i) => {
     const file = files[i];
     if (!file) return null;

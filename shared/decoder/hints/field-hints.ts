@@ -6,7 +6,7 @@ import type { LinkRole } from '../calls/exchanges';
 import { EchoStats } from './echo-stats';
 import { evaluateGroup } from './evaluate';
 import { GroupStats, SPAN } from './group-stats';
-import { firstNameAt, nameKey, printableTail } from './shapes';
+import { fileKey, nameOffsets, printableTail } from './shapes';
 import type { CallHint, FieldHint, HintDirection, HintFrame, HintGroup, HintReport } from './types';
 
 export interface HintOptions {
@@ -27,8 +27,11 @@ export class FieldHints {
   private readonly selectorOffset: number | null;
   private readonly minGroup: number;
   private readonly groups = new Map<string, Group>();
+  /** per direction: the group of every frame, and one per selector value */
+  private readonly allOf: (Group | null)[] = [null, null];
+  private readonly bySelector: (Group | undefined)[][] = [[], []];
   private readonly pending = new Map<number, HintFrame>();
-  private readonly files = new Set<string>();
+  private readonly files = new Set<number>();
   /** per direction: frames, and how many had each bit of the selector octet set */
   private readonly bits = [new Uint32Array(8), new Uint32Array(8)];
   private readonly counts = [0, 0];
@@ -56,17 +59,18 @@ export class FieldHints {
     const so = this.selectorOffset;
     const sel = so !== null && info.length > so ? info[so] : null;
     if (sel !== null) for (let b = 0; b < 8; b++) if (sel & (1 << b)) this.bits[d][b]++;
-    const at = firstNameAt(info, SPAN);
-    const name = at >= 0 ? nameKey(info, at) : '';
-    const file = name ? `${f.station}|${name}` : '';
-    const first = file !== '' && f.direction === 'request' && !this.files.has(file);
+    const names = nameOffsets(info);
+    const file = names.length ? fileKey(f.station, info, names[0]) : 0;
+    const first = file !== 0 && f.direction === 'request' && !this.files.has(file);
     if (first) this.files.add(file);
     const tail = printableTail(info);
-    const targets = [this.group(f.direction, null)];
-    if (sel !== null) targets.push(this.group(f.direction, sel));
-    for (const g of targets) {
-      g.stats.push(f, file, at, first, sel ?? -1);
-      g.stats.textTail(tail, info.length);
+    const all = (this.allOf[d] ??= this.group(f.direction, null));
+    const one = sel === null ? null : (this.bySelector[d][sel] ??= this.group(f.direction, sel));
+    all.stats.push(f, file, names, first, sel ?? -1);
+    all.stats.textTail(tail, info.length);
+    if (one) {
+      one.stats.push(f, file, names, first, sel!);
+      one.stats.textTail(tail, info.length);
     }
     if (f.direction === 'request') this.pending.set(f.station, f);
     else {
@@ -74,7 +78,8 @@ export class FieldHints {
       if (req) {
         this.pending.delete(f.station);
         this.pairs++;
-        for (const g of targets) g.echo!.push(req.info, info, f.ref, so);
+        all.echo!.push(req.info, info, f.ref, so);
+        one?.echo!.push(req.info, info, f.ref, so);
       }
     }
   }

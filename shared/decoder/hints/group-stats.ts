@@ -1,6 +1,6 @@
 // Streaming statistics of one group of frames (one direction, one selector value or all), by
 // octet offset. Fixed-size typed arrays, a handful of integer updates per offset and frame.
-import { cpmNameAt, nameHasAttributes } from './shapes';
+import { nameHasAttributes } from './shapes';
 import type { HintFrame } from './types';
 
 /** offsets looked at from the start of the information field */
@@ -73,15 +73,19 @@ export class GroupStats {
   firstForFile = 0;
   withName = 0;
   readonly reservoir: HintFrame[] = [];
-  /** per reservoir frame: its file key ('' when it names none) */
-  readonly reservoirFile: string[] = [];
+  /** per reservoir frame: its file key (0 when it names none) */
+  readonly reservoirFile: number[] = [];
   private readonly byStation = new Map<number, Last>();
   private last: Last | null = null;
-  private readonly byFile = new Map<string, Last>();
+  private readonly byFile = new Map<number, Last>();
 
   constructor(readonly fileNumbers: boolean) {}
 
-  push(f: HintFrame, file: string, nameAt: number, firstForFile: boolean, selector: number): void {
+  /**
+   * One frame. `names` lists the offsets where a CP/M name fits (the first is the one the file key
+   * uses); the caller finds them once for both groups a frame goes to.
+   */
+  push(f: HintFrame, file: number, names: readonly number[], firstForFile: boolean, selector: number): void {
     const info = f.info;
     const n = info.length;
     const span = n < SPAN ? n : SPAN;
@@ -93,39 +97,51 @@ export class GroupStats {
     }
     const hist = this.hist;
     const present = this.present;
+    const ld = this.lenDiff;
+    // values, and length readings: value − octets after, kept when within ±DIFF
+    const u16 = SPAN * DIFF_BINS;
     for (let k = 0; k < span; k++) {
+      const v = info[k];
       present[k]++;
-      hist[(k << 8) | info[k]]++;
+      hist[(k << 8) | v]++;
+      let d = v - (n - k - 1);
+      if (d >= -DIFF && d <= DIFF) ld[k * DIFF_BINS + d + DIFF]++;
+      if (k + 1 < span) {
+        const w = info[k + 1];
+        const after = n - k - 2;
+        d = ((v << 8) | w) - after;
+        if (d >= -DIFF && d <= DIFF) ld[u16 + k * DIFF_BINS + d + DIFF]++;
+        d = (v | (w << 8)) - after;
+        if (d >= -DIFF && d <= DIFF) ld[2 * u16 + k * DIFF_BINS + d + DIFF]++;
+      }
     }
-    // u8 steps: per station, and frame to frame
+    // u8 steps: per station (and across calls), and frame to frame
     const st = this.byStation.get(f.station);
-    if (st) this.step(st.info, info, 0, st.selector !== selector);
-    if (this.last) this.step(this.last.info, info, 1, false);
-    this.byStation.set(f.station, { info, selector });
-    this.last = { info, selector };
+    if (st) {
+      this.step(st.info, info, 0, st.selector !== selector);
+      st.info = info;
+      st.selector = selector;
+    } else this.byStation.set(f.station, { info, selector });
+    if (this.last) {
+      this.step(this.last.info, info, 1, false);
+      this.last.info = info;
+    } else this.last = { info, selector };
     // numbers that step across consecutive requests of the same station and file
     if (this.fileNumbers && file) {
       const prev = this.byFile.get(file);
-      if (prev) this.fileStep(prev.info, info);
-      this.byFile.set(file, { info, selector });
+      if (prev) {
+        this.fileStep(prev.info, info);
+        prev.info = info;
+      } else this.byFile.set(file, { info, selector });
     }
-    // length fields
-    const ld = this.lenDiff;
-    for (let t = 0; t < LENGTH_TYPES.length; t++) {
-      const w = lengthWidth(t);
-      for (let k = 0; k + w <= span; k++) {
-        const v = lengthValue(info, k, t);
-        const d = v - (n - k - w);
-        if (d >= -DIFF && d <= DIFF) ld[(t * SPAN + k) * DIFF_BINS + d + DIFF]++;
+    if (names.length) {
+      const at = names[0];
+      if (at < SPAN) {
+        this.withName++;
+        if (nameHasAttributes(info, at)) this.nameAttr[at]++;
       }
+      for (const k of names) if (k < SPAN) this.nameFit[k]++;
     }
-    // a CP/M name (only where it begins: the first fitting offset, as the file key uses)
-    if (nameAt >= 0 && nameAt < SPAN) {
-      this.nameFit[nameAt]++;
-      this.withName++;
-      if (nameHasAttributes(info, nameAt)) this.nameAttr[nameAt]++;
-    }
-    for (let k = nameAt + 1; k < span - 10; k++) if (cpmNameAt(info, k)) this.nameFit[k]++;
     if (firstForFile) this.firstForFile++;
     if (n >= 128 && n - 128 <= SPAN) this.blockAt[n - 128]++;
   }
@@ -154,14 +170,35 @@ export class GroupStats {
   private fileStep(prev: Uint8Array, cur: Uint8Array): void {
     const m = Math.min(prev.length, cur.length, SPAN);
     const s = this.fileSteps;
-    for (let r = 0; r < READINGS.length; r++) {
-      const base = r * 3 * SPAN;
-      for (let k = 0; k < m; k++) {
-        const a = readAt(prev, k, r);
-        const b = readAt(cur, k, r);
-        if (a < 0 || b < 0) continue;
-        const d = b - a;
-        s[base + (d === 1 ? PLUS : d === 0 ? SAME : OTHER) * SPAN + k]++;
+    const P = PLUS * SPAN;
+    const S = SAME * SPAN;
+    const O = OTHER * SPAN;
+    const R = 3 * SPAN;
+    for (let k = 0; k < m; k++) {
+      const a0 = prev[k];
+      const b0 = cur[k];
+      // u8
+      let d = b0 - a0;
+      s[(d === 1 ? P : d === 0 ? S : O) + k]++;
+      // u16be: octets k-1, k
+      if (k >= 1) {
+        d = ((cur[k - 1] << 8) | b0) - ((prev[k - 1] << 8) | a0);
+        s[R + (d === 1 ? P : d === 0 ? S : O) + k]++;
+      }
+      // u16le: octets k, k+1
+      if (k + 1 < m) {
+        d = (b0 | (cur[k + 1] << 8)) - (a0 | (prev[k + 1] << 8));
+        s[2 * R + (d === 1 ? P : d === 0 ? S : O) + k]++;
+      }
+      // u24be: octets k-2 … k
+      if (k >= 2) {
+        d = ((cur[k - 2] << 16) | (cur[k - 1] << 8) | b0) - ((prev[k - 2] << 16) | (prev[k - 1] << 8) | a0);
+        s[3 * R + (d === 1 ? P : d === 0 ? S : O) + k]++;
+      }
+      // u24le: octets k … k+2
+      if (k + 2 < m) {
+        d = (b0 | (cur[k + 1] << 8) | (cur[k + 2] << 16)) - (a0 | (prev[k + 1] << 8) | (prev[k + 2] << 16));
+        s[4 * R + (d === 1 ? P : d === 0 ? S : O) + k]++;
       }
     }
   }

@@ -30,18 +30,36 @@ export function nameHasAttributes(info: Uint8Array, at: number): boolean {
   return false;
 }
 
-/** The first offset below `limit` where an 8.3 name fits, or -1. */
-export function firstNameAt(info: Uint8Array, limit: number): number {
-  const end = Math.min(limit, info.length - 11);
-  for (let at = 0; at <= end; at++) if (cpmNameAt(info, at)) return at;
-  return -1;
+const found: number[] = [];
+
+/**
+ * Offsets below 64 where an 8.3 name fits, first first. The array is reused by the next call:
+ * read it before calling again.
+ */
+export function nameOffsets(info: Uint8Array, limit = 64): readonly number[] {
+  const end = Math.min(limit - 1, info.length - 11);
+  found.length = 0;
+  for (let at = 0; at <= end; at++) {
+    // most octets are no name character: one table look-up rules the offset out
+    if (NAME_CHAR[info[at] & 0x7f] && cpmNameAt(info, at)) found.push(at);
+  }
+  return found;
 }
 
-/** The name at `at` masked to 7 bits, as a key for "the same file". */
-export function nameKey(info: Uint8Array, at: number): string {
-  let s = '';
-  for (let i = 0; i < 11; i++) s += String.fromCharCode(info[at + i] & 0x7f);
-  return s;
+/**
+ * A number for "this station's file of this name" (name masked to 7 bits): FNV-1a over the
+ * station and the 11 characters, never 0. A number keeps a million frames free of string garbage.
+ */
+export function fileKey(station: number, info: Uint8Array, at: number): number {
+  let h = (0x811c9dc5 ^ (station & 0xff)) >>> 0;
+  h = Math.imul(h, 0x01000193);
+  h ^= (station >>> 8) & 0xff;
+  h = Math.imul(h, 0x01000193);
+  for (let i = 0; i < 11; i++) {
+    h ^= info[at + i] & 0x7f;
+    h = Math.imul(h, 0x01000193);
+  }
+  return (h >>> 0) || 1;
 }
 
 const PRINTABLE = new Uint8Array(256);
