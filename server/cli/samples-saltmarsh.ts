@@ -13,6 +13,7 @@ import { encodeSession, sessionFrameLog, type EncodedSession, type ScriptCall, t
 import { LEDGER_MAP_DOCUMENT, LEDGER_RECORD_BYTES, ledgerFetchCalls, ledgerReadCalls, ledgerWriteCalls } from '../../shared/decoder/encode/ledger-envelope';
 import { seededRng } from '../../shared/decoder/encode/line-bits';
 import { renderWaveform } from '../../shared/decoder/encode/waveform';
+import { collect } from '../../shared/decoder/encode/writers/collect';
 import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
 import { rawChunks } from '../../shared/decoder/encode/writers/raw';
 import { pairExchanges } from '../../shared/decoder/calls/exchanges';
@@ -192,7 +193,7 @@ export function writeSaltmarsh(out: string, cliFor: (file: string, s: CaptureSet
     invert: true,
     faults: { rateError: 0.004, jitter: 0.06, seed: 84 },
   });
-  const raw = concat(rawChunks(w, { width: 1 }));
+  const raw = collect(rawChunks(w, { width: 1 }));
   add('saltmarsh-office.raw', raw, {
     title: 'Saltmarsh ferry office: fares, tide table, crew list and the ticket log (raw samples, no clock)',
     description:
@@ -200,8 +201,8 @@ export function writeSaltmarsh(out: string, cliFor: (file: string, s: CaptureSet
     server: 'original',
     settings: settingsFor('raw', session),
   });
-  const log = concat(frameLogChunks(sessionFrameLog(session).map((f) => ({ ...f, link: CHANNEL[f.link!] })), { comment: 'Saltmarsh Ferry Company, 1984 - depot server ports 1-2, frames with FCS' }));
-  selfCheck(session, concat(frameLogChunks(sessionFrameLog(session))), want);
+  const log = collect(frameLogChunks(sessionFrameLog(session).map((f) => ({ ...f, link: CHANNEL[f.link!] })), { comment: 'Saltmarsh Ferry Company, 1984 - depot server ports 1-2, frames with FCS' }));
+  selfCheck(session, collect(frameLogChunks(sessionFrameLog(session))), want);
   add('saltmarsh-office.framelog', log, {
     title: 'Saltmarsh ferry office as a frame log',
     description: 'The same session, one frame per line: time in seconds, link, octets with the FCS.',
@@ -210,17 +211,6 @@ export function writeSaltmarsh(out: string, cliFor: (file: string, s: CaptureSet
   });
   writeFileSync(join(out, SALTMARSH.fieldMap), JSON.stringify(LEDGER_MAP_DOCUMENT, null, 2) + '\n');
   return { ...SALTMARSH, captures };
-}
-
-function concat(chunks: Iterable<Uint8Array>): Uint8Array {
-  const parts = [...chunks].map((c) => c.slice());
-  const out = new Uint8Array(parts.reduce((n, p) => n + p.length, 0));
-  let at = 0;
-  for (const p of parts) {
-    out.set(p, at);
-    at += p.length;
-  }
-  return out;
 }
 
 /** The README section of the second rig. */

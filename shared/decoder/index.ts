@@ -17,3 +17,6 @@ export {
 export { BitRecovery } from './bits';
 export { createReader } from './readers';
 export { detectFormat } from './readers/detect';
+// What a capture reveals about itself: settings finder, link directions, station roster, field hints.
+export * from './finder';
+export * from './hints';
