@@ -131,7 +131,8 @@ function settingsFor(format: 'raw' | 'framelog', session: EncodedSession): Captu
     bitRate: format === 'raw' ? BIT_RATE : null,
     encoding: 'nrz',
     edge: 'rising',
-    invert: true,
+    // the receivers' inversion is on the line; a frame log holds the octets already
+    invert: format === 'raw',
   };
 }
 
