@@ -3,12 +3,13 @@
 // one message naming the position in the file and what was expected there.
 // Settings left out are found by the settings finder (--settings auto, the default when the data
 // channel or the encoding is not given); its choice and the runner-up go to stderr.
-import { createReadStream, statSync } from 'node:fs';
+import { closeSync, openSync, readSync, statSync, writeSync } from 'node:fs';
 import { parseArgs } from 'node:util';
 import { decoderOptionsOf, discoveryOf, findSettings, type FinderOptions, type FinderResult } from '../../shared/decoder/finder';
 import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
 import { openFileSource } from '../services/discovery';
-import { DecodeError, type DecodedFrame, type DecodeIssue, type FrameStatus, type LineEvent } from '../../shared/decoder/types';
+import { DecodeError, type DecodeIssue, type FrameStatus } from '../../shared/decoder/types';
+import { NdjsonWriter, seconds } from './ndjson-writer';
 
 const USAGE = `usage: npm run --silent decode -- <capture> [options]
   --format auto|vcd|csv|raw|octets|framelog   capture format (default auto: detected from the content)
@@ -150,56 +151,6 @@ function parse(argv: string[]): Cli {
   };
 }
 
-/** Two hex digits per octet value, built once: output formatting is a large share of CLI time. */
-const HEX_PAIRS = Array.from({ length: 256 }, (_, i) => i.toString(16).padStart(2, '0'));
-
-function hex(bytes: Uint8Array, end: number): string {
-  let s = '';
-  for (let i = 0; i < end; i++) s += HEX_PAIRS[bytes[i]];
-  return s;
-}
-
-/** Seconds with float noise trimmed (sample × period gives e.g. 0.30000000000000004). */
-const seconds = (sample: number, period: number) => Number((sample * period).toPrecision(12));
-
-function frameLine(f: DecodedFrame, period: number, fcsDigits: number): string {
-  const fcsOctets = fcsDigits / 2;
-  const hasFcs = f.fcsReceived !== null;
-  const d = f.decode;
-  const out: Record<string, unknown> = {
-    link: f.link,
-    seq: f.seq,
-    t: seconds(f.firstSample, period),
-    tEnd: seconds(f.lastSample, period),
-    status: f.status,
-    bits: f.bitLength,
-    hex: hex(f.bytes, hasFcs ? f.bytes.length - fcsOctets : f.bytes.length),
-    fcs: hasFcs ? f.fcsReceived!.toString(16).padStart(fcsDigits, '0') : null,
-    address: d ? d.address : null,
-    kind: d ? d.kind : null,
-    command: d ? d.command : null,
-    ns: d ? d.ns : null,
-    nr: d ? d.nr : null,
-    pf: d ? d.pf : null,
-  };
-  if (f.status === 'bad-fcs') {
-    out.fcsComputed = f.fcsComputed!.toString(16).padStart(fcsDigits, '0');
-    out.flippedBit = f.flippedBit;
-  }
-  return JSON.stringify(out);
-}
-
-function eventLine(e: LineEvent, period: number): string {
-  return JSON.stringify({
-    event: e.kind,
-    link: e.link,
-    channel: e.channel,
-    t: seconds(e.sample, period),
-    ...(e.endSample !== undefined ? { tEnd: seconds(e.endSample, period) } : {}),
-    ...(e.count !== undefined ? { count: e.count } : {}),
-  });
-}
-
 function position(issue: DecodeIssue): string {
   return issue.line !== undefined ? `line ${issue.line} (byte ${issue.offset})` : `byte ${issue.offset}`;
 }
@@ -299,80 +250,98 @@ async function main(): Promise<void> {
   const fcsDigits = options.fcs === 32 ? 8 : 4;
   const counts = new Map<string, Record<FrameStatus, number>>();
   let lastSample = 0;
-  let out: string[] = [];
+  const out = new NdjsonWriter(writeOut, fcsDigits);
   const decoder = createDecoder(options, {
     frame(f) {
       let c = counts.get(f.link);
       if (!c) counts.set(f.link, (c = { ok: 0, 'bad-fcs': 0, abort: 0, short: 0, residue: 0 }));
       c[f.status]++;
       if (f.lastSample > lastSample) lastSample = f.lastSample;
-      out.push(frameLine(f, decoder.samplePeriodSeconds ?? 0, fcsDigits));
+      out.frame(f, decoder.samplePeriodSeconds ?? 0);
     },
     event(e) {
-      if (cli.events) out.push(eventLine(e, decoder.samplePeriodSeconds ?? 0));
+      if (cli.events) out.event(e, decoder.samplePeriodSeconds ?? 0);
     },
   });
 
-  const stream = createReadStream(file, { highWaterMark: 1 << 20 });
-  process.stdout.on('error', (err: NodeJS.ErrnoException) => {
-    // The reader of our output went away (e.g. `| head`): stop quietly.
-    if (err.code === 'EPIPE') {
-      stream.destroy();
-      process.exit(0);
-    }
-    process.stderr.write(`decode: cannot write output: ${err.message}\n`);
-    process.exit(1);
-  });
-
-  const flush = () => {
-    if (out.length === 0) return true;
-    const text = out.join('\n') + '\n';
-    out = [];
-    return process.stdout.write(text);
-  };
   const stopIfFatal = () => {
     // a malformed part of the file is bad input for the CLI unless --lenient: scripts must not
     // take a partial decode for a whole one
     const issue = decoder.fatal() ?? (cli.lenient ? null : decoder.issues.find((i) => i.skipped) ?? null);
     if (issue) {
-      flush();
-      stream.destroy();
+      out.flush();
       failInput(file, issue);
     }
   };
 
-  stream.on('data', (chunk) => {
-    decoder.push(chunk as Buffer);
-    stopIfFatal();
-    if (!flush()) {
-      stream.pause();
-      process.stdout.once('drain', () => stream.resume());
-    }
-  });
-  stream.on('error', (err) => {
-    process.stderr.write(`decode: cannot read ${file}: ${err.message}\n`);
+  // One synchronous pass through one reused buffer: the decoder keeps nothing of a chunk after push()
+  let fd: number;
+  try {
+    fd = openSync(file, 'r');
+  } catch (e) {
+    process.stderr.write(`decode: cannot read ${file}: ${(e as Error).message}\n`);
     process.exit(2);
-  });
-  stream.on('end', () => {
-    decoder.finish();
-    stopIfFatal();
-    flush();
-    const secs = (performance.now() - started) / 1000;
-    const period = decoder.samplePeriodSeconds ?? 0;
-    const lines = [`decode: ${file} (${decoder.format ?? 'unknown format'}): ${decoder.links.length} link(s), last frame ends at ${seconds(lastSample, period)} s`];
-    for (const link of decoder.links) {
-      const c = counts.get(link) ?? { ok: 0, 'bad-fcs': 0, abort: 0, short: 0, residue: 0 };
-      const total = Object.values(c).reduce((a, b) => a + b, 0);
-      lines.push(`  ${link}: ${total} frames — ok ${c.ok}, bad-fcs ${c['bad-fcs']}, abort ${c.abort}, short ${c.short}, residue ${c.residue}`);
+  }
+  const chunk = new Uint8Array(CHUNK_BYTES);
+  for (;;) {
+    let n: number;
+    try {
+      n = readSync(fd, chunk, 0, chunk.length, null);
+    } catch (e) {
+      process.stderr.write(`decode: cannot read ${file}: ${(e as Error).message}\n`);
+      process.exit(2);
     }
-    const ok = [...counts.values()].reduce((n, c) => n + c.ok, 0);
-    if (ok === 0) for (const a of advice) lines.push(`  ${a}`);
-    const issues = decoder.issues;
-    for (const issue of issues.slice(0, 5)) lines.push(`  warning at ${position(issue)}: ${issue.message}`);
-    if (issues.length > 5) lines.push(`  … and ${issues.length - 5} more warnings`);
-    lines.push(`  read ${(size / 1e6).toFixed(1)} MB in ${secs.toFixed(2)} s (${(size / 1e6 / Math.max(secs, 1e-9)).toFixed(1)} MB/s)`);
-    process.stderr.write(lines.join('\n') + '\n');
-  });
+    if (n === 0) break;
+    decoder.push(chunk.subarray(0, n));
+    stopIfFatal();
+    // what this chunk gave goes out now, so a reader of the output sees frames as they come
+    out.flush();
+  }
+  closeSync(fd);
+  decoder.finish();
+  stopIfFatal();
+  out.flush();
+  const secs = (performance.now() - started) / 1000;
+  const period = decoder.samplePeriodSeconds ?? 0;
+  const lines = [`decode: ${file} (${decoder.format ?? 'unknown format'}): ${decoder.links.length} link(s), last frame ends at ${seconds(lastSample, period)} s`];
+  for (const link of decoder.links) {
+    const c = counts.get(link) ?? { ok: 0, 'bad-fcs': 0, abort: 0, short: 0, residue: 0 };
+    const total = Object.values(c).reduce((a, b) => a + b, 0);
+    lines.push(`  ${link}: ${total} frames — ok ${c.ok}, bad-fcs ${c['bad-fcs']}, abort ${c.abort}, short ${c.short}, residue ${c.residue}`);
+  }
+  const ok = [...counts.values()].reduce((n, c) => n + c.ok, 0);
+  if (ok === 0) for (const a of advice) lines.push(`  ${a}`);
+  const issues = decoder.issues;
+  for (const issue of issues.slice(0, 5)) lines.push(`  warning at ${position(issue)}: ${issue.message}`);
+  if (issues.length > 5) lines.push(`  … and ${issues.length - 5} more warnings`);
+  lines.push(`  read ${(size / 1e6).toFixed(1)} MB in ${secs.toFixed(2)} s (${(size / 1e6 / Math.max(secs, 1e-9)).toFixed(1)} MB/s)`);
+  process.stderr.write(lines.join('\n') + '\n');
+}
+
+const CHUNK_BYTES = 1 << 20;
+const pause = new Int32Array(new SharedArrayBuffer(4));
+
+/**
+ * Writes all of `bytes` to stdout before returning (the NDJSON writer reuses its buffer). A pipe
+ * may be non-blocking: a full one is waited on. When the reader of the output went away
+ * (e.g. `| head`), the process stops quietly.
+ */
+function writeOut(bytes: Uint8Array): void {
+  let at = 0;
+  while (at < bytes.length) {
+    try {
+      at += writeSync(1, bytes, at, bytes.length - at);
+    } catch (e) {
+      const code = (e as NodeJS.ErrnoException).code;
+      if (code === 'EAGAIN') {
+        Atomics.wait(pause, 0, 0, 1);
+        continue;
+      }
+      if (code === 'EPIPE') process.exit(0);
+      process.stderr.write(`decode: cannot write output: ${(e as Error).message}\n`);
+      process.exit(1);
+    }
+  }
 }
 
 /** Ends the process with one line instead of a stack trace, for throws in any callback. */

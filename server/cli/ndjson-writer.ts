@@ -1,0 +1,271 @@
+// The decode CLI's output: one JSON line per frame (and per line event when asked), assembled in
+// one reused byte buffer that goes to `write` whenever it fills. Frame lines have a fixed shape,
+// so they are written byte by byte instead of building an object and a string per frame for
+// JSON.stringify (that was the CLI's largest cost after the decoder itself). frameRecord() is the
+// same shape as an object: the reference the writer is tested against, field for field.
+import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
+
+/** Seconds with float noise trimmed (sample × period gives e.g. 0.30000000000000004). */
+export const seconds = (sample: number, period: number) => Number((sample * period).toPrecision(12));
+
+const hexDigits = (value: number, digits: number) => value.toString(16).padStart(digits, '0');
+
+/** A frame line as an object; `fcsDigits` is 4 for FCS-16, 8 for FCS-32. */
+export function frameRecord(f: DecodedFrame, period: number, fcsDigits: number): Record<string, unknown> {
+  const hasFcs = f.fcsReceived !== null;
+  const d = f.decode;
+  const end = hasFcs ? f.bytes.length - fcsDigits / 2 : f.bytes.length;
+  let hex = '';
+  for (let i = 0; i < end; i++) hex += hexDigits(f.bytes[i], 2);
+  const out: Record<string, unknown> = {
+    link: f.link,
+    seq: f.seq,
+    t: seconds(f.firstSample, period),
+    tEnd: seconds(f.lastSample, period),
+    status: f.status,
+    bits: f.bitLength,
+    hex,
+    fcs: hasFcs ? hexDigits(f.fcsReceived!, fcsDigits) : null,
+    address: d ? d.address : null,
+    kind: d ? d.kind : null,
+    command: d ? d.command : null,
+    ns: d ? d.ns : null,
+    nr: d ? d.nr : null,
+    pf: d ? d.pf : null,
+  };
+  if (f.status === 'bad-fcs') {
+    out.fcsComputed = hexDigits(f.fcsComputed!, fcsDigits);
+    out.flippedBit = f.flippedBit;
+  }
+  return out;
+}
+
+/** A line event as an object. */
+export function eventRecord(e: LineEvent, period: number): Record<string, unknown> {
+  return {
+    event: e.kind,
+    link: e.link,
+    channel: e.channel,
+    t: seconds(e.sample, period),
+    ...(e.endSample !== undefined ? { tEnd: seconds(e.endSample, period) } : {}),
+    ...(e.count !== undefined ? { count: e.count } : {}),
+  };
+}
+
+const encoder = new TextEncoder();
+const ascii = (s: string) => encoder.encode(s);
+
+const K_LINK = ascii('{"link":');
+const K_SEQ = ascii(',"seq":');
+const K_T = ascii(',"t":');
+const K_TEND = ascii(',"tEnd":');
+const K_STATUS = ascii(',"status":');
+const K_BITS = ascii(',"bits":');
+const K_HEX = ascii(',"hex":"');
+const K_FCS = ascii('","fcs":');
+const K_ADDRESS = ascii(',"address":');
+const K_KIND = ascii(',"kind":');
+const K_COMMAND = ascii(',"command":');
+const K_NS = ascii(',"ns":');
+const K_NR = ascii(',"nr":');
+const K_PF = ascii(',"pf":');
+const K_FCS_COMPUTED = ascii(',"fcsComputed":"');
+const K_FLIPPED = ascii('","flippedBit":');
+const NULL = ascii('null');
+const TRUE = ascii('true');
+const FALSE = ascii('false');
+/** ASCII codes of the hex digits */
+const NIBBLE = ascii('0123456789abcdef');
+/** both hex digits of an octet as one 16-bit value, first digit in the low byte */
+const OCTET = new Uint16Array(256);
+for (let i = 0; i < 256; i++) OCTET[i] = NIBBLE[i >> 4] | (NIBBLE[i & 15] << 8);
+
+/** bytes a frame line needs besides its hex and its strings (keys, numbers, FCS fields) */
+const FIXED_ROOM = 512;
+
+export class NdjsonWriter {
+  private buf: Uint8Array;
+  private at = 0;
+  /** JSON strings (quoted, escaped, UTF-8) of the link names, statuses, kinds and commands seen */
+  private readonly strings = new Map<string, Uint8Array>();
+
+  /**
+   * `write` gets a view of the buffer that is valid only during the call (the buffer is reused):
+   * it must write or copy the bytes before returning.
+   */
+  constructor(
+    private readonly write: (bytes: Uint8Array) => void,
+    private readonly fcsDigits: number,
+    capacity = 1 << 20,
+  ) {
+    this.buf = new Uint8Array(capacity);
+  }
+
+  frame(f: DecodedFrame, period: number): void {
+    const bytes = f.bytes;
+    const hasFcs = f.fcsReceived !== null;
+    const hexEnd = hasFcs ? bytes.length - (this.fcsDigits >> 1) : bytes.length;
+    const d = f.decode;
+    const link = this.string(f.link);
+    const command = d ? this.string(d.command) : NULL;
+    this.room(FIXED_ROOM + 2 * Math.max(0, hexEnd) + link.length + command.length);
+    this.put(K_LINK);
+    this.put(link);
+    this.put(K_SEQ);
+    this.integer(f.seq);
+    this.put(K_T);
+    this.seconds(f.firstSample, period);
+    this.put(K_TEND);
+    this.seconds(f.lastSample, period);
+    this.put(K_STATUS);
+    this.put(this.string(f.status));
+    this.put(K_BITS);
+    this.integer(f.bitLength);
+    this.put(K_HEX);
+    const buf = this.buf;
+    let at = this.at;
+    for (let i = 0; i < hexEnd; i++) {
+      const pair = OCTET[bytes[i]];
+      buf[at] = pair;
+      buf[at + 1] = pair >> 8;
+      at += 2;
+    }
+    this.at = at;
+    this.put(K_FCS);
+    if (hasFcs) this.hex(f.fcsReceived!);
+    else this.put(NULL);
+    this.put(K_ADDRESS);
+    if (d) this.integer(d.address);
+    else this.put(NULL);
+    this.put(K_KIND);
+    this.put(d ? this.string(d.kind) : NULL);
+    this.put(K_COMMAND);
+    this.put(command);
+    this.put(K_NS);
+    this.nullableInteger(d ? d.ns : null);
+    this.put(K_NR);
+    this.nullableInteger(d ? d.nr : null);
+    this.put(K_PF);
+    this.put(d ? (d.pf ? TRUE : FALSE) : NULL);
+    if (f.status === 'bad-fcs') {
+      this.put(K_FCS_COMPUTED);
+      this.hexDigits(f.fcsComputed!);
+      this.put(K_FLIPPED);
+      this.nullableInteger(f.flippedBit);
+    }
+    this.buf[this.at++] = 0x7d; // }
+    this.buf[this.at++] = 0x0a; // newline
+  }
+
+  /** line events are few: they go through JSON.stringify */
+  event(e: LineEvent, period: number): void {
+    const line = JSON.stringify(eventRecord(e, period)) + '\n';
+    this.room(line.length * 3);
+    this.at += encoder.encodeInto(line, this.buf.subarray(this.at)).written;
+  }
+
+  /** hands on what the buffer holds */
+  flush(): void {
+    if (this.at === 0) return;
+    const n = this.at;
+    this.at = 0;
+    this.write(this.buf.subarray(0, n));
+  }
+
+  private room(need: number): void {
+    if (this.at + need <= this.buf.length) return;
+    this.flush();
+    if (need > this.buf.length) {
+      let size = this.buf.length * 2;
+      while (size < need) size *= 2;
+      this.buf = new Uint8Array(size);
+    }
+  }
+
+  private string(s: string): Uint8Array {
+    let b = this.strings.get(s);
+    if (!b) this.strings.set(s, (b = encoder.encode(JSON.stringify(s))));
+    return b;
+  }
+
+  private put(src: Uint8Array): void {
+    const buf = this.buf;
+    let at = this.at;
+    for (let i = 0; i < src.length; i++) buf[at++] = src[i];
+    this.at = at;
+  }
+
+  private ascii(s: string): void {
+    const buf = this.buf;
+    let at = this.at;
+    for (let i = 0; i < s.length; i++) buf[at++] = s.charCodeAt(i);
+    this.at = at;
+  }
+
+  private nullableInteger(v: number | null): void {
+    if (v === null) this.put(NULL);
+    else this.integer(v);
+  }
+
+  /** decimal digits of a non-negative safe integer; anything else as JSON.stringify writes it */
+  private integer(v: number): void {
+    if (!(v >= 0 && v <= Number.MAX_SAFE_INTEGER && Math.floor(v) === v)) {
+      this.ascii(JSON.stringify(v));
+      return;
+    }
+    if (v < 10) {
+      this.buf[this.at++] = 48 + v;
+      return;
+    }
+    let digits = 1;
+    for (let p = 10; p <= v; p *= 10) digits++;
+    const buf = this.buf;
+    let at = this.at + digits;
+    this.at = at;
+    while (v >= 10) {
+      const q = Math.floor(v / 10);
+      buf[--at] = 48 + (v - q * 10);
+      v = q;
+    }
+    buf[--at] = 48 + v;
+  }
+
+  /** sample × period in seconds, to 12 significant digits, as JSON.stringify writes the number seconds() gives */
+  private seconds(sample: number, period: number): void {
+    const p = (sample * period).toPrecision(12);
+    // fixed notation: the number toPrecision names is written without its trailing zeros
+    // (12 significant digits always name one double, so that is also its shortest form)
+    if (p.indexOf('e') < 0 && p.indexOf('.') >= 0) {
+      let end = p.length;
+      while (p.charCodeAt(end - 1) === 48) end--;
+      if (p.charCodeAt(end - 1) === 46) end--;
+      const buf = this.buf;
+      let at = this.at;
+      for (let i = 0; i < end; i++) buf[at++] = p.charCodeAt(i);
+      this.at = at;
+      return;
+    }
+    this.ascii(JSON.stringify(Number(p)));
+  }
+
+  /** an FCS value as lowercase hex, at least fcsDigits digits (as toString(16).padStart would) */
+  private hexDigits(v: number): void {
+    if (!(v >= 0 && v <= 0xffffffff && Math.floor(v) === v)) {
+      this.ascii(hexDigits(v, this.fcsDigits));
+      return;
+    }
+    let digits = this.fcsDigits;
+    while (digits < 8 && v >= 2 ** (4 * digits)) digits++;
+    const buf = this.buf;
+    const at = this.at;
+    for (let k = 0; k < digits; k++) buf[at + k] = NIBBLE[(v >>> (4 * (digits - 1 - k))) & 15];
+    this.at = at + digits;
+  }
+
+  /** a quoted FCS value */
+  private hex(v: number): void {
+    this.buf[this.at++] = 0x22;
+    this.hexDigits(v);
+    this.buf[this.at++] = 0x22;
+  }
+}
