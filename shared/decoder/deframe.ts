@@ -25,8 +25,8 @@
 // Speed: line bits are taken packed, eight at a time, through tables built once (see FAST): inside
 // a frame, eight line bits without a sixth 1 in a row go in as their data bits in one step, with
 // any stuffed 0s deleted. Flags, aborts and idle go through the bit-at-a-time rules above.
-// One-bit-per-element chunks are packed first; `bitwise` keeps the plain path the fast one is
-// tested against (tests/decoder/fast-path.test.ts).
+// One-bit-per-element chunks are packed first; `bitwise` turns the table steps off, leaving the
+// plain bit-at-a-time rules the fast steps are tested against (tests/decoder/fast-path.test.ts).
 import type { BitChunk, FrameStatus, LineEvent, RawFrame } from './types';
 
 export interface DeframerSink {
@@ -40,8 +40,8 @@ export interface DeframerOptions {
   /** longest frame kept; longer ones are closed as 'abort' */
   maxFrameOctets?: number;
   /**
-   * Take one-bit-per-element chunks one bit at a time instead of packing them for the
-   * byte-at-a-time path: the plain reference the fast path is tested against.
+   * Take every line bit one at a time, never a whole byte through the tables: the plain
+   * reference the table steps are tested against.
    */
   bitwise?: boolean;
 }
@@ -153,9 +153,7 @@ export class Deframer {
   }
 
   push(chunk: BitChunk): void {
-    if (chunk.packed) this.pushPacked(chunk, chunk.packed);
-    else if (this.bitwise) this.pushBits(chunk);
-    else this.pushPacked(chunk, this.pack(chunk));
+    this.pushPacked(chunk, chunk.packed ?? this.pack(chunk));
   }
 
   /** packs a one-bit-per-element chunk into the scratch buffer (LSB first) */
@@ -185,10 +183,14 @@ export class Deframer {
     return out;
   }
 
-  /** packed line bits; a line byte without a stuffed zero, flag or sixth 1 inside a frame goes in at once */
+  /**
+   * Packed line bits, one at a time by the rules above; inside a frame, a whole line byte without a
+   * sixth 1 in a row goes in at once through the tables (unless `bitwise`).
+   */
   private pushPacked(chunk: BitChunk, packed: Uint8Array): void {
     const samples = chunk.samples;
     const n = chunk.n;
+    const table = !this.bitwise;
     // Hot loop on locals only (no closures: captured locals would live on the heap). They are
     // written back to `this` before each rare call out (flag, abort, idle, buffer growth) and
     // read again after it. Data bits gather in `acc` and reach the buffer a whole octet at a time.
@@ -210,7 +212,7 @@ export class Deframer {
     let fastE = 0;
     let fastLen = 0;
     for (let i = 0; i < n; i++) {
-      if (inFrame && (i & 7) === 0 && ones < 6 && i + 8 <= n) {
+      if (inFrame && (i & 7) === 0 && ones < 6 && i + 8 <= n && table) {
         const b = packed[i >> 3];
         const e = FAST[(ones << 8) | b];
         if (e !== 0 && len >> 3 < this.buf.length) {
@@ -347,129 +349,6 @@ export class Deframer {
       if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
       prev = samples[fastAt + 7];
       seenZero = true;
-    }
-    this.ones = ones;
-    this.inFrame = inFrame;
-    this.len = len;
-    this.acc = acc;
-    this.lineCount = lineCount;
-    this.prevSample = prev;
-    this.runStart = runStart;
-    this.seenZero = seenZero;
-    this.zeroSample = zeroSample;
-    this.lenBeforeZero = lenBeforeZero;
-    this.sampleBeforeZero = sampleBeforeZero;
-    this.firstSample = firstSample;
-    this.stuffedBeforeZero = stuffedBeforeZero;
-    this.bitsSeen += n;
-  }
-
-  /** the reference path: one bit per element, one bit at a time */
-  private pushBits(chunk: BitChunk): void {
-    const bits = chunk.bits;
-    const samples = chunk.samples;
-    const n = chunk.n;
-    // Hot loop on locals only (no closures: captured locals would live on the heap). They are
-    // written back to `this` before each rare call out (flag, abort, idle, buffer growth) and
-    // read again after it. Data bits gather in `acc` and reach the buffer a whole octet at a time.
-    let ones = this.ones;
-    let inFrame = this.inFrame;
-    let len = this.len;
-    let acc = this.acc;
-    let lineCount = this.lineCount;
-    let prev = this.prevSample;
-    let runStart = this.runStart;
-    let seenZero = this.seenZero;
-    let zeroSample = this.zeroSample;
-    let lenBeforeZero = this.lenBeforeZero;
-    let sampleBeforeZero = this.sampleBeforeZero;
-    let firstSample = this.firstSample;
-    let stuffedBeforeZero = this.stuffedBeforeZero;
-    for (let i = 0; i < n; i++) {
-      const s = samples[i];
-      if (bits[i] !== 0) {
-        if (ones === 0) runStart = s;
-        ones++;
-        if (inFrame) {
-          if (lineCount === 0) firstSample = s;
-          lineCount++;
-          if (ones <= 5) {
-            acc |= 1 << (len & 7);
-            if ((len & 7) === 7) {
-              if (len >> 3 >= this.buf.length) {
-                this.len = len;
-                this.prevSample = prev;
-                this.firstSample = firstSample;
-                if (!this.room()) {
-                  ({ inFrame, len, lineCount, acc } = this);
-                  prev = s;
-                  continue;
-                }
-              }
-              this.buf[len >> 3] = acc;
-              acc = 0;
-            }
-            len++;
-          } else if (ones === 7) {
-            this.len = len;
-            this.lineCount = lineCount;
-            this.zeroSample = zeroSample;
-            this.firstSample = firstSample;
-            this.prevSample = prev;
-            this.abort();
-            ({ inFrame, len, lineCount, acc } = this);
-          }
-        }
-      } else {
-        if (ones === 6 && seenZero) {
-          this.inFrame = inFrame;
-          this.zeroSample = zeroSample;
-          this.lenBeforeZero = lenBeforeZero;
-          this.stuffedBeforeZero = stuffedBeforeZero;
-          this.sampleBeforeZero = sampleBeforeZero;
-          this.firstSample = firstSample;
-          this.flag(s);
-          ({ inFrame, len, lineCount, acc, zeroSample, lenBeforeZero, stuffedBeforeZero, sampleBeforeZero } = this);
-        } else {
-          if (ones >= 15) {
-            this.runStart = runStart;
-            this.idle(prev);
-          }
-          if (inFrame) {
-            if (lineCount === 0) firstSample = s;
-            lenBeforeZero = len;
-            sampleBeforeZero = prev;
-            stuffedBeforeZero = this.stuffed.length;
-            if (ones === 5) {
-              this.stuffed.push(lineCount);
-            } else {
-              if ((len & 7) === 7) {
-                if (len >> 3 >= this.buf.length) {
-                  this.len = len;
-                  this.prevSample = prev;
-                  this.firstSample = firstSample;
-                  if (!this.room()) {
-                    ({ inFrame, len, lineCount, acc } = this);
-                    zeroSample = s;
-                    seenZero = true;
-                    ones = 0;
-                    prev = s;
-                    continue;
-                  }
-                }
-                this.buf[len >> 3] = acc;
-                acc = 0;
-              }
-              len++;
-            }
-            lineCount++;
-          }
-          zeroSample = s;
-        }
-        seenZero = true;
-        ones = 0;
-      }
-      prev = s;
     }
     this.ones = ones;
     this.inFrame = inFrame;
