@@ -57,12 +57,13 @@ export interface DecoderOptions {
   rawFastPath?: boolean;
   /**
    * Receives the line anomalies of sample captures (VCD, CSV, raw): glitches, clock edges missing
-   * or extra, unknown levels, silences. Raw captures then go through transitions (no fused path).
+   * or extra, unknown levels, silences. The fused raw path feeds them from the edges it sees.
    */
   anomalies?: AnomalySink;
 }
 
 export interface Decoder {
+  /** the next bytes of the capture; nothing of them is kept after the call, so the caller may reuse the array */
   push(bytes: Uint8Array): void;
   finish(): void;
   readonly bytesRead: number;
@@ -170,7 +171,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
         event: (e: LineEvent) => order.event(e),
       };
       if (options.anomalies) tap = new AnomalyTap({ ...opts, clockName: clock?.name }, options.anomalies);
-      recovery = canFuse(opts) ? new ClockedRawBits(opts, bitSink) : new BitRecovery(opts, bitSink);
+      recovery = canFuse(opts) ? new ClockedRawBits(opts, bitSink, tap) : new BitRecovery(opts, bitSink);
     },
     transitions(t: Parameters<BitRecovery['transitions']>[0]) {
       if (recovery instanceof BitRecovery && !ownFatal) {
@@ -185,7 +186,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
 
   /** the fused raw path covers raw samples with a clock whose channels each have one role */
   const canFuse = (opts: BitRecoveryOptions): boolean => {
-    if (format !== 'raw' || options.rawFastPath === false || options.anomalies || opts.clock === undefined) return false;
+    if (format !== 'raw' || options.rawFastPath === false || opts.clock === undefined) return false;
     const used = [opts.clock, ...opts.data.map((d) => d.channel), ...(opts.handshake ?? []).map((h) => h.channel)];
     return new Set(used).size === used.length;
   };

@@ -1,8 +1,11 @@
+import type { AnomalyTap } from './faults/anomalies';
 import { BIT_CHUNK_SIZE as CHUNK } from './link-bits';
 import type { BitChunk, BitRecoveryOptions, BitRecoverySink } from './types';
 
 /** module-local copy: imported bindings cost a lookup in hot loops */
 const BIT_CHUNK_SIZE = CHUNK;
+/** samples scanned per call while an anomaly tap listens: the stretch the tap takes at once */
+const TAP_SLICE = 65536;
 
 /**
  * Raw binary samples with a clock channel, straight to packed line bits: one pass over the
@@ -12,6 +15,14 @@ const BIT_CHUNK_SIZE = CHUNK;
  * against the line's initial level, inversion on the line level, handshake lines as events.
  *
  * Sample indices stay exact per bit (a clock may jitter), written beside the packed bits.
+ *
+ * With an anomaly tap (the fault desk) the samples go in stretches of TAP_SLICE. While scanning,
+ * the loop keeps each data line's last change and marks the stretch suspect when a change comes
+ * sooner after the previous one than the tap's screen (a possible glitch). A stretch that is not
+ * suspect and whose clock edges (the bits' sample indices) the tap finds on time goes to the tap
+ * in one step (AnomalyTap.quiet); any other is scanned again for every data-line change and fed
+ * to the tap change by change (AnomalyTap.edges). Either way the tap reports what it would from
+ * the general path's transitions.
  */
 export class ClockedRawBits {
   private readonly links: number;
@@ -32,9 +43,27 @@ export class ClockedRawBits {
   /** the previous sample, -1 before the first */
   private prev = -1;
 
+  // ---- the anomaly tap's feed (see the class comment) ----
+  /** data lines whose changes are looked at (0 without a tap) */
+  private readonly changeMask: number;
+  /** per link: its data line's bit, repeated in each byte of a 32-bit word (four 1-byte samples) */
+  private readonly laneMask: Int32Array;
+  /** per link: sample of its data line's last change */
+  private readonly lastChange: Float64Array;
+  /** a change this soon after the line's last one makes the stretch suspect */
+  private screen = Infinity;
+  private suspect = false;
+  /** every data-line change (channel, sample) of a stretch fed change by change */
+  private readonly changeChannel: Uint8Array;
+  private readonly changeSample: Float64Array;
+  private changes = 0;
+  /** the first bit whose clock edge the tap has not had yet */
+  private tapFrom = 0;
+
   constructor(
     opts: BitRecoveryOptions,
     private readonly sink: BitRecoverySink,
+    private readonly tap: AnomalyTap | null = null,
   ) {
     if (opts.clock === undefined) throw new Error('ClockedRawBits needs a clock channel');
     this.clockChannel = opts.clock;
@@ -56,6 +85,15 @@ export class ClockedRawBits {
     for (const h of this.handshake) hm |= 1 << h.channel;
     // a handshake line that is also the clock or a data line is the general path's business
     this.handshakeMask = hm & ~this.clockMask;
+    let dm = 0;
+    for (const d of opts.data) dm |= 1 << d.channel;
+    this.changeMask = tap ? dm : 0;
+    this.laneMask = Int32Array.from(opts.data.map((d) => (1 << d.channel) * 0x01010101));
+    this.lastChange = new Float64Array(this.links);
+    // at most one change per data line and sample
+    const room = tap ? (TAP_SLICE + 1) * this.links : 0;
+    this.changeChannel = new Uint8Array(room);
+    this.changeSample = new Float64Array(room);
   }
 
   /**
@@ -70,12 +108,22 @@ export class ClockedRawBits {
       const first = width === 1 ? bytes[i] : bytes[i] | (bytes[i + 1] << 8);
       for (let k = 0; k < this.links; k++) this.ref[k] = (first >> this.dataBit[k]) & 1;
       this.prev = first;
+      if (this.tap) this.firstLevels(first, firstSample);
       i += width;
     }
+    const tap = this.tap;
     while (i < end) {
-      i = width === 1 ? this.scan8(bytes, i, end, base) : this.scan16(bytes, i, end, base);
+      const stop = tap ? Math.min(end, i + TAP_SLICE * width) : end;
+      const from = i;
+      const prevBefore = this.prev;
+      if (tap) {
+        this.screen = tap.quietScreen();
+        this.suspect = false;
+      }
+      i = width === 1 ? this.scan8(bytes, i, stop, base) : this.scan16(bytes, i, stop, base);
+      if (tap) this.tapStretch(bytes, from, i, base, width, prevBefore);
       if (this.chunks[0].n >= BIT_CHUNK_SIZE) this.flushAll();
-      else if (i < end) {
+      else if (i < stop) {
         // stopped at a sample where a handshake line changed
         const v = width === 1 ? bytes[i] : bytes[i] | (bytes[i + 1] << 8);
         this.handshakeSample(v, base + i / width);
@@ -94,6 +142,8 @@ export class ClockedRawBits {
     const cm = this.clockMask * 0x01010101;
     const rising = this.clockActive !== 0;
     const hm = this.handshakeMask * 0x01010101;
+    // a change on these lines needs a look beyond clock edges: handshake lines stop the scan, data lines are screened for the tap
+    const watch = hm | (this.changeMask * 0x01010101);
     let prev = this.prev;
     const two = this.links === 2;
     const nrzi = this.nrzi;
@@ -110,6 +160,13 @@ export class ClockedRawBits {
     let a0 = this.acc[0];
     let a1 = two ? this.acc[1] : 0;
     let n = c0.n;
+    // the tap's screen (screenChanges, written out for the word loop: it is the hot one)
+    const lane0 = this.laneMask[0];
+    const lane1 = two ? this.laneMask[1] : 0;
+    const screen = this.screen;
+    let last0 = this.lastChange[0];
+    let last1 = two ? this.lastChange[1] : 0;
+    let suspect = false;
     // the aligned words inside [from, end)
     const head = (4 - ((bytes.byteOffset + from) & 3)) & 3;
     const wStart = from + head;
@@ -124,9 +181,16 @@ export class ClockedRawBits {
       while (i < stop) {
         const w = bytes[i];
         const before = prev;
-        if (((w ^ before) & hm) !== 0) {
-          stop = -1;
-          break;
+        if (((w ^ before) & watch) !== 0) {
+          if (((w ^ before) & hm) !== 0) {
+            stop = -1;
+            break;
+          }
+          this.lastChange[0] = last0;
+          if (two) this.lastChange[1] = last1;
+          this.screenChanges(w ^ before, base + i, true);
+          last0 = this.lastChange[0];
+          last1 = two ? this.lastChange[1] : 0;
         }
         if ((w ^ before) & cm && (rising ? w & cm : before & cm)) {
           const s = base + i;
@@ -166,7 +230,22 @@ export class ClockedRawBits {
         const w = words![j];
         // byte k of `before` is the sample before byte k of w
         const before = (w << 8) | prev;
-        if (((w ^ before) & hm) !== 0) break;
+        if (((w ^ before) & watch) !== 0) {
+          if (((w ^ before) & hm) !== 0) break;
+          const s0 = base + wStart + (j << 2);
+          let x = (w ^ before) & lane0;
+          if (x !== 0) {
+            const at = s0 + ((31 - Math.clz32(x)) >> 3);
+            if ((x & (x - 1)) !== 0 || at - last0 < screen) suspect = true;
+            last0 = at;
+          }
+          x = (w ^ before) & lane1;
+          if (x !== 0) {
+            const at = s0 + ((31 - Math.clz32(x)) >> 3);
+            if ((x & (x - 1)) !== 0 || at - last1 < screen) suspect = true;
+            last1 = at;
+          }
+        }
         let edges = (rising ? w & ~before : ~w & before) & cm;
         while (edges !== 0) {
           const low = edges & -edges;
@@ -209,6 +288,9 @@ export class ClockedRawBits {
       this.acc[1] = a1;
       c1.n = n;
     }
+    this.lastChange[0] = last0;
+    if (two) this.lastChange[1] = last1;
+    if (suspect) this.suspect = true;
     return i;
   }
 
@@ -217,6 +299,7 @@ export class ClockedRawBits {
     const cm = this.clockMask;
     const active = this.clockActive;
     const hm = this.handshakeMask;
+    const watch = hm | this.changeMask;
     let prev = this.prev;
     const two = this.links === 2;
     const nrzi = this.nrzi;
@@ -238,7 +321,10 @@ export class ClockedRawBits {
       const b = bytes[i] | (bytes[i + 1] << 8);
       if (b === prev) continue;
       const d = b ^ prev;
-      if ((d & hm) !== 0) break;
+      if ((d & watch) !== 0) {
+        if ((d & hm) !== 0) break;
+        this.screenChanges(d, base + i / 2, false);
+      }
       if ((d & cm) !== 0 && (b & cm) === active) {
         const s = base + i / 2;
         const l0 = (prev >> d0) & 1;
@@ -284,6 +370,7 @@ export class ClockedRawBits {
     const cm = this.clockMask;
     const active = this.clockActive;
     const hm = this.handshakeMask;
+    const watch = hm | this.changeMask;
     let prev = this.prev;
     let n = this.chunks[0].n;
     let i = from;
@@ -291,7 +378,10 @@ export class ClockedRawBits {
       const b = width === 1 ? bytes[i] : bytes[i] | (bytes[i + 1] << 8);
       if (b === prev) continue;
       const d = b ^ prev;
-      if ((d & hm) !== 0) break;
+      if ((d & watch) !== 0) {
+        if ((d & hm) !== 0) break;
+        this.screenChanges(d, base + i / width, false);
+      }
       if ((d & cm) !== 0 && (b & cm) === active) {
         this.putAll(prev, base + i / width, n);
         n++;
@@ -331,6 +421,8 @@ export class ClockedRawBits {
    */
   private handshakeSample(b: number, s: number): void {
     const prev = this.prev;
+    // the tap takes this sample change by change
+    if (this.tap) this.recordChanges(b ^ prev, s);
     let d = b ^ prev;
     while (d !== 0) {
       const low = d & -d;
@@ -350,9 +442,82 @@ export class ClockedRawBits {
       }
     }
     this.prev = b;
+    if (this.tap) this.feedTap();
+  }
+
+  /**
+   * The screen: notes the last change of each data line in `d`, a change mask of four 1-byte
+   * samples from sample s (`lanes`) or of one sample at s, and marks the stretch suspect when a
+   * line changes sooner than `screen` after its previous change, or twice in four samples.
+   */
+  private screenChanges(d: number, s: number, lanes: boolean): void {
+    for (let k = 0; k < this.links; k++) {
+      const x = d & (lanes ? this.laneMask[k] : 1 << this.dataBit[k]);
+      if (x === 0) continue;
+      const at = lanes ? s + ((31 - Math.clz32(x)) >> 3) : s;
+      if ((x & (x - 1)) !== 0 || at - this.lastChange[k] < this.screen) this.suspect = true;
+      this.lastChange[k] = at;
+    }
+  }
+
+  /** the first sample's levels of the clock and data lines, as the general path's reader gives them */
+  private firstLevels(first: number, s: number): void {
+    const channels = [this.clockChannel, ...this.dataBit].sort((a, b) => a - b);
+    this.tap!.transitions({
+      channel: Uint8Array.from(channels),
+      sample: new Float64Array(channels.length).fill(s),
+      value: Uint8Array.from(channels.map((c) => (first >> c) & 1)),
+      n: channels.length,
+    });
+    this.lastChange.fill(s);
+  }
+
+  /**
+   * Samples bytes[from, to) were scanned: the tap takes them in one step when nothing in them can
+   * be an anomaly, else change by change (found by scanning them again, from `prevBefore`).
+   */
+  private tapStretch(bytes: Uint8Array, from: number, to: number, base: number, width: 1 | 2, prevBefore: number): void {
+    const n = this.chunks[0].n;
+    if (!this.suspect && this.tap!.quiet(this.chunks[0].samples, this.tapFrom, n, this.screen, this.dataBit, this.lastChange)) {
+      this.tapFrom = n;
+      return;
+    }
+    const mask = this.changeMask;
+    let prev = prevBefore;
+    for (let i = from; i < to; i += width) {
+      const v = width === 1 ? bytes[i] : bytes[i] | (bytes[i + 1] << 8);
+      if (((v ^ prev) & mask) !== 0) this.recordChanges(v ^ prev, base + i / width);
+      prev = v;
+    }
+    this.feedTap();
+  }
+
+  /** keeps the data-line changes in `d` (a change mask of one sample at s) for feedTap */
+  private recordChanges(d: number, s: number): void {
+    let x = d & this.changeMask;
+    while (x !== 0) {
+      const bit = x & -x;
+      x ^= bit;
+      this.changeChannel[this.changes] = 31 - Math.clz32(bit);
+      this.changeSample[this.changes] = s;
+      this.changes++;
+    }
+    for (let k = 0; k < this.links; k++) if ((d >> this.dataBit[k]) & 1) this.lastChange[k] = s;
+  }
+
+  /** gives the tap the clock edges and the kept data-line changes it has not had yet, change by change */
+  private feedTap(): void {
+    const n = this.chunks[0].n;
+    this.tap!.edges(this.chunks[0].samples, this.tapFrom, n, this.changeChannel, this.changeSample, this.changes);
+    this.tapFrom = n;
+    this.changes = 0;
   }
 
   private flushAll(): void {
+    if (this.tap) {
+      this.feedTap();
+      this.tapFrom = 0;
+    }
     for (let k = 0; k < this.links; k++) {
       const c = this.chunks[k];
       if (c.n === 0) continue;

@@ -5,12 +5,17 @@
 // abort on seven 1s, idle on fifteen).
 import { describe, expect, it } from 'vitest';
 import { Deframer, type DeframerOptions } from '../../shared/decoder/deframe';
+import { AnomalyTap, type LineAnomaly } from '../../shared/decoder/faults/anomalies';
 import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
 import { renderWaveform } from '../../shared/decoder/encode/waveform';
 import { collect } from '../../shared/decoder/encode/writers/collect';
+import { csvChunks } from '../../shared/decoder/encode/writers/csv';
+import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
+import { octetsFromLineBits } from '../../shared/decoder/encode/writers/octets';
 import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import type { DecoderOptions } from '../../shared/decoder/pipeline';
-import type { BitChunk, LineEvent, RawFrame } from '../../shared/decoder/types';
+import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
+import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
+import type { BitChunk, LineEvent, RawFrame, Transitions } from '../../shared/decoder/types';
 import { runDecoder } from './pipeline-helpers';
 
 /** Line bits with every kind of event: frames (some stuffed heavily), shared flags and zeros, aborts, idle, noise. */
@@ -116,9 +121,37 @@ describe('byte-at-a-time deframing', () => {
   });
 });
 
+/** missing clock edges: single ones, a pair, and a long run that makes a silence */
+function lineClockFaults(rng: () => number): number[] {
+  const out = [Math.floor(rng() * 300), 400 + Math.floor(rng() * 100), 520];
+  out.push(521);
+  const silenceAt = 700 + Math.floor(rng() * 200);
+  for (let k = 0; k < 20; k++) out.push(silenceAt + k);
+  return out;
+}
+
+/** glitches on every line: single spikes, bursts of adjacent pulses, and pulses on the clock (extra edges) */
+function lineGlitches(rng: () => number, channels: string[], spb: number) {
+  const out: { channel: string; sample: number; width: number }[] = [];
+  for (const channel of channels) {
+    for (let k = 0; k < 4; k++) {
+      const sample = 20 + Math.floor(rng() * 9000 * spb / 5);
+      out.push({ channel, sample, width: 1 });
+      if (k === 0 && channel !== channels[0]) out.push({ channel, sample: sample + 2, width: 1 });
+    }
+  }
+  return out;
+}
+
+function runWithTap(options: DecoderOptions, input: Uint8Array, chunkSizes: number[]) {
+  const anomalies: LineAnomaly[] = [];
+  const r = runDecoder({ ...options, anomalies: { anomaly: (a) => anomalies.push(a) } }, input, chunkSizes);
+  return { ...r, anomalies };
+}
+
 describe('fused raw + clock path', () => {
   /** A random clocked capture as raw bytes, with its channels moved to random bit positions. */
-  function randomCapture(seed: number) {
+  function randomCapture(seed: number, lineFaults = false) {
     const rng = seededRng(seed);
     const width: 1 | 2 = rng() < 0.5 ? 1 : 2;
     const linkCount = 1 + Math.floor(rng() * 3);
@@ -143,11 +176,15 @@ describe('fused raw + clock path', () => {
       faults: {
         jitter: rng() * 0.15,
         seed,
-        missingClockEdges: [Math.floor(rng() * 500)],
-        glitches: [
-          { channel: 'clk', sample: Math.floor(rng() * 5000) + 10, width: 1 },
-          { channel: 'd0', sample: Math.floor(rng() * 5000) + 10, width: 1 },
-        ],
+        // slower than nominal: a tap given the nominal rate follows the clock's period as it grows
+        rateError: lineFaults && seed % 4 === 0 ? -0.08 : 0,
+        missingClockEdges: lineFaults ? lineClockFaults(rng) : [Math.floor(rng() * 500)],
+        glitches: lineFaults
+          ? lineGlitches(rng, ['clk', ...links.map((l) => l.name)], spb)
+          : [
+              { channel: 'clk', sample: Math.floor(rng() * 5000) + 10, width: 1 },
+              { channel: 'd0', sample: Math.floor(rng() * 5000) + 10, width: 1 },
+            ],
       },
     });
     const plain = collect(rawChunks(w, { width }));
@@ -180,7 +217,7 @@ describe('fused raw + clock path', () => {
       invert,
     } satisfies DecoderOptions;
     const sizes = Array.from({ length: 5 }, () => 1 + Math.floor(rng() * (rng() < 0.3 ? 7 : 20000)));
-    return { bytes, options, sizes, describe: `seed ${seed}: width ${width}, ${linkCount} links, ${handshake.length} handshake, ${edge}, ${encoding}${invert ? ', inverted' : ''}` };
+    return { bytes, options, sizes, spb, describe: `seed ${seed}: width ${width}, ${linkCount} links, ${handshake.length} handshake, ${edge}, ${encoding}${invert ? ', inverted' : ''}` };
   }
 
   it('gives the same frames and line events as reader → transitions → bit recovery on random captures (seeded PRNG)', () => {
@@ -199,6 +236,26 @@ describe('fused raw + clock path', () => {
     }
   });
 
+  it('with the anomaly tap on, gives the same frames, line events and anomalies in the same order as the general path (seeded PRNG)', () => {
+    const kinds = new Set<string>();
+    for (let seed = 1; seed <= 16; seed++) {
+      const { bytes, options, sizes, spb, describe: what } = randomCapture(seed, true);
+      // half the captures give the nominal rate, half leave the tap to learn the period from the clock
+      const rate = seed % 2 === 0 ? { bitRate: options.sampleRate / spb } : {};
+      const general = runWithTap({ ...options, ...rate, rawFastPath: false }, bytes, [bytes.length]);
+      expect(general.dec.fatal(), what).toBeNull();
+      expect(general.anomalies.length, what).toBeGreaterThan(3);
+      for (const a of general.anomalies) kinds.add(a.kind);
+      for (const split of [[bytes.length], sizes, [1, 4097, 3, 8191]]) {
+        const fused = runWithTap({ ...options, ...rate, rawFastPath: true }, bytes, split);
+        expect(fused.anomalies, what).toEqual(general.anomalies);
+        expect(fused.frames, what).toEqual(general.frames);
+        expect(fused.events, what).toEqual(general.events);
+      }
+    }
+    expect([...kinds].sort()).toEqual(['clock-extra', 'clock-missing', 'glitch', 'silence']);
+  });
+
   it('reports half a 2-byte sample at the end and no samples at all just as the general path does', () => {
     for (const bytes of [new Uint8Array([1, 0, 3, 0, 7]), new Uint8Array(0), new Uint8Array([5])]) {
       const options: DecoderOptions = { format: 'raw', sampleRate: 1e6, rawWidth: 2, clock: '0', data: ['1'] };
@@ -206,6 +263,199 @@ describe('fused raw + clock path', () => {
       const fused = runDecoder({ ...options, rawFastPath: true }, bytes, [3]);
       expect(fused.dec.issues).toEqual(general.dec.issues);
       expect(fused.frames).toEqual(general.frames);
+    }
+  });
+});
+
+describe('anomaly tap fed with edges', () => {
+  /** [channel, sample, value] → one Transitions batch */
+  const batch = (list: [number, number, number][]): Transitions => ({
+    channel: Uint8Array.from(list.map((t) => t[0])),
+    sample: Float64Array.from(list.map((t) => t[1])),
+    value: Uint8Array.from(list.map((t) => t[2])),
+    n: list.length,
+  });
+
+  it('reports what transitions() reports, with clock edges and data changes at the same sample taken in channel order (seeded PRNG)', () => {
+    for (let seed = 1; seed <= 40; seed++) {
+      const rng = seededRng(seed);
+      // the clock between, below or above the data lines, so same-sample order by channel matters both ways
+      const clock = [0, 2, 5][seed % 3];
+      const data = [1, 4];
+      const period = 10;
+      const options = { samplePeriodSeconds: 1e-6, clock, data: data.map((channel, k) => ({ channel, link: `d${k}` })), ...(seed % 2 ? { bitRate: 1e5 } : {}) };
+      // active clock edges mostly a period apart, some too soon, some late (missing edges), one long gap (silence)
+      const edges: number[] = [];
+      let t = 5;
+      for (let k = 0; k < 400; k++) {
+        const r = rng();
+        t += r < 0.05 ? 2 + Math.floor(rng() * 3) : r < 0.1 ? 2 * period + Math.floor(rng() * 3 * period) : r < 0.105 ? 20 * period : period + Math.floor(rng() * 3) - 1;
+        edges.push(t);
+      }
+      // data changes: on bit boundaries, often exactly on a clock edge, with short pulses (glitches)
+      const changes: [number, number][] = [];
+      for (const c of data) {
+        let at = 1;
+        while (at < t) {
+          const r = rng();
+          at += r < 0.3 ? 1 + Math.floor(rng() * 3) : period * (1 + Math.floor(rng() * 3));
+          // often exactly on the next clock edge
+          if (rng() < 0.3) at = edges.find((e) => e >= at) ?? at;
+          changes.push([c, at]);
+        }
+      }
+      const byTime = (a: [number, number], b: [number, number]) => a[1] - b[1] || a[0] - b[0];
+      changes.sort(byTime);
+      // unique per channel and sample
+      const seen = new Set<string>();
+      const dataChanges = changes.filter(([c, at]) => !seen.has(`${c}@${at}`) && seen.add(`${c}@${at}`));
+      expect(dataChanges.some(([, at]) => edges.includes(at))).toBe(true);
+
+      // the general way: every level change as transitions, the clock's idle edge halfway between active ones
+      const level = new Map<number, number>([[clock, 0], ...data.map((c) => [c, 0] as [number, number])]);
+      const list: [number, number, number][] = [...level].map(([c, v]) => [c, 0, v]);
+      const events: [number, number, number][] = [];
+      let last = 0;
+      for (const e of edges) {
+        events.push([clock, Math.floor((last + e) / 2), 0], [clock, e, 1]);
+        last = e;
+      }
+      for (const [c, at] of dataChanges) {
+        const v = 1 - level.get(c)!;
+        level.set(c, v);
+        events.push([c, at, v]);
+      }
+      events.sort((a, b) => a[1] - b[1] || a[0] - b[0]);
+      const viaTransitions: LineAnomaly[] = [];
+      const general = new AnomalyTap(options, { anomaly: (a) => viaTransitions.push(a) });
+      general.transitions(batch([...list, ...events]));
+      general.finish();
+
+      // the fused way: first levels as transitions, then edges and changes in random slices of time
+      const viaEdges: LineAnomaly[] = [];
+      const fused = new AnomalyTap(options, { anomaly: (a) => viaEdges.push(a) });
+      fused.transitions(batch(list));
+      const edgeSamples = Float64Array.from(edges);
+      let e = 0;
+      let d = 0;
+      for (let until = 0; e < edges.length || d < dataChanges.length; until += 1 + Math.floor(rng() * 300)) {
+        let e1 = e;
+        while (e1 < edges.length && edges[e1] <= until) e1++;
+        let d1 = d;
+        while (d1 < dataChanges.length && dataChanges[d1][1] <= until) d1++;
+        const part = dataChanges.slice(d, d1);
+        fused.edges(edgeSamples, e, e1, Uint8Array.from(part.map((x) => x[0])), Float64Array.from(part.map((x) => x[1])), part.length);
+        e = e1;
+        d = d1;
+      }
+      fused.finish();
+      expect(viaTransitions.length).toBeGreaterThan(10);
+      expect(viaEdges).toEqual(viaTransitions);
+    }
+  });
+});
+
+describe('anomaly tap, quiet stretches', () => {
+  const options = { samplePeriodSeconds: 1e-6, clock: 0, data: [{ channel: 1, link: 'a' }], bitRate: 1e5 };
+  const first = { channel: Uint8Array.of(0, 1), sample: Float64Array.of(0, 0), value: Uint8Array.of(0, 0), n: 2 };
+
+  it('declines a stretch whose clock slows past the screen, so a pulse the screen let through is still judged at the new period', () => {
+    // nominal 10 samples per bit, the clock runs at 12: the period follows it from 10 toward 12
+    const edges = Float64Array.from({ length: 300 }, (_, k) => 5 + 12 * k);
+    const screened: LineAnomaly[] = [];
+    const tap = new AnomalyTap(options, { anomaly: (a) => screened.push(a) });
+    tap.transitions(first);
+    const screen = tap.quietScreen();
+    expect(screen).toBeCloseTo(0.5 * 10 * 1.0625);
+    // a data pulse 5.5 samples wide: past the screen, yet under half of the period the clock reaches
+    const pulse = [3000, 3005.5];
+    expect(pulse[1] - pulse[0]).toBeGreaterThan(screen);
+    expect(tap.quiet(edges, 0, edges.length, screen, Int32Array.of(1), Float64Array.of(pulse[1]))).toBe(false);
+    tap.edges(edges, 0, edges.length, Uint8Array.of(1, 1, 1), Float64Array.of(pulse[0], pulse[1], 3400), 3);
+    tap.finish();
+
+    const reference: LineAnomaly[] = [];
+    const general = new AnomalyTap(options, { anomaly: (a) => reference.push(a) });
+    const list: [number, number, number][] = [[0, 0, 0], [1, 0, 0]];
+    for (const e of edges) list.push([0, e - 6, 0], [0, e, 1]);
+    list.push([1, pulse[0], 1], [1, pulse[1], 0], [1, 3400, 1]);
+    list.sort((a, b) => a[1] - b[1] || a[0] - b[0]);
+    general.transitions({
+      channel: Uint8Array.from(list.map((t) => t[0])),
+      sample: Float64Array.from(list.map((t) => t[1])),
+      value: Uint8Array.from(list.map((t) => t[2])),
+      n: list.length,
+    });
+    general.finish();
+    expect(reference.map((a) => a.kind)).toEqual(['glitch']);
+    expect(screened).toEqual(reference);
+  });
+
+  it('takes an on-time stretch in one step and leaves the same state as taking it edge by edge', () => {
+    const edges = Float64Array.from({ length: 500 }, (_, k) => 5 + 10 * k + (k % 3) - 1);
+    const a: LineAnomaly[] = [];
+    const b: LineAnomaly[] = [];
+    const quiet = new AnomalyTap(options, { anomaly: (x) => a.push(x) });
+    const exact = new AnomalyTap(options, { anomaly: (x) => b.push(x) });
+    quiet.transitions(first);
+    exact.transitions(first);
+    expect(quiet.quiet(edges, 0, 400, quiet.quietScreen(), Int32Array.of(1), Float64Array.of(3001))).toBe(true);
+    exact.edges(edges, 0, 400, Uint8Array.of(1, 1), Float64Array.of(2000, 3001), 2);
+    expect(quiet.samplesPerBit).toBe(exact.samplesPerBit);
+    // what follows is judged the same: a late edge (missing ones) and a short pulse
+    const rest = Float64Array.from([...edges.subarray(400), edges[499] + 35]);
+    for (const t of [quiet, exact]) {
+      t.edges(rest, 0, rest.length, Uint8Array.of(1, 1), Float64Array.of(4500, 4502), 2);
+      t.finish();
+    }
+    expect(a.map((x) => x.kind).sort()).toEqual(['clock-missing', 'glitch']);
+    expect(a).toEqual(b);
+  });
+});
+
+describe('reused input buffers', () => {
+  it('decodes every format the same when the caller overwrites each chunk right after push (seeded PRNG)', () => {
+    const rng = seededRng(5);
+    const a = mixedLine(51, 80);
+    const b = mixedLine(52, 80);
+    const w = renderWaveform({
+      links: [
+        { name: 'a', bits: a },
+        { name: 'b', bits: b },
+      ],
+      samplesPerBit: 6,
+      samplePeriodSeconds: 1e-7,
+      encoding: 'nrz',
+      clock: { name: 'clk', edge: 'rising' },
+    });
+    const frames = [...Array(30)].map((_, k) => ({ seconds: k * 0.01, bytes: randomFrame(rng, 40), link: k % 2 ? 'a' : 'b' }));
+    const cases: [string, DecoderOptions, Uint8Array][] = [
+      ['raw', { format: 'raw', sampleRate: 1e7, channelNames: ['clk', 'a', 'b'], clock: 'clk', data: ['a', 'b'] }, collect(rawChunks(w))],
+      ['raw, 2 bytes', { format: 'raw', sampleRate: 1e7, rawWidth: 2, channelNames: ['clk', 'a', 'b'], clock: 'clk', data: ['a', 'b'] }, collect(rawChunks(w, { width: 2 }))],
+      ['raw, general path', { format: 'raw', sampleRate: 1e7, channelNames: ['clk', 'a', 'b'], clock: 'clk', data: ['a', 'b'], rawFastPath: false }, collect(rawChunks(w))],
+      ['vcd', { format: 'auto', clock: 'clk', data: ['a', 'b'] }, collect(vcdChunks(w, { timescale: '1 ns' }))],
+      ['csv', { format: 'csv', clock: 'clk', data: ['a', 'b'] }, collect(csvChunks(w))],
+      ['octets', { format: 'octets' }, octetsFromLineBits(a)],
+      ['framelog', { format: 'framelog' }, collect(frameLogChunks(frames))],
+    ];
+    for (const [what, options, bytes] of cases) {
+      const fresh = runDecoder(options, bytes, [777, 4096, 13]);
+      expect(fresh.frames.length, what).toBeGreaterThan(10);
+      const got = { frames: [] as unknown[], events: [] as unknown[] };
+      const dec = createDecoder(options, { frame: (f) => got.frames.push(f), event: (e) => got.events.push(e) });
+      const reused = new Uint8Array(4096);
+      const sizes = [777, 4096, 13];
+      for (let at = 0, k = 0; at < bytes.length; k++) {
+        const end = Math.min(bytes.length, at + sizes[k % sizes.length]);
+        reused.set(bytes.subarray(at, end));
+        dec.push(reused.subarray(0, end - at));
+        reused.fill(0xa5);
+        at = end;
+      }
+      dec.finish();
+      expect(dec.fatal(), what).toBeNull();
+      expect(got.frames, what).toEqual(fresh.frames);
+      expect(got.events, what).toEqual(fresh.events);
     }
   });
 });

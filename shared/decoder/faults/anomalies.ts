@@ -84,6 +84,8 @@ const DATA = 2;
 const LEARN_INTERVALS = 16;
 /** data changes held while the period is being learned */
 const HOLD = 4096;
+/** how far the period may grow within one stretch of the fused feed before quiet() declines it */
+const QUIET_HEADROOM = 1.0625;
 
 export class AnomalyTap {
   private readonly role = new Uint8Array(256);
@@ -121,7 +123,6 @@ export class AnomalyTap {
   private learnCount = 0;
   private readonly heldChannel = new Uint8Array(HOLD);
   private readonly heldSample = new Float64Array(HOLD);
-  private readonly heldValue = new Uint8Array(HOLD);
   private held = 0;
 
   /** anomalies reported so far */
@@ -194,12 +195,80 @@ export class AnomalyTap {
       } else if (old === 255) {
         this.lastChange[c] = s;
       } else if (this.learning) {
-        this.hold(c, s, v);
+        this.hold(c, s);
       } else {
         this.dataChange(c, s);
       }
     }
     if (n > 0) this.lastSeen = sample[n - 1];
+  }
+
+  /**
+   * The fused raw path's feed, instead of transitions() once the first levels went through it:
+   * the active clock edges at clockEdges[from, to) and the data-line changes (changeChannel[k],
+   * changeSample[k]) for k < changes, since the last call, each list in time order. Raw samples
+   * hold no unknown level, so an active edge always comes from the idle level. Both lists are
+   * taken together in time order, channel by channel within a sample, as transitions() takes a
+   * reader's batch, so the anomalies and their order are the same.
+   */
+  edges(clockEdges: Float64Array, from: number, to: number, changeChannel: Uint8Array, changeSample: Float64Array, changes: number): void {
+    const clock = this.clock;
+    let i = from;
+    for (let k = 0; k < changes; k++) {
+      const s = changeSample[k];
+      const c = changeChannel[k];
+      while (i < to && (clockEdges[i] < s || (clockEdges[i] === s && clock < c))) this.clockEdge(clockEdges[i++]);
+      if (this.learning) this.hold(c, s);
+      else this.dataChange(c, s);
+    }
+    while (i < to) this.clockEdge(clockEdges[i++]);
+  }
+
+  /**
+   * For the fused raw path's screen: a data-line change that comes at least this many samples
+   * after the line's previous change cannot be (part of) a glitch while the period stays within
+   * QUIET_HEADROOM of its value now; Infinity when every change needs looking at (the period is
+   * still being learned, or a burst of short pulses is open).
+   */
+  quietScreen(): number {
+    if (this.learning || this.period === 0 || this.dataSilence) return Infinity;
+    for (let c = 0; c < 256; c++) if (this.burstCount[c] > 0) return Infinity;
+    return this.glitchFraction * this.period * QUIET_HEADROOM;
+  }
+
+  /**
+   * The fused raw path's fast feed: takes the clock edges at clockEdges[from, to) in one step when
+   * none of them is reported (each comes on time, as classifyEdge judges) and the period stays
+   * low enough for `screen` (from quietScreen()) to have cleared every data-line change in the
+   * same stretch. Then only the state moves: period, last edge, and the last change of each data
+   * line (dataChannels[k] → lastChange[k]); returns true. Otherwise changes nothing and returns
+   * false: the caller feeds the stretch change by change through edges().
+   */
+  quiet(clockEdges: Float64Array, from: number, to: number, screen: number, dataChannels: Int32Array, lastChange: Float64Array): boolean {
+    if (this.learning || this.period === 0 || this.dataSilence) return false;
+    let p = this.period;
+    let most = p;
+    let last = this.lastEdge;
+    let i = from;
+    if (last < 0 && i < to) last = clockEdges[i++];
+    const silence = this.silenceBits;
+    for (; i < to; i++) {
+      const s = clockEdges[i];
+      const d = s - last;
+      // the same limits as classifyEdge: anything but an on-time edge is reported there
+      if (d < 0.5 * p || d >= silence * p || d >= 1.5 * p) return false;
+      p = p + (d - p) / 64;
+      if (p > most) most = p;
+      last = s;
+    }
+    if (this.glitchFraction * most > screen) return false;
+    this.period = p;
+    this.lastEdge = last;
+    for (let k = 0; k < dataChannels.length; k++) {
+      const c = dataChannels[k];
+      if (this.role[c] === DATA) this.lastChange[c] = lastChange[k];
+    }
+    return true;
   }
 
   finish(): void {
@@ -289,7 +358,7 @@ export class AnomalyTap {
     this.report('glitch', c, this.burstStart[c], this.burstEnd[c], k);
   }
 
-  private hold(c: number, s: number, v: number): void {
+  private hold(c: number, s: number): void {
     if (this.held === HOLD) this.learn();
     if (!this.learning) {
       this.dataChange(c, s);
@@ -297,7 +366,6 @@ export class AnomalyTap {
     }
     this.heldChannel[this.held] = c;
     this.heldSample[this.held] = s;
-    this.heldValue[this.held] = v;
     this.held++;
   }
 
