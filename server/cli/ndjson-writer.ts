@@ -80,6 +80,14 @@ const NIBBLE = ascii('0123456789abcdef');
 const OCTET = new Uint16Array(256);
 for (let i = 0; i < 256; i++) OCTET[i] = NIBBLE[i >> 4] | (NIBBLE[i & 15] << 8);
 
+/** 10^k for k = 0…22, parsed from decimal (correctly rounded, and exact as doubles up to 10^22) */
+const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
+
+/** x × 10^(11 - e) by an exact power of ten: one rounding */
+function scaled(x: number, e: number): number {
+  return e <= 11 ? x * POW10[11 - e] : x / POW10[e - 11];
+}
+
 /** bytes a frame line needs besides its hex and its strings (keys, numbers, FCS fields) */
 const FIXED_ROOM = 512;
 
@@ -88,6 +96,7 @@ export class NdjsonWriter {
   private at = 0;
   /** JSON strings (quoted, escaped, UTF-8) of the link names, statuses, kinds and commands seen */
   private readonly strings = new Map<string, Uint8Array>();
+  private readonly digits = new Uint8Array(12);
 
   /**
    * `write` gets a view of the buffer that is valid only during the call (the buffer is reused):
@@ -230,22 +239,69 @@ export class NdjsonWriter {
     buf[--at] = 48 + v;
   }
 
-  /** sample × period in seconds, to 12 significant digits, as JSON.stringify writes the number seconds() gives */
+  /**
+   * sample × period in seconds, as JSON.stringify writes seconds(sample, period): the value rounded
+   * to 12 significant digits, which is also its shortest form (12 digits always name one double),
+   * in fixed notation without trailing zeros. Worked out in integers where the rounding is certain;
+   * toPrecision otherwise (exponent forms, a value within a hair of half a unit in the 12th digit).
+   */
   private seconds(sample: number, period: number): void {
-    const p = (sample * period).toPrecision(12);
-    // fixed notation: the number toPrecision names is written without its trailing zeros
-    // (12 significant digits always name one double, so that is also its shortest form)
-    if (p.indexOf('e') < 0 && p.indexOf('.') >= 0) {
-      let end = p.length;
-      while (p.charCodeAt(end - 1) === 48) end--;
-      if (p.charCodeAt(end - 1) === 46) end--;
-      const buf = this.buf;
-      let at = this.at;
-      for (let i = 0; i < end; i++) buf[at++] = p.charCodeAt(i);
-      this.at = at;
-      return;
+    const x = sample * period;
+    if (x >= 1e-6 && x < 1e15) {
+      let e = Math.floor(Math.log10(x));
+      let m = scaled(x, e);
+      if (m < 1e11) m = scaled(x, --e);
+      else if (m >= 1e12) m = scaled(x, ++e);
+      // m carries at most ~2e-4 of rounding error from scaling, far from the .5 that decides
+      const f = m - Math.floor(m);
+      if (m >= 1e11 && m < 1e12 && (f < 0.499 || f > 0.501)) {
+        let r = Math.floor(m + 0.5);
+        if (r === 1e12) {
+          r = 1e11;
+          e++;
+        }
+        this.fixed(r, e);
+        return;
+      }
     }
+    const p = x.toPrecision(12);
     this.ascii(JSON.stringify(Number(p)));
+  }
+
+  /** the 12-digit integer r (10^11 ≤ r < 10^12) times 10^(e - 11), in fixed notation without trailing zeros */
+  private fixed(r: number, e: number): void {
+    const digits = this.digits;
+    const hi = Math.floor(r / 1e6);
+    let lo = r - hi * 1e6;
+    let h = hi;
+    for (let k = 11; k >= 6; k--) {
+      digits[k] = 48 + (lo % 10);
+      lo = (lo / 10) | 0;
+    }
+    for (let k = 5; k >= 0; k--) {
+      digits[k] = 48 + (h % 10);
+      h = (h / 10) | 0;
+    }
+    let end = 12;
+    while (end > 0 && digits[end - 1] === 48) end--;
+    const buf = this.buf;
+    let at = this.at;
+    if (e >= 11) {
+      for (let k = 0; k < 12; k++) buf[at++] = digits[k];
+      for (let k = 11; k < e; k++) buf[at++] = 48;
+    } else if (e >= 0) {
+      for (let k = 0; k <= e; k++) buf[at++] = digits[k];
+      if (end > e + 1) {
+        buf[at++] = 46;
+        for (let k = e + 1; k < end; k++) buf[at++] = digits[k];
+      }
+    } else {
+      buf[at++] = 48;
+      buf[at++] = 46;
+      for (let k = -1; k > e; k--) buf[at++] = 48;
+      for (let k = 0; k < end; k++) buf[at++] = digits[k];
+    }
+    this.at = at;
   }
 
   /** an FCS value as lowercase hex, at least fcsDigits digits (as toString(16).padStart would) */

@@ -88,10 +88,17 @@ describe('NDJSON writer', () => {
       [2 ** 52, 1 / 3],
       [5, 0],
     ];
-    for (let k = 0; k < 3000; k++) {
+    for (let k = 0; k < 20000; k++) {
       const sample = Math.floor(rng() * 2 ** (1 + Math.floor(rng() * 52)));
       const period = 1 / (1 + Math.floor(rng() * 1e10)) * (rng() < 0.2 ? 10 ** Math.floor(rng() * 20) : 1);
       cases.push([sample, period]);
+    }
+    // a hair either side of half a unit in the 12th digit, and of powers of ten
+    for (let k = 0; k < 2000; k++) {
+      const exponent = Math.floor(rng() * 22) - 7;
+      const digits = 100000000000 + Math.floor(rng() * 900000000000);
+      const around = [Number(`${digits}5e${exponent - 12}`), Number(`1e${exponent}`)];
+      for (const x of around) for (const ulps of [-2, -1, 0, 1, 2]) cases.push([1, x * (1 + ulps * 2 ** -52)]);
     }
     const frames = cases.map(([sample, period], k) => ({ frame: { ...base, seq: k, firstSample: sample, lastSample: sample + k }, period }));
     const expected = frames.map(({ frame, period }) => JSON.stringify(frameRecord(frame, period, 4)) + '\n').join('');
