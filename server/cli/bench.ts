@@ -3,16 +3,19 @@
 //   npm run bench                     in-memory stages, the settings finder and field hints
 //                                     (bench-discovery.ts; under two minutes)
 //   npm run bench -- --general        also the raw capture through the general (transitions) path
-//   npm run bench -- --cli-mb 400     also writes a raw capture of that size to a temp dir, times
-//                                     `decode` on it with its peak RSS, and the C reference
-//                                     (bench/reference.c, built with cc -O2) on the same file
-//   npm run bench -- --cli-mb 1024    the memory target: 1 GB raw under 300 MB RSS
-//   npm run bench -- --cli-mb 400 --cli-only   only the CLI and C reference rows
+//                                     (with --cli-mb: the decoder with the anomaly tap through it too)
+//   npm run bench -- --cli-mb 400     also writes a raw capture of that size to a temp dir and times
+//                                     on it, side by side: the C reference (bench/reference.c, built
+//                                     with cc -O2), the decode CLI end to end (bundled into one JS
+//                                     file, and through npm run), each decoder stage in a fresh process,
+//                                     and the decoder with the fault desk's anomaly tap
+//   npm run bench -- --cli-mb 1024    the same with the memory target: 1 GB raw under 300 MB RSS
+//   npm run bench -- --cli-mb 400 --cli-only   only the rows on the file
 //   npm run bench -- --timing         only the service statistics (1 M frames) and schedule window rows
 import { spawn, spawnSync } from 'node:child_process';
-import { mkdtempSync, openSync, rmSync, writeSync, closeSync, readFileSync } from 'node:fs';
+import { closeSync, existsSync, mkdtempSync, openSync, readFileSync, readSync, rmSync, writeSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { dirname, join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { checkFrame } from '../../shared/decoder/check';
 import { Deframer } from '../../shared/decoder/deframe';
@@ -24,8 +27,11 @@ import { collect } from '../../shared/decoder/encode/writers/collect';
 import { rawChunks } from '../../shared/decoder/encode/writers/raw';
 import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
 import { createDecoder } from '../../shared/decoder/pipeline';
+import { ClockedRawBits } from '../../shared/decoder/raw-clocked';
+import { RawReader } from '../../shared/decoder/readers/raw';
 import { LineTiming, scheduleWindow, type TimingExchange, type TimingFrame } from '../../shared/decoder/timing';
 import { benchDiscovery } from './bench-discovery';
+import { NdjsonWriter } from './ndjson-writer';
 
 const mb = (bytes: number) => bytes / 1e6;
 const fmt = (n: number, digits = 1) => n.toFixed(digits);
@@ -305,8 +311,125 @@ function compileReference(dir: string): string | null {
   return out;
 }
 
-/** Writes a raw capture of about `sizeMb` MB by repeating one generated block, then times the CLI on it. */
-async function benchCli(sizeMb: number): Promise<void> {
+/** `entry` (a TypeScript file of this project) bundled with esbuild into one JavaScript file in `dir`, as a compiled entry runs */
+async function bundle(entry: string, dir: string, name: string): Promise<string> {
+  const { buildSync } = await import('esbuild');
+  const out = join(dir, name);
+  buildSync({ entryPoints: [join(process.cwd(), entry)], bundle: true, platform: 'node', format: 'esm', outfile: out, external: ['esbuild'], logLevel: 'warning' });
+  return out;
+}
+
+const loadNow = () => loadavg()[0].toFixed(1);
+
+interface Timed {
+  secs: number;
+  cpuSecs: number;
+  frames: number;
+  peakKb: number;
+  note: string;
+}
+
+/**
+ * Best (least disturbed) of `runs` runs of a child, by wall time; CPU time is the least of the runs
+ * too. The C reference prints its counts, the CLI a line per frame, a stage (--stage) its own timing
+ * as JSON, which then replaces the child's (so node's start-up is left out of stage rows).
+ */
+async function bestChild(runs: number, cmd: string, args: string[]): Promise<Timed> {
+  let best: Timed | null = null;
+  let cpuSecs = Infinity;
+  let peakKb = 0;
+  for (let k = 0; k < runs; k++) {
+    const t0 = performance.now();
+    const r = await runMeasured(cmd, args, 'ignore');
+    let secs = (performance.now() - t0) / 1000;
+    if (r.code !== 0) throw new Error(`${cmd} ${args[0] ?? ''} exited with ${r.code}`);
+    let cpu = r.cpuSecs;
+    let frames = r.lines;
+    let note = '';
+    if (r.out.startsWith('{"stage"')) {
+      const own = JSON.parse(r.out) as { secs: number; cpuSecs: number; frames: number };
+      ({ secs, cpuSecs: cpu, frames } = own);
+    } else if (!r.out.startsWith('{')) {
+      note = r.out.trim();
+      frames = Number(/(\d+) frames/.exec(note)?.[1] ?? 0);
+    }
+    cpuSecs = Math.min(cpuSecs, cpu);
+    peakKb = Math.max(peakKb, r.peakKb);
+    if (!best || secs < best.secs) best = { secs, cpuSecs, frames, peakKb, note };
+  }
+  return { ...best!, cpuSecs, peakKb };
+}
+
+/** Reads `file` through one reused 1 MB buffer into `push` (the CLI's way). */
+function readThrough(file: string, push: (bytes: Uint8Array) => void): void {
+  const fd = openSync(file, 'r');
+  const chunk = new Uint8Array(1 << 20);
+  for (;;) {
+    const n = readSync(fd, chunk, 0, chunk.length, null);
+    if (n === 0) break;
+    push(chunk.subarray(0, n));
+  }
+  closeSync(fd);
+}
+
+const STAGES = ['read', 'bits', 'frames', 'ndjson', 'tap', 'tap-general'] as const;
+type Stage = (typeof STAGES)[number];
+
+/**
+ * One stage, once, in this (fresh) process, as the CLI and the app's decode worker run a decode:
+ * the optimizing compiler's warm-up included, node's start-up not. Prints its timing as JSON.
+ *   read    the file through one reused buffer
+ *   bits    + bit recovery (the fused raw path), bits dropped
+ *   frames  + deframing, FCS, link decode, time order (createDecoder)
+ *   ndjson  + the CLI's NDJSON writer, output dropped
+ *   tap     frames with the fault desk's anomaly tap, as the app's worker decodes
+ *   tap-general  the same through transitions and bit recovery (the general path, no fused loop)
+ */
+function runStage(stage: Stage, file: string, spb: number): void {
+  const period = 1 / (BIT_RATE * spb);
+  const options = { format: 'raw' as const, sampleRate: BIT_RATE * spb, channelNames: ['clk', 'a', 'b'], clock: 'clk', data: ['a', 'b'] };
+  let frames = 0;
+  const c0 = process.cpuUsage();
+  const t0 = performance.now();
+  if (stage === 'read') readThrough(file, () => {});
+  else if (stage === 'bits') {
+    const fused = new ClockedRawBits(
+      { samplePeriodSeconds: period, clock: 0, data: [{ channel: 1, link: 'a' }, { channel: 2, link: 'b' }], edge: 'rising', encoding: 'nrz', invert: false },
+      { bits: () => {}, event: () => {} },
+    );
+    const reader = new RawReader(options, { header: () => {}, transitions: () => {}, rawConsumer: () => fused });
+    readThrough(file, (b) => reader.push(b));
+    reader.finish();
+    fused.finish();
+  } else {
+    const out = new NdjsonWriter(() => {}, 4);
+    const write = stage === 'ndjson';
+    const tap = stage === 'tap' || stage === 'tap-general';
+    const dec = createDecoder({ ...options, anomalies: tap ? { anomaly: () => {} } : undefined, rawFastPath: stage !== 'tap-general' }, {
+      frame: (f) => {
+        frames++;
+        if (write) out.frame(f, period);
+      },
+      event: () => {},
+    });
+    readThrough(file, (b) => {
+      dec.push(b);
+      out.flush();
+    });
+    dec.finish();
+    out.flush();
+  }
+  const c = process.cpuUsage(c0);
+  process.stdout.write(JSON.stringify({ stage, secs: (performance.now() - t0) / 1000, cpuSecs: (c.user + c.system) / 1e6, frames }) + '\n');
+}
+
+/**
+ * Writes a raw capture of about `sizeMb` MB by repeating one generated block, then times on it, side
+ * by side: the C reference (bench/reference.c), the CLI end to end as one JavaScript file and through
+ * `npm run decode`, each decoder stage added in turn (one fresh process each, as the CLI and the
+ * app's worker run), and the decoder with the anomaly tap as the app's worker runs it.
+ */
+async function benchCli(sizeMb: number, general: boolean): Promise<void> {
   const spb = DENSE;
   const block = collect(rawChunks(clockedWaveform(800_000, spb), { chunkSize: 1 << 22 }));
   const dir = mkdtempSync(join(tmpdir(), 'flagline-bench-'));
@@ -319,43 +442,46 @@ async function benchCli(sizeMb: number): Promise<void> {
       written += block.length;
     }
     closeSync(fd);
-    const args = ['--import', 'tsx', 'server/cli/decode.ts', file, '--format', 'raw', '--sample-rate', String(BIT_RATE * spb), '--channels', 'clk,a,b', '--clock', 'clk', '--data', 'a,b'];
-    const t0 = performance.now();
-    const { code, peakKb, lines, cpuSecs } = await runMeasured(process.execPath, args);
-    const secs = (performance.now() - t0) / 1000;
-    if (code !== 0) throw new Error(`decode exited with ${code}`);
-    report({
-      stage: `CLI decode of a ${fmt(mb(written), 0)} MB raw file, ${spb} samples/bit`,
-      mbPerS: mb(written) / secs,
-      mSamplesPerS: written / secs / 1e6,
-      mbitPerS: (written / spb) * 2 / secs / 1e6,
-      perCpu: `${fmt(written / cpuSecs / 1e6)} M samples`,
-      rssMb: peakKb / 1024,
-      target: 'RSS < 300 MB (1 GB raw)',
-      note: `${lines} frames; ${fmt(secs, 2)} s wall, ${fmt(cpuSecs, 2)} CPU-s (with node start-up)`,
-    });
+    const cliArgs = [file, '--format', 'raw', '--sample-rate', String(BIT_RATE * spb), '--channels', 'clk,a,b', '--clock', 'clk', '--data', 'a,b'];
+    const cliBundle = await bundle('server/cli/decode.ts', dir, 'decode.mjs');
+    const benchBundle = await bundle('server/cli/bench.ts', dir, 'bench.mjs');
+    const runs = 2;
+    process.stdout.write(`\n${fmt(mb(written), 0)} MB raw capture, ${spb} samples/bit, 2 links; best of ${runs} runs each; load average ${loadNow()} now\n`);
+    printHeader();
+    const row = (stage: string, t: Timed, target: string, ref: Timed | null, note = '') => {
+      const ratio = ref ? `; ${fmt(t.secs / ref.secs, 2)}× C wall, ${fmt(t.cpuSecs / Math.max(ref.cpuSecs, 0.01), 2)}× C CPU` : '';
+      report({
+        stage,
+        mbPerS: mb(written) / t.secs,
+        mSamplesPerS: written / t.secs / 1e6,
+        mbitPerS: (written / spb) * 2 / t.secs / 1e6,
+        perCpu: `${fmt(written / Math.max(t.cpuSecs, 0.01) / 1e6)} M samples`,
+        rssMb: t.peakKb / 1024,
+        target,
+        note: `${fmt(t.frames / t.secs / 1000, 0)}k frames/s; ${fmt(t.secs, 2)} s wall, ${fmt(t.cpuSecs, 2)} CPU-s${ratio}${note ? '; ' + note : ''} (load ${loadNow()})`,
+      });
+    };
     const reference = compileReference(dir);
-    if (!reference) {
-      process.stdout.write('C reference: no C compiler (cc) here, ratio not measured\n');
-      return;
+    const c = reference ? await bestChild(runs, reference, [file, '0', 'rising', '1', '2']) : null;
+    if (c) row('C reference (bench/reference.c, cc -O2)', c, '—', null, c.note);
+    else process.stdout.write('C reference: no C compiler (cc) here, ratios not measured\n');
+    const cli = await bestChild(runs, process.execPath, [cliBundle, ...cliArgs]);
+    row('CLI decode (one JS file), end to end', cli, '≤ 2× C; RSS < 300 MB', c, `${cli.frames} frames, start-up included`);
+    const npmCli = await bestChild(runs, 'npm', ['run', '--silent', 'decode', '--', ...cliArgs]);
+    row('CLI decode via npm run decode, end to end', npmCli, '—', c);
+    const stage = (name: Stage) => bestChild(runs, process.execPath, [benchBundle, '--stage', name, '--file', file]);
+    row('  read only (1 MB reused buffer)', await stage('read'), '—', c);
+    row('  + bit recovery (fused raw path)', await stage('bits'), '—', c);
+    const frames = await stage('frames');
+    row('  + deframing, FCS, link decode, time order', frames, '—', c);
+    row('  + NDJSON writer (output dropped)', await stage('ndjson'), '—', c);
+    const tapped = await stage('tap');
+    row("decoder + anomaly tap, as the app's worker", tapped, '≤ 1.2× CLI', c, `${fmt(tapped.secs / cli.secs, 2)}× CLI wall, ${fmt(tapped.cpuSecs / cli.cpuSecs, 2)}× CLI CPU; ${fmt(tapped.cpuSecs / frames.cpuSecs, 2)}× CPU of the decoder without the tap`);
+    if (general) {
+      const slow = await stage('tap-general');
+      row('decoder + anomaly tap, general path', slow, '—', c, `${fmt(slow.cpuSecs / tapped.cpuSecs, 2)}× CPU of the fused path with the tap`);
     }
-    const c0 = performance.now();
-    const r = await runMeasured(reference, [file, '0', 'rising', '1', '2']);
-    const cSecs = (performance.now() - c0) / 1000;
-    if (r.code !== 0) throw new Error(`reference exited with ${r.code}`);
-    report({
-      stage: 'C reference (bench/reference.c, cc -O2)',
-      mbPerS: mb(written) / cSecs,
-      mSamplesPerS: written / cSecs / 1e6,
-      mbitPerS: (written / spb) * 2 / cSecs / 1e6,
-      perCpu: `${fmt(written / Math.max(r.cpuSecs, 0.01) / 1e6)} M samples`,
-      rssMb: r.peakKb / 1024,
-      target: '—',
-      note: `${r.out.trim()}; ${fmt(cSecs, 2)} s wall, ${fmt(r.cpuSecs, 2)} CPU-s`,
-    });
-    process.stdout.write(
-      `CLI / C reference: ${fmt(secs / cSecs, 2)}× wall time, ${fmt(cpuSecs / Math.max(r.cpuSecs, 0.01), 2)}× CPU time   (target ≤ 3×; on a shared machine the CPU-time ratio is the steadier one)\n`,
-    );
+    process.stdout.write('(stage rows: one fresh process each, timed from the first byte read, so without node\'s start-up; peak RSS of the whole process)\n');
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
@@ -363,19 +489,26 @@ async function benchCli(sizeMb: number): Promise<void> {
 
 /** clock ticks per second of /proc/<pid>/stat times (USER_HZ, 100 on Linux) */
 const TICKS = 100;
+/** GNU time: reports a child's CPU time and peak RSS including the children it waited for (npm → node) */
+const GNU_TIME = '/usr/bin/time';
 
 /**
- * Runs a child, counts its stdout lines, and samples its peak RSS (VmHWM) and CPU time
- * (utime + stime) from /proc while it runs; the CPU time misses at most the last 20 ms.
+ * Runs a child and counts its stdout lines. CPU time (user + system) and peak RSS come from GNU
+ * time when it is installed (whole process tree), else from sampling /proc while the child runs
+ * (that process only; the CPU time misses at most the last 20 ms).
  */
 function runMeasured(cmd: string, args: string[], stderr: 'inherit' | 'ignore' = 'inherit'): Promise<{ code: number | null; peakKb: number; lines: number; cpuSecs: number; out: string }> {
+  const timeFile = existsSync(GNU_TIME) ? join(mkdtempSync(join(tmpdir(), 'flagline-time-')), 'time') : null;
   return new Promise((resolve) => {
-    const child = spawn(cmd, args, { stdio: ['ignore', 'pipe', stderr] });
+    const child = timeFile
+      ? spawn(GNU_TIME, ['-f', '%U %S %M', '-o', timeFile, cmd, ...args], { stdio: ['ignore', 'pipe', stderr] })
+      : spawn(cmd, args, { stdio: ['ignore', 'pipe', stderr] });
     let peakKb = 0;
     let lines = 0;
     let cpuSecs = 0;
     let out = '';
     const sample = () => {
+      if (timeFile) return;
       try {
         const m = /VmHWM:\s+(\d+)/.exec(readFileSync(`/proc/${child.pid}/status`, 'utf8'));
         if (m) peakKb = Math.max(peakKb, Number(m[1]));
@@ -395,13 +528,27 @@ function runMeasured(cmd: string, args: string[], stderr: 'inherit' | 'ignore' =
     });
     child.on('close', (code) => {
       clearInterval(timer);
+      if (timeFile) {
+        const [user, sys, rssKb] = readFileSync(timeFile, 'utf8').trim().split('\n').pop()!.split(' ').map(Number);
+        cpuSecs = user + sys;
+        peakKb = rssKb;
+        rmSync(dirname(timeFile), { recursive: true, force: true });
+      }
       resolve({ code, peakKb, lines, cpuSecs, out });
     });
   });
 }
 
 async function main(): Promise<void> {
-  const { values } = parseArgs({ options: { 'cli-mb': { type: 'string' }, 'cli-only': { type: 'boolean' }, general: { type: 'boolean' }, timing: { type: 'boolean' } }, strict: true });
+  const { values } = parseArgs({
+    options: { 'cli-mb': { type: 'string' }, 'cli-only': { type: 'boolean' }, general: { type: 'boolean' }, timing: { type: 'boolean' }, stage: { type: 'string' }, file: { type: 'string' } },
+    strict: true,
+  });
+  if (values.stage !== undefined) {
+    if (!(STAGES as readonly string[]).includes(values.stage) || !values.file) throw new Error(`--stage takes one of ${STAGES.join(', ')} and --file`);
+    runStage(values.stage as Stage, values.file, DENSE);
+    return;
+  }
   process.stdout.write(`Flagline decoder benchmarks (node ${process.version}; load average ${loadavg().map((l) => l.toFixed(1)).join(' ')}; ${cpus().length} CPUs)\n`);
   process.stdout.write(`Sample density: ${BIT_RATE / 1000} kbit/s links sampled at ${(BIT_RATE * DENSE) / 1e6} MHz (${DENSE} samples/bit, as real captures), and at ${SPARSE} samples/bit.\n`);
   process.stdout.write('Rates are wall-clock, best of a few runs; "per CPU-s" is the same work per CPU-second of this process.\n');
@@ -421,7 +568,7 @@ async function main(): Promise<void> {
   if (values['cli-mb'] !== undefined) {
     const size = Number(values['cli-mb']);
     if (!(size > 0)) throw new Error('--cli-mb needs a size in MB');
-    await benchCli(size);
+    await benchCli(size, values.general === true);
   }
 }
 
