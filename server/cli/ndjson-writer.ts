@@ -88,14 +88,42 @@ function scaled(x: number, e: number): number {
   return e <= 11 ? x * POW10[11 - e] : x / POW10[e - 11];
 }
 
+/** strings a JsonStrings remembers by identity before asking its map */
+const RECENT = 8;
+
+/**
+ * JSON strings (quoted, escaped, UTF-8) of the values of one field. A field holds a few values
+ * again and again (each link's name, the statuses, kinds, commands): comparing against the last
+ * ones seen is cheaper than hashing into the map every time.
+ */
+class JsonStrings {
+  private readonly all = new Map<string, Uint8Array>();
+  private readonly keys: string[] = [];
+  private readonly values: Uint8Array[] = [];
+  private next = 0;
+
+  get(s: string): Uint8Array {
+    const keys = this.keys;
+    for (let k = 0; k < keys.length; k++) if (keys[k] === s) return this.values[k];
+    let b = this.all.get(s);
+    if (!b) this.all.set(s, (b = encoder.encode(JSON.stringify(s))));
+    this.keys[this.next] = s;
+    this.values[this.next] = b;
+    this.next = (this.next + 1) % RECENT;
+    return b;
+  }
+}
+
 /** bytes a frame line needs besides its hex and its strings (keys, numbers, FCS fields) */
 const FIXED_ROOM = 512;
 
 export class NdjsonWriter {
   private buf: Uint8Array;
   private at = 0;
-  /** JSON strings (quoted, escaped, UTF-8) of the link names, statuses, kinds and commands seen */
-  private readonly strings = new Map<string, Uint8Array>();
+  private readonly links = new JsonStrings();
+  private readonly statuses = new JsonStrings();
+  private readonly kinds = new JsonStrings();
+  private readonly commands = new JsonStrings();
   private readonly digits = new Uint8Array(12);
 
   /**
@@ -115,8 +143,8 @@ export class NdjsonWriter {
     const hasFcs = f.fcsReceived !== null;
     const hexEnd = hasFcs ? bytes.length - (this.fcsDigits >> 1) : bytes.length;
     const d = f.decode;
-    const link = this.string(f.link);
-    const command = d ? this.string(d.command) : NULL;
+    const link = this.links.get(f.link);
+    const command = d ? this.commands.get(d.command) : NULL;
     this.room(FIXED_ROOM + 2 * Math.max(0, hexEnd) + link.length + command.length);
     this.put(K_LINK);
     this.put(link);
@@ -127,7 +155,7 @@ export class NdjsonWriter {
     this.put(K_TEND);
     this.seconds(f.lastSample, period);
     this.put(K_STATUS);
-    this.put(this.string(f.status));
+    this.put(this.statuses.get(f.status));
     this.put(K_BITS);
     this.integer(f.bitLength);
     this.put(K_HEX);
@@ -147,7 +175,7 @@ export class NdjsonWriter {
     if (d) this.integer(d.address);
     else this.put(NULL);
     this.put(K_KIND);
-    this.put(d ? this.string(d.kind) : NULL);
+    this.put(d ? this.kinds.get(d.kind) : NULL);
     this.put(K_COMMAND);
     this.put(command);
     this.put(K_NS);
@@ -189,12 +217,6 @@ export class NdjsonWriter {
       while (size < need) size *= 2;
       this.buf = new Uint8Array(size);
     }
-  }
-
-  private string(s: string): Uint8Array {
-    let b = this.strings.get(s);
-    if (!b) this.strings.set(s, (b = encoder.encode(JSON.stringify(s))));
-    return b;
   }
 
   private put(src: Uint8Array): void {

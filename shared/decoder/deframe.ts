@@ -406,10 +406,14 @@ export class Deframer {
   private flag(s: number): void {
     // The flag's first 0 is the last 0 before this run; it sits at zeroSample.
     const flagStart = this.zeroSample;
+    // the frame's stuffed positions go with it; fill flags between frames keep the empty list
+    let handedOn = false;
     if (this.inFrame) {
       const len = this.lenBeforeZero;
-      this.stuffed.length = this.stuffedBeforeZero;
+      // (setting an array's length is a call into the runtime: only when it changes)
+      if (this.stuffed.length !== this.stuffedBeforeZero) this.stuffed.length = this.stuffedBeforeZero;
       if (len > 0) {
+        handedOn = true;
         this.closeStretch();
         this.len = len;
         this.emit(this.classify(len), this.sampleBeforeZero);
@@ -430,7 +434,7 @@ export class Deframer {
     this.len = 0;
     this.acc = 0;
     this.lineCount = 0;
-    this.stuffed = [];
+    if (handedOn || this.stuffed.length > 0) this.stuffed = [];
     // This 0 may be the first 0 of the next flag (shared zero): the frame before it is empty.
     this.lenBeforeZero = 0;
     this.stuffedBeforeZero = 0;

@@ -84,6 +84,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
   const fcsWidth = options.fcs === 32 ? 32 : 16;
   const minOctets = fcsWidth === 32 ? 6 : 4;
   const order = new TimeOrder(sink, options.maxHeld);
+  const checkOptions = { fcs: fcsWidth } as const;
   const ownIssues: DecodeIssue[] = [];
   let ownFatal: DecodeIssue | null = null;
   let reader: CaptureReader | null = null;
@@ -107,7 +108,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
   const fatal = () => ownFatal ?? reader?.fatal() ?? null;
 
   const toOrder = {
-    frame: (raw: RawFrame) => order.frame(checkFrame(raw, { fcs: fcsWidth })),
+    frame: (raw: RawFrame) => order.frame(checkFrame(raw, checkOptions)),
     event: (e: LineEvent) => order.event(e),
   };
 
@@ -257,7 +258,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
         status: bytes.length < minOctets ? 'short' : 'ok',
       };
       // Frame logs are written in time order; frames go out as they come.
-      order.frame(checkFrame(raw, { fcs: fcsWidth }));
+      order.frame(checkFrame(raw, checkOptions));
       order.release(firstSample);
     },
   };
