@@ -115,7 +115,9 @@ export class Deframer {
   private stuffedBeforeZero = 0;
   private sampleBeforeZero = 0;
   private buf: Uint8Array;
-  private stuffed: number[] = [];
+  /** line positions of the current frame's stuffed 0s; a frame gets its own copy (positions()) */
+  private stuffedAt = new Int32Array(64);
+  private stuffedCount = 0;
   private readonly bitwise: boolean;
   private scratch = new Uint8Array(1024);
 
@@ -222,8 +224,8 @@ export class Deframer {
           if (lineCount === 0) firstSample = samples[i];
           const st = STUFFED[(ones << 8) | b];
           if (st !== 0) {
-            this.stuffed.push(lineCount + (st & 15) - 1);
-            if (st > 15) this.stuffed.push(lineCount + (st >> 4) - 1);
+            this.stuffedPush(lineCount + (st & 15) - 1);
+            if (st > 15) this.stuffedPush(lineCount + (st >> 4) - 1);
           }
           lineCount += 8;
           // where the last 0 and the trailing 1s are is worked out once the run of such bytes ends
@@ -247,7 +249,7 @@ export class Deframer {
         const onesOut = (fastE >> 12) & 15;
         lenBeforeZero = fastLen + ((fastE >> 19) & 15);
         sampleBeforeZero = z > 0 ? samples[fastAt + z - 1] : fastAt > 0 ? samples[fastAt - 1] : prev;
-        stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffed.length - 1 : this.stuffed.length;
+        stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffedCount - 1 : this.stuffedCount;
         zeroSample = samples[fastAt + z];
         if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
         prev = samples[fastAt + 7];
@@ -307,9 +309,9 @@ export class Deframer {
             if (lineCount === 0) firstSample = s;
             lenBeforeZero = len;
             sampleBeforeZero = prev;
-            stuffedBeforeZero = this.stuffed.length;
+            stuffedBeforeZero = this.stuffedCount;
             if (ones === 5) {
-              this.stuffed.push(lineCount);
+              this.stuffedPush(lineCount);
             } else {
               if ((len & 7) === 7) {
                 if (len >> 3 >= this.buf.length) {
@@ -344,7 +346,7 @@ export class Deframer {
       const onesOut = (fastE >> 12) & 15;
       lenBeforeZero = fastLen + ((fastE >> 19) & 15);
       sampleBeforeZero = z > 0 ? samples[fastAt + z - 1] : fastAt > 0 ? samples[fastAt - 1] : prev;
-      stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffed.length - 1 : this.stuffed.length;
+      stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffedCount - 1 : this.stuffedCount;
       zeroSample = samples[fastAt + z];
       if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
       prev = samples[fastAt + 7];
@@ -396,6 +398,23 @@ export class Deframer {
 
   // ---- rare paths ----
 
+  private stuffedPush(lineBit: number): void {
+    if (this.stuffedCount === this.stuffedAt.length) {
+      const next = new Int32Array(this.stuffedAt.length * 2);
+      next.set(this.stuffedAt);
+      this.stuffedAt = next;
+    }
+    this.stuffedAt[this.stuffedCount++] = lineBit;
+  }
+
+  /** the stuffed positions so far as the frame's own list */
+  private positions(): number[] {
+    const n = this.stuffedCount;
+    const list: number[] = new Array(n);
+    for (let k = 0; k < n; k++) list[k] = this.stuffedAt[k];
+    return list;
+  }
+
   private grow(): void {
     const next = new Uint8Array(Math.min(this.buf.length * 2, this.maxOctets));
     next.set(this.buf);
@@ -406,14 +425,10 @@ export class Deframer {
   private flag(s: number): void {
     // The flag's first 0 is the last 0 before this run; it sits at zeroSample.
     const flagStart = this.zeroSample;
-    // the frame's stuffed positions go with it; fill flags between frames keep the empty list
-    let handedOn = false;
     if (this.inFrame) {
       const len = this.lenBeforeZero;
-      // (setting an array's length is a call into the runtime: only when it changes)
-      if (this.stuffed.length !== this.stuffedBeforeZero) this.stuffed.length = this.stuffedBeforeZero;
+      this.stuffedCount = this.stuffedBeforeZero;
       if (len > 0) {
-        handedOn = true;
         this.closeStretch();
         this.len = len;
         this.emit(this.classify(len), this.sampleBeforeZero);
@@ -434,7 +449,7 @@ export class Deframer {
     this.len = 0;
     this.acc = 0;
     this.lineCount = 0;
-    if (handedOn || this.stuffed.length > 0) this.stuffed = [];
+    this.stuffedCount = 0;
     // This 0 may be the first 0 of the next flag (shared zero): the frame before it is empty.
     this.lenBeforeZero = 0;
     this.stuffedBeforeZero = 0;
@@ -455,7 +470,7 @@ export class Deframer {
     this.len = 0;
     this.acc = 0;
     this.lineCount = 0;
-    this.stuffed = [];
+    this.stuffedCount = 0;
   }
 
   private overflow(): void {
@@ -465,7 +480,7 @@ export class Deframer {
     this.len = 0;
     this.acc = 0;
     this.lineCount = 0;
-    this.stuffed = [];
+    this.stuffedCount = 0;
   }
 
   private idle(endSample: number): void {
@@ -503,7 +518,7 @@ export class Deframer {
       lastSample,
       bytes: this.buf.slice(0, whole),
       bitLength: len,
-      stuffed: this.stuffed,
+      stuffed: this.positions(),
       status,
     };
     this.sink.frame(f);
