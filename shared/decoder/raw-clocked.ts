@@ -16,13 +16,13 @@ const TAP_SLICE = 65536;
  *
  * Sample indices stay exact per bit (a clock may jitter), written beside the packed bits.
  *
- * With an anomaly tap (the fault desk) the samples go in stretches of TAP_SLICE. While scanning,
- * the loop keeps each data line's last change and marks the stretch suspect when a change comes
- * sooner after the previous one than the tap's screen (a possible glitch). A stretch that is not
- * suspect and whose clock edges (the bits' sample indices) the tap finds on time goes to the tap
- * in one step (AnomalyTap.quiet); any other is scanned again for every data-line change and fed
- * to the tap change by change (AnomalyTap.edges). Either way the tap reports what it would from
- * the general path's transitions.
+ * With an anomaly tap (the fault desk) the samples go in stretches of TAP_SLICE. After the bits of
+ * a stretch, a second pass (the screen) keeps each data line's last change and marks the stretch
+ * suspect when a change comes sooner after the previous one than the tap allows (a possible
+ * glitch). A stretch that is not suspect and whose clock edges (the bits' sample indices) the tap
+ * finds on time goes to the tap in one step (AnomalyTap.quiet); any other is scanned again for
+ * every data-line change and fed to the tap change by change (AnomalyTap.edges). Either way the
+ * tap reports what it would from the general path's transitions.
  */
 export class ClockedRawBits {
   private readonly links: number;
@@ -52,7 +52,6 @@ export class ClockedRawBits {
   private readonly lastChange: Float64Array;
   /** a change this soon after the line's last one makes the stretch suspect */
   private screen = Infinity;
-  private suspect = false;
   /** every data-line change (channel, sample) of a stretch fed change by change */
   private readonly changeChannel: Uint8Array;
   private readonly changeSample: Float64Array;
@@ -116,10 +115,6 @@ export class ClockedRawBits {
       const stop = tap ? Math.min(end, i + TAP_SLICE * width) : end;
       const from = i;
       const prevBefore = this.prev;
-      if (tap) {
-        this.screen = tap.quietScreen();
-        this.suspect = false;
-      }
       i = width === 1 ? this.scan8(bytes, i, stop, base) : this.scan16(bytes, i, stop, base);
       if (tap) this.tapStretch(bytes, from, i, base, width, prevBefore);
       if (this.chunks[0].n >= BIT_CHUNK_SIZE) this.flushAll();
@@ -142,8 +137,6 @@ export class ClockedRawBits {
     const cm = this.clockMask * 0x01010101;
     const rising = this.clockActive !== 0;
     const hm = this.handshakeMask * 0x01010101;
-    // a change on these lines needs a look beyond clock edges: handshake lines stop the scan, data lines are screened for the tap
-    const watch = hm | (this.changeMask * 0x01010101);
     let prev = this.prev;
     const two = this.links === 2;
     const nrzi = this.nrzi;
@@ -160,13 +153,6 @@ export class ClockedRawBits {
     let a0 = this.acc[0];
     let a1 = two ? this.acc[1] : 0;
     let n = c0.n;
-    // the tap's screen (screenChanges, written out for the word loop: it is the hot one)
-    const lane0 = this.laneMask[0];
-    const lane1 = two ? this.laneMask[1] : 0;
-    const screen = this.screen;
-    let last0 = this.lastChange[0];
-    let last1 = two ? this.lastChange[1] : 0;
-    let suspect = false;
     // the aligned words inside [from, end)
     const head = (4 - ((bytes.byteOffset + from) & 3)) & 3;
     const wStart = from + head;
@@ -181,16 +167,9 @@ export class ClockedRawBits {
       while (i < stop) {
         const w = bytes[i];
         const before = prev;
-        if (((w ^ before) & watch) !== 0) {
-          if (((w ^ before) & hm) !== 0) {
-            stop = -1;
-            break;
-          }
-          this.lastChange[0] = last0;
-          if (two) this.lastChange[1] = last1;
-          this.screenChanges(w ^ before, base + i, true);
-          last0 = this.lastChange[0];
-          last1 = two ? this.lastChange[1] : 0;
+        if (((w ^ before) & hm) !== 0) {
+          stop = -1;
+          break;
         }
         if ((w ^ before) & cm && (rising ? w & cm : before & cm)) {
           const s = base + i;
@@ -230,22 +209,7 @@ export class ClockedRawBits {
         const w = words![j];
         // byte k of `before` is the sample before byte k of w
         const before = (w << 8) | prev;
-        if (((w ^ before) & watch) !== 0) {
-          if (((w ^ before) & hm) !== 0) break;
-          const s0 = base + wStart + (j << 2);
-          let x = (w ^ before) & lane0;
-          if (x !== 0) {
-            const at = s0 + ((31 - Math.clz32(x)) >> 3);
-            if ((x & (x - 1)) !== 0 || at - last0 < screen) suspect = true;
-            last0 = at;
-          }
-          x = (w ^ before) & lane1;
-          if (x !== 0) {
-            const at = s0 + ((31 - Math.clz32(x)) >> 3);
-            if ((x & (x - 1)) !== 0 || at - last1 < screen) suspect = true;
-            last1 = at;
-          }
-        }
+        if (((w ^ before) & hm) !== 0) break;
         let edges = (rising ? w & ~before : ~w & before) & cm;
         while (edges !== 0) {
           const low = edges & -edges;
@@ -288,9 +252,6 @@ export class ClockedRawBits {
       this.acc[1] = a1;
       c1.n = n;
     }
-    this.lastChange[0] = last0;
-    if (two) this.lastChange[1] = last1;
-    if (suspect) this.suspect = true;
     return i;
   }
 
@@ -299,7 +260,6 @@ export class ClockedRawBits {
     const cm = this.clockMask;
     const active = this.clockActive;
     const hm = this.handshakeMask;
-    const watch = hm | this.changeMask;
     let prev = this.prev;
     const two = this.links === 2;
     const nrzi = this.nrzi;
@@ -321,10 +281,7 @@ export class ClockedRawBits {
       const b = bytes[i] | (bytes[i + 1] << 8);
       if (b === prev) continue;
       const d = b ^ prev;
-      if ((d & watch) !== 0) {
-        if ((d & hm) !== 0) break;
-        this.screenChanges(d, base + i / 2, false);
-      }
+      if ((d & hm) !== 0) break;
       if ((d & cm) !== 0 && (b & cm) === active) {
         const s = base + i / 2;
         const l0 = (prev >> d0) & 1;
@@ -370,7 +327,6 @@ export class ClockedRawBits {
     const cm = this.clockMask;
     const active = this.clockActive;
     const hm = this.handshakeMask;
-    const watch = hm | this.changeMask;
     let prev = this.prev;
     let n = this.chunks[0].n;
     let i = from;
@@ -378,10 +334,7 @@ export class ClockedRawBits {
       const b = width === 1 ? bytes[i] : bytes[i] | (bytes[i + 1] << 8);
       if (b === prev) continue;
       const d = b ^ prev;
-      if ((d & watch) !== 0) {
-        if ((d & hm) !== 0) break;
-        this.screenChanges(d, base + i / width, false);
-      }
+      if ((d & hm) !== 0) break;
       if ((d & cm) !== 0 && (b & cm) === active) {
         this.putAll(prev, base + i / width, n);
         n++;
@@ -446,18 +399,101 @@ export class ClockedRawBits {
   }
 
   /**
-   * The screen: notes the last change of each data line in `d`, a change mask of four 1-byte
-   * samples from sample s (`lanes`) or of one sample at s, and marks the stretch suspect when a
-   * line changes sooner than `screen` after its previous change, or twice in four samples.
+   * The screen, a pass of its own over samples bytes[from, to) just scanned (still in cache; the
+   * bit loop stays as lean as without a tap): keeps each data line's last change and says whether
+   * the stretch is suspect, a line changing sooner than `screen` after its previous change or
+   * twice within four samples. It stops at the first suspect change: the stretch is then fed
+   * change by change, which sets the last changes again.
    */
-  private screenChanges(d: number, s: number, lanes: boolean): void {
+  private screenStretch(bytes: Uint8Array, from: number, to: number, base: number, width: 1 | 2, prevBefore: number): boolean {
+    const mask = this.changeMask;
+    let prev = prevBefore;
+    if (width === 2) {
+      for (let i = from; i < to; i += 2) {
+        const v = bytes[i] | (bytes[i + 1] << 8);
+        const d = (v ^ prev) & mask;
+        prev = v;
+        if (d !== 0 && this.screenChange(d, base + i / 2, false)) return true;
+      }
+      return false;
+    }
+    // single samples up to a 4-byte boundary, whole words (four samples), then the rest
+    const head = Math.min(to, from + ((4 - ((bytes.byteOffset + from) & 3)) & 3));
+    const count = (to - head) >> 2;
+    prev = this.screenBytes(bytes, from, head, base, prev);
+    if (prev < 0) return true;
+    if (count > 0 && this.links <= 2) {
+      // one or two lines, their state in locals: screenChange written out
+      const words = new Int32Array(bytes.buffer, bytes.byteOffset + head, count);
+      const lanes = mask * 0x01010101;
+      const lane0 = this.laneMask[0];
+      const lane1 = this.links === 2 ? this.laneMask[1] : 0;
+      const screen = this.screen;
+      const at0 = base + head;
+      let last0 = this.lastChange[0];
+      let last1 = this.links === 2 ? this.lastChange[1] : 0;
+      let suspect = false;
+      for (let j = 0; j < count; j++) {
+        const w = words[j];
+        // byte k of (w << 8) | prev is the sample before byte k of w
+        const d = (w ^ ((w << 8) | prev)) & lanes;
+        prev = w >>> 24;
+        if (d === 0) continue;
+        const x0 = d & lane0;
+        if (x0 !== 0) {
+          const at = at0 + 4 * j + ((31 - Math.clz32(x0)) >> 3);
+          if ((x0 & (x0 - 1)) !== 0 || at - last0 < screen) {
+            suspect = true;
+            break;
+          }
+          last0 = at;
+        }
+        const x1 = d & lane1;
+        if (x1 !== 0) {
+          const at = at0 + 4 * j + ((31 - Math.clz32(x1)) >> 3);
+          if ((x1 & (x1 - 1)) !== 0 || at - last1 < screen) {
+            suspect = true;
+            break;
+          }
+          last1 = at;
+        }
+      }
+      this.lastChange[0] = last0;
+      if (this.links === 2) this.lastChange[1] = last1;
+      if (suspect) return true;
+    } else if (count > 0) {
+      const words = new Int32Array(bytes.buffer, bytes.byteOffset + head, count);
+      const lanes = mask * 0x01010101;
+      for (let j = 0; j < count; j++) {
+        const w = words[j];
+        const d = (w ^ ((w << 8) | prev)) & lanes;
+        prev = w >>> 24;
+        if (d !== 0 && this.screenChange(d, base + head + 4 * j, true)) return true;
+      }
+    }
+    return this.screenBytes(bytes, head + 4 * count, to, base, prev) < 0;
+  }
+
+  /** the screen over 1-byte samples bytes[from, to) one at a time; the last sample, or -1 when suspect */
+  private screenBytes(bytes: Uint8Array, from: number, to: number, base: number, prev: number): number {
+    for (let i = from; i < to; i++) {
+      const d = (bytes[i] ^ prev) & this.changeMask;
+      prev = bytes[i];
+      if (d !== 0 && this.screenChange(d, base + i, false)) return -1;
+    }
+    return prev;
+  }
+
+  /** one change mask, of four 1-byte samples from sample s (`lanes`) or of one sample at s: true when it makes the stretch suspect */
+  private screenChange(d: number, s: number, lanes: boolean): boolean {
     for (let k = 0; k < this.links; k++) {
       const x = d & (lanes ? this.laneMask[k] : 1 << this.dataBit[k]);
       if (x === 0) continue;
       const at = lanes ? s + ((31 - Math.clz32(x)) >> 3) : s;
-      if ((x & (x - 1)) !== 0 || at - this.lastChange[k] < this.screen) this.suspect = true;
+      if ((x & (x - 1)) !== 0 || at - this.lastChange[k] < this.screen) return true;
       this.lastChange[k] = at;
     }
+    return false;
   }
 
   /** the first sample's levels of the clock and data lines, as the general path's reader gives them */
@@ -478,10 +514,22 @@ export class ClockedRawBits {
    */
   private tapStretch(bytes: Uint8Array, from: number, to: number, base: number, width: 1 | 2, prevBefore: number): void {
     const n = this.chunks[0].n;
-    if (!this.suspect && this.tap!.quiet(this.chunks[0].samples, this.tapFrom, n, this.screen, this.dataBit, this.lastChange)) {
+    const tap = this.tap!;
+    this.screen = tap.quietScreen();
+    const suspect = this.screenStretch(bytes, from, to, base, width, prevBefore);
+    if (!suspect && tap.quiet(this.chunks[0].samples, this.tapFrom, n, this.screen, this.dataBit, this.lastChange)) {
       this.tapFrom = n;
       return;
     }
+    this.recordStretch(bytes, from, to, base, width, prevBefore);
+    this.feedTap();
+  }
+
+  /**
+   * Every data-line change in samples bytes[from, to), for feedTap. (A method of its own: its loop
+   * is compiled on its own, so the compiled loop never ends in a call it has not seen yet.)
+   */
+  private recordStretch(bytes: Uint8Array, from: number, to: number, base: number, width: 1 | 2, prevBefore: number): void {
     const mask = this.changeMask;
     let prev = prevBefore;
     for (let i = from; i < to; i += width) {
@@ -489,7 +537,6 @@ export class ClockedRawBits {
       if (((v ^ prev) & mask) !== 0) this.recordChanges(v ^ prev, base + i / width);
       prev = v;
     }
-    this.feedTap();
   }
 
   /** keeps the data-line changes in `d` (a change mask of one sample at s) for feedTap */
