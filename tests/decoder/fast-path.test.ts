@@ -5,7 +5,8 @@
 // abort on seven 1s, idle on fifteen).
 import { describe, expect, it } from 'vitest';
 import { Deframer, type DeframerOptions } from '../../shared/decoder/deframe';
-import { AnomalyTap, type LineAnomaly } from '../../shared/decoder/faults/anomalies';
+import { AnomalyTap, type AnomalySink, type LineAnomaly } from '../../shared/decoder/faults/anomalies';
+import type { ClockSpread } from '../../shared/decoder/timing/clock-spread';
 import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
 import { renderWaveform } from '../../shared/decoder/encode/waveform';
 import { collect } from '../../shared/decoder/encode/writers/collect';
@@ -143,10 +144,18 @@ function lineGlitches(rng: () => number, channels: string[], spb: number) {
   return out;
 }
 
-function runWithTap(options: DecoderOptions, input: Uint8Array, chunkSizes: number[]) {
+/** an anomaly sink that keeps what it is given: the anomalies and the clock's period spread */
+function recorder() {
   const anomalies: LineAnomaly[] = [];
-  const r = runDecoder({ ...options, anomalies: { anomaly: (a) => anomalies.push(a) } }, input, chunkSizes);
-  return { ...r, anomalies };
+  const spreads: ClockSpread[] = [];
+  const sink: AnomalySink = { anomaly: (a) => anomalies.push(a), clockSpread: (s) => spreads.push(s) };
+  return { anomalies, spreads, sink };
+}
+
+function runWithTap(options: DecoderOptions, input: Uint8Array, chunkSizes: number[]) {
+  const { anomalies, spreads, sink } = recorder();
+  const r = runDecoder({ ...options, anomalies: sink }, input, chunkSizes);
+  return { ...r, anomalies, spreads };
 }
 
 describe('fused raw + clock path', () => {
@@ -236,7 +245,7 @@ describe('fused raw + clock path', () => {
     }
   });
 
-  it('with the anomaly tap on, gives the same frames, line events and anomalies in the same order as the general path (seeded PRNG)', () => {
+  it("with the anomaly tap on, gives the same frames, line events, anomalies (in the same order) and clock period spread as the general path (seeded PRNG)", () => {
     const kinds = new Set<string>();
     for (let seed = 1; seed <= 16; seed++) {
       const { bytes, options, sizes, spb, describe: what } = randomCapture(seed, true);
@@ -245,15 +254,17 @@ describe('fused raw + clock path', () => {
       const general = runWithTap({ ...options, ...rate, rawFastPath: false }, bytes, [bytes.length]);
       expect(general.dec.fatal(), what).toBeNull();
       expect(general.anomalies.length, what).toBeGreaterThan(3);
+      expect(general.spreads, what).toHaveLength(1);
       for (const a of general.anomalies) kinds.add(a.kind);
       for (const split of [[bytes.length], sizes, [1, 4097, 3, 8191]]) {
         const fused = runWithTap({ ...options, ...rate, rawFastPath: true }, bytes, split);
         expect(fused.anomalies, what).toEqual(general.anomalies);
+        expect(fused.spreads, what).toEqual(general.spreads);
         expect(fused.frames, what).toEqual(general.frames);
         expect(fused.events, what).toEqual(general.events);
       }
     }
-    expect([...kinds].sort()).toEqual(['clock-extra', 'clock-missing', 'glitch', 'silence']);
+    expect([...kinds].sort()).toEqual(['clock-extra', 'clock-missing', 'clock-stretch', 'glitch', 'silence']);
   });
 
   it('reports half a 2-byte sample at the end and no samples at all just as the general path does', () => {
@@ -393,10 +404,12 @@ describe('anomaly tap, quiet stretches', () => {
 
   it('takes an on-time stretch in one step and leaves the same state as taking it edge by edge', () => {
     const edges = Float64Array.from({ length: 500 }, (_, k) => 5 + 10 * k + (k % 3) - 1);
-    const a: LineAnomaly[] = [];
-    const b: LineAnomaly[] = [];
-    const quiet = new AnomalyTap(options, { anomaly: (x) => a.push(x) });
-    const exact = new AnomalyTap(options, { anomaly: (x) => b.push(x) });
+    const ra = recorder();
+    const rb = recorder();
+    const a = ra.anomalies;
+    const b = rb.anomalies;
+    const quiet = new AnomalyTap(options, ra.sink);
+    const exact = new AnomalyTap(options, rb.sink);
     quiet.transitions(first);
     exact.transitions(first);
     expect(quiet.quiet(edges, 0, 400, quiet.quietScreen(), Int32Array.of(1), Float64Array.of(3001))).toBe(true);
@@ -410,6 +423,8 @@ describe('anomaly tap, quiet stretches', () => {
     }
     expect(a.map((x) => x.kind).sort()).toEqual(['clock-missing', 'glitch']);
     expect(a).toEqual(b);
+    expect(ra.spreads).toHaveLength(1);
+    expect(ra.spreads).toEqual(rb.spreads);
   });
 });
 

@@ -251,17 +251,30 @@ export class AnomalyTap {
     let last = this.lastEdge;
     let i = from;
     if (last < 0 && i < to) last = clockEdges[i++];
+    const first = i;
+    const start = last;
     const silence = this.silenceBits;
+    const stretch = this.stretchFraction;
     for (; i < to; i++) {
       const s = clockEdges[i];
       const d = s - last;
       // the same limits as classifyEdge: anything but an on-time edge is reported there
-      if (d < 0.5 * p || d >= silence * p || d >= 1.5 * p) return false;
+      if (d < 0.5 * p || d >= silence * p || d >= 1.5 * p || d >= stretch * p) return false;
       p = p + (d - p) / 64;
       if (p > most) most = p;
       last = s;
     }
     if (this.glitchFraction * most > screen) return false;
+    // taken: every interval goes into the period's histogram as classifyEdge puts it there
+    p = this.period;
+    last = start;
+    for (i = first; i < to; i++) {
+      const s = clockEdges[i];
+      const d = s - last;
+      this.histogram.add(d, p);
+      p = p + (d - p) / 64;
+      last = s;
+    }
     this.period = p;
     this.lastEdge = last;
     for (let k = 0; k < dataChannels.length; k++) {
