@@ -94,6 +94,19 @@ for (let o = 0; o < 6; o++) {
   }
 }
 
+/**
+ * Sample of the last data bit before the last 0 of a line byte taken whole (FAST entry `e`,
+ * STUFFED entry `stuffed`, taken at `at`). When a stuffed 0 comes right before that 0 it is
+ * skipped: a frame ends at its last data bit, not at the 0 its transmitter stuffed after it.
+ */
+function fastEndSample(samples: ArrayLike<number>, at: number, e: number, stuffed: number, prev: number): number {
+  const z = (e >> 16) & 7;
+  // z >= 2 always: at most five 1s follow the last 0 of a byte the table takes whole
+  const lastStuffed = stuffed > 15 ? stuffed >> 4 : stuffed & 15; // position + 1
+  if (lastStuffed === z) return samples[at + z - 2];
+  return z > 0 ? samples[at + z - 1] : at > 0 ? samples[at - 1] : prev;
+}
+
 export class Deframer {
   private readonly minBits: number;
   private readonly maxOctets: number;
@@ -209,6 +222,7 @@ export class Deframer {
     let fastAt = -1;
     let fastE = 0;
     let fastLen = 0;
+    let fastSt = 0;
     for (let i = 0; i < n; i++) {
       if (inFrame && (i & 7) === 0 && ones < 6 && i + 8 <= n) {
         const b = packed[i >> 3];
@@ -227,6 +241,7 @@ export class Deframer {
           // where the last 0 and the trailing 1s are is worked out once the run of such bytes ends
           fastAt = i;
           fastE = e;
+          fastSt = st;
           fastLen = len;
           const r = len & 7;
           acc |= (e & 0xff) << r;
@@ -244,7 +259,7 @@ export class Deframer {
         const z = (fastE >> 16) & 7;
         const onesOut = (fastE >> 12) & 15;
         lenBeforeZero = fastLen + ((fastE >> 19) & 15);
-        sampleBeforeZero = z > 0 ? samples[fastAt + z - 1] : fastAt > 0 ? samples[fastAt - 1] : prev;
+        sampleBeforeZero = fastEndSample(samples, fastAt, fastE, fastSt, prev);
         stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffed.length - 1 : this.stuffed.length;
         zeroSample = samples[fastAt + z];
         if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
@@ -304,8 +319,10 @@ export class Deframer {
           if (inFrame) {
             if (lineCount === 0) firstSample = s;
             lenBeforeZero = len;
-            sampleBeforeZero = prev;
-            stuffedBeforeZero = this.stuffed.length;
+            // right after a stuffed 0 keep the sample it took: the frame's last data bit
+            const st = this.stuffed.length;
+            if (ones === 5 || st === 0 || this.stuffed[st - 1] !== lineCount - 1) sampleBeforeZero = prev;
+            stuffedBeforeZero = st;
             if (ones === 5) {
               this.stuffed.push(lineCount);
             } else {
@@ -341,7 +358,7 @@ export class Deframer {
       const z = (fastE >> 16) & 7;
       const onesOut = (fastE >> 12) & 15;
       lenBeforeZero = fastLen + ((fastE >> 19) & 15);
-      sampleBeforeZero = z > 0 ? samples[fastAt + z - 1] : fastAt > 0 ? samples[fastAt - 1] : prev;
+      sampleBeforeZero = fastEndSample(samples, fastAt, fastE, fastSt, prev);
       stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffed.length - 1 : this.stuffed.length;
       zeroSample = samples[fastAt + z];
       if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
@@ -438,8 +455,10 @@ export class Deframer {
           if (inFrame) {
             if (lineCount === 0) firstSample = s;
             lenBeforeZero = len;
-            sampleBeforeZero = prev;
-            stuffedBeforeZero = this.stuffed.length;
+            // right after a stuffed 0 keep the sample it took: the frame's last data bit
+            const st = this.stuffed.length;
+            if (ones === 5 || st === 0 || this.stuffed[st - 1] !== lineCount - 1) sampleBeforeZero = prev;
+            stuffedBeforeZero = st;
             if (ones === 5) {
               this.stuffed.push(lineCount);
             } else {

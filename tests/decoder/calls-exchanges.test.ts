@@ -3,7 +3,7 @@ import type { DecodedCall } from '../../shared/decoder/calls/apply';
 import { BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
 import { ExchangeTracker, pairExchanges, type CallFrame, type Exchange } from '../../shared/decoder/calls/exchanges';
 import { parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls/field-map';
-import { bootCalls, directoryCalls, readFileCalls, requestInfo, responseInfo, Tags, type SessionScript } from '../../shared/decoder/encode/calls';
+import { bootCalls, directoryCalls, readFileCalls, readRandomCalls, requestInfo, responseInfo, Tags, type SessionScript } from '../../shared/decoder/encode/calls';
 import { BIT_RATE, decodeScript, framesOfSession, pairDecoded, type DecodedSession } from './calls-helpers';
 
 const BIT = 1 / BIT_RATE;
@@ -68,6 +68,21 @@ describe('exchanges on encoded sessions with known delays, retries and drops', (
     expect(d.frames.filter((f) => f.status !== 'ok')).toHaveLength(2); // the damaged request and the lost answer
     const { exchanges } = pairDecoded(d);
     checkAgainstScript(d, exchanges, BIT);
+  });
+
+  // ISO/IEC 13239 (from memory): a 0 is stuffed after five 1s, the FCS included, so some
+  // requests end in a stuffed 0 and some do not; the round trip must not depend on it.
+  it('times a round trip from the request’s last FCS bit whether or not a zero was stuffed after it', () => {
+    const tags = new Tags();
+    const calls = readRandomCalls('PARISH.DAT', text(128 * 4), Array.from({ length: 120 }, (_, i) => (i * 7) % 4), { tags, delay: 0.0003 });
+    const d = decodeScript({ bitRate: BIT_RATE, stations: [{ address: 0x22, port: 'p2', start: 0.0001, calls }] }, { clocked: true });
+    const up = d.session.links.find((l) => l.direction === 'to-server')!;
+    const endsStuffed = (seq: number) => up.frames[seq].lastBit !== up.frames[seq].endBit - 1;
+    const { exchanges } = pairDecoded(d);
+    expect(exchanges).toHaveLength(120);
+    const kinds = new Set(exchanges.map((e) => endsStuffed(e.request.seq)));
+    expect(kinds).toEqual(new Set([true, false]));
+    for (const e of exchanges) expect(e.rttSeconds).toBeCloseTo(0.0003, 9);
   });
 
   it('measures the service delay from RTS rising to the server’s poll', () => {

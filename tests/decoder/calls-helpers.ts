@@ -83,7 +83,7 @@ export function framesOfSession(session: EncodedSession): { frames: DecodedFrame
         link: l.name,
         seq: f.seq,
         firstSample: f.startBit,
-        lastSample: f.endBit - 1,
+        lastSample: f.lastBit,
         bytes: wires.frames[i].wire,
         bitLength: wires.frames[i].bitLength,
         stuffed: [],

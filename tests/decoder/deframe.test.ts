@@ -42,6 +42,41 @@ describe('Deframer', () => {
     expect(flags[0].sample).toBe(0);
   });
 
+  // ISO/IEC 13239 (from memory): the transmitter inserts a 0 after five contiguous 1s anywhere
+  // between the flags, the FCS included, so an FCS ending in five 1s is followed by a stuffed 0.
+  it('ends a frame at its last FCS bit, not at a zero stuffed after it, for every chunk split', () => {
+    const rng = seededRng(1311);
+    const seen = { trailing: 0, plain: 0 };
+    for (let round = 0; round < 5000 && (seen.trailing < 30 || seen.plain < 30); round++) {
+      const bytes = randomFrame(rng, 12);
+      const { bits, frames: sent } = encodeLineBits([{ kind: 'flags', count: 1 }, { kind: 'frame', bytes }, { kind: 'flags', count: 1 }]);
+      const s = sent[0];
+      const stuffedLast = s.stuffedPositions.at(-1) === s.endBit - s.startBit - 1;
+      if ((stuffedLast ? seen.trailing : seen.plain) >= 30) continue;
+      seen[stuffedLast ? 'trailing' : 'plain']++;
+      for (const sizes of [[bits.length], [1], [3, 8, 5], [13]]) {
+        for (const bitwise of [false, true]) {
+          const frames: RawFrame[] = [];
+          const d = new Deframer('L', { frame: (f) => frames.push(f), event: () => {} }, { bitwise });
+          let at = 0;
+          let k = 0;
+          const samples = Float64Array.from(bits, (_, i) => i);
+          while (at < bits.length) {
+            const end = Math.min(bits.length, at + sizes[k++ % sizes.length]);
+            d.push({ bits: bits.subarray(at, end), samples: samples.subarray(at, end), n: end - at });
+            at = end;
+          }
+          d.finish();
+          expect(frames).toHaveLength(1);
+          expect(frames[0].lastSample).toBe(stuffedLast ? s.endBit - 2 : s.endBit - 1);
+          // the stuffed 0 is still one of the frame's line bits
+          expect(frames[0].stuffed).toEqual(s.stuffedPositions);
+        }
+      }
+    }
+    expect(seen).toEqual({ trailing: 30, plain: 30 });
+  });
+
   it('lets one flag close a frame and open the next (ISO/IEC 13239 shared flag)', () => {
     const a = new Uint8Array([1, 2, 3]);
     const b = new Uint8Array([4, 5, 6]);

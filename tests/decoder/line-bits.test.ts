@@ -59,7 +59,7 @@ describe('encoder → deframer → FCS check (property tests, seeded PRNG)', () 
       checked.forEach((f, i) => {
         expect(Array.from(f.bytes.subarray(0, f.bytes.length - 2))).toEqual(Array.from(sent[i]));
         expect(f.firstSample).toBe(enc[i].startBit);
-        expect(f.lastSample).toBe(enc[i].endBit - 1);
+        expect(f.lastSample).toBe(enc[i].lastBit);
         expect(f.stuffed).toEqual(enc[i].stuffedPositions);
         expect(f.fcsReceived).toBe(f.fcsComputed);
       });

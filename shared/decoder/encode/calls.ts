@@ -207,6 +207,8 @@ export interface ScriptFrame {
   seq: number;
   startBit: number;
   endBit: number;
+  /** the last data bit (endBit - 1, or endBit - 2 after a trailing stuffed 0): where a receiver's frame ends */
+  lastBit: number;
   /** address, control, information (no FCS) */
   bytes: Uint8Array;
   damaged: boolean;
@@ -259,10 +261,10 @@ export const control = {
   ua: (f: boolean) => 0x63 | (f ? 0x10 : 0),
 };
 
-/** line bits a frame body takes after zero-bit insertion (flags not counted) */
-function bodyBits(bytes: Uint8Array, faults: FrameFaults | undefined): number {
+/** line bits a frame body takes after zero-bit insertion (flags not counted), and its last data bit */
+function bodyBits(bytes: Uint8Array, faults: FrameFaults | undefined): { length: number; last: number } {
   const f = encodeLineBits([{ kind: 'frame', bytes, faults }]).frames[0];
-  return f.endBit - f.startBit;
+  return { length: f.endBit - f.startBit, last: f.lastBit - f.startBit };
 }
 
 /** One link being written: frames placed at chosen bit positions with fill flags between. */
@@ -304,11 +306,12 @@ class LinkWriter {
     // a flipped bit in the middle of the information (or control) field makes the FCS bad
     const faults: FrameFaults | undefined = damaged ? { flipBits: damageBit(bytes) } : undefined;
     this.items.push({ kind: 'frame', bytes, faults });
-    const len = bodyBits(bytes, faults);
+    const body = bodyBits(bytes, faults);
     const frame: ScriptFrame = {
       seq: this.frames.length,
       startBit: open + 8,
-      endBit: open + 8 + len,
+      endBit: open + 8 + body.length,
+      lastBit: open + 8 + body.last,
       bytes,
       damaged,
       kind: (bytes[1] & 1) === 0 ? 'I' : (bytes[1] & 3) === 1 ? 'S' : 'U',
@@ -416,7 +419,7 @@ export function encodeSession(script: SessionScript): EncodedSession {
           continue;
         }
         const lost = damagedResp > 0;
-        const resp = down.send(req.endBit - 1 + bits(call.serverDelay), frameBytes(a, control.i(srvVs, srvVr, true), call.response), lost);
+        const resp = down.send(req.lastBit + bits(call.serverDelay), frameBytes(a, control.i(srvVs, srvVr, true), call.response), lost);
         if (lost) {
           damagedResp--;
           // the station never saw it: the server polls again and sends the same N(S) later
@@ -426,7 +429,7 @@ export function encodeSession(script: SessionScript): EncodedSession {
         srvVs = (srvVs + 1) & 7;
         stVr = (stVr + 1) & 7;
         ex.responseSeq = resp.seq;
-        ex.delaySeconds = (resp.startBit - (req.endBit - 1)) / rate;
+        ex.delaySeconds = (resp.startBit - req.lastBit) / rate;
         const ack = up.send(resp.endBit + turn, frameBytes(a, control.rr(stVr, true)), false);
         t = ack.endBit;
         break;

@@ -43,6 +43,11 @@ export interface EncodedFrame {
   startBit: number;
   /** line-bit index one past the last bit before the closing flag or abort */
   endBit: number;
+  /**
+   * line-bit index of the frame's last data bit: endBit - 1, or endBit - 2 when the transmitter
+   * stuffed a 0 after the last bit (its last five bits were 1s); a receiver's frame ends here
+   */
+  lastBit: number;
   /** positions of the inserted zeros, counted from startBit */
   stuffedPositions: number[];
   /** octets between the flags as a receiver should assemble them (FCS included, faults applied) */
@@ -140,6 +145,7 @@ export function encodeLineBits(items: LineItem[], options: EncodeOptions = {}): 
         } else ones = 0;
       }
       const endBit = w.n;
+      const lastBit = stuffedPositions.length > 0 && stuffedPositions[stuffedPositions.length - 1] === endBit - startBit - 1 ? endBit - 2 : endBit - 1;
       if (faults.abortAfterBits !== undefined) {
         const ones = faults.abortOnes ?? 7;
         if (ones < 7) throw new RangeError(`an abort is seven or more 1s, not ${ones}`);
@@ -147,7 +153,7 @@ export function encodeLineBits(items: LineItem[], options: EncodeOptions = {}): 
       } else if (!faults.noClosingFlag) {
         w.flag(false);
       }
-      frames.push({ startBit, endBit, stuffedPositions, wire, bitLength: stop });
+      frames.push({ startBit, endBit, lastBit, stuffedPositions, wire, bitLength: stop });
     }
   }
   return { bits: w.bits.slice(0, w.n), frames };
