@@ -49,11 +49,55 @@ describe('applying the CP/M call envelope', () => {
     expect(c.recordNumber).toBe(record);
   });
 
-  // CP/M 2.2 Interface Guide, read random (from memory): r0 is the low byte, r1 the high byte, r2 overflow.
+  // The BDOS sets bit 7 of s2 on open and make and masks it off itself (from memory of the CP/M
+  // 2.2 BDOS listing); the module number is the low four bits (CP/M 2.2 manual 5.2: at most
+  // 65 536 records, extents 0–31 of 128 records, so 16 modules).
+  it.each([0, 127, 128, 4096, 4096 * 15 + 200])('places sequential record %i by the module bits of s2 when the BDOS’s flag is set in bit 7', (record) => {
+    const pos = sequentialPosition(record);
+    const c = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.READ_SEQUENTIAL, 1, 0, { fcb: { name: 'BIG.DAT', ...pos, s2: pos.s2 | 0x80 } }), 'request');
+    expect(c.fields.find((f) => f.id === 's2')!.value).toBe(pos.s2 | 0x80);
+    expect(c.recordNumber).toBe(record);
+    expect(c.module).toBe(pos.s2);
+  });
+
+  // CP/M 2.2 manual 5.2, Table 5-2: r0, r1 a 16-bit value with r0 the low byte, overflow to r2.
   it('reads the random record number from r0–r2 with r0 the low byte', () => {
     const info = requestInfo(BDOS.READ_RANDOM, 1, 0, { fcb: { name: 'BAPTISMS.DAT', random: 0x01_02_03 } });
     expect(info.subarray(3 + 33, 3 + 36)).toEqual(new Uint8Array([0x03, 0x02, 0x01]));
     expect(applyFieldMap(CPM_ENVELOPE, info, 'request').recordNumber).toBe(0x010203);
+  });
+
+  // Our envelope (product spec): a read answer carries its record only when the status says a
+  // record follows; CP/M 2.2 manual 5.2, function 20: nonzero when no data exist at the next record.
+  it('reads an end-of-file answer without a record as complete, not truncated', () => {
+    const eof = applyFieldMap(CPM_ENVELOPE, responseInfo(BDOS.READ_SEQUENTIAL, 9, 1, { fcb: { name: 'A.B' } }), 'response');
+    expect(eof).toMatchObject({ status: 1, statusMeaning: 'end of file', truncated: false, unexplained: 0, recordData: null, problems: [] });
+    expect(eof.fields.find((f) => f.id === 'record')).toMatchObject({ absent: true, truncated: false, available: 0, length: 0, display: '(not sent when status is 1)' });
+    for (const [code, extra] of [
+      [BDOS.READ_RANDOM, { fcb: { name: 'A.B', random: 9 } }],
+      [BDOS.SEARCH_FIRST, { fcb: { name: '????????.???' } }],
+      [BDOS.SEARCH_NEXT, {}],
+      [BDOS.BOOT_LOAD, { extra: new Uint8Array([9, 0]) }],
+    ] as const) {
+      const status = code === BDOS.READ_RANDOM ? 1 : code === BDOS.BOOT_LOAD ? 1 : 0xff;
+      const c = applyFieldMap(CPM_ENVELOPE, responseInfo(code, 2, status, extra), 'response');
+      expect(c, `call ${code}`).toMatchObject({ callCode: code, status, truncated: false, problems: [], unexplained: 0, recordData: null });
+    }
+  });
+
+  it('still marks a successful read answer that ends early as truncated', () => {
+    const ok = responseInfo(BDOS.READ_SEQUENTIAL, 9, 0, { fcb: { name: 'A.B' } });
+    const c = applyFieldMap(CPM_ENVELOPE, ok, 'response');
+    expect(c.truncated).toBe(true);
+    expect(c.fields.find((f) => f.id === 'record')).toMatchObject({ absent: false, truncated: true, available: 0, length: 128 });
+  });
+
+  it('reads the position and record count of an open answer and the size of a compute file size answer', () => {
+    const open = applyFieldMap(CPM_ENVELOPE, responseInfo(BDOS.OPEN_FILE, 3, 0, { fcb: { name: 'A.B', ex: 2, s2: 0x81, rc: 0x45 } }), 'response');
+    expect(open).toMatchObject({ extent: 2, module: 1, recordCount: 0x45, fileSize: null });
+    const size = applyFieldMap(CPM_ENVELOPE, responseInfo(BDOS.COMPUTE_FILE_SIZE, 4, 0, { fcb: { name: 'A.B', random: 0x010000 } }), 'response');
+    // CP/M 2.2 manual 5.2, function 35: r2 = 01 means the maximum record count 65 536
+    expect(size).toMatchObject({ fileSize: 65536, recordNumber: null });
   });
 
   it('gives the record data of a write request and of a read response', () => {

@@ -174,6 +174,15 @@ describe('field map validation', () => {
     expect(!r.ok && r.errors.map((e) => e.path)).toEqual(['layouts[0].fields[0].bits[0].width']);
   });
 
+  it('refuses a field present only for some status values in a layout with no status field before it', () => {
+    const r = validateFieldMap({
+      name: 'x',
+      version: 1,
+      layouts: [{ id: 'a', fields: [{ id: 'data', type: 'bytes', length: 4, onlyIfStatus: [0] }, { id: 's', type: 'u8', role: 'status' }] }],
+    });
+    expect(!r.ok && r.errors).toEqual([{ path: 'layouts[0].fields[0].onlyIfStatus', message: expect.stringMatching(/earlier field with the status role/) }]);
+  });
+
   it('refuses layouts chosen by call code when the map does not say where the call code is', () => {
     const r = validateFieldMap({ name: 'x', version: 1, layouts: [{ id: 'a', when: { calls: [1] }, fields: [{ id: 'c', type: 'u8' }] }] });
     expect(!r.ok && r.errors.map((e) => e.path)).toEqual(['layouts[0].when.calls']);
@@ -190,5 +199,8 @@ describe('the Markdown protocol description', () => {
     expect(md).toMatch(/\| 36 \| 3 \| r \| u24le \| record-number \|/);
     expect(md).toMatch(/\| 2 \| 1 \| status \| u8 \| status \| BDOS return code \| 0 ok; 1 end of file \|/);
     expect(md).toContain('| 3 | rest of frame | text | ascii |');
+    // the record after a read is sent only with status 0; nothing after it has a fixed offset
+    expect(md).toMatch(/\| 39 \| 128, only when status is 0 \| record \| bytes \| record-data \|/);
+    expect(md).toMatch(/\| 39 \| 128, only when status is 0, 1, 2 or 3 \| record \| bytes \| record-data \|/);
   });
 });

@@ -493,28 +493,45 @@ function call(request: Uint8Array, response: Uint8Array | null, delay: number): 
   return { request, response, serverDelay: delay };
 }
 
-/** open, read sequential record by record, the end-of-file answer, close */
-export function readFileCalls(name: string, data: Uint8Array, o: SequenceOptions & { attributes?: NameAttributes }): ScriptCall[] {
+/** The BDOS's own flag in the high bit of s2, set on open and make (from memory of the CP/M 2.2 BDOS listing). */
+export const S2_WRITE_FLAG = 0x80;
+
+/**
+ * open, read sequential record by record, the end-of-file answer (no record), close. The open
+ * answer's rc counts the records of extent 0, 128 when it is full (the BDOS's value on open).
+ * `bdosFlag`: the station forwards its FCB as the BDOS left it after open, with s2 bit 7 set.
+ */
+export function readFileCalls(name: string, data: Uint8Array, o: SequenceOptions & { attributes?: NameAttributes; bdosFlag?: boolean }): ScriptCall[] {
   const user = o.user ?? 0;
   const records = toRecords(data);
   const out: ScriptCall[] = [];
   let tag = o.tags.next();
   const size = Math.min(128, records.length);
-  out.push(call(requestInfo(15, tag, user, { fcb: { name } }), responseInfo(15, tag, 0, { fcb: { name, attributes: o.attributes, rc: size } }), o.delay));
+  const flag = o.bdosFlag ? S2_WRITE_FLAG : 0;
+  const pos = (record: number) => {
+    const p = sequentialPosition(record);
+    return { ...p, s2: p.s2 | flag };
+  };
+  out.push(call(requestInfo(15, tag, user, { fcb: { name } }), responseInfo(15, tag, 0, { fcb: { name, attributes: o.attributes, rc: size, s2: flag } }), o.delay));
   for (let i = 0; i <= records.length; i++) {
     tag = o.tags.next();
-    const at = sequentialPosition(i);
-    const next = sequentialPosition(i + 1);
+    const at = pos(i);
     const req = requestInfo(20, tag, user, { fcb: { name, ...at, rc: size } });
     const resp =
       i < records.length
-        ? responseInfo(20, tag, 0, { fcb: { name, attributes: o.attributes, ...next, rc: size }, record: records[i] })
-        : responseInfo(20, tag, 1, { fcb: { name, attributes: o.attributes, ...at, rc: size }, record: new Uint8Array(CPM_RECORD_BYTES).fill(0x1a) });
+        ? responseInfo(20, tag, 0, { fcb: { name, attributes: o.attributes, ...pos(i + 1), rc: size }, record: records[i] })
+        : responseInfo(20, tag, 1, { fcb: { name, attributes: o.attributes, ...at, rc: size } });
     out.push(call(req, resp, o.delay));
   }
   tag = o.tags.next();
-  out.push(call(requestInfo(16, tag, user, { fcb: { name } }), responseInfo(16, tag, 0, { fcb: { name, rc: size } }), o.delay));
+  out.push(call(requestInfo(16, tag, user, { fcb: { name, s2: flag } }), responseInfo(16, tag, 0, { fcb: { name, rc: size, s2: flag } }), o.delay));
   return out;
+}
+
+/** compute file size: the answer's r0–r2 hold the number of records */
+export function computeSizeCalls(name: string, records: number, o: SequenceOptions): ScriptCall[] {
+  const tag = o.tags.next();
+  return [call(requestInfo(35, tag, o.user ?? 0, { fcb: { name } }), responseInfo(35, tag, 0, { fcb: { name, random: records } }), o.delay)];
 }
 
 /** make file, write sequential record by record, close */
@@ -542,7 +559,7 @@ export function readRandomCalls(name: string, data: Uint8Array, order: number[],
     const ok = n < records.length;
     return call(
       requestInfo(33, tag, user, { fcb: { name, random: n } }),
-      responseInfo(33, tag, ok ? 0 : 1, { fcb: { name, random: n }, record: ok ? records[n] : new Uint8Array(CPM_RECORD_BYTES) }),
+      responseInfo(33, tag, ok ? 0 : 1, { fcb: { name, random: n }, record: ok ? records[n] : undefined }),
       o.delay,
     );
   });
@@ -578,7 +595,7 @@ export function bootCalls(image: string, data: Uint8Array, o: SequenceOptions): 
     out.push(
       call(
         requestInfo(0x70, tag, 0, { extra: bootRequestExtra(image, i) }),
-        responseInfo(0x70, tag, ok ? 0 : 1, { extra: bootResponseExtra(i), record: ok ? records[i] : new Uint8Array(CPM_RECORD_BYTES) }),
+        responseInfo(0x70, tag, ok ? 0 : 1, { extra: bootResponseExtra(i), record: ok ? records[i] : undefined }),
         o.delay,
       ),
     );
@@ -604,7 +621,8 @@ export function directoryCalls(pattern: string, files: ListedFile[], o: Sequence
     const found = i < files.length;
     const entries: Uint8Array[] = [];
     for (let k = i - slot; k < Math.min(files.length, i - slot + 4); k++) entries.push(directoryEntry(user, files[k].name, { attributes: files[k].attributes, rc: files[k].rc }));
-    const record = directoryRecord(found ? entries : []);
+    // a "no (more) matching files" answer carries no directory record
+    const record = found ? directoryRecord(entries) : undefined;
     const req = requestInfo(code, tag, user, code === 17 ? { fcb: { name: pattern } } : {});
     const resp = responseInfo(code, tag, found ? slot : 0xff, code === 17 ? { fcb: { name: pattern }, record } : { record });
     out.push(call(req, resp, o.delay));
