@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import type { DecodedCall } from '../../shared/decoder/calls/apply';
 import { BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
-import { ExchangeTracker, pairExchanges, type CallFrame, type Exchange } from '../../shared/decoder/calls/exchanges';
+import { callLayerRoles, ExchangeTracker, pairExchanges, type CallFrame, type Exchange } from '../../shared/decoder/calls/exchanges';
+import { handshakeRoleSchema, linkRoleSchema } from '../../shared/schemas/captures';
 import { parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls/field-map';
 import { bootCalls, directoryCalls, readFileCalls, readRandomCalls, requestInfo, responseInfo, Tags, type SessionScript } from '../../shared/decoder/encode/calls';
 import { BIT_RATE, decodeScript, framesOfSession, pairDecoded, type DecodedSession } from './calls-helpers';
@@ -37,8 +38,7 @@ function checkAgainstScript(d: DecodedSession, exchanges: Exchange[], rttToleran
   const expected = d.session.exchanges;
   expect(exchanges).toHaveLength(expected.length);
   for (const want of expected) {
-    const port = d.session.links.find((l) => l.station === want.station && l.direction === 'to-server')!.name;
-    const got = exchanges.find((e) => e.request.link === port && e.request.seq === want.requestSeq);
+    const got = exchanges.find((e) => e.request.link === want.link && e.request.seq === want.requestSeq);
     expect(got, `exchange of station ${want.station} at request ${want.requestSeq}`).toBeDefined();
     expect(got!.callCode).toBe(want.callCode);
     expect(got!.tag).toBe(want.tag);
@@ -85,12 +85,66 @@ describe('exchanges on encoded sessions with known delays, retries and drops', (
     for (const e of exchanges) expect(e.rttSeconds).toBeCloseTo(0.0003, 9);
   });
 
+  it('lists a damaged answer that the station answered with a retry with its exchange', () => {
+    const d = decodeScript(script(), { clocked: true });
+    const { exchanges } = pairDecoded(d);
+    const down = d.session.links.find((l) => l.station === 0x21 && l.direction === 'from-server')!;
+    const damagedAnswers = down.frames.filter((f) => f.damaged && f.kind === 'I').map((f) => ({ link: down.name, seq: f.seq }));
+    expect(damagedAnswers).toHaveLength(1);
+    const retried = exchanges.filter((e) => e.outcome === 'retried');
+    expect(retried).toHaveLength(1);
+    expect(retried[0].damagedResponses).toEqual(damagedAnswers);
+    expect(exchanges.filter((e) => e !== retried[0]).every((e) => e.damagedResponses.length === 0)).toBe(true);
+  });
+
   it('measures the service delay from RTS rising to the server’s poll', () => {
     const d = decodeScript(script(), { clocked: true });
     const { serviceDelays } = pairDecoded(d);
     const polls = d.session.exchanges.filter((e) => e.station === 0x21);
     expect(serviceDelays).toHaveLength(polls.length);
     for (const s of serviceDelays) expect(Math.abs(s.seconds - 0.0005)).toBeLessThanOrEqual(BIT);
+  });
+
+  it('measures each station’s service delay on a multidrop line, where RTS lines name stations, not links', () => {
+    const a = readFileCalls('HYMNS.TXT', text(300), { tags: new Tags(), delay: 0.0004 });
+    const b = readFileCalls('PSALMS.TXT', text(200), { tags: new Tags(), delay: 0.0006 });
+    const d = decodeScript(
+      {
+        bitRate: BIT_RATE,
+        stations: [
+          { address: 0x31, port: 'm', rtsName: 'm_rts_31', start: 0.0001, rts: true, calls: a },
+          { address: 0x32, port: 'm', rtsName: 'm_rts_32', start: 0.03, rts: true, calls: b },
+        ],
+      },
+      { clocked: true },
+    );
+    expect(d.session.links.map((l) => [l.name, l.station])).toEqual([
+      ['m_txd', null],
+      ['m_rxd', null],
+    ]);
+    // the channel-role form's shapes: shared data lines without a station, one RTS per station
+    const { links, rts } = callLayerRoles({
+      links: [
+        linkRoleSchema.parse({ channel: 'm_txd', direction: 'to-server' }),
+        linkRoleSchema.parse({ channel: 'm_rxd', direction: 'from-server' }),
+      ],
+      handshake: [
+        handshakeRoleSchema.parse({ channel: 'm_rts_31', name: 'RTS', stationAddress: 0x31 }),
+        handshakeRoleSchema.parse({ channel: 'm_rts_32', name: 'RTS', stationAddress: 0x32 }),
+      ],
+    });
+    expect(rts).toEqual([
+      { channel: 'm_rts_31', station: 0x31 },
+      { channel: 'm_rts_32', station: 0x32 },
+    ]);
+    const { exchanges, serviceDelays } = pairExchanges(d.frames, d.events, { map: CPM_ENVELOPE, links, rts, samplePeriodSeconds: d.period });
+    checkAgainstScript(d, exchanges, BIT);
+    for (const station of [0x31, 0x32]) {
+      const delays = serviceDelays.filter((x) => x.station === station);
+      expect(delays).toHaveLength(d.session.exchanges.filter((e) => e.station === station).length);
+      // the encoder polls 0.5 ms after RTS rises (SessionScript.pollDelay default)
+      for (const x of delays) expect(Math.abs(x.seconds - 0.0005)).toBeLessThanOrEqual(BIT);
+    }
   });
 
   it('marks a request unanswered when no response comes within the timeout', () => {
@@ -191,6 +245,37 @@ describe('pairing rules', () => {
       [33, exchanges[1].responses[0].seq],
     ]);
     expect(exchanges[0].rttSeconds).toBeCloseTo((400 - 100) * period);
+  });
+
+  const damaged = (at: number, guess: DecodedCall | null, station = 1): CallFrame => ({
+    ref: { link: 'down', seq: seq++ },
+    station,
+    direction: 'from-server',
+    firstSample: at,
+    lastSample: at + 100,
+    call: null,
+    damagedCall: guess,
+  });
+
+  it('gives a damaged answer to the waiting exchange its damaged bytes name, once the station retries', () => {
+    const bad = damaged(500, callOf(20, 2, 'response'));
+    const { exchanges } = run([req(0, 20, 1), req(200, 20, 2), bad, req(5000, 20, 2), resp(5500, 20, 2), resp(5800, 20, 1)]);
+    expect(exchanges.map((e) => [e.tag, e.outcome, e.damagedResponses])).toEqual([
+      [1, 'answered', []],
+      [2, 'retried', [bad.ref]],
+    ]);
+  });
+
+  it('gives an unreadable damaged answer to the only waiting exchange, and none when no retry follows', () => {
+    const lost = damaged(300, null);
+    const first = run([req(0, 20, 1), lost, req(5000, 20, 1), resp(5500, 20, 1)]).exchanges;
+    expect(first[0].damagedResponses).toEqual([lost.ref]);
+    // answered without a retry: the damaged frame is not why anything was sent again
+    const second = run([req(0, 20, 1), damaged(300, null), resp(5500, 20, 1)]).exchanges;
+    expect(second[0]).toMatchObject({ outcome: 'answered', damagedResponses: [] });
+    // two waiting and nothing readable in the damaged frame: no guess
+    const third = run([req(0, 20, 1), req(100, 33, 2), damaged(300, null), req(5000, 20, 1), req(5100, 33, 2)]).exchanges;
+    expect(third.map((e) => e.damagedResponses)).toEqual([[], []]);
   });
 
   it('keeps stations apart', () => {

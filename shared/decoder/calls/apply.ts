@@ -384,11 +384,13 @@ export function attributeList(a: CpmAttributes): string[] {
 /**
  * Call-layer decode of a frame: only good I frames (and UI frames, which some networks use for
  * datagrams) carry a call. The information field starts after the link decode's address and
- * control; the FCS is not part of it.
+ * control; the FCS is not part of it. `badFcs: true` also reads a bad-FCS frame: its values may
+ * be damaged, so they serve only to guess which exchange it belonged to.
  */
-export function decodeFrameCall(map: FieldMap, frame: DecodedFrame, direction: CallDirection): DecodedCall | null {
+export function decodeFrameCall(map: FieldMap, frame: DecodedFrame, direction: CallDirection, badFcs = false): DecodedCall | null {
   const d = frame.decode;
-  if (frame.status !== 'ok' || !d || (d.kind !== 'I' && d.command !== 'UI') || d.infoLength === 0) return null;
+  const readable = frame.status === 'ok' || (badFcs && frame.status === 'bad-fcs');
+  if (!readable || !d || (d.kind !== 'I' && d.command !== 'UI') || d.infoLength === 0) return null;
   const { infoOffset, infoLength } = d;
   return applyFieldMap(map, frame.bytes.subarray(infoOffset, infoOffset + infoLength), direction);
 }

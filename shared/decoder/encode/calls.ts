@@ -182,8 +182,14 @@ export interface ScriptCall {
 
 export interface StationScript {
   address: number;
-  /** link-name prefix of the station's port, e.g. "p1" → p1_txd (to server), p1_rxd (from server), p1_rts */
+  /**
+   * link-name prefix of the station's port, e.g. "p1" → p1_txd (to server), p1_rxd (from server),
+   * p1_rts. Stations that name the same port share its data lines (a multidrop line); their
+   * calls must not overlap in time (the script does not arbitrate the line).
+   */
   port: string;
+  /** name of the station's RTS line (default `${port}_rts`; stations on a shared port each need their own) */
+  rtsName?: string;
   /** seconds from the capture start to the server's SNRM on this port */
   start: number;
   /** raise RTS before each request and drop it after */
@@ -219,13 +225,16 @@ export interface ScriptFrame {
 export interface SessionLink {
   name: string;
   direction: LinkDirection;
-  station: number;
+  /** the station on this port; null when several stations share it (multidrop) */
+  station: number | null;
   bits: Uint8Array;
   frames: ScriptFrame[];
 }
 
 export interface ExpectedExchange {
   station: number;
+  /** the to-server link the request went out on */
+  link: string;
   callCode: number;
   tag: number;
   /** seq of the first readable send on the to-server link */
@@ -276,7 +285,7 @@ class LinkWriter {
   constructor(
     readonly name: string,
     readonly direction: LinkDirection,
-    readonly station: number,
+    public station: number | null,
   ) {}
 
   /**
@@ -349,11 +358,19 @@ export function encodeSession(script: SessionScript): EncodedSession {
   const rts: EncodedSession['rts'] = [];
   const expected: ExpectedExchange[] = [];
 
+  const ports = new Map<string, { up: LinkWriter; down: LinkWriter }>();
   for (const st of script.stations) {
-    const up = new LinkWriter(`${st.port}_txd`, 'to-server', st.address);
-    const down = new LinkWriter(`${st.port}_rxd`, 'from-server', st.address);
-    writers.push(up, down);
-    const rtsLine: HandshakeLine & { station: number } = { name: `${st.port}_rts`, initial: 0, edges: [], station: st.address };
+    let port = ports.get(st.port);
+    if (!port) {
+      port = { up: new LinkWriter(`${st.port}_txd`, 'to-server', st.address), down: new LinkWriter(`${st.port}_rxd`, 'from-server', st.address) };
+      ports.set(st.port, port);
+      writers.push(port.up, port.down);
+    } else if (port.up.station !== st.address) {
+      port.up.station = null;
+      port.down.station = null;
+    }
+    const { up, down } = port;
+    const rtsLine: HandshakeLine & { station: number } = { name: st.rtsName ?? `${st.port}_rts`, initial: 0, edges: [], station: st.address };
     if (st.rts) rts.push(rtsLine);
     const a = st.address;
     // link state: send and receive sequence numbers of each side
@@ -377,6 +394,7 @@ export function encodeSession(script: SessionScript): EncodedSession {
       const serviceDelay = rise !== null ? (poll.startBit - rise + 0.5) / rate : null;
       const ex: ExpectedExchange = {
         station: a,
+        link: up.name,
         callCode: call.request[0],
         tag: call.request[1],
         requestSeq: -1,
