@@ -4,6 +4,7 @@ import { pairExchanges } from '../../shared/decoder/calls/exchanges';
 import { directoryListing, missingRanges, recoverFiles } from '../../shared/decoder/calls/files';
 import {
   bootCalls,
+  computeSizeCalls,
   directoryCalls,
   readFileCalls,
   readRandomCalls,
@@ -104,10 +105,74 @@ describe('recovered files', () => {
     expect(f.stations).toEqual([0x21, 0x22]);
   });
 
-  it('rebuilds a written file from the write requests', () => {
+  it('rebuilds a file made, written and closed within the capture, its end known from the writes', () => {
     const data = randomBytes(128 * 3, 5);
-    const { files } = recover([{ address: 0x22, calls: writeFileCalls('ACCOUNTS.DAT', data, { tags: new Tags(), delay: 0.0005 }) }]);
-    expect(files[0]).toMatchObject({ name: 'ACCOUNTS.DAT', recordCount: 3, endKnown: false });
+    const { files, exchanges } = recover([{ address: 0x22, calls: writeFileCalls('ACCOUNTS.DAT', data, { tags: new Tags(), delay: 0.0005 }) }]);
+    const lastWrite = exchanges.filter((e) => e.callCode === BDOS.WRITE_SEQUENTIAL).at(-1)!;
+    expect(files[0]).toMatchObject({ name: 'ACCOUNTS.DAT', recordCount: 3, endKnown: true, sizeSource: 'written', sizeFrom: lastWrite.request });
+    expect(files[0].bytes).toEqual(data);
+  });
+
+  it('leaves the end of a made and written file unknown while it is not closed', () => {
+    const calls = writeFileCalls('ACCOUNTS.DAT', randomBytes(128 * 3, 5), { tags: new Tags(), delay: 0.0005 });
+    const { files } = recover([{ address: 0x22, calls: calls.slice(0, -1) }]);
+    expect(files[0]).toMatchObject({ recordCount: 3, endKnown: false, sizeSource: 'written' });
+  });
+
+  // CP/M 2.2 Operating System Manual 5.2, Table 5-2: rc is the record count of extent ex (0–127);
+  // open (function 15) fills in the FCB. 128 for a full extent is the BDOS's value (from memory).
+  it('sizes a file from the open answer’s rc, ex and s2 and marks its end known', () => {
+    const tags = new Tags();
+    const data = randomBytes(128 * 9, 7);
+    const open = { request: requestInfo(BDOS.OPEN_FILE, 1, 0, { fcb: { name: 'PARISH.DAT' } }), response: responseInfo(BDOS.OPEN_FILE, 1, 0, { fcb: { name: 'PARISH.DAT', rc: 9 } }), serverDelay: 0.0003 };
+    tags.next();
+    const { files, exchanges } = recover([{ address: 0x21, calls: [open, ...readRandomCalls('PARISH.DAT', data, [0, 4], { tags, delay: 0.0003 })] }]);
+    expect(files[0]).toMatchObject({ recordCount: 9, endKnown: true, sizeSource: 'open', sizeFrom: exchanges[0].request });
+    expect(missingRanges(files[0].coverage)).toEqual([
+      [1, 3],
+      [5, 8],
+    ]);
+  });
+
+  it('sizes a file opened at a later extent of a later module, the BDOS’s flag set in s2', () => {
+    // extent 3 of module 1 holds 20 records: (1 * 32 + 3) * 128 + 20 records in all
+    const open = { request: requestInfo(BDOS.OPEN_FILE, 1, 0, { fcb: { name: 'BIG.DAT', ex: 3, s2: 1 } }), response: responseInfo(BDOS.OPEN_FILE, 1, 0, { fcb: { name: 'BIG.DAT', ex: 3, s2: 0x81, rc: 20 } }), serverDelay: 0.0003 };
+    const { files } = recover([{ address: 0x21, calls: [open] }]);
+    expect(files[0]).toMatchObject({ recordCount: (32 + 3) * 128 + 20, endKnown: true, sizeSource: 'open' });
+  });
+
+  it('takes a full extent in an open answer (rc 128) as a lower bound only', () => {
+    const data = randomBytes(128 * 200, 8);
+    const calls = readFileCalls('LONG.DAT', data, { tags: new Tags(), delay: 0.0002 });
+    const { files } = recover([{ address: 0x21, calls: calls.slice(0, 3) }]); // open and two reads
+    expect(files[0]).toMatchObject({ recordCount: 128, endKnown: false, sizeSource: 'open' });
+    const whole = recover([{ address: 0x21, calls }]).files[0];
+    expect(whole).toMatchObject({ recordCount: 200, endKnown: true, sizeSource: 'end-of-file' });
+    expect(whole.bytes).toEqual(data);
+  });
+
+  // CP/M 2.2 Operating System Manual 5.2, function 35: r0–r2 are set to the virtual file size.
+  it('sizes a file from the compute file size answer and marks its end known', () => {
+    const tags = new Tags();
+    const calls = [...computeSizeCalls('REGISTER.DAT', 37, { tags, delay: 0.0003 }), ...readRandomCalls('REGISTER.DAT', randomBytes(128 * 37, 9), [36], { tags, delay: 0.0003 })];
+    const { files, exchanges } = recover([{ address: 0x23, calls }]);
+    expect(files[0]).toMatchObject({ recordCount: 37, endKnown: true, sizeSource: 'compute-file-size', sizeFrom: exchanges[0].request });
+  });
+
+  it('makes the end unknown again when a record is read past the end an answer stated', () => {
+    const tags = new Tags();
+    const data = randomBytes(128 * 30, 10);
+    const calls = [...computeSizeCalls('SPARSE.DAT', 5, { tags, delay: 0.0003 }), ...readRandomCalls('SPARSE.DAT', data, [2, 29], { tags, delay: 0.0003 })];
+    const { files } = recover([{ address: 0x23, calls }]);
+    expect(files[0]).toMatchObject({ recordCount: 30, endKnown: false, sizeSource: 'records-seen', sizeFrom: null });
+  });
+
+  // The BDOS sets bit 7 of s2 on open (from memory of the CP/M 2.2 BDOS listing); a station that
+  // forwards its FCB unchanged must not push records to module 8 (record 524 288 and beyond).
+  it('rebuilds a file whose requests carry the BDOS’s flag in s2 at its true size', () => {
+    const data = randomBytes(128 * 6, 11);
+    const { files } = recover([{ address: 0x23, calls: readFileCalls('HYMNS.TXT', data, { tags: new Tags(), delay: 0.0004, bdosFlag: true }) }]);
+    expect(files[0]).toMatchObject({ recordCount: 6, endKnown: true });
     expect(files[0].bytes).toEqual(data);
   });
 
@@ -142,6 +207,54 @@ describe('recovered files', () => {
     const { files } = recover([{ address: 0x22, calls }]);
     expect(files[0].coverage).toEqual(['conflict']);
     expect(files[0].bytes).toEqual(written);
+  });
+
+  // Record lock and unlock, 42 and 43 as MP/M II numbers them (CP/M 3 Programmer's Guide, section
+  // 3, functions 42 and 43); status 8 "record locked by another" from memory of the MP/M II guide.
+  describe('record locks', () => {
+    const f = { name: 'ACCOUNTS.DAT', random: 4 };
+    const lockCall = (tags: Tags, code: number, status: number | null, thinkTime: number, record = 4): ScriptCall => {
+      const tag = tags.next();
+      const fcb = { ...f, random: record };
+      return { request: requestInfo(code, tag, 0, { fcb }), response: status === null ? null : responseInfo(code, tag, status, { fcb }), serverDelay: 0.0003, thinkTime, sends: 1 };
+    };
+    const twoStations = (first: ScriptCall[], second: ScriptCall[]) => {
+      const r = recover([
+        { address: 0x21, calls: first },
+        { address: 0x22, calls: second },
+      ]);
+      const id = (station: number, code: number) => r.exchanges.find((e) => e.station === station && e.callCode === code)!.request;
+      return { ...r, id, file: r.files.find((x) => x.name === 'ACCOUNTS.DAT')! };
+    };
+
+    it('records a conflict when a second station asks to lock a record another holds and is refused', () => {
+      const a = new Tags();
+      const b = new Tags();
+      const { file, id } = twoStations([lockCall(a, 42, 0, 0.0003), lockCall(a, 43, 0, 0.02)], [lockCall(b, 42, 8, 0.005)]);
+      expect(file.lockConflicts).toEqual([{ record: 4, holder: { station: 0x21, lock: id(0x21, 42) }, requester: { station: 0x22, lock: id(0x22, 42) }, outcome: 'refused' }]);
+    });
+
+    it('records a conflict the server let happen: both stations granted the same record', () => {
+      const a = new Tags();
+      const b = new Tags();
+      const { file } = twoStations([lockCall(a, 42, 0, 0.0003)], [lockCall(b, 42, 0, 0.005), lockCall(b, 42, null, 0.001, 4)]);
+      expect(file.lockConflicts.map((c) => [c.holder.station, c.requester.station, c.outcome])).toEqual([
+        [0x21, 0x22, 'granted'],
+        // the unanswered second ask of 0x22 meets 0x21's lock again (0x22's own lock is no conflict)
+        [0x21, 0x22, 'unanswered'],
+      ]);
+    });
+
+    it('finds no conflict after the holder unlocks, nor between different records', () => {
+      const a = new Tags();
+      const b = new Tags();
+      const unlocked = twoStations([lockCall(a, 42, 0, 0.0003), lockCall(a, 43, 0, 0.0003)], [lockCall(b, 42, 0, 0.02)]);
+      expect(unlocked.file.lockConflicts).toEqual([]);
+      const c = new Tags();
+      const d = new Tags();
+      const apart = twoStations([lockCall(c, 42, 0, 0.0003)], [lockCall(d, 42, 0, 0.005, 5)]);
+      expect(apart.file.lockConflicts).toEqual([]);
+    });
   });
 
   it('recovers a network boot image as a file through the whole decoder', () => {

@@ -104,11 +104,25 @@ export const layoutSchema = z
   .strict();
 
 /**
- * What a call does to a file, for recovered files: opens and creates name a file; reads and
- * writes move one record (sequential reads end at an "end of file" answer, status 1); a boot
- * load reads a system image record by record.
+ * What a call does to a file, for recovered files: open names an existing file (its answer's
+ * record count sizes it), make creates an empty one, close ends a file written in the capture;
+ * reads and writes move one record (sequential reads end at an "end of file" answer, status 1);
+ * a boot load reads a system image record by record; compute-size answers with the file's size;
+ * lock and unlock hold and release a record for a station.
  */
-export const FILE_CALL_KINDS = ['open', 'read-sequential', 'write-sequential', 'read-random', 'write-random', 'boot-load'] as const;
+export const FILE_CALL_KINDS = [
+  'open',
+  'make',
+  'close',
+  'read-sequential',
+  'write-sequential',
+  'read-random',
+  'write-random',
+  'boot-load',
+  'compute-size',
+  'lock',
+  'unlock',
+] as const;
 export type FileCallKind = (typeof FILE_CALL_KINDS)[number];
 
 export const callNameSchema = z

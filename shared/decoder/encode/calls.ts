@@ -583,13 +583,24 @@ export function readRandomCalls(name: string, data: Uint8Array, order: number[],
   });
 }
 
-/** open, lock record, read random, write random (the new contents), unlock, close */
-export function updateRecordCalls(name: string, record: number, before: Uint8Array, after: Uint8Array, o: SequenceOptions & { lockStatus?: number }): ScriptCall[] {
+/**
+ * open, lock record, read random, write random (the new contents), unlock, close. The open answer
+ * says the file has `fileRecords` records (default: up to the record updated).
+ */
+export function updateRecordCalls(
+  name: string,
+  record: number,
+  before: Uint8Array,
+  after: Uint8Array,
+  o: SequenceOptions & { lockStatus?: number; fileRecords?: number },
+): ScriptCall[] {
   const user = o.user ?? 0;
   const f = { name, random: record };
   const t = () => o.tags.next();
   let tag = t();
-  const out: ScriptCall[] = [call(requestInfo(15, tag, user, { fcb: { name } }), responseInfo(15, tag, 0, { fcb: { name } }), o.delay)];
+  // extent 0 is opened: its rc counts the file's records, 128 when that extent is full
+  const rc = Math.min(128, o.fileRecords ?? record + 1);
+  const out: ScriptCall[] = [call(requestInfo(15, tag, user, { fcb: { name } }), responseInfo(15, tag, 0, { fcb: { name, rc } }), o.delay)];
   tag = t();
   out.push(call(requestInfo(42, tag, user, { fcb: f }), responseInfo(42, tag, o.lockStatus ?? 0, { fcb: f }), o.delay));
   tag = t();
