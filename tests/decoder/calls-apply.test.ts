@@ -7,8 +7,9 @@ import { bootRequestExtra, cpmName, requestInfo, responseInfo, sequentialPositio
 import { encodeLineBits, seededRng } from '../../shared/decoder/encode/line-bits';
 
 describe('CP/M file names', () => {
-  // CP/M 2.2 Interface Guide, FCB f1–f8/t1–t3 (from memory): upper-case ASCII, space padded,
-  // the high bit of each character is an attribute: t1' read-only, t2' system, f1'–f4' user.
+  // CP/M 2.2 manual 5.2, Table 5-2: f1–f8 and t1–t3 upper-case ASCII; t1' = 1 read-only file,
+  // t2' = 1 SYS file. CP/M 3 Programmer's Guide section 2.3: f1'–f8' are attribute bits, t3' =
+  // 1 archived. (Space padding: common practice of the CCP's file name parsing, from memory.)
   it('masks the high bits for the name and reports them as attributes', () => {
     const raw = cpmName('PARISH.DAT', { readOnly: true, system: true, f1: true });
     expect(raw[0]).toBe('P'.charCodeAt(0) | 0x80);
@@ -41,8 +42,9 @@ describe('applying the CP/M call envelope', () => {
     expect(eof.statusMeaning).toBe('end of file');
   });
 
-  // CP/M 2.2 Interface Guide (from memory): an extent is 16 KB = 128 records, s2 counts modules
-  // of 32 extents, so the record of a sequential call is (s2 * 32 + ex) * 128 + cr.
+  // CP/M 2.2 manual 5.2: files are divided into 16K logical extents (128 records of 128 bytes),
+  // ex 0–31 (Table 5-2); s2 counting modules of 32 extents is from memory of the 2.2 BDOS listing.
+  // So the record of a sequential call is (s2 * 32 + ex) * 128 + cr.
   it.each([0, 5, 127, 128, 133, 4095, 4096, 4096 + 129])('gives record %i for a sequential read whose FCB holds that position', (record) => {
     const pos = sequentialPosition(record);
     const c = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.READ_SEQUENTIAL, 1, 0, { fcb: { name: 'BIG.DAT', ...pos } }), 'request');

@@ -57,7 +57,7 @@ describe('recovered files', () => {
     expect(f.exchanges).toHaveLength(8);
   });
 
-  // CP/M 2.2 Interface Guide (from memory): 128 records per extent, so record 128 is ex 1, cr 0.
+  // CP/M 2.2 manual 5.2: 16K logical extents of 128 records, so record 128 is ex 1, cr 0.
   it('places records across an extent boundary by the request FCB’s ex and cr', () => {
     const data = randomBytes(128 * 131, 2);
     const { files } = recover([{ address: 0x21, calls: readFileCalls('REGISTER.DAT', data, { tags: new Tags(), delay: 0.0002 }) }]);
@@ -270,8 +270,10 @@ describe('recovered files', () => {
 });
 
 describe('directory listings', () => {
-  // CP/M 2.2 Interface Guide, search first/next (from memory): the answer's directory code picks
-  // one of the four 32-byte entries in the returned record; 0FFH means no (more) matches.
+  // CP/M 2.2 manual 5.2, functions 17 and 18: the directory code 0–3 picks one of the four 32-byte
+  // entries of the record read into the DMA buffer; 0FFH means no (more) matches. The entry layout
+  // (user, name, ex, s1, s2, rc, d0–d15) is the FCB's first 32 bytes with dr as the user number
+  // (from memory of the manual's directory description).
   it('lists the files a search first/next sequence names, attributes included', () => {
     const listed = [
       { name: 'BAPTISMS.DAT', rc: 3 },

@@ -1,8 +1,8 @@
 // The fast paths must give exactly what the plain paths give: byte-at-a-time deframing of packed
 // line bits against the bit-at-a-time reference, and the fused raw + clock path against reader →
 // transitions → bit recovery. Inputs are seeded random line bits and captures; the bit patterns
-// they exercise are those of ISO/IEC 13239 (flag 01111110, zero-bit insertion after five 1s,
-// abort on seven 1s, idle on fifteen).
+// they exercise are those of ISO/IEC 13239:2002 (flag 01111110, zero-bit insertion after five 1s,
+// abort on seven 1s, idle on fifteen; from memory).
 import { describe, expect, it } from 'vitest';
 import { Deframer, type DeframerOptions } from '../../shared/decoder/deframe';
 import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';

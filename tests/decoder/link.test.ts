@@ -3,8 +3,8 @@ import { decodeLink } from '../../shared/decoder/link';
 
 const frame = (...b: number[]) => new Uint8Array(b);
 
-// Control-field layouts: ISO/IEC 13239 (HDLC) modulo-8 formats, bit 1 = least significant bit, sent first (from memory).
-describe('link decode (ISO/IEC 13239 modulo-8 control field)', () => {
+// Control-field layouts: ISO/IEC 13239:2002 (HDLC) modulo-8 formats, bit 1 = least significant bit, sent first (from memory).
+describe('link decode (ISO/IEC 13239:2002 modulo-8 control field, from memory)', () => {
   it('decodes an I frame with N(S), N(R) and P/F', () => {
     // N(S)=3 in bits 2-4, P/F bit 5, N(R)=5 in bits 6-8: 101 1 011 0 = 0xB6
     const d = decodeLink(frame(0x05, 0xb6, 0x41, 0x42), 4)!;
@@ -18,7 +18,7 @@ describe('link decode (ISO/IEC 13239 modulo-8 control field)', () => {
     expect(decodeLink(frame(1, 0x0d), 2)).toMatchObject({ command: 'SREJ' });
   });
 
-  it('names unnumbered commands by their M bits whatever the P/F bit (ISO/IEC 13239, from memory)', () => {
+  it('names unnumbered commands by their M bits whatever the P/F bit (ISO/IEC 13239:2002, from memory)', () => {
     const names: [number, string][] = [
       [0x03, 'UI'],
       [0x83, 'SNRM'],

@@ -326,8 +326,9 @@ export interface ListedEntry {
 
 /**
  * Files named in directory searches: a search first/next answered with directory code n (0–3)
- * points at the n-th 32-byte entry of the 128-byte record it returns (CP/M 2.2 Interface Guide,
- * functions 17 and 18; entry = user, f1–f8, t1–t3, ex, s1, s2, rc, d0–d15 — from memory).
+ * points at the n-th 32-byte entry of the 128-byte record it returns (CP/M 2.2 Operating System
+ * Manual, section 5.2, functions 17 and 18). Entry = user, f1–f8, t1–t3, ex, s1, s2, rc, d0–d15:
+ * the FCB's first 32 bytes with the user number in place of dr (from memory of the manual).
  */
 export function directoryListing(exchanges: readonly Exchange[], searchCalls: readonly number[] = [BDOS.SEARCH_FIRST, BDOS.SEARCH_NEXT]): ListedEntry[] {
   const out: ListedEntry[] = [];

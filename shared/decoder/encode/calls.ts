@@ -60,7 +60,7 @@ export interface FcbSpec {
   newName?: string;
 }
 
-/** A 36-byte FCB (CP/M 2.2 Interface Guide offsets, from memory). */
+/** A 36-byte FCB (CP/M 2.2 Operating System Manual 5.2, Figure 5-2 offsets). */
 export function fcb(spec: FcbSpec): Uint8Array {
   const out = new Uint8Array(36);
   out[FCB_OFFSET.dr] = spec.drive ?? 0;
