@@ -26,7 +26,7 @@
 // a frame, eight line bits without a sixth 1 in a row go in as their data bits in one step, with
 // any stuffed 0s deleted. Flags, aborts and idle go through the bit-at-a-time rules above.
 // One-bit-per-element chunks are packed first; `bitwise` keeps the plain path the fast one is
-// tested against (tests/decoder/fast-path.test.ts).
+// tested against (tests/decoder/fast-path-deframe.test.ts).
 import type { BitChunk, FrameStatus, LineEvent, RawFrame } from './types';
 
 export interface DeframerSink {

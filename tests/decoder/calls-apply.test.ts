@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { applyFieldMap, decodeCpmName, decodeFrameCall } from '../../shared/decoder/calls/apply';
+import { applyFieldMap, attributeList, decodeCpmName, decodeFrameCall } from '../../shared/decoder/calls/apply';
 import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
 import { parseFieldMap } from '../../shared/decoder/calls/field-map';
 import { checkFrame } from '../../shared/decoder/check';
@@ -241,5 +241,95 @@ describe('bit fields and counted fields in a user map', () => {
     expect(c.fields[1].value).toBe(4);
     expect(c.fields[2]).toMatchObject({ offset: 3, length: 3, text: 'ABC', truncated: false });
     expect(c.unexplained).toBe(1);
+  });
+});
+
+describe('how each field type reads and shows', () => {
+  const map = parseFieldMap({
+    name: 'all types',
+    version: 1,
+    callCode: { offset: 0, type: 'u16be', responseMask: 0x8000 },
+    calls: [{ code: 0x0102, name: 'probe' }],
+    layouts: [
+      {
+        id: 'probe',
+        when: { calls: [0x0102] },
+        fields: [
+          { id: 'code', type: 'u16be', role: 'call' },
+          { id: 'le', type: 'u16le', values: { '0x0201': 'two-one' } },
+          { id: 'wide', type: 'u24le' },
+          { id: 'flags', type: 'bits', length: 2, bits: [{ name: 'lo', shift: 0, width: 4 }, { name: 'hi', shift: 12, width: 4, values: { '15': 'all' } }] },
+          { id: 'who', type: 'cpm-name', role: 'file-name' },
+          { id: 'label', type: 'ascii', length: 3 },
+          { id: 'blob', type: 'bytes', length: 'rest' },
+        ],
+      },
+    ],
+  });
+  const info = new Uint8Array([
+    0x81, 0x02, // code 0x0102 with the response bit
+    0x01, 0x02, // le 0x0201
+    0x01, 0x02, 0x03, // wide 0x030201
+    0x34, 0xf2, // flags 0xF234
+    ...cpmName('AB.C', { readOnly: true, f2: true }),
+    0x41, 0x0a, 0xc2, // "A", newline, "B" with its high bit
+    ...Array.from({ length: 17 }, (_, i) => i),
+  ]);
+
+  it('reads big- and little-endian numbers, bit fields across octets, names, text and bytes', () => {
+    const c = applyFieldMap(map, info, 'response');
+    expect(c).toMatchObject({ layout: 'probe', callCode: 0x0102, callName: 'probe', fileName: 'AB.C', truncated: false, unexplained: 0, problems: [] });
+    const f = Object.fromEntries(c.fields.map((x) => [x.id, x]));
+    expect(f.code).toMatchObject({ value: 0x8102, display: String(0x8102) });
+    expect(f.le).toMatchObject({ value: 0x0201, valueName: 'two-one', display: '513 (two-one)' });
+    expect(f.wide).toMatchObject({ value: 0x030201, offset: 4, length: 3 });
+    expect(f.flags).toMatchObject({ value: 0xf234, display: 'lo=4 hi=all' });
+    expect(f.flags.bits).toEqual([
+      { name: 'lo', value: 4, valueName: null },
+      { name: 'hi', value: 15, valueName: 'all' },
+    ]);
+    expect(f.who).toMatchObject({ text: 'AB.C', display: "AB.C [read-only, f2']", offset: 9, length: 11 });
+    expect(f.label).toMatchObject({ text: 'A.B', display: '"A.B"' });
+    expect(f.blob).toMatchObject({ length: 17, display: '00 01 02 03 04 05 06 07 08 09 0A 0B 0C 0D 0E 0F … (17 octets)' });
+  });
+
+  it('shows how much of a field a short frame holds', () => {
+    const c = applyFieldMap(map, info.subarray(0, 8), 'response');
+    const f = Object.fromEntries(c.fields.map((x) => [x.id, x]));
+    expect(f.flags).toMatchObject({ truncated: true, available: 1, value: null, display: '(truncated: 1 of 2 octets)' });
+    expect(f.who).toMatchObject({ truncated: true, available: 0, offset: 9, text: '' });
+    expect(c.fileName).toBeNull();
+    expect(c.problems).toEqual(['the frame ends inside field “flags”: 8 octets, the layout needs more']);
+  });
+
+  it('reads no call code from a frame shorter than the code, and says when no layout fits', () => {
+    const c = applyFieldMap(map, new Uint8Array([0x01]), 'request');
+    expect(c).toMatchObject({ callCode: null, layout: null, callName: null, unexplained: 1, fields: [] });
+    expect(c.problems).toEqual(['no layout of “all types” fits a request']);
+    const other = applyFieldMap(map, new Uint8Array([0x00, 0x07, 1, 2]), 'request');
+    expect(other).toMatchObject({ callCode: 7, layout: null, unexplained: 4 });
+    expect(other.problems).toEqual(['no layout of “all types” fits a request with call code 7']);
+  });
+
+  it('picks layouts by direction, then by call code, first match first', () => {
+    const m = parseFieldMap({
+      name: 'dir',
+      version: 1,
+      callCode: { offset: 0, type: 'u8' },
+      layouts: [
+        { id: 'req-5', when: { calls: [5], direction: 'request' }, fields: [{ id: 'a', type: 'u8', role: 'call' }] },
+        { id: 'resp', when: { direction: 'response' }, fields: [{ id: 'a', type: 'u8', role: 'call' }] },
+        { id: 'any', fields: [{ id: 'a', type: 'u8' }] },
+      ],
+    });
+    expect(applyFieldMap(m, new Uint8Array([5]), 'request').layout).toBe('req-5');
+    expect(applyFieldMap(m, new Uint8Array([5]), 'response').layout).toBe('resp');
+    expect(applyFieldMap(m, new Uint8Array([6]), 'request').layout).toBe('any');
+    expect(applyFieldMap(m, new Uint8Array([]), 'request')).toMatchObject({ layout: 'any', callCode: null, truncated: true });
+  });
+
+  it('lists attribute flags in a fixed order', () => {
+    expect(attributeList({ f1: true, f2: false, f3: true, f4: true, readOnly: true, system: true, archive: true })).toEqual(['read-only', 'system', 'archive', "f1'", "f3'", "f4'"]);
+    expect(attributeList({ f1: false, f2: false, f3: false, f4: false, readOnly: false, system: false, archive: false })).toEqual([]);
   });
 });
