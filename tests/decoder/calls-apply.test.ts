@@ -170,6 +170,8 @@ describe('frames shorter than the map says', () => {
     ]);
     const short = applyFieldMap(map, new Uint8Array([1]), 'request');
     expect(short.fields.map((f) => f.truncated)).toEqual([true, true, true]);
+    // the octet that is there belongs to the first field: nothing unexplained
+    expect(short.unexplained).toBe(0);
   });
 
   it('never throws on random information fields, and its spans stay inside the frame', () => {
@@ -202,9 +204,21 @@ describe('decodeFrameCall', () => {
     expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x13, ...info]), 'request')?.callName).toBe('close file');
   });
 
-  it('gives no call for a damaged frame or an S frame', () => {
+  it('gives no call for a damaged frame, an S or U frame (even one carrying octets) or an empty I frame', () => {
     expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x10, ...info], { wrongFcs: true }), 'request')).toBeNull();
     expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x11]), 'request')).toBeNull();
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x11, ...info]), 'request')).toBeNull();
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x63, ...info]), 'request')).toBeNull();
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x10]), 'request')).toBeNull();
+  });
+
+  it('reads a bad-FCS I frame only when asked to, for guessing its exchange', () => {
+    const bad = frame([0x21, 0x10, ...info], { wrongFcs: true });
+    expect(decodeFrameCall(CPM_ENVELOPE, bad, 'request', true)).toMatchObject({ callName: 'close file', tag: 2 });
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x11, ...info], { wrongFcs: true }), 'request', true)).toBeNull();
+    // an aborted frame is not readable either way
+    const aborted = { ...frame([0x21, 0x10, ...info]), status: 'abort' as const };
+    expect(decodeFrameCall(CPM_ENVELOPE, aborted, 'request', true)).toBeNull();
   });
 });
 
@@ -331,5 +345,106 @@ describe('how each field type reads and shows', () => {
   it('lists attribute flags in a fixed order', () => {
     expect(attributeList({ f1: true, f2: false, f3: true, f4: true, readOnly: true, system: true, archive: true })).toEqual(['read-only', 'system', 'archive', "f1'", "f3'", "f4'"]);
     expect(attributeList({ f1: false, f2: false, f3: false, f4: false, readOnly: false, system: false, archive: false })).toEqual([]);
+  });
+});
+
+describe('placing fields and reading roles', () => {
+  it('places a field at a numeric offset past a gap, and after a field that is not the previous one', () => {
+    const m = parseFieldMap({
+      name: 'gaps',
+      version: 1,
+      layouts: [
+        {
+          id: 'all',
+          fields: [
+            { id: 'a', type: 'u8', name: 'first octet', meaning: 'what a means', role: 'tag' },
+            { id: 'b', type: 'u8', offset: 5 },
+            { id: 'c', type: 'u8', offset: { after: 'a' } },
+            { id: 'd', type: 'u16le' },
+          ],
+        },
+      ],
+    });
+    const c = applyFieldMap(m, new Uint8Array([1, 2, 3, 4, 5, 6]), 'request');
+    expect(c.fields.map((f) => [f.id, f.offset, f.value])).toEqual([
+      ['a', 0, 1],
+      ['b', 5, 6],
+      ['c', 1, 2],
+      ['d', 2, 3 | (4 << 8)],
+    ]);
+    expect(c.fields[0]).toMatchObject({ name: 'first octet', meaning: 'what a means', role: 'tag' });
+    expect(c.fields[1]).toMatchObject({ name: 'b', meaning: null, role: null });
+    // the furthest field ends the explained part: nothing is left over
+    expect(c.unexplained).toBe(0);
+    expect(c.tag).toBe(1);
+  });
+
+  it('reads the call code from the call field when the map does not say where it sits', () => {
+    const m = parseFieldMap({
+      name: 'no callCode',
+      version: 1,
+      calls: [{ code: 9, name: 'nine' }],
+      layouts: [{ id: 'all', fields: [{ id: 'x', type: 'u8' }, { id: 'code', type: 'u8', role: 'call' }] }],
+    });
+    expect(applyFieldMap(m, new Uint8Array([0, 9]), 'request')).toMatchObject({ callCode: 9, callName: 'nine' });
+  });
+
+  it('names the call code of a frame no layout fits', () => {
+    const m = parseFieldMap({
+      name: 'requests only',
+      version: 1,
+      callCode: { offset: 0, type: 'u8' },
+      calls: [{ code: 7, name: 'seven' }],
+      layouts: [{ id: 'req', when: { direction: 'request' }, fields: [{ id: 'code', type: 'u8', role: 'call' }] }],
+    });
+    expect(applyFieldMap(m, new Uint8Array([7]), 'response')).toMatchObject({ layout: null, callCode: 7, callName: 'seven' });
+  });
+
+  it('gives no record number when the sequential position is cut short, and no module when the call has none', () => {
+    const full = requestInfo(BDOS.READ_SEQUENTIAL, 1, 0, { fcb: { name: 'A.B', ex: 2, cr: 5 } });
+    expect(applyFieldMap(CPM_ENVELOPE, full, 'request')).toMatchObject({ recordNumber: 2 * 128 + 5, extent: 2, module: 0 });
+    const cut = applyFieldMap(CPM_ENVELOPE, full.subarray(0, 3 + 13), 'request'); // ex there, cr not
+    expect(cut).toMatchObject({ extent: 2, recordNumber: null, module: null });
+    const random = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.READ_RANDOM, 1, 0, { fcb: { name: 'A.B', random: 3 } }), 'request');
+    expect(random).toMatchObject({ recordNumber: 3, extent: null, module: null, recordCount: null });
+  });
+
+  it('leaves a status-dependent field truncated, not absent, when the status itself is cut off', () => {
+    const c = applyFieldMap(CPM_ENVELOPE, new Uint8Array([BDOS.READ_SEQUENTIAL | 0x80, 4]), 'response');
+    expect(c.status).toBeNull();
+    expect(c.fields.find((f) => f.id === 'record')).toMatchObject({ absent: false, truncated: true });
+  });
+
+  it('gives no record data for an empty record field at the end of the frame', () => {
+    const m = parseFieldMap({ name: 'rest', version: 1, layouts: [{ id: 'all', fields: [{ id: 'n', type: 'u8' }, { id: 'data', type: 'bytes', length: 'rest', role: 'record-data' }] }] });
+    expect(applyFieldMap(m, new Uint8Array([1]), 'request').recordData).toBeNull();
+    expect(applyFieldMap(m, new Uint8Array([1, 2]), 'request').recordData).toEqual(new Uint8Array([2]));
+  });
+
+  it('shows a name without attributes plainly, 16 octets without an ellipsis, DEL as a dot and what a truncated field holds', () => {
+    const m = parseFieldMap({
+      name: 'shows',
+      version: 1,
+      layouts: [
+        {
+          id: 'all',
+          fields: [
+            { id: 'who', type: 'cpm-name' },
+            { id: 'sixteen', type: 'bytes', length: 16 },
+            { id: 'txt', type: 'ascii', length: 4 },
+            { id: 'n', type: 'u8' },
+            { id: 'sized', type: 'bytes', length: { field: 'n' } },
+          ],
+        },
+      ],
+    });
+    const info = new Uint8Array([...cpmName('HYMNS.TXT'), ...Array.from({ length: 16 }, (_, i) => 0xf0 + (i % 16)), 0x41, 0x7f]);
+    const c = applyFieldMap(m, info, 'request');
+    const f = Object.fromEntries(c.fields.map((x) => [x.id, x]));
+    expect(f.who.display).toBe('HYMNS.TXT');
+    expect(f.sixteen.display).toBe('F0 F1 F2 F3 F4 F5 F6 F7 F8 F9 FA FB FC FD FE FF');
+    expect(f.txt).toMatchObject({ text: 'A.', display: '"A." (truncated: 2 of 4 octets)' });
+    expect(f.sized).toMatchObject({ truncated: true, length: 0, display: '(truncated: 0 of ? octets)' });
+    expect(c.unexplained).toBe(0);
   });
 });

@@ -93,24 +93,15 @@ export interface DecodedCall {
 }
 
 function readNumber(info: Uint8Array, at: number, type: FieldDef['type'], length: number): number {
-  switch (type) {
-    case 'u8':
-      return info[at];
-    case 'u16le':
-      return info[at] | (info[at + 1] << 8);
-    case 'u16be':
-      return (info[at] << 8) | info[at + 1];
-    case 'u24le':
-      return info[at] | (info[at + 1] << 8) | (info[at + 2] << 16);
-    case 'u24be':
-      return (info[at] << 16) | (info[at + 1] << 8) | info[at + 2];
-    default: {
-      // bits: little-endian across its octets
-      let v = 0;
-      for (let k = length - 1; k >= 0; k--) v = v * 256 + info[at + k];
-      return v;
-    }
+  let v = 0;
+  if (type === 'u16be' || type === 'u24be') {
+    // big-endian: the first octet is the most significant
+    for (let k = 0; k < length; k++) v = v * 256 + info[at + k];
+    return v;
   }
+  // every other number (u8, u16le, u24le, bits) is little-endian across its octets
+  for (let k = length - 1; k >= 0; k--) v = v * 256 + info[at + k];
+  return v;
 }
 
 /**
