@@ -304,3 +304,107 @@ describe('pairing rules', () => {
     expect(exchanges.map((e) => e.outcome).filter((o) => o !== 'unanswered').length).toBe(session.exchanges.filter((e) => e.outcome !== 'unanswered').length);
   });
 });
+
+describe('timing edges and pairing without tags', () => {
+  it('keeps a request open for exactly the timeout after its last send, and no sample longer', () => {
+    // 100 samples of 1 µs: a response whose first bit is 100 samples after the send's last bit still answers it
+    const inTime = run([req(0, 20, 1), resp(200, 20, 1)], true, 100e-6).exchanges;
+    expect(inTime.map((e) => e.outcome)).toEqual(['answered']);
+    const late = run([req(0, 20, 1), resp(201, 20, 1)], true, 100e-6);
+    expect(late.exchanges.map((e) => e.outcome)).toEqual(['unanswered']);
+    expect(late.orphans).toHaveLength(1);
+  });
+
+  it('ends an answered exchange when the station reuses its tag, so a late second answer goes to the new request', () => {
+    const { exchanges } = run([req(0, 20, 5), resp(300, 20, 5), req(600, 20, 5), resp(900, 20, 5), resp(950, 20, 5)]);
+    expect(exchanges.map((e) => e.responses.length)).toEqual([1, 2]);
+    expect(exchanges[1].rttSeconds).toBeCloseTo((900 - 700) * period, 12);
+  });
+
+  it('gives an answer to the waiting exchange before an answered one of the same call', () => {
+    const rec = (f: CallFrame, record: number): CallFrame => ({ ...f, call: { ...f.call!, recordNumber: record } });
+    const { exchanges } = run([rec(req(0, 20, null), 1), rec(resp(300, 20, null), 1), rec(req(500, 20, null), 2), rec(resp(800, 20, null), 2)], false);
+    expect(exchanges.map((e) => [e.requestCall.recordNumber, e.outcome, e.responses.length])).toEqual([
+      [1, 'answered', 1],
+      [2, 'answered', 1],
+    ]);
+  });
+
+  it('without tags, counts a send as a retry only when call, record and file agree', () => {
+    const withRecord = (f: CallFrame, record: number, file = 'A.B'): CallFrame => ({ ...f, call: { ...f.call!, recordNumber: record, fileName: file } });
+    const same = run([withRecord(req(0, 33, null), 4), withRecord(req(5000, 33, null), 4), withRecord(resp(6000, 33, null), 4)], false).exchanges;
+    expect(same.map((e) => [e.outcome, e.retries.length])).toEqual([['retried', 1]]);
+    const other = run([withRecord(req(0, 33, null), 4), withRecord(req(5000, 33, null), 5), withRecord(resp(6000, 33, null), 4)], false).exchanges;
+    expect(other.map((e) => e.retries.length)).toEqual([0, 0]);
+    const otherFile = run([withRecord(req(0, 33, null), 4), withRecord(req(5000, 33, null), 4, 'C.D')], false).exchanges;
+    expect(otherFile).toHaveLength(2);
+  });
+
+  it('measures the service delay from an RTS rise at the very sample of the server’s frame, and none from a rise after it', () => {
+    const delays: number[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: () => {}, serviceDelay: (d) => delays.push(d.seconds) });
+    t.rts(1, 500);
+    t.push({ ...resp(500, 20, 1), call: null });
+    t.rts(1, 900);
+    t.push({ ...resp(800, 20, 1), call: null });
+    t.push({ ...resp(1000, 20, 1), call: null });
+    expect(delays).toEqual([0, 100 * period]);
+  });
+});
+
+describe('capture settings and frames the call layer ignores', () => {
+  it('takes RTS lines by name whatever the case, from the station they name or their link’s station', () => {
+    const roles = callLayerRoles({
+      links: [
+        { channel: 'tx', direction: 'to-server', stationAddress: 0x21 },
+        { channel: 'rx', direction: 'from-server', stationAddress: 0x21 },
+        { channel: 'mon', direction: 'unknown', stationAddress: 0x22 },
+        { channel: 'tx2', direction: 'to-server', stationAddress: null },
+      ],
+      handshake: [
+        { channel: 'r1', name: ' rts ', link: 'tx' },
+        { channel: 'r2', name: 'RTS', link: 'tx', stationAddress: 0x30 },
+        { channel: 'c1', name: 'CTS', link: 'tx', stationAddress: 0x21 },
+        { channel: 'r3', name: 'RTS', link: 'tx2' },
+        { channel: 'r4', name: 'RTS', link: null },
+        { channel: 'r5', name: 'Rts', link: 'gone' },
+      ],
+    });
+    expect(roles.links).toEqual([
+      { link: 'tx', direction: 'to-server', station: 0x21 },
+      { link: 'rx', direction: 'from-server', station: 0x21 },
+      { link: 'tx2', direction: 'to-server', station: undefined },
+    ]);
+    expect(roles.rts).toEqual([
+      { channel: 'r1', station: 0x21 },
+      { channel: 'r2', station: 0x30 },
+    ]);
+  });
+
+  it('ignores frames on links it was not told about and frames with no station, and line events other than an RTS rise', () => {
+    const { session } = decodeScript(script(), { clocked: true });
+    const fast = framesOfSession(session);
+    const base = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles, samplePeriodSeconds: fast.period });
+    // without the station's port 3 links its exchanges are gone
+    const fewer = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles.filter((r) => !r.link.startsWith('p3')), samplePeriodSeconds: fast.period });
+    expect(fewer.exchanges.length).toBe(base.exchanges.filter((e) => e.station !== 0x23).length);
+    expect(fewer.calls.every((c) => !c.ref.link.startsWith('p3'))).toBe(true);
+    // a link without a station takes the frame's address; a frame without one (too short) is left out
+    const byAddress = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles.map((r) => ({ ...r, station: undefined })), samplePeriodSeconds: fast.period });
+    expect(byAddress.exchanges.map((e) => e.station)).toEqual(base.exchanges.map((e) => e.station));
+    const stub = { ...fast.frames[0], seq: 999, status: 'short' as const, decode: null };
+    expect(pairExchanges([stub], [], { map: CPM_ENVELOPE, links: [{ link: stub.link, direction: 'to-server' }], samplePeriodSeconds: 1 }).calls).toEqual([]);
+    // only a rise of a channel named as RTS starts a service delay
+    const poll = fast.frames.find((f) => f.link === 'p3_rxd' && f.decode?.command === 'RR')!;
+    const events = [
+      { link: null, channel: 'p3_rts', kind: 'fall' as const, sample: poll.firstSample - 10 },
+      { link: null, channel: 'other', kind: 'rise' as const, sample: poll.firstSample - 10 },
+    ];
+    const rts = [{ channel: 'p3_rts', station: 0x23 }];
+    expect(pairExchanges(fast.frames, events, { map: CPM_ENVELOPE, links: fast.roles, rts, samplePeriodSeconds: fast.period }).serviceDelays).toEqual([]);
+    const rise = [{ link: null, channel: 'p3_rts', kind: 'rise' as const, sample: poll.firstSample }];
+    const measured = pairExchanges(fast.frames, rise, { map: CPM_ENVELOPE, links: fast.roles, rts, samplePeriodSeconds: fast.period }).serviceDelays;
+    // the rise at the poll's own first sample counts before the frame: a delay of 0
+    expect(measured.map((d) => [d.station, d.seconds, d.serverFrame])).toEqual([[0x23, 0, { link: 'p3_rxd', seq: poll.seq }]]);
+  });
+});
