@@ -1,10 +1,13 @@
 import { describe, expect, it } from 'vitest';
 import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
 import { pairExchanges } from '../../shared/decoder/calls/exchanges';
+import type { DecodedCall } from '../../shared/decoder/calls/apply';
+import type { Exchange } from '../../shared/decoder/calls/exchanges';
 import { directoryListing, missingRanges, recoverFiles } from '../../shared/decoder/calls/files';
 import {
   bootCalls,
   computeSizeCalls,
+  cpmName,
   directoryCalls,
   readFileCalls,
   readRandomCalls,
@@ -287,5 +290,226 @@ describe('directory listings', () => {
     expect(entries.map((e) => [e.name, e.rc])).toEqual(listed.map((f) => [f.name, f.rc]));
     expect(entries[4].attributes).toMatchObject({ readOnly: true, system: true });
     expect(exchanges.at(-1)!.statusMeaning).toBe('no more matching files');
+  });
+});
+
+// ---- the rules on hand-made exchanges (one per call, in the order given by firstSample) ----
+
+describe('recovered files from hand-made exchanges', () => {
+  let at = 0;
+  const rec = (fill: number, length = 128) => new Uint8Array(length).fill(fill);
+  interface Spec {
+    code: number | null;
+    file?: string | null;
+    user?: number | null;
+    record?: number | null;
+    data?: Uint8Array | null;
+    status?: number | null;
+    station?: number;
+    outcome?: Exchange['outcome'];
+    answer?: Partial<DecodedCall> | null;
+    time?: number;
+  }
+  const ex = (o: Spec): Exchange => {
+    const t = o.time ?? (at += 10);
+    const isWrite = o.code === BDOS.WRITE_SEQUENTIAL || o.code === BDOS.WRITE_RANDOM;
+    const status = o.status === undefined ? 0 : o.status;
+    const requestCall = { callCode: o.code, fileName: o.file === undefined ? 'A.B' : o.file, user: o.user === undefined ? 0 : o.user, recordNumber: o.record ?? null, recordData: isWrite ? (o.data ?? null) : null } as DecodedCall;
+    const responseCall =
+      status === null && o.answer === undefined
+        ? null
+        : ({ status, recordData: isWrite ? null : (o.data ?? null), extent: null, module: null, recordCount: null, fileSize: null, ...(o.answer ?? {}) } as DecodedCall);
+    return {
+      station: o.station ?? 0x21,
+      request: { link: 'up', seq: t },
+      requestCall,
+      retries: [],
+      responses: [],
+      damagedResponses: [],
+      responseCall,
+      callCode: o.code,
+      callName: null,
+      tag: null,
+      recordNumber: o.record ?? null,
+      fileName: requestCall.fileName,
+      status,
+      statusMeaning: null,
+      firstSample: t,
+      answeredSendLastSample: t,
+      responseFirstSample: null,
+      rttSeconds: null,
+      outcome: o.outcome ?? (status === null ? 'unanswered' : 'answered'),
+      serviceDelaySeconds: null,
+    };
+  };
+  const W = BDOS.WRITE_RANDOM;
+  const R = BDOS.READ_RANDOM;
+  const one = (list: Exchange[]) => {
+    const files = recoverFiles(list);
+    expect(files).toHaveLength(1);
+    return files[0];
+  };
+
+  it('takes exchanges in time order whatever order they come in: the later write wins', () => {
+    const first = ex({ code: W, record: 0, data: rec(1), time: 10 });
+    const second = ex({ code: W, record: 0, data: rec(2), time: 20 });
+    expect(one([second, first]).bytes).toEqual(rec(2));
+  });
+
+  it('lists files by key, keys made of user number and name, and skips calls without a code, name or with wildcards', () => {
+    const files = recoverFiles([
+      ex({ code: W, record: 0, data: rec(1), file: 'Z.Z', user: 3 }),
+      ex({ code: W, record: 0, data: rec(1), file: 'A.A', user: null }),
+      ex({ code: null, record: 0, data: rec(1), file: 'N.N' }),
+      ex({ code: W, record: 0, data: rec(1), file: null }),
+      ex({ code: W, record: 0, data: rec(1), file: 'W?.B' }),
+    ]);
+    expect(files.map((f) => [f.key, f.user])).toEqual([
+      ['0:A.A', null],
+      ['3:Z.Z', 3],
+    ]);
+  });
+
+  it('starts a file only from calls that name its contents, size or locks, not from a close or a delete', () => {
+    expect(recoverFiles([ex({ code: BDOS.CLOSE_FILE }), ex({ code: BDOS.DELETE_FILE }), ex({ code: BDOS.RENAME_FILE })])).toEqual([]);
+    const later = one([ex({ code: W, record: 0, data: rec(1) }), ex({ code: BDOS.CLOSE_FILE }), ex({ code: BDOS.DELETE_FILE })]);
+    expect(later.exchanges).toHaveLength(3);
+  });
+
+  it('places no record without a record number, without record data, or with data of another size', () => {
+    const f = one([
+      ex({ code: W, record: null, data: rec(1) }),
+      ex({ code: W, record: 1, data: null }),
+      ex({ code: R, record: 2, data: rec(1, 64) }),
+      ex({ code: R, record: 3, data: rec(3) }),
+    ]);
+    expect(f.coverage).toEqual(['missing', 'missing', 'missing', 'seen']);
+    expect(f.stations).toEqual([0x21]);
+  });
+
+  it('ends a file at a sequential read answered 1, not at a random read answered 1 or a sequential read answered 2', () => {
+    expect(one([ex({ code: R, record: 0, data: rec(1) }), ex({ code: R, record: 6, status: 1 })])).toMatchObject({ recordCount: 1, endKnown: false, sizeSource: 'records-seen' });
+    expect(one([ex({ code: R, record: 0, data: rec(1) }), ex({ code: BDOS.READ_SEQUENTIAL, record: 6, status: 2 })])).toMatchObject({ recordCount: 1, endKnown: false });
+    expect(one([ex({ code: R, record: 0, data: rec(1) }), ex({ code: BDOS.READ_SEQUENTIAL, record: 6, status: 1 })])).toMatchObject({ recordCount: 6, endKnown: true, sizeSource: 'end-of-file' });
+  });
+
+  it('keeps a re-read with the same contents as seen and one with other contents as a conflict, conflicts by record', () => {
+    const f = one([
+      ex({ code: R, record: 5, data: rec(5), station: 0x23 }),
+      ex({ code: R, record: 2, data: rec(2), station: 0x21 }),
+      ex({ code: R, record: 5, data: rec(9), station: 0x22 }),
+      ex({ code: R, record: 2, data: rec(8), station: 0x22 }),
+      ex({ code: R, record: 2, data: rec(2), station: 0x21 }),
+    ]);
+    expect(f.coverage[5]).toBe('conflict');
+    expect(f.conflicts.map((c) => [c.record, c.requests.length])).toEqual([
+      [2, 2],
+      [5, 2],
+    ]);
+    expect(f.stations).toEqual([0x21, 0x22, 0x23]);
+    const same = one([ex({ code: R, record: 0, data: rec(4) }), ex({ code: R, record: 0, data: rec(4) })]);
+    expect(same.coverage).toEqual(['seen']);
+  });
+
+  it('makes an empty file: end unknown until closed, known at 0 records once closed', () => {
+    const make = ex({ code: BDOS.MAKE_FILE });
+    expect(one([make])).toMatchObject({ recordCount: 0, endKnown: false, sizeSource: 'written', sizeFrom: make.request });
+    expect(one([make, ex({ code: BDOS.CLOSE_FILE })])).toMatchObject({ recordCount: 0, endKnown: true });
+    // a make the server refused changes nothing
+    expect(one([ex({ code: W, record: 1, data: rec(1) }), ex({ code: BDOS.MAKE_FILE, status: 0xff }), ex({ code: BDOS.CLOSE_FILE })])).toMatchObject({ recordCount: 2, endKnown: false });
+  });
+
+  it('forgets the records of the file a make replaced', () => {
+    const f = one([ex({ code: R, record: 3, data: rec(3) }), ex({ code: BDOS.MAKE_FILE }), ex({ code: W, record: 0, data: rec(7) }), ex({ code: BDOS.CLOSE_FILE })]);
+    expect(f).toMatchObject({ recordCount: 1, endKnown: true });
+    expect(f.bytes).toEqual(rec(7));
+  });
+
+  it('leaves the end unknown after a write past the size that was never answered, but not after an unanswered read or a write inside the file', () => {
+    const made = () => [ex({ code: BDOS.MAKE_FILE }), ex({ code: W, record: 0, data: rec(1) }), ex({ code: W, record: 1, data: rec(1) })];
+    expect(one([...made(), ex({ code: W, record: 2, data: rec(1), status: null }), ex({ code: BDOS.CLOSE_FILE })])).toMatchObject({ recordCount: 2, endKnown: false });
+    expect(one([...made(), ex({ code: R, record: 9, status: null }), ex({ code: BDOS.CLOSE_FILE })])).toMatchObject({ recordCount: 2, endKnown: true });
+    expect(one([...made(), ex({ code: W, record: 1, data: rec(1), status: null }), ex({ code: BDOS.CLOSE_FILE })])).toMatchObject({ recordCount: 2, endKnown: true });
+    // answered, but its status was cut off: not a write that may or may not have happened
+    expect(one([...made(), ex({ code: W, record: 2, data: rec(1), status: null, outcome: 'answered', answer: {} }), ex({ code: BDOS.CLOSE_FILE })])).toMatchObject({ endKnown: true });
+  });
+
+  it('sizes by an open answer’s record count even without its extent, keeps a larger known size over a full extent, and ignores an open without rc', () => {
+    const open = (answer: Partial<DecodedCall>, status = 0) => ex({ code: BDOS.OPEN_FILE, status, answer });
+    expect(one([open({ recordCount: 9 })])).toMatchObject({ recordCount: 9, endKnown: true, sizeSource: 'open' });
+    expect(one([open({ recordCount: 9, extent: 1 })])).toMatchObject({ recordCount: 128 + 9 });
+    expect(one([ex({ code: BDOS.COMPUTE_FILE_SIZE, answer: { fileSize: 300 } }), open({ recordCount: 128 })])).toMatchObject({ recordCount: 300, endKnown: true, sizeSource: 'compute-file-size' });
+    expect(one([ex({ code: BDOS.COMPUTE_FILE_SIZE, answer: { fileSize: 100 } }), open({ recordCount: 128 })])).toMatchObject({ recordCount: 128, endKnown: false, sizeSource: 'open' });
+    expect(one([open({ recordCount: null, extent: 2 }), ex({ code: R, record: 0, data: rec(1) })])).toMatchObject({ recordCount: 1, sizeSource: 'records-seen' });
+    expect(one([open({ recordCount: 5 }, 0xff), ex({ code: R, record: 0, data: rec(1) })])).toMatchObject({ recordCount: 1, sizeSource: 'records-seen' });
+    expect(one([open({ recordCount: 5 }, 3)])).toMatchObject({ recordCount: 5, sizeSource: 'open' });
+    expect(one([open({ recordCount: 5 }, 4), ex({ code: R, record: 0, data: rec(1) })])).toMatchObject({ sizeSource: 'records-seen' });
+  });
+
+  it('takes a file size only from a compute-file-size answer with status 0', () => {
+    expect(one([ex({ code: BDOS.COMPUTE_FILE_SIZE, status: 0xff, answer: { fileSize: 40 } }), ex({ code: R, record: 0, data: rec(1) })])).toMatchObject({ recordCount: 1 });
+    expect(one([ex({ code: R, record: 0, data: rec(1) }), ex({ code: BDOS.CLOSE_FILE, answer: { fileSize: 40 } })])).toMatchObject({ recordCount: 1 });
+    expect(one([ex({ code: BDOS.COMPUTE_FILE_SIZE, answer: { fileSize: null } }), ex({ code: R, record: 0, data: rec(1) })])).toMatchObject({ recordCount: 1, sizeSource: 'records-seen' });
+  });
+
+  it('does not trust a stated end when records were seen past it before', () => {
+    const f = one([ex({ code: R, record: 7, data: rec(1) }), ex({ code: BDOS.READ_SEQUENTIAL, record: 3, status: 1 })]);
+    expect(f).toMatchObject({ recordCount: 8, endKnown: false, sizeSource: 'records-seen', sizeFrom: null });
+  });
+
+  describe('record locks', () => {
+    const L = BDOS.LOCK_RECORD;
+    const U = BDOS.UNLOCK_RECORD;
+    const conflicts = (list: Exchange[]) => one(list).lockConflicts.map((c) => [c.holder.station, c.requester.station, c.record, c.outcome]);
+
+    it('releases a lock on an unlock answered 0 by its holder only', () => {
+      expect(conflicts([ex({ code: L, record: 4 }), ex({ code: U, record: 4, status: 8 }), ex({ code: L, record: 4, station: 0x22 })])).toEqual([[0x21, 0x22, 4, 'granted']]);
+      expect(conflicts([ex({ code: L, record: 4 }), ex({ code: U, record: 4, station: 0x22 }), ex({ code: L, record: 4, station: 0x22, status: 8 })])).toEqual([[0x21, 0x22, 4, 'refused']]);
+      expect(conflicts([ex({ code: L, record: 4 }), ex({ code: U, record: null }), ex({ code: U, record: 4 }), ex({ code: L, record: 4, station: 0x22 })])).toEqual([]);
+    });
+
+    it('releases a station’s locks when it closes the file, not when another station does', () => {
+      expect(conflicts([ex({ code: L, record: 4 }), ex({ code: BDOS.CLOSE_FILE }), ex({ code: L, record: 4, station: 0x22 })])).toEqual([]);
+      expect(conflicts([ex({ code: L, record: 4 }), ex({ code: BDOS.CLOSE_FILE, station: 0x22 }), ex({ code: L, record: 4, station: 0x22 })])).toEqual([[0x21, 0x22, 4, 'granted']]);
+      expect(conflicts([ex({ code: L, record: 4 }), ex({ code: BDOS.CLOSE_FILE, status: 0xff }), ex({ code: L, record: 4, station: 0x22 })])).toEqual([[0x21, 0x22, 4, 'granted']]);
+    });
+
+    it('holds a lock only when it was granted, once per station, and ignores a lock without a record number', () => {
+      // 0x22 was refused, so 0x23 meets only 0x21's lock
+      expect(conflicts([ex({ code: L, record: 4 }), ex({ code: L, record: 4, station: 0x22, status: 8 }), ex({ code: L, record: 4, station: 0x23, status: 8 })])).toEqual([
+        [0x21, 0x22, 4, 'refused'],
+        [0x21, 0x23, 4, 'refused'],
+      ]);
+      // 0x21 locking again is no conflict and does not hold it twice
+      expect(conflicts([ex({ code: L, record: 4 }), ex({ code: L, record: 4 }), ex({ code: L, record: 4, station: 0x22, status: 8 })])).toEqual([[0x21, 0x22, 4, 'refused']]);
+      expect(conflicts([ex({ code: L, record: null }), ex({ code: L, record: null, station: 0x22 })])).toEqual([]);
+    });
+  });
+});
+
+describe('directory listings from hand-made exchanges', () => {
+  const entryRecord = (names: string[]) => {
+    const r = new Uint8Array(128).fill(0xe5);
+    names.forEach((n, i) => r.set(new Uint8Array([0, ...cpmName(n), 0, 0, 0, i + 1]), i * 32));
+    return r;
+  };
+  const search = (t: number, code: number | null, status: number | null, data: Uint8Array | null): Exchange =>
+    ({ station: 0x21, request: { link: 'up', seq: t }, callCode: code, status, firstSample: t, responseCall: status === null ? null : { recordData: data } }) as unknown as Exchange;
+
+  it('lists entries in time order, only from search answers 0–3 with a record', () => {
+    const r = entryRecord(['ONE.A', 'TWO.B']);
+    const list = directoryListing([
+      search(30, BDOS.SEARCH_NEXT, 1, r),
+      search(10, BDOS.SEARCH_FIRST, 0, r),
+      search(20, BDOS.READ_RANDOM, 0, r),
+      search(25, null, 0, r),
+      search(40, BDOS.SEARCH_NEXT, 0xff, r),
+      search(50, BDOS.SEARCH_NEXT, null, null),
+      search(60, BDOS.SEARCH_NEXT, 0, null),
+    ]);
+    expect(list.map((e) => [e.request.seq, e.name, e.rc])).toEqual([
+      [10, 'ONE.A', 1],
+      [30, 'TWO.B', 2],
+    ]);
   });
 });

@@ -148,7 +148,9 @@ interface Size {
   records: number;
   source: FileSizeSource;
   from: FrameRef | null;
-  /** the end is known (not only a lower bound, not waiting for a close) */
+  /** an exact count, not a lower bound; writes past it keep it exact, an unanswered one does not */
+  exact: boolean;
+  /** the end is known: exact and not waiting for the close of a file written in the capture */
   final: boolean;
 }
 
@@ -156,8 +158,6 @@ interface Building {
   file: Pick<RecoveredFile, 'key' | 'name' | 'kind' | 'user' | 'exchanges'>;
   records: Map<number, { data: Uint8Array; from: FrameRef; conflict: FrameRef[] | null }>;
   size: Size | null;
-  /** a write past the size was never answered: a close cannot fix the end */
-  doubt: boolean;
   stations: Set<number>;
   /** record → stations holding its lock, with their lock request */
   locks: Map<number, { station: number; lock: FrameRef }[]>;
@@ -184,7 +184,7 @@ export function recoverFiles(exchanges: readonly Exchange[], calls: FileCalls = 
     let b = files.get(key);
     if (!b) {
       if (!starts) continue;
-      b = { file: { key, name: ex.fileName, kind: boot ? 'boot-image' : 'file', user, exchanges: [] }, records: new Map(), size: null, doubt: false, stations: new Set(), locks: new Map(), lockConflicts: [] };
+      b = { file: { key, name: ex.fileName, kind: boot ? 'boot-image' : 'file', user, exchanges: [] }, records: new Map(), size: null, stations: new Set(), locks: new Map(), lockConflicts: [] };
       files.set(key, b);
     }
     b.file.exchanges.push(ex.request);
@@ -199,11 +199,8 @@ function transfer(b: Building, ex: Exchange, isRead: boolean, endsAtEof: boolean
   const record = ex.requestCall.recordNumber;
   if (record === null) return;
   if (ex.status === null) {
-    // never answered: a write past the size may or may not have happened
-    if (!isRead && ex.outcome === 'unanswered' && b.size && record >= b.size.records) {
-      b.size.final = false;
-      b.doubt = true;
-    }
+    // never answered: a write past the size may or may not have happened, so the size is a lower bound
+    if (!isRead && ex.outcome === 'unanswered' && b.size && record >= b.size.records) b.size = { ...b.size, exact: false, final: false };
     return;
   }
   if (ex.status !== 0) {
@@ -223,14 +220,17 @@ function transfer(b: Building, ex: Exchange, isRead: boolean, endsAtEof: boolean
   } else if (!sameBytes(have.data, data)) (have.conflict ??= [have.from]).push(ex.request);
   const size = b.size;
   if (size && record >= size.records) {
-    // a write grows the file; a read past a stated end shows the end was not known after all
-    b.size = isRead ? { records: record + 1, source: size.final ? 'records-seen' : size.source, from: size.final ? null : size.from, final: false } : { records: record + 1, source: 'written', from: ex.request, final: false };
+    // a write grows the file (the end is known again once it is closed); a read past the size
+    // shows it was not the end
+    b.size = isRead
+      ? { records: record + 1, source: 'records-seen', from: null, exact: false, final: false }
+      : { records: record + 1, source: 'written', from: ex.request, exact: size.exact, final: false };
   }
 }
 
-function setSize(b: Building, records: number, source: FileSizeSource, from: FrameRef, final = true): void {
-  b.size = { records, source, from, final };
-  b.doubt = false;
+/** An answer stated the size: exact (and final) unless it only gives a lower bound. */
+function setSize(b: Building, records: number, source: FileSizeSource, from: FrameRef, exact = true): void {
+  b.size = { records, source, from, exact, final: exact };
 }
 
 /** Calls that say something about the file without carrying a record: open, make, close, size, locks. */
@@ -238,18 +238,19 @@ function statement(b: Building, ex: Exchange, code: number, calls: FileCalls): v
   const answer = ex.responseCall;
   if (calls.opens.includes(code) && worked(ex.status) && answer) {
     const { extent, module, recordCount } = answer;
-    if (extent !== null && recordCount !== null) {
-      const base = ((module ?? 0) * 32 + extent) * EXTENT_RECORDS;
+    if (recordCount !== null) {
+      const base = ((module ?? 0) * 32 + (extent ?? 0)) * EXTENT_RECORDS;
       if (recordCount < EXTENT_RECORDS) setSize(b, base + recordCount, 'open', ex.request);
+      // a full extent: at least that many records; a size already known to be larger stands
       else if (!b.size || b.size.records < base + EXTENT_RECORDS) setSize(b, base + EXTENT_RECORDS, 'open', ex.request, false);
     }
   } else if (calls.makes.includes(code) && worked(ex.status)) {
     b.records.clear();
-    setSize(b, 0, 'written', ex.request, false);
+    b.size = { records: 0, source: 'written', from: ex.request, exact: true, final: false };
   } else if (code === calls.computeSize && ex.status === 0 && answer?.fileSize != null) {
     setSize(b, answer.fileSize, 'compute-file-size', ex.request);
   } else if (calls.closes.includes(code) && worked(ex.status)) {
-    if (b.size && !b.size.final && b.size.source === 'written' && !b.doubt) b.size.final = true;
+    if (b.size?.exact) b.size.final = true;
     for (const [record, holders] of b.locks) b.locks.set(record, holders.filter((h) => h.station !== ex.station));
   } else if (code === calls.lock) lock(b, ex);
   else if (code === calls.unlock && ex.status === 0) {
