@@ -83,11 +83,14 @@ ACCOUNT_BEFORE.set(ascii('ORGAN FUND          0412.50  LAST ENTRY 1983-11-27'));
 const ACCOUNT_AFTER = new Uint8Array(128).fill(0x20);
 ACCOUNT_AFTER.set(ascii('ORGAN FUND          0437.50  LAST ENTRY 1983-12-04'));
 
+/** records of ACCOUNTS.DAT, as the directory listing and the open answer give them */
+const ACCOUNTS_RECORDS = 5;
+
 const LISTING = [
   { name: 'BAPTISMS.DAT', rc: 3 },
   { name: 'MARRIAGE.DAT', rc: 5 },
   { name: 'HYMNS.TXT', rc: 3 },
-  { name: 'ACCOUNTS.DAT', rc: 12 },
+  { name: 'ACCOUNTS.DAT', rc: ACCOUNTS_RECORDS },
   { name: 'WRENBOOT.SYS', rc: 8, attributes: { readOnly: true, system: true } },
 ];
 
@@ -121,7 +124,7 @@ function script(v: Variant): SessionScript {
 
   // Treasurer desk: update one account record under a record lock
   const t2 = new Tags();
-  const treasurer = timed(updateRecordCalls('ACCOUNTS.DAT', 4, ACCOUNT_BEFORE, ACCOUNT_AFTER, o(t2)));
+  const treasurer = timed(updateRecordCalls('ACCOUNTS.DAT', 4, ACCOUNT_BEFORE, ACCOUNT_AFTER, { ...o(t2), fileRecords: ACCOUNTS_RECORDS }));
   treasurer[3].damagedResponses = 1;
 
   // Choir office: read the hymn list, print it on the vestry printer, say so on the console
@@ -252,9 +255,11 @@ function filesOf(stations: number[]): ExpectedFile[] {
     whole('0:BAPTISMS.DAT', padded(BAPTISMS, 0x1a));
   }
   if (stations.includes(0x22)) {
-    const bytes = new Uint8Array(5 * 128);
+    // the open answer sizes the file (rc); only record 4 travels
+    const bytes = new Uint8Array(ACCOUNTS_RECORDS * 128);
     bytes.set(ACCOUNT_AFTER, 4 * 128);
-    out.push({ key: '0:ACCOUNTS.DAT', recordCount: 5, missing: [0, 1, 2, 3], sha256: sha256(bytes) });
+    const missing = Array.from({ length: ACCOUNTS_RECORDS }, (_, i) => i).filter((i) => i !== 4);
+    out.push({ key: '0:ACCOUNTS.DAT', recordCount: ACCOUNTS_RECORDS, missing, sha256: sha256(bytes) });
   }
   if (stations.includes(0x23)) whole('0:HYMNS.TXT', padded(HYMNS, 0x1a));
   return out.sort((a, b) => a.key.localeCompare(b.key));

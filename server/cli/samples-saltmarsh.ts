@@ -166,7 +166,7 @@ function selfCheck(session: EncodedSession, log: Uint8Array, want: ReturnType<ty
   dec.push(log);
   dec.finish();
   const map = parseFieldMap(LEDGER_MAP_DOCUMENT);
-  const links = session.links.map((l) => ({ link: l.name, direction: l.direction, station: l.station }));
+  const links = session.links.map((l) => ({ link: l.name, direction: l.direction, station: l.station ?? undefined }));
   const { exchanges } = pairExchanges(frames, [], { map, links, samplePeriodSeconds: dec.samplePeriodSeconds! });
   const files = recoverFiles(exchanges, fileCallsOf(map))
     .filter((f) => f.recordCount > 0)

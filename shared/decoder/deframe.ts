@@ -26,7 +26,7 @@
 // a frame, eight line bits without a sixth 1 in a row go in as their data bits in one step, with
 // any stuffed 0s deleted. Flags, aborts and idle go through the bit-at-a-time rules above.
 // One-bit-per-element chunks are packed first; `bitwise` turns the table steps off, leaving the
-// plain bit-at-a-time rules the fast steps are tested against (tests/decoder/fast-path.test.ts).
+// plain bit-at-a-time rules the fast steps are tested against (tests/decoder/fast-path-deframe.test.ts).
 import type { BitChunk, FrameStatus, LineEvent, RawFrame } from './types';
 
 export interface DeframerSink {
@@ -92,6 +92,19 @@ for (let o = 0; o < 6; o++) {
     FAST[(o << 8) | b] = data | (count << 8) | (ones << 12) | (lastZero << 16) | (before << 19) | (lastStuffed << 23);
     STUFFED[(o << 8) | b] = stuffed;
   }
+}
+
+/**
+ * Sample of the last data bit before the last 0 of a line byte taken whole (FAST entry `e`,
+ * STUFFED entry `stuffed`, taken at `at`). When a stuffed 0 comes right before that 0 it is
+ * skipped: a frame ends at its last data bit, not at the 0 its transmitter stuffed after it.
+ */
+function fastEndSample(samples: ArrayLike<number>, at: number, e: number, stuffed: number, prev: number): number {
+  const z = (e >> 16) & 7;
+  // z >= 2 always: at most five 1s follow the last 0 of a byte the table takes whole
+  const lastStuffed = stuffed > 15 ? stuffed >> 4 : stuffed & 15; // position + 1
+  if (lastStuffed === z) return samples[at + z - 2];
+  return z > 0 ? samples[at + z - 1] : at > 0 ? samples[at - 1] : prev;
 }
 
 export class Deframer {
@@ -213,6 +226,7 @@ export class Deframer {
     let fastAt = -1;
     let fastE = 0;
     let fastLen = 0;
+    let fastSt = 0;
     for (let i = 0; i < n; i++) {
       if (inFrame && (i & 7) === 0 && ones < 6 && i + 8 <= n && table) {
         const b = packed[i >> 3];
@@ -231,6 +245,7 @@ export class Deframer {
           // where the last 0 and the trailing 1s are is worked out once the run of such bytes ends
           fastAt = i;
           fastE = e;
+          fastSt = st;
           fastLen = len;
           const r = len & 7;
           acc |= (e & 0xff) << r;
@@ -248,7 +263,7 @@ export class Deframer {
         const z = (fastE >> 16) & 7;
         const onesOut = (fastE >> 12) & 15;
         lenBeforeZero = fastLen + ((fastE >> 19) & 15);
-        sampleBeforeZero = z > 0 ? samples[fastAt + z - 1] : fastAt > 0 ? samples[fastAt - 1] : prev;
+        sampleBeforeZero = fastEndSample(samples, fastAt, fastE, fastSt, prev);
         stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffedCount - 1 : this.stuffedCount;
         zeroSample = samples[fastAt + z];
         if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
@@ -308,8 +323,10 @@ export class Deframer {
           if (inFrame) {
             if (lineCount === 0) firstSample = s;
             lenBeforeZero = len;
-            sampleBeforeZero = prev;
-            stuffedBeforeZero = this.stuffedCount;
+            // right after a stuffed 0 keep the sample it took: the frame's last data bit
+            const st = this.stuffedCount;
+            if (ones === 5 || st === 0 || this.stuffedAt[st - 1] !== lineCount - 1) sampleBeforeZero = prev;
+            stuffedBeforeZero = st;
             if (ones === 5) {
               this.stuffedPush(lineCount);
             } else {
@@ -345,7 +362,7 @@ export class Deframer {
       const z = (fastE >> 16) & 7;
       const onesOut = (fastE >> 12) & 15;
       lenBeforeZero = fastLen + ((fastE >> 19) & 15);
-      sampleBeforeZero = z > 0 ? samples[fastAt + z - 1] : fastAt > 0 ? samples[fastAt - 1] : prev;
+      sampleBeforeZero = fastEndSample(samples, fastAt, fastE, fastSt, prev);
       stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffedCount - 1 : this.stuffedCount;
       zeroSample = samples[fastAt + z];
       if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];

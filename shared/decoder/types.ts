@@ -84,7 +84,10 @@ export interface RawFrame {
   seq: number;
   /** sample index of the first bit after the opening flag */
   firstSample: number;
-  /** sample index of the last bit before the closing flag (or abort) */
+  /**
+   * sample index of the last data bit before the closing flag (or abort); a 0 the transmitter
+   * stuffed after it is not counted, so a frame's end does not move when its FCS needs stuffing
+   */
   lastSample: number;
   /** every whole octet between the flags, FCS included, LSB-first assembly as HDLC sends them */
   bytes: Uint8Array;

@@ -145,7 +145,28 @@ export interface ExchangeRow {
   retries: number;
   /** RTS rise → server's first frame, when the capture has the station's RTS line */
   serviceDelaySeconds: number | null;
+  /**
+   * frame ids of bad-FCS answers the station answered with a retry: why the exchange was
+   * retried (decoder: Exchange.damagedResponses). Absent until the server stores them.
+   */
+  damagedResponseFrameIds?: number[];
+  /** lock conflicts this exchange is part of (decoder: RecoveredFile.lockConflicts). Absent until the server stores them. */
+  lockConflicts?: ExchangeLockConflict[];
 }
+
+/** One side of a lock conflict, seen from one of its two exchanges. */
+export interface ExchangeLockConflict {
+  record: number;
+  /** this exchange's part: the lock held, or the other station's request for it */
+  role: 'holder' | 'requester';
+  other: { address: number; name: string | null };
+  /** the other station's lock exchange */
+  otherExchangeId: number | null;
+  /** what the server answered the requester: granted (both held it), refused, or nothing */
+  outcome: LockConflictOutcome;
+}
+
+export type LockConflictOutcome = 'granted' | 'refused' | 'unanswered';
 
 export interface ExchangePage {
   rows: ExchangeRow[];
@@ -190,6 +211,13 @@ export interface ExchangeStats {
 
 export type RecordCoverageName = 'seen' | 'missing' | 'conflict';
 
+/**
+ * Where a recovered file's size came from (decoder: FileSizeSource): an end-of-file answer,
+ * the compute-file-size (35) answer, an open answer's rc with ex and s2, writes to a file made or
+ * extended in the capture (end known once closed), or only the highest record seen.
+ */
+export type FileSizeSourceName = 'end-of-file' | 'compute-file-size' | 'open' | 'written' | 'records-seen';
+
 export interface RecoveredFileSummary {
   id: number;
   /** "NAME.TYP" */
@@ -201,8 +229,14 @@ export interface RecoveredFileSummary {
   /** octets = recordCount × 128 */
   size: number;
   recordCount: number;
-  /** an end-of-file answer fixed the record count */
+  /** an answer fixed the record count (sizeSource says which) */
   endKnown: boolean;
+  /** where the record count came from; absent until the server stores it */
+  sizeSource?: FileSizeSourceName;
+  /** the exchange whose answer gave the size (null for records-seen); absent until the server stores it */
+  sizeExchangeId?: number | null;
+  /** how many lock conflicts the file saw; absent until the server stores them */
+  lockConflicts?: number;
   /** [first, last] record ranges nobody transferred */
   missing: [number, number][];
   /** records seen with different contents in two transfers */
@@ -217,6 +251,13 @@ export interface RecoveredFileDetail extends RecoveredFileSummary {
   /** per record */
   coverage: RecordCoverageName[];
   conflictDetail: { record: number; exchangeIds: number[] }[];
+  /** two stations holding or asking for a lock on the same record; absent until the server stores them */
+  lockConflictDetail?: {
+    record: number;
+    holder: { address: number; name: string | null; exchangeId: number | null };
+    requester: { address: number; name: string | null; exchangeId: number | null };
+    outcome: LockConflictOutcome;
+  }[];
   /** every exchange about the file (open, reads, writes, close), in time order */
   exchangeIds: number[];
 }
@@ -235,6 +276,8 @@ export interface FrameCallField {
   length: number;
   available: number;
   truncated: boolean;
+  /** the layout leaves the field out for this frame's status (onlyIfStatus): no octets, not truncated */
+  absent: boolean;
   value: number | null;
   text: string | null;
   valueName: string | null;

@@ -26,6 +26,12 @@ export const handshakeRoleSchema = z.object({
   name: z.string().trim().min(1).max(20),
   /** the link (data channel name) this line belongs to, if any */
   link: z.string().nullable().default(null),
+  /**
+   * the station whose line this is, if known. On a multidrop line several stations share the
+   * data wires but each has its own request line, so the line names its station rather than a
+   * link; when null, a line attached to a link belongs to that link's station.
+   */
+  stationAddress: z.number().int().min(0).max(255).nullable().default(null),
 });
 
 /** The channel-role form: what the user says about the capture before it is decoded. */

@@ -75,7 +75,7 @@ describe('clocked bit recovery', () => {
     expect(r.bits.get('d')).toEqual([1, 0]);
   });
 
-  it('decodes NRZI: no change is 1, a change is 0, starting from the line level at capture start (ISO/IEC 13239 NRZI)', () => {
+  it('decodes NRZI: no change is 1, a change is 0, starting from the line level at capture start (ISO/IEC 13239:2002 NRZI, from memory)', () => {
     // data level per clock edge: 1 1 0 0 1 → bits vs previous level (start 1): 1 1 0 1 0
     const levels = [1, 1, 0, 0, 1];
     const rows: [number, number, number][] = [

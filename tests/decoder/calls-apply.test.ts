@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { applyFieldMap, decodeCpmName, decodeFrameCall } from '../../shared/decoder/calls/apply';
+import { applyFieldMap, attributeList, decodeCpmName, decodeFrameCall } from '../../shared/decoder/calls/apply';
 import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
 import { parseFieldMap } from '../../shared/decoder/calls/field-map';
 import { checkFrame } from '../../shared/decoder/check';
@@ -7,8 +7,9 @@ import { bootRequestExtra, cpmName, requestInfo, responseInfo, sequentialPositio
 import { encodeLineBits, seededRng } from '../../shared/decoder/encode/line-bits';
 
 describe('CP/M file names', () => {
-  // CP/M 2.2 Interface Guide, FCB f1–f8/t1–t3 (from memory): upper-case ASCII, space padded,
-  // the high bit of each character is an attribute: t1' read-only, t2' system, f1'–f4' user.
+  // CP/M 2.2 manual 5.2, Table 5-2: f1–f8 and t1–t3 upper-case ASCII; t1' = 1 read-only file,
+  // t2' = 1 SYS file. CP/M 3 Programmer's Guide section 2.3: f1'–f8' are attribute bits, t3' =
+  // 1 archived. (Space padding: common practice of the CCP's file name parsing, from memory.)
   it('masks the high bits for the name and reports them as attributes', () => {
     const raw = cpmName('PARISH.DAT', { readOnly: true, system: true, f1: true });
     expect(raw[0]).toBe('P'.charCodeAt(0) | 0x80);
@@ -41,19 +42,64 @@ describe('applying the CP/M call envelope', () => {
     expect(eof.statusMeaning).toBe('end of file');
   });
 
-  // CP/M 2.2 Interface Guide (from memory): an extent is 16 KB = 128 records, s2 counts modules
-  // of 32 extents, so the record of a sequential call is (s2 * 32 + ex) * 128 + cr.
+  // CP/M 2.2 manual 5.2: files are divided into 16K logical extents (128 records of 128 bytes),
+  // ex 0–31 (Table 5-2); s2 counting modules of 32 extents is from memory of the 2.2 BDOS listing.
+  // So the record of a sequential call is (s2 * 32 + ex) * 128 + cr.
   it.each([0, 5, 127, 128, 133, 4095, 4096, 4096 + 129])('gives record %i for a sequential read whose FCB holds that position', (record) => {
     const pos = sequentialPosition(record);
     const c = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.READ_SEQUENTIAL, 1, 0, { fcb: { name: 'BIG.DAT', ...pos } }), 'request');
     expect(c.recordNumber).toBe(record);
   });
 
-  // CP/M 2.2 Interface Guide, read random (from memory): r0 is the low byte, r1 the high byte, r2 overflow.
+  // The BDOS sets bit 7 of s2 on open and make and masks it off itself (from memory of the CP/M
+  // 2.2 BDOS listing); the module number is the low four bits (CP/M 2.2 manual 5.2: at most
+  // 65 536 records, extents 0–31 of 128 records, so 16 modules).
+  it.each([0, 127, 128, 4096, 4096 * 15 + 200])('places sequential record %i by the module bits of s2 when the BDOS’s flag is set in bit 7', (record) => {
+    const pos = sequentialPosition(record);
+    const c = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.READ_SEQUENTIAL, 1, 0, { fcb: { name: 'BIG.DAT', ...pos, s2: pos.s2 | 0x80 } }), 'request');
+    expect(c.fields.find((f) => f.id === 's2')!.value).toBe(pos.s2 | 0x80);
+    expect(c.recordNumber).toBe(record);
+    expect(c.module).toBe(pos.s2);
+  });
+
+  // CP/M 2.2 manual 5.2, Table 5-2: r0, r1 a 16-bit value with r0 the low byte, overflow to r2.
   it('reads the random record number from r0–r2 with r0 the low byte', () => {
     const info = requestInfo(BDOS.READ_RANDOM, 1, 0, { fcb: { name: 'BAPTISMS.DAT', random: 0x01_02_03 } });
     expect(info.subarray(3 + 33, 3 + 36)).toEqual(new Uint8Array([0x03, 0x02, 0x01]));
     expect(applyFieldMap(CPM_ENVELOPE, info, 'request').recordNumber).toBe(0x010203);
+  });
+
+  // Our envelope (product spec): a read answer carries its record only when the status says a
+  // record follows; CP/M 2.2 manual 5.2, function 20: nonzero when no data exist at the next record.
+  it('reads an end-of-file answer without a record as complete, not truncated', () => {
+    const eof = applyFieldMap(CPM_ENVELOPE, responseInfo(BDOS.READ_SEQUENTIAL, 9, 1, { fcb: { name: 'A.B' } }), 'response');
+    expect(eof).toMatchObject({ status: 1, statusMeaning: 'end of file', truncated: false, unexplained: 0, recordData: null, problems: [] });
+    expect(eof.fields.find((f) => f.id === 'record')).toMatchObject({ absent: true, truncated: false, available: 0, length: 0, display: '(not sent when status is 1)' });
+    for (const [code, extra] of [
+      [BDOS.READ_RANDOM, { fcb: { name: 'A.B', random: 9 } }],
+      [BDOS.SEARCH_FIRST, { fcb: { name: '????????.???' } }],
+      [BDOS.SEARCH_NEXT, {}],
+      [BDOS.BOOT_LOAD, { extra: new Uint8Array([9, 0]) }],
+    ] as const) {
+      const status = code === BDOS.READ_RANDOM ? 1 : code === BDOS.BOOT_LOAD ? 1 : 0xff;
+      const c = applyFieldMap(CPM_ENVELOPE, responseInfo(code, 2, status, extra), 'response');
+      expect(c, `call ${code}`).toMatchObject({ callCode: code, status, truncated: false, problems: [], unexplained: 0, recordData: null });
+    }
+  });
+
+  it('still marks a successful read answer that ends early as truncated', () => {
+    const ok = responseInfo(BDOS.READ_SEQUENTIAL, 9, 0, { fcb: { name: 'A.B' } });
+    const c = applyFieldMap(CPM_ENVELOPE, ok, 'response');
+    expect(c.truncated).toBe(true);
+    expect(c.fields.find((f) => f.id === 'record')).toMatchObject({ absent: false, truncated: true, available: 0, length: 128 });
+  });
+
+  it('reads the position and record count of an open answer and the size of a compute file size answer', () => {
+    const open = applyFieldMap(CPM_ENVELOPE, responseInfo(BDOS.OPEN_FILE, 3, 0, { fcb: { name: 'A.B', ex: 2, s2: 0x81, rc: 0x45 } }), 'response');
+    expect(open).toMatchObject({ extent: 2, module: 1, recordCount: 0x45, fileSize: null });
+    const size = applyFieldMap(CPM_ENVELOPE, responseInfo(BDOS.COMPUTE_FILE_SIZE, 4, 0, { fcb: { name: 'A.B', random: 0x010000 } }), 'response');
+    // CP/M 2.2 manual 5.2, function 35: r2 = 01 means the maximum record count 65 536
+    expect(size).toMatchObject({ fileSize: 65536, recordNumber: null });
   });
 
   it('gives the record data of a write request and of a read response', () => {
@@ -124,6 +170,8 @@ describe('frames shorter than the map says', () => {
     ]);
     const short = applyFieldMap(map, new Uint8Array([1]), 'request');
     expect(short.fields.map((f) => f.truncated)).toEqual([true, true, true]);
+    // the octet that is there belongs to the first field: nothing unexplained
+    expect(short.unexplained).toBe(0);
   });
 
   it('never throws on random information fields, and its spans stay inside the frame', () => {
@@ -156,9 +204,21 @@ describe('decodeFrameCall', () => {
     expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x13, ...info]), 'request')?.callName).toBe('close file');
   });
 
-  it('gives no call for a damaged frame or an S frame', () => {
+  it('gives no call for a damaged frame, an S or U frame (even one carrying octets) or an empty I frame', () => {
     expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x10, ...info], { wrongFcs: true }), 'request')).toBeNull();
     expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x11]), 'request')).toBeNull();
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x11, ...info]), 'request')).toBeNull();
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x63, ...info]), 'request')).toBeNull();
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x10]), 'request')).toBeNull();
+  });
+
+  it('reads a bad-FCS I frame only when asked to, for guessing its exchange', () => {
+    const bad = frame([0x21, 0x10, ...info], { wrongFcs: true });
+    expect(decodeFrameCall(CPM_ENVELOPE, bad, 'request', true)).toMatchObject({ callName: 'close file', tag: 2 });
+    expect(decodeFrameCall(CPM_ENVELOPE, frame([0x21, 0x11, ...info], { wrongFcs: true }), 'request', true)).toBeNull();
+    // an aborted frame is not readable either way
+    const aborted = { ...frame([0x21, 0x10, ...info]), status: 'abort' as const };
+    expect(decodeFrameCall(CPM_ENVELOPE, aborted, 'request', true)).toBeNull();
   });
 });
 
@@ -195,5 +255,196 @@ describe('bit fields and counted fields in a user map', () => {
     expect(c.fields[1].value).toBe(4);
     expect(c.fields[2]).toMatchObject({ offset: 3, length: 3, text: 'ABC', truncated: false });
     expect(c.unexplained).toBe(1);
+  });
+});
+
+describe('how each field type reads and shows', () => {
+  const map = parseFieldMap({
+    name: 'all types',
+    version: 1,
+    callCode: { offset: 0, type: 'u16be', responseMask: 0x8000 },
+    calls: [{ code: 0x0102, name: 'probe' }],
+    layouts: [
+      {
+        id: 'probe',
+        when: { calls: [0x0102] },
+        fields: [
+          { id: 'code', type: 'u16be', role: 'call' },
+          { id: 'le', type: 'u16le', values: { '0x0201': 'two-one' } },
+          { id: 'wide', type: 'u24le' },
+          { id: 'flags', type: 'bits', length: 2, bits: [{ name: 'lo', shift: 0, width: 4 }, { name: 'hi', shift: 12, width: 4, values: { '15': 'all' } }] },
+          { id: 'who', type: 'cpm-name', role: 'file-name' },
+          { id: 'label', type: 'ascii', length: 3 },
+          { id: 'blob', type: 'bytes', length: 'rest' },
+        ],
+      },
+    ],
+  });
+  const info = new Uint8Array([
+    0x81, 0x02, // code 0x0102 with the response bit
+    0x01, 0x02, // le 0x0201
+    0x01, 0x02, 0x03, // wide 0x030201
+    0x34, 0xf2, // flags 0xF234
+    ...cpmName('AB.C', { readOnly: true, f2: true }),
+    0x41, 0x0a, 0xc2, // "A", newline, "B" with its high bit
+    ...Array.from({ length: 17 }, (_, i) => i),
+  ]);
+
+  it('reads big- and little-endian numbers, bit fields across octets, names, text and bytes', () => {
+    const c = applyFieldMap(map, info, 'response');
+    expect(c).toMatchObject({ layout: 'probe', callCode: 0x0102, callName: 'probe', fileName: 'AB.C', truncated: false, unexplained: 0, problems: [] });
+    const f = Object.fromEntries(c.fields.map((x) => [x.id, x]));
+    expect(f.code).toMatchObject({ value: 0x8102, display: String(0x8102) });
+    expect(f.le).toMatchObject({ value: 0x0201, valueName: 'two-one', display: '513 (two-one)' });
+    expect(f.wide).toMatchObject({ value: 0x030201, offset: 4, length: 3 });
+    expect(f.flags).toMatchObject({ value: 0xf234, display: 'lo=4 hi=all' });
+    expect(f.flags.bits).toEqual([
+      { name: 'lo', value: 4, valueName: null },
+      { name: 'hi', value: 15, valueName: 'all' },
+    ]);
+    expect(f.who).toMatchObject({ text: 'AB.C', display: "AB.C [read-only, f2']", offset: 9, length: 11 });
+    expect(f.label).toMatchObject({ text: 'A.B', display: '"A.B"' });
+    expect(f.blob).toMatchObject({ length: 17, display: '00 01 02 03 04 05 06 07 08 09 0A 0B 0C 0D 0E 0F … (17 octets)' });
+  });
+
+  it('shows how much of a field a short frame holds', () => {
+    const c = applyFieldMap(map, info.subarray(0, 8), 'response');
+    const f = Object.fromEntries(c.fields.map((x) => [x.id, x]));
+    expect(f.flags).toMatchObject({ truncated: true, available: 1, value: null, display: '(truncated: 1 of 2 octets)' });
+    expect(f.who).toMatchObject({ truncated: true, available: 0, offset: 9, text: '' });
+    expect(c.fileName).toBeNull();
+    expect(c.problems).toEqual(['the frame ends inside field “flags”: 8 octets, the layout needs more']);
+  });
+
+  it('reads no call code from a frame shorter than the code, and says when no layout fits', () => {
+    const c = applyFieldMap(map, new Uint8Array([0x01]), 'request');
+    expect(c).toMatchObject({ callCode: null, layout: null, callName: null, unexplained: 1, fields: [] });
+    expect(c.problems).toEqual(['no layout of “all types” fits a request']);
+    const other = applyFieldMap(map, new Uint8Array([0x00, 0x07, 1, 2]), 'request');
+    expect(other).toMatchObject({ callCode: 7, layout: null, unexplained: 4 });
+    expect(other.problems).toEqual(['no layout of “all types” fits a request with call code 7']);
+  });
+
+  it('picks layouts by direction, then by call code, first match first', () => {
+    const m = parseFieldMap({
+      name: 'dir',
+      version: 1,
+      callCode: { offset: 0, type: 'u8' },
+      layouts: [
+        { id: 'req-5', when: { calls: [5], direction: 'request' }, fields: [{ id: 'a', type: 'u8', role: 'call' }] },
+        { id: 'resp', when: { direction: 'response' }, fields: [{ id: 'a', type: 'u8', role: 'call' }] },
+        { id: 'any', fields: [{ id: 'a', type: 'u8' }] },
+      ],
+    });
+    expect(applyFieldMap(m, new Uint8Array([5]), 'request').layout).toBe('req-5');
+    expect(applyFieldMap(m, new Uint8Array([5]), 'response').layout).toBe('resp');
+    expect(applyFieldMap(m, new Uint8Array([6]), 'request').layout).toBe('any');
+    expect(applyFieldMap(m, new Uint8Array([]), 'request')).toMatchObject({ layout: 'any', callCode: null, truncated: true });
+  });
+
+  it('lists attribute flags in a fixed order', () => {
+    expect(attributeList({ f1: true, f2: false, f3: true, f4: true, readOnly: true, system: true, archive: true })).toEqual(['read-only', 'system', 'archive', "f1'", "f3'", "f4'"]);
+    expect(attributeList({ f1: false, f2: false, f3: false, f4: false, readOnly: false, system: false, archive: false })).toEqual([]);
+  });
+});
+
+describe('placing fields and reading roles', () => {
+  it('places a field at a numeric offset past a gap, and after a field that is not the previous one', () => {
+    const m = parseFieldMap({
+      name: 'gaps',
+      version: 1,
+      layouts: [
+        {
+          id: 'all',
+          fields: [
+            { id: 'a', type: 'u8', name: 'first octet', meaning: 'what a means', role: 'tag' },
+            { id: 'b', type: 'u8', offset: 5 },
+            { id: 'c', type: 'u8', offset: { after: 'a' } },
+            { id: 'd', type: 'u16le' },
+          ],
+        },
+      ],
+    });
+    const c = applyFieldMap(m, new Uint8Array([1, 2, 3, 4, 5, 6]), 'request');
+    expect(c.fields.map((f) => [f.id, f.offset, f.value])).toEqual([
+      ['a', 0, 1],
+      ['b', 5, 6],
+      ['c', 1, 2],
+      ['d', 2, 3 | (4 << 8)],
+    ]);
+    expect(c.fields[0]).toMatchObject({ name: 'first octet', meaning: 'what a means', role: 'tag' });
+    expect(c.fields[1]).toMatchObject({ name: 'b', meaning: null, role: null });
+    // the furthest field ends the explained part: nothing is left over
+    expect(c.unexplained).toBe(0);
+    expect(c.tag).toBe(1);
+  });
+
+  it('reads the call code from the call field when the map does not say where it sits', () => {
+    const m = parseFieldMap({
+      name: 'no callCode',
+      version: 1,
+      calls: [{ code: 9, name: 'nine' }],
+      layouts: [{ id: 'all', fields: [{ id: 'x', type: 'u8' }, { id: 'code', type: 'u8', role: 'call' }] }],
+    });
+    expect(applyFieldMap(m, new Uint8Array([0, 9]), 'request')).toMatchObject({ callCode: 9, callName: 'nine' });
+  });
+
+  it('names the call code of a frame no layout fits', () => {
+    const m = parseFieldMap({
+      name: 'requests only',
+      version: 1,
+      callCode: { offset: 0, type: 'u8' },
+      calls: [{ code: 7, name: 'seven' }],
+      layouts: [{ id: 'req', when: { direction: 'request' }, fields: [{ id: 'code', type: 'u8', role: 'call' }] }],
+    });
+    expect(applyFieldMap(m, new Uint8Array([7]), 'response')).toMatchObject({ layout: null, callCode: 7, callName: 'seven' });
+  });
+
+  it('gives no record number when the sequential position is cut short, and no module when the call has none', () => {
+    const full = requestInfo(BDOS.READ_SEQUENTIAL, 1, 0, { fcb: { name: 'A.B', ex: 2, cr: 5 } });
+    expect(applyFieldMap(CPM_ENVELOPE, full, 'request')).toMatchObject({ recordNumber: 2 * 128 + 5, extent: 2, module: 0 });
+    const cut = applyFieldMap(CPM_ENVELOPE, full.subarray(0, 3 + 13), 'request'); // ex there, cr not
+    expect(cut).toMatchObject({ extent: 2, recordNumber: null, module: null });
+    const random = applyFieldMap(CPM_ENVELOPE, requestInfo(BDOS.READ_RANDOM, 1, 0, { fcb: { name: 'A.B', random: 3 } }), 'request');
+    expect(random).toMatchObject({ recordNumber: 3, extent: null, module: null, recordCount: null });
+  });
+
+  it('leaves a status-dependent field truncated, not absent, when the status itself is cut off', () => {
+    const c = applyFieldMap(CPM_ENVELOPE, new Uint8Array([BDOS.READ_SEQUENTIAL | 0x80, 4]), 'response');
+    expect(c.status).toBeNull();
+    expect(c.fields.find((f) => f.id === 'record')).toMatchObject({ absent: false, truncated: true });
+  });
+
+  it('gives no record data for an empty record field at the end of the frame', () => {
+    const m = parseFieldMap({ name: 'rest', version: 1, layouts: [{ id: 'all', fields: [{ id: 'n', type: 'u8' }, { id: 'data', type: 'bytes', length: 'rest', role: 'record-data' }] }] });
+    expect(applyFieldMap(m, new Uint8Array([1]), 'request').recordData).toBeNull();
+    expect(applyFieldMap(m, new Uint8Array([1, 2]), 'request').recordData).toEqual(new Uint8Array([2]));
+  });
+
+  it('shows a name without attributes plainly, 16 octets without an ellipsis, DEL as a dot and what a truncated field holds', () => {
+    const m = parseFieldMap({
+      name: 'shows',
+      version: 1,
+      layouts: [
+        {
+          id: 'all',
+          fields: [
+            { id: 'who', type: 'cpm-name' },
+            { id: 'sixteen', type: 'bytes', length: 16 },
+            { id: 'txt', type: 'ascii', length: 4 },
+            { id: 'n', type: 'u8' },
+            { id: 'sized', type: 'bytes', length: { field: 'n' } },
+          ],
+        },
+      ],
+    });
+    const info = new Uint8Array([...cpmName('HYMNS.TXT'), ...Array.from({ length: 16 }, (_, i) => 0xf0 + (i % 16)), 0x41, 0x7f]);
+    const c = applyFieldMap(m, info, 'request');
+    const f = Object.fromEntries(c.fields.map((x) => [x.id, x]));
+    expect(f.who.display).toBe('HYMNS.TXT');
+    expect(f.sixteen.display).toBe('F0 F1 F2 F3 F4 F5 F6 F7 F8 F9 FA FB FC FD FE FF');
+    expect(f.txt).toMatchObject({ text: 'A.', display: '"A." (truncated: 2 of 4 octets)' });
+    expect(f.sized).toMatchObject({ truncated: true, length: 0, display: '(truncated: 0 of ? octets)' });
+    expect(c.unexplained).toBe(0);
   });
 });

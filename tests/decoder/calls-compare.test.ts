@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { compareExchanges, pairExchanges } from '../../shared/decoder/calls/exchanges';
+import type { DecodedCall } from '../../shared/decoder/calls/apply';
+import { compareExchanges, pairExchanges, type Exchange } from '../../shared/decoder/calls/exchanges';
 import { directoryCalls, encodeSession, readFileCalls, requestInfo, responseInfo, Tags, type ScriptCall } from '../../shared/decoder/encode/calls';
 import { BIT_RATE, framesOfSession } from './calls-helpers';
 
@@ -57,5 +58,70 @@ describe('comparing two captures at exchange level', () => {
     const { summary } = compareExchanges(a, a);
     expect(summary.same).toBe(a.length);
     expect(summary.matched).toBe(a.length);
+  });
+});
+
+describe('comparison thresholds and summary', () => {
+  const ex = (station: number, at: number, rtt: number | null, over: Partial<Exchange> = {}): Exchange => {
+    const call = { fileName: 'A.B', recordNumber: 1, fields: [{ id: 'status', role: 'status', display: '0' }] } as unknown as DecodedCall;
+    return {
+      station,
+      request: { link: 'x', seq: at },
+      requestCall: call,
+      retries: [],
+      responses: [],
+      damagedResponses: [],
+      responseCall: rtt === null ? null : call,
+      callCode: 20,
+      callName: 'read sequential',
+      tag: 1,
+      recordNumber: 1,
+      fileName: 'A.B',
+      status: 0,
+      statusMeaning: 'ok',
+      firstSample: at,
+      answeredSendLastSample: at,
+      responseFirstSample: null,
+      rttSeconds: rtt,
+      outcome: rtt === null ? 'unanswered' : 'answered',
+      serviceDelaySeconds: null,
+      ...over,
+    };
+  };
+
+  it('calls a round trip slower or faster only past both the relative and the absolute margin', () => {
+    const a = [ex(1, 0, 0.001), ex(1, 10, 0.001), ex(1, 20, 0.001), ex(1, 30, 0.001)];
+    // +10 % (inside the 20 % margin), +30 % (0.3 ms), +100 %, −50 %; default margins 20 % and 0.2 ms
+    const b = [ex(1, 0, 0.0011), ex(1, 10, 0.0013), ex(1, 20, 0.002), ex(1, 30, 0.0005)];
+    const kinds = (o?: Parameters<typeof compareExchanges>[2]) => compareExchanges(a, b, o).rows.map((r) => r.kind);
+    expect(kinds()).toEqual(['same', 'slower', 'slower', 'faster']);
+    expect(kinds({ absolute: 0.0005 })).toEqual(['same', 'same', 'slower', 'same']);
+    expect(kinds({ relative: 0.5 })).toEqual(['same', 'same', 'slower', 'same']);
+    const { rows, summary } = compareExchanges(a, b);
+    expect(rows.map((r) => r.rttDeltaSeconds)).toEqual([0.0011 - 0.001, 0.0013 - 0.001, 0.002 - 0.001, 0.0005 - 0.001]);
+    expect(summary).toMatchObject({ matched: 4, same: 1, slower: 2, faster: 1, meanRttA: 0.001 });
+    expect(summary.meanRttB).toBeCloseTo((0.0011 + 0.0013 + 0.002 + 0.0005) / 4, 12);
+  });
+
+  it('pairs the k-th same request of each capture, lists extra ones as only in one, ordered by station and time', () => {
+    const a = [ex(2, 5, 0.001), ex(1, 50, 0.001), ex(1, 70, null)];
+    const b = [ex(1, 40, 0.001), ex(2, 3, 0.001), ex(2, 9, 0.001), ex(1, 60, 0.001)];
+    const { rows, summary } = compareExchanges(a, b);
+    expect(rows.map((r) => [r.station, r.a?.firstSample ?? null, r.b?.firstSample ?? null, r.kind])).toEqual([
+      [1, 50, 40, 'same'],
+      [1, 70, 60, 'outcome-differs'],
+      [2, 5, 3, 'same'],
+      [2, null, 9, 'only-in-b'],
+    ]);
+    expect(rows[1].rttDeltaSeconds).toBeNull();
+    expect(summary).toMatchObject({ matched: 3, onlyInA: 0, onlyInB: 1, outcomeDiffers: 1, meanRttA: 0.001, meanRttB: 0.001 });
+    expect(compareExchanges([], []).summary).toMatchObject({ matched: 0, meanRttA: null, meanRttB: null });
+  });
+
+  it('tells answers apart by every field but the tag', () => {
+    const answer = (status: string, tag: string) => ({ fileName: 'A.B', recordNumber: 1, fields: [{ id: 'tag', role: 'tag', display: tag }, { id: 'status', role: 'status', display: status }] }) as unknown as DecodedCall;
+    const a = [ex(1, 0, 0.001, { responseCall: answer('0', '7') })];
+    expect(compareExchanges(a, [ex(1, 0, 0.001, { responseCall: answer('0', '9') })]).rows[0].kind).toBe('same');
+    expect(compareExchanges(a, [ex(1, 0, 0.001, { responseCall: answer('1', '7') })]).rows[0].kind).toBe('answered-differently');
   });
 });

@@ -1,9 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import type { DecodedCall } from '../../shared/decoder/calls/apply';
 import { BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
-import { ExchangeTracker, pairExchanges, type CallFrame, type Exchange } from '../../shared/decoder/calls/exchanges';
+import { callLayerRoles, ExchangeTracker, pairExchanges, type CallFrame, type Exchange } from '../../shared/decoder/calls/exchanges';
+import { handshakeRoleSchema, linkRoleSchema } from '../../shared/schemas/captures';
 import { parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls/field-map';
-import { bootCalls, directoryCalls, readFileCalls, requestInfo, responseInfo, Tags, type SessionScript } from '../../shared/decoder/encode/calls';
+import { bootCalls, directoryCalls, readFileCalls, readRandomCalls, requestInfo, responseInfo, Tags, type SessionScript } from '../../shared/decoder/encode/calls';
 import { BIT_RATE, decodeScript, framesOfSession, pairDecoded, type DecodedSession } from './calls-helpers';
 
 const BIT = 1 / BIT_RATE;
@@ -37,8 +38,7 @@ function checkAgainstScript(d: DecodedSession, exchanges: Exchange[], rttToleran
   const expected = d.session.exchanges;
   expect(exchanges).toHaveLength(expected.length);
   for (const want of expected) {
-    const port = d.session.links.find((l) => l.station === want.station && l.direction === 'to-server')!.name;
-    const got = exchanges.find((e) => e.request.link === port && e.request.seq === want.requestSeq);
+    const got = exchanges.find((e) => e.request.link === want.link && e.request.seq === want.requestSeq);
     expect(got, `exchange of station ${want.station} at request ${want.requestSeq}`).toBeDefined();
     expect(got!.callCode).toBe(want.callCode);
     expect(got!.tag).toBe(want.tag);
@@ -70,6 +70,33 @@ describe('exchanges on encoded sessions with known delays, retries and drops', (
     checkAgainstScript(d, exchanges, BIT);
   });
 
+  // ISO/IEC 13239:2002 (from memory): a 0 is stuffed after five 1s, the FCS included, so some
+  // requests end in a stuffed 0 and some do not; the round trip must not depend on it.
+  it('times a round trip from the request’s last FCS bit whether or not a zero was stuffed after it', () => {
+    const tags = new Tags();
+    const calls = readRandomCalls('PARISH.DAT', text(128 * 4), Array.from({ length: 120 }, (_, i) => (i * 7) % 4), { tags, delay: 0.0003 });
+    const d = decodeScript({ bitRate: BIT_RATE, stations: [{ address: 0x22, port: 'p2', start: 0.0001, calls }] }, { clocked: true });
+    const up = d.session.links.find((l) => l.direction === 'to-server')!;
+    const endsStuffed = (seq: number) => up.frames[seq].lastBit !== up.frames[seq].endBit - 1;
+    const { exchanges } = pairDecoded(d);
+    expect(exchanges).toHaveLength(120);
+    const kinds = new Set(exchanges.map((e) => endsStuffed(e.request.seq)));
+    expect(kinds).toEqual(new Set([true, false]));
+    for (const e of exchanges) expect(e.rttSeconds).toBeCloseTo(0.0003, 9);
+  });
+
+  it('lists a damaged answer that the station answered with a retry with its exchange', () => {
+    const d = decodeScript(script(), { clocked: true });
+    const { exchanges } = pairDecoded(d);
+    const down = d.session.links.find((l) => l.station === 0x21 && l.direction === 'from-server')!;
+    const damagedAnswers = down.frames.filter((f) => f.damaged && f.kind === 'I').map((f) => ({ link: down.name, seq: f.seq }));
+    expect(damagedAnswers).toHaveLength(1);
+    const retried = exchanges.filter((e) => e.outcome === 'retried');
+    expect(retried).toHaveLength(1);
+    expect(retried[0].damagedResponses).toEqual(damagedAnswers);
+    expect(exchanges.filter((e) => e !== retried[0]).every((e) => e.damagedResponses.length === 0)).toBe(true);
+  });
+
   it('measures the service delay from RTS rising to the server’s poll', () => {
     const d = decodeScript(script(), { clocked: true });
     const { serviceDelays } = pairDecoded(d);
@@ -78,14 +105,66 @@ describe('exchanges on encoded sessions with known delays, retries and drops', (
     for (const s of serviceDelays) expect(Math.abs(s.seconds - 0.0005)).toBeLessThanOrEqual(BIT);
   });
 
+  it('measures each station’s service delay on a multidrop line, where RTS lines name stations, not links', () => {
+    const a = readFileCalls('HYMNS.TXT', text(300), { tags: new Tags(), delay: 0.0004 });
+    const b = readFileCalls('PSALMS.TXT', text(200), { tags: new Tags(), delay: 0.0006 });
+    const d = decodeScript(
+      {
+        bitRate: BIT_RATE,
+        stations: [
+          { address: 0x31, port: 'm', rtsName: 'm_rts_31', start: 0.0001, rts: true, calls: a },
+          { address: 0x32, port: 'm', rtsName: 'm_rts_32', start: 0.03, rts: true, calls: b },
+        ],
+      },
+      { clocked: true },
+    );
+    expect(d.session.links.map((l) => [l.name, l.station])).toEqual([
+      ['m_txd', null],
+      ['m_rxd', null],
+    ]);
+    // the channel-role form's shapes: shared data lines without a station, one RTS per station
+    const { links, rts } = callLayerRoles({
+      links: [
+        linkRoleSchema.parse({ channel: 'm_txd', direction: 'to-server' }),
+        linkRoleSchema.parse({ channel: 'm_rxd', direction: 'from-server' }),
+      ],
+      handshake: [
+        handshakeRoleSchema.parse({ channel: 'm_rts_31', name: 'RTS', stationAddress: 0x31 }),
+        handshakeRoleSchema.parse({ channel: 'm_rts_32', name: 'RTS', stationAddress: 0x32 }),
+      ],
+    });
+    expect(rts).toEqual([
+      { channel: 'm_rts_31', station: 0x31 },
+      { channel: 'm_rts_32', station: 0x32 },
+    ]);
+    const { exchanges, serviceDelays } = pairExchanges(d.frames, d.events, { map: CPM_ENVELOPE, links, rts, samplePeriodSeconds: d.period });
+    checkAgainstScript(d, exchanges, BIT);
+    for (const station of [0x31, 0x32]) {
+      const delays = serviceDelays.filter((x) => x.station === station);
+      expect(delays).toHaveLength(d.session.exchanges.filter((e) => e.station === station).length);
+      // the encoder polls 0.5 ms after RTS rises (SessionScript.pollDelay default)
+      for (const x of delays) expect(Math.abs(x.seconds - 0.0005)).toBeLessThanOrEqual(BIT);
+    }
+  });
+
   it('marks a request unanswered when no response comes within the timeout', () => {
     const { session } = decodeScript(script(), { clocked: true });
     const fast = framesOfSession(session);
-    const { exchanges } = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles, samplePeriodSeconds: fast.period, timeoutSeconds: 0.0005 });
+    const { exchanges, orphans } = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles, samplePeriodSeconds: fast.period, timeoutSeconds: 0.0005 });
     // with a 0.5 ms timeout every answer slower than that is too late, and its response an orphan
     const slow = session.exchanges.filter((e) => e.delaySeconds !== null && e.delaySeconds > 0.0005);
-    const unanswered = exchanges.filter((e) => e.outcome === 'unanswered');
-    expect(unanswered.length).toBeGreaterThanOrEqual(slow.length + 1);
+    expect(slow.length).toBeGreaterThan(3);
+    const byRequest = (e: (typeof session.exchanges)[number]) => exchanges.find((x) => x.request.link === e.link && x.request.seq === e.requestSeq)!;
+    for (const want of session.exchanges) {
+      const got = byRequest(want);
+      const inTime = want.delaySeconds !== null && want.delaySeconds <= 0.0005;
+      expect(got.outcome === 'unanswered', `request ${want.link} #${want.requestSeq}`).toBe(!inTime);
+    }
+    expect(exchanges.filter((e) => e.rttSeconds !== null).every((e) => e.rttSeconds! <= 0.0005)).toBe(true);
+    const down = (e: (typeof slow)[number]) => session.links.find((l) => l.station === e.station && l.direction === 'from-server')!.name;
+    expect(orphans.map((o) => o.ref).sort((a, b) => a.link.localeCompare(b.link) || a.seq - b.seq)).toEqual(
+      slow.map((e) => ({ link: down(e), seq: e.responseSeq! })).sort((a, b) => a.link.localeCompare(b.link) || a.seq - b.seq),
+    );
   });
 });
 
@@ -103,6 +182,10 @@ function callOf(code: number, tag: number | null, direction: 'request' | 'respon
     fileName: null,
     attributes: null,
     recordNumber: null,
+    extent: null,
+    module: null,
+    recordCount: null,
+    fileSize: null,
     status: direction === 'response' ? 0 : null,
     statusMeaning: null,
     recordData: null,
@@ -174,6 +257,37 @@ describe('pairing rules', () => {
     expect(exchanges[0].rttSeconds).toBeCloseTo((400 - 100) * period);
   });
 
+  const damaged = (at: number, guess: DecodedCall | null, station = 1): CallFrame => ({
+    ref: { link: 'down', seq: seq++ },
+    station,
+    direction: 'from-server',
+    firstSample: at,
+    lastSample: at + 100,
+    call: null,
+    damagedCall: guess,
+  });
+
+  it('gives a damaged answer to the waiting exchange its damaged bytes name, once the station retries', () => {
+    const bad = damaged(500, callOf(20, 2, 'response'));
+    const { exchanges } = run([req(0, 20, 1), req(200, 20, 2), bad, req(5000, 20, 2), resp(5500, 20, 2), resp(5800, 20, 1)]);
+    expect(exchanges.map((e) => [e.tag, e.outcome, e.damagedResponses])).toEqual([
+      [1, 'answered', []],
+      [2, 'retried', [bad.ref]],
+    ]);
+  });
+
+  it('gives an unreadable damaged answer to the only waiting exchange, and none when no retry follows', () => {
+    const lost = damaged(300, null);
+    const first = run([req(0, 20, 1), lost, req(5000, 20, 1), resp(5500, 20, 1)]).exchanges;
+    expect(first[0].damagedResponses).toEqual([lost.ref]);
+    // answered without a retry: the damaged frame is not why anything was sent again
+    const second = run([req(0, 20, 1), damaged(300, null), resp(5500, 20, 1)]).exchanges;
+    expect(second[0]).toMatchObject({ outcome: 'answered', damagedResponses: [] });
+    // two waiting and nothing readable in the damaged frame: no guess
+    const third = run([req(0, 20, 1), req(100, 33, 2), damaged(300, null), req(5000, 20, 1), req(5100, 33, 2)]).exchanges;
+    expect(third.map((e) => e.damagedResponses)).toEqual([[], []]);
+  });
+
   it('keeps stations apart', () => {
     const { exchanges, orphans } = run([req(0, 20, 1, 0x21), resp(300, 20, 1, 0x22)]);
     expect(exchanges[0].outcome).toBe('unanswered');
@@ -188,5 +302,109 @@ describe('pairing rules', () => {
     const fast = framesOfSession(session);
     const { exchanges } = pairExchanges(fast.frames, [], { map, links: fast.roles, samplePeriodSeconds: fast.period });
     expect(exchanges.map((e) => e.outcome).filter((o) => o !== 'unanswered').length).toBe(session.exchanges.filter((e) => e.outcome !== 'unanswered').length);
+  });
+});
+
+describe('timing edges and pairing without tags', () => {
+  it('keeps a request open for exactly the timeout after its last send, and no sample longer', () => {
+    // 100 samples of 1 µs: a response whose first bit is 100 samples after the send's last bit still answers it
+    const inTime = run([req(0, 20, 1), resp(200, 20, 1)], true, 100e-6).exchanges;
+    expect(inTime.map((e) => e.outcome)).toEqual(['answered']);
+    const late = run([req(0, 20, 1), resp(201, 20, 1)], true, 100e-6);
+    expect(late.exchanges.map((e) => e.outcome)).toEqual(['unanswered']);
+    expect(late.orphans).toHaveLength(1);
+  });
+
+  it('ends an answered exchange when the station reuses its tag, so a late second answer goes to the new request', () => {
+    const { exchanges } = run([req(0, 20, 5), resp(300, 20, 5), req(600, 20, 5), resp(900, 20, 5), resp(950, 20, 5)]);
+    expect(exchanges.map((e) => e.responses.length)).toEqual([1, 2]);
+    expect(exchanges[1].rttSeconds).toBeCloseTo((900 - 700) * period, 12);
+  });
+
+  it('gives an answer to the waiting exchange before an answered one of the same call', () => {
+    const rec = (f: CallFrame, record: number): CallFrame => ({ ...f, call: { ...f.call!, recordNumber: record } });
+    const { exchanges } = run([rec(req(0, 20, null), 1), rec(resp(300, 20, null), 1), rec(req(500, 20, null), 2), rec(resp(800, 20, null), 2)], false);
+    expect(exchanges.map((e) => [e.requestCall.recordNumber, e.outcome, e.responses.length])).toEqual([
+      [1, 'answered', 1],
+      [2, 'answered', 1],
+    ]);
+  });
+
+  it('without tags, counts a send as a retry only when call, record and file agree', () => {
+    const withRecord = (f: CallFrame, record: number, file = 'A.B'): CallFrame => ({ ...f, call: { ...f.call!, recordNumber: record, fileName: file } });
+    const same = run([withRecord(req(0, 33, null), 4), withRecord(req(5000, 33, null), 4), withRecord(resp(6000, 33, null), 4)], false).exchanges;
+    expect(same.map((e) => [e.outcome, e.retries.length])).toEqual([['retried', 1]]);
+    const other = run([withRecord(req(0, 33, null), 4), withRecord(req(5000, 33, null), 5), withRecord(resp(6000, 33, null), 4)], false).exchanges;
+    expect(other.map((e) => e.retries.length)).toEqual([0, 0]);
+    const otherFile = run([withRecord(req(0, 33, null), 4), withRecord(req(5000, 33, null), 4, 'C.D')], false).exchanges;
+    expect(otherFile).toHaveLength(2);
+  });
+
+  it('measures the service delay from an RTS rise at the very sample of the server’s frame, and none from a rise after it', () => {
+    const delays: number[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: () => {}, serviceDelay: (d) => delays.push(d.seconds) });
+    t.rts(1, 500);
+    t.push({ ...resp(500, 20, 1), call: null });
+    t.rts(1, 900);
+    t.push({ ...resp(800, 20, 1), call: null });
+    t.push({ ...resp(1000, 20, 1), call: null });
+    expect(delays).toEqual([0, 100 * period]);
+  });
+});
+
+describe('capture settings and frames the call layer ignores', () => {
+  it('takes RTS lines by name whatever the case, from the station they name or their link’s station', () => {
+    const roles = callLayerRoles({
+      links: [
+        { channel: 'tx', direction: 'to-server', stationAddress: 0x21 },
+        { channel: 'rx', direction: 'from-server', stationAddress: 0x21 },
+        { channel: 'mon', direction: 'unknown', stationAddress: 0x22 },
+        { channel: 'tx2', direction: 'to-server', stationAddress: null },
+      ],
+      handshake: [
+        { channel: 'r1', name: ' rts ', link: 'tx' },
+        { channel: 'r2', name: 'RTS', link: 'tx', stationAddress: 0x30 },
+        { channel: 'c1', name: 'CTS', link: 'tx', stationAddress: 0x21 },
+        { channel: 'r3', name: 'RTS', link: 'tx2' },
+        { channel: 'r4', name: 'RTS', link: null },
+        { channel: 'r5', name: 'Rts', link: 'gone' },
+      ],
+    });
+    expect(roles.links).toEqual([
+      { link: 'tx', direction: 'to-server', station: 0x21 },
+      { link: 'rx', direction: 'from-server', station: 0x21 },
+      { link: 'tx2', direction: 'to-server', station: undefined },
+    ]);
+    expect(roles.rts).toEqual([
+      { channel: 'r1', station: 0x21 },
+      { channel: 'r2', station: 0x30 },
+    ]);
+  });
+
+  it('ignores frames on links it was not told about and frames with no station, and line events other than an RTS rise', () => {
+    const { session } = decodeScript(script(), { clocked: true });
+    const fast = framesOfSession(session);
+    const base = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles, samplePeriodSeconds: fast.period });
+    // without the station's port 3 links its exchanges are gone
+    const fewer = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles.filter((r) => !r.link.startsWith('p3')), samplePeriodSeconds: fast.period });
+    expect(fewer.exchanges.length).toBe(base.exchanges.filter((e) => e.station !== 0x23).length);
+    expect(fewer.calls.every((c) => !c.ref.link.startsWith('p3'))).toBe(true);
+    // a link without a station takes the frame's address; a frame without one (too short) is left out
+    const byAddress = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles.map((r) => ({ ...r, station: undefined })), samplePeriodSeconds: fast.period });
+    expect(byAddress.exchanges.map((e) => e.station)).toEqual(base.exchanges.map((e) => e.station));
+    const stub = { ...fast.frames[0], seq: 999, status: 'short' as const, decode: null };
+    expect(pairExchanges([stub], [], { map: CPM_ENVELOPE, links: [{ link: stub.link, direction: 'to-server' }], samplePeriodSeconds: 1 }).calls).toEqual([]);
+    // only a rise of a channel named as RTS starts a service delay
+    const poll = fast.frames.find((f) => f.link === 'p3_rxd' && f.decode?.command === 'RR')!;
+    const events = [
+      { link: null, channel: 'p3_rts', kind: 'fall' as const, sample: poll.firstSample - 10 },
+      { link: null, channel: 'other', kind: 'rise' as const, sample: poll.firstSample - 10 },
+    ];
+    const rts = [{ channel: 'p3_rts', station: 0x23 }];
+    expect(pairExchanges(fast.frames, events, { map: CPM_ENVELOPE, links: fast.roles, rts, samplePeriodSeconds: fast.period }).serviceDelays).toEqual([]);
+    const rise = [{ link: null, channel: 'p3_rts', kind: 'rise' as const, sample: poll.firstSample }];
+    const measured = pairExchanges(fast.frames, rise, { map: CPM_ENVELOPE, links: fast.roles, rts, samplePeriodSeconds: fast.period }).serviceDelays;
+    // the rise at the poll's own first sample counts before the frame: a delay of 0
+    expect(measured.map((d) => [d.station, d.seconds, d.serverFrame])).toEqual([[0x23, 0, { link: 'p3_rxd', seq: poll.seq }]]);
   });
 });

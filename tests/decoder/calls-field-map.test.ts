@@ -11,7 +11,8 @@ describe('the built-in CP/M call envelope map', () => {
     expect(validateFieldMap(CPM_ENVELOPE_DOCUMENT)).toMatchObject({ ok: true });
   });
 
-  // CP/M 2.2 Interface Guide (Digital Research), BDOS function table (from memory).
+  // CP/M Operating System Manual (CP/M 2.2), section 5.2 "Call Conventions": the numbers of the
+  // functions ("FUNCTION 17: SEARCH FOR FIRST" …); the names are the map's shortened forms.
   it.each([
     [2, 'console output'],
     [5, 'list output'],
@@ -33,19 +34,21 @@ describe('the built-in CP/M call envelope map', () => {
     [35, 'compute file size'],
     [36, 'set random record'],
     [40, 'write random with zero fill'],
-  ])('names BDOS function %i "%s" as the CP/M 2.2 interface guide numbers it', (code, name) => {
+  ])('gives BDOS function %i, numbered as the CP/M 2.2 manual section 5.2 numbers it, the name "%s"', (code, name) => {
     expect(CPM_ENVELOPE.calls.find((c) => c.code === code)?.name).toBe(name);
   });
 
-  it('numbers record lock and unlock 42 and 43 as the multi-user CP/M-family systems did (MP/M II, from memory)', () => {
+  // CP/M 3 Programmer's Guide (first edition, 1983), section 3, functions 42 and 43: "Lock Record"
+  // and "Unlock Record", MP/M II functions that CP/M 3 supports for compatibility.
+  it('numbers record lock and unlock 42 and 43 as MP/M II does', () => {
     expect(BDOS.LOCK_RECORD).toBe(42);
     expect(BDOS.UNLOCK_RECORD).toBe(43);
     expect(CPM_ENVELOPE.calls.find((c) => c.code === 42)?.name).toBe('lock record');
     expect(CPM_ENVELOPE.calls.find((c) => c.code === 43)?.name).toBe('unlock record');
   });
 
-  // CP/M 2.2 Interface Guide, "File Control Block format" (from memory): dr 0, f1–f8 1–8,
-  // t1–t3 9–11, ex 12, s1 13, s2 14, rc 15, d0–d15 16–31, cr 32, r0–r2 33–35.
+  // CP/M 2.2 manual section 5.2, Figure 5-2 "File Control Block Format": dr 0, f1–f8 1–8,
+  // t1–t3 9–11, ex 12, s1 13, s2 14, rc 15, d0–dn 16–31, cr 32, r0–r2 33–35.
   it('places every FCB field at the CP/M 2.2 offset, after the 3-octet request header', () => {
     const info = requestInfo(BDOS.READ_RANDOM, 7, 0, { fcb: { name: 'BAPTISMS.DAT' } });
     const call = applyFieldMap(CPM_ENVELOPE, info, 'request');
@@ -81,21 +84,24 @@ describe('the built-in CP/M call envelope map', () => {
     expect(call.unexplained).toBe(0);
   });
 
-  // CP/M 2.2 Interface Guide, function 20 (from memory): 00H ok, non-zero at end of file.
+  // CP/M 2.2 manual 5.2, function 20: 00H ok, "a nonzero value ... if no data exist at the next
+  // record position (for example, end-of-file)"; the value 01 for it: CP/M 3 Programmer's Guide,
+  // section 3, function 20 ("01 Reading unwritten data (end-of-file)").
   it('names the read sequential return codes 0 ok and 1 end of file', () => {
     const layout = CPM_ENVELOPE.layouts.find((l) => l.id === 'read-sequential-response')!;
     expect(layout.fields.find((f) => f.role === 'status')!.values).toMatchObject({ '0': 'ok', '1': 'end of file' });
   });
 
-  // CP/M 2.2 Interface Guide, function 33 (from memory): 01 reading unwritten data, 03 cannot
-  // close current extent, 04 seek to unwritten extent, 06 seek past physical end of disk.
+  // CP/M 2.2 manual 5.2, function 33: 01 reading unwritten data, 02 not returned in random mode,
+  // 03 cannot close current extent, 04 seek to unwritten extent, 05 not returned in read mode,
+  // 06 seek past physical end of disk.
   it('names the read random return codes 1, 3, 4 and 6', () => {
     const values = CPM_ENVELOPE.layouts.find((l) => l.id === 'read-random-response')!.fields.find((f) => f.role === 'status')!.values!;
     expect(Object.keys(values).sort()).toEqual(['0', '1', '3', '4', '6']);
     expect(values['6']).toMatch(/past physical end of disk/);
   });
 
-  // CP/M 2.2 Interface Guide, functions 15 and 17 (from memory): directory code 0–3, or 0FFH.
+  // CP/M 2.2 manual 5.2, functions 15 and 17: a directory code 0–3 when found, 0FFH when not.
   it('names the open and search return codes: directory code 0–3 or 0xFF not found', () => {
     for (const id of ['open-file-response', 'search-first-response']) {
       const values = CPM_ENVELOPE.layouts.find((l) => l.id === id)!.fields.find((f) => f.role === 'status')!.values!;
@@ -103,7 +109,27 @@ describe('the built-in CP/M call envelope map', () => {
     }
   });
 
-  it('carries one 128-byte record in write requests and read responses (CP/M 2.2 logical record, from memory)', () => {
+  // CP/M 2.2 manual 5.2: "The basic unit of file information is a 128-byte record".
+  // CP/M 2.2 manual 5.2: function 14 (select disk) and function 13 (reset disk system) return
+  // nothing. The envelope's server answers 0xFF on a select error as CP/M 3 does (CP/M 3
+  // Programmer's Guide, section 3, function 14) and forwards the 2.2 BDOS's 0FFH after a reset
+  // when a $ file exists on A (from memory of the CP/M 2.2 BDOS listing); the value names say so.
+  it('names the select disk and reset disk codes the CP/M 2.2 manual leaves undefined after where they come from', () => {
+    const values = (id: string) => CPM_ENVELOPE.layouts.find((l) => l.id === id)!.fields.find((f) => f.role === 'status')!.values!;
+    expect(values('select-disk-response')).toEqual({ '0': 'ok', '0xFF': 'select error (as CP/M 3 answers it)' });
+    expect(values('reset-disk-system-response')['0xFF']).toMatch(/2\.2 BDOS behaviour/);
+  });
+
+  // CP/M 2.2 manual 5.2, Table 5-2: "rc record count for extent ex; takes on values from 0-127";
+  // "s2 reserved for internal system use". 128 on open and the flag in bit 7 of s2 are the BDOS's
+  // own (from memory of the CP/M 2.2 BDOS listing).
+  it('describes rc as 0–127 with 128 from the BDOS, and s2 as module bits plus the BDOS’s flag', () => {
+    const field = (id: string) => CPM_ENVELOPE.layouts.find((l) => l.id === 'open-file-request')!.fields.find((f) => f.id === id)!;
+    expect(field('rc').meaning).toMatch(/0–127; the BDOS sets 128/);
+    expect(field('s2').meaning).toMatch(/low four bits.*bit 7 is the BDOS’s own/);
+  });
+
+  it('carries one 128-byte record in write requests and read responses', () => {
     const rec = (id: string) => CPM_ENVELOPE.layouts.find((l) => l.id === id)!.fields.find((f) => f.role === 'record-data');
     expect(rec('write-sequential-request')?.length).toBe(128);
     expect(rec('read-sequential-response')?.length).toBe(128);
@@ -174,6 +200,15 @@ describe('field map validation', () => {
     expect(!r.ok && r.errors.map((e) => e.path)).toEqual(['layouts[0].fields[0].bits[0].width']);
   });
 
+  it('refuses a field present only for some status values in a layout with no status field before it', () => {
+    const r = validateFieldMap({
+      name: 'x',
+      version: 1,
+      layouts: [{ id: 'a', fields: [{ id: 'data', type: 'bytes', length: 4, onlyIfStatus: [0] }, { id: 's', type: 'u8', role: 'status' }] }],
+    });
+    expect(!r.ok && r.errors).toEqual([{ path: 'layouts[0].fields[0].onlyIfStatus', message: expect.stringMatching(/earlier field with the status role/) }]);
+  });
+
   it('refuses layouts chosen by call code when the map does not say where the call code is', () => {
     const r = validateFieldMap({ name: 'x', version: 1, layouts: [{ id: 'a', when: { calls: [1] }, fields: [{ id: 'c', type: 'u8' }] }] });
     expect(!r.ok && r.errors.map((e) => e.path)).toEqual(['layouts[0].when.calls']);
@@ -190,5 +225,8 @@ describe('the Markdown protocol description', () => {
     expect(md).toMatch(/\| 36 \| 3 \| r \| u24le \| record-number \|/);
     expect(md).toMatch(/\| 2 \| 1 \| status \| u8 \| status \| BDOS return code \| 0 ok; 1 end of file \|/);
     expect(md).toContain('| 3 | rest of frame | text | ascii |');
+    // the record after a read is sent only with status 0; nothing after it has a fixed offset
+    expect(md).toMatch(/\| 39 \| 128, only when status is 0 \| record \| bytes \| record-data \|/);
+    expect(md).toMatch(/\| 39 \| 128, only when status is 0, 1, 2 or 3 \| record \| bytes \| record-data \|/);
   });
 });

@@ -61,7 +61,7 @@ export function decodeScript(script: SessionScript, opts: { clocked?: boolean; f
     frames,
     events,
     period: dec.samplePeriodSeconds!,
-    roles: session.links.map((l) => ({ link: l.name, direction: l.direction, station: l.station })),
+    roles: session.links.map((l) => ({ link: l.name, direction: l.direction, station: l.station ?? undefined })),
     rts: session.rts.map((r) => ({ channel: r.name, station: r.station })),
   };
 }
@@ -83,7 +83,7 @@ export function framesOfSession(session: EncodedSession): { frames: DecodedFrame
         link: l.name,
         seq: f.seq,
         firstSample: f.startBit,
-        lastSample: f.endBit - 1,
+        lastSample: f.lastBit,
         bytes: wires.frames[i].wire,
         bitLength: wires.frames[i].bitLength,
         stuffed: [],
@@ -93,5 +93,5 @@ export function framesOfSession(session: EncodedSession): { frames: DecodedFrame
     });
   }
   frames.sort((a, b) => a.firstSample - b.firstSample);
-  return { frames, period: 1 / session.bitRate, roles: session.links.map((l) => ({ link: l.name, direction: l.direction, station: l.station })) };
+  return { frames, period: 1 / session.bitRate, roles: session.links.map((l) => ({ link: l.name, direction: l.direction, station: l.station ?? undefined })) };
 }

@@ -15,7 +15,7 @@ function recover(opts: Omit<WaveformOptions, 'samplePeriodSeconds'>, invert = fa
   return recoverFromWaveform(w, { data: [{ channel: 0, link: 'rx' }], edge: 'rising', encoding: opts.encoding, invert, bitRate }).bits.get('rx')!;
 }
 
-// Stuffed line bits as HDLC sends them (ISO/IEC 13239 zero-bit insertion): at most six cells
+// Stuffed line bits as HDLC sends them (ISO/IEC 13239:2002 zero-bit insertion, from memory): at most six cells
 // without a transition in NRZI, which is what makes clock recovery from the data possible.
 describe('clock recovery from data transitions', () => {
   for (const encoding of ['nrz', 'nrzi'] as const) {

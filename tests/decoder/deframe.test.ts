@@ -7,7 +7,7 @@ import { bitsOf, deframeBits } from './deframe-helpers';
 const FLAG = '01111110';
 
 describe('Deframer', () => {
-  it('deletes the zero after five ones (Tanenbaum, Computer Networks, bit-stuffing figure, from memory)', () => {
+  it('deletes the zero after five ones (Tanenbaum, Computer Networks, 5th edition, section 3.1.2, Fig. 3-5, from memory)', () => {
     // Textbook example: data 011011111111111111110010 is sent as 011011111011111011111010010.
     const stuffed = '011011111011111011111010010';
     const data = '011011111111111111110010';
@@ -25,7 +25,7 @@ describe('Deframer', () => {
     expect(f.status).toBe('short');
   });
 
-  it('finds frames between flags and reports a stretch of fill flags as one line event (ISO/IEC 13239 flag 01111110)', () => {
+  it('finds frames between flags and reports a stretch of fill flags as one line event (ISO/IEC 13239:2002 flag 01111110, from memory)', () => {
     const { bits, frames: sent } = encodeLineBits([
       { kind: 'flags', count: 5 },
       { kind: 'frame', bytes: new Uint8Array([0x03, 0x13, 0x44]) },
@@ -42,7 +42,42 @@ describe('Deframer', () => {
     expect(flags[0].sample).toBe(0);
   });
 
-  it('lets one flag close a frame and open the next (ISO/IEC 13239 shared flag)', () => {
+  // ISO/IEC 13239:2002 (from memory): the transmitter inserts a 0 after five contiguous 1s anywhere
+  // between the flags, the FCS included, so an FCS ending in five 1s is followed by a stuffed 0.
+  it('ends a frame at its last FCS bit, not at a zero stuffed after it, for every chunk split', () => {
+    const rng = seededRng(1311);
+    const seen = { trailing: 0, plain: 0 };
+    for (let round = 0; round < 5000 && (seen.trailing < 30 || seen.plain < 30); round++) {
+      const bytes = randomFrame(rng, 12);
+      const { bits, frames: sent } = encodeLineBits([{ kind: 'flags', count: 1 }, { kind: 'frame', bytes }, { kind: 'flags', count: 1 }]);
+      const s = sent[0];
+      const stuffedLast = s.stuffedPositions.at(-1) === s.endBit - s.startBit - 1;
+      if ((stuffedLast ? seen.trailing : seen.plain) >= 30) continue;
+      seen[stuffedLast ? 'trailing' : 'plain']++;
+      for (const sizes of [[bits.length], [1], [3, 8, 5], [13]]) {
+        for (const bitwise of [false, true]) {
+          const frames: RawFrame[] = [];
+          const d = new Deframer('L', { frame: (f) => frames.push(f), event: () => {} }, { bitwise });
+          let at = 0;
+          let k = 0;
+          const samples = Float64Array.from(bits, (_, i) => i);
+          while (at < bits.length) {
+            const end = Math.min(bits.length, at + sizes[k++ % sizes.length]);
+            d.push({ bits: bits.subarray(at, end), samples: samples.subarray(at, end), n: end - at });
+            at = end;
+          }
+          d.finish();
+          expect(frames).toHaveLength(1);
+          expect(frames[0].lastSample).toBe(stuffedLast ? s.endBit - 2 : s.endBit - 1);
+          // the stuffed 0 is still one of the frame's line bits
+          expect(frames[0].stuffed).toEqual(s.stuffedPositions);
+        }
+      }
+    }
+    expect(seen).toEqual({ trailing: 30, plain: 30 });
+  });
+
+  it('lets one flag close a frame and open the next (ISO/IEC 13239:2002 shared flag, from memory)', () => {
     const a = new Uint8Array([1, 2, 3]);
     const b = new Uint8Array([4, 5, 6]);
     const { bits, frames: sent } = encodeLineBits([
@@ -67,7 +102,7 @@ describe('Deframer', () => {
     expect(events.find((e) => e.kind === 'flags')?.count).toBe(5);
   });
 
-  it('reports seven ones inside a frame as an abort and keeps the bits up to the last zero (ISO/IEC 13239 abort)', () => {
+  it('reports seven ones inside a frame as an abort and keeps the bits up to the last zero (ISO/IEC 13239:2002 abort, from memory)', () => {
     const { bits } = encodeLineBits([
       { kind: 'frame', bytes: new Uint8Array([0x10, 0x20, 0x30, 0x40]), faults: { abortAfterBits: 20 } },
       { kind: 'flags', count: 2 },
@@ -166,26 +201,45 @@ describe('Deframer', () => {
 });
 
 describe('Deframer.pendingFrom (the time-order watermark)', () => {
-  const push = (d: Deframer, line: string) => {
-    const bits = bitsOf(line);
-    const samples = Float64Array.from(bits, (_, i) => i);
-    d.push({ bits, samples, n: bits.length });
+  const feed = () => {
+    let at = 0;
+    return (d: Deframer, line: string) => {
+      const bits = bitsOf(line);
+      const samples = Float64Array.from(bits, (_, i) => at + i);
+      at += bits.length;
+      d.push({ bits, samples, n: bits.length });
+    };
   };
 
-  it('holds back to the start of an open stretch of fill flags, whose line event is still to come (ISO/IEC 13239 flag 01111110)', () => {
+  it('holds back to the start of an open stretch of fill flags, whose line event is still to come, then moves on (ISO/IEC 13239:2002 flag 01111110, from memory)', () => {
     const events: unknown[] = [];
-    const d = new Deframer('L', { frame: () => {}, event: (e) => events.push(e) });
+    const frames: RawFrame[] = [];
+    const push = feed();
+    const d = new Deframer('L', { frame: (f) => frames.push(f), event: (e) => events.push(e) });
     push(d, FLAG + FLAG + FLAG);
     expect(events).toEqual([]);
     // the 'flags' event will carry sample 0, so nothing later may be let out yet
-    expect(d.pendingFrom()).toBeLessThanOrEqual(0);
-    d.finish();
+    expect(d.pendingFrom()).toBe(0);
+    // a frame inside the stretch's reach keeps it there
+    push(d, '10101010' + '11001100' + '10101010' + '11001100');
+    expect(d.pendingFrom()).toBe(0);
+    // the closing flag ends the frame and the stretch: both go out, the mark moves to that flag
+    push(d, FLAG);
     expect(events).toEqual([{ link: 'L', channel: 'L', kind: 'flags', sample: 0, endSample: 23, count: 3 }]);
+    expect(frames.map((f) => [f.firstSample, f.lastSample])).toEqual([[24, 55]]);
+    expect(d.pendingFrom()).toBe(56);
+    d.finish();
   });
 
-  it('holds back to the start of a run of ones that may still become an idle event', () => {
-    const d = new Deframer('L', { frame: () => {}, event: () => {} });
+  it('holds back to the start of a run of ones that may still become an idle event, and past it once it is out', () => {
+    const events: unknown[] = [];
+    const push = feed();
+    const d = new Deframer('L', { frame: () => {}, event: (e) => events.push(e) });
     push(d, '0' + '1'.repeat(20));
-    expect(d.pendingFrom()).toBeLessThanOrEqual(1);
+    expect(d.pendingFrom()).toBe(1);
+    push(d, '0');
+    expect(events).toEqual([{ link: 'L', channel: 'L', kind: 'idle', sample: 1, endSample: 20 }]);
+    // half a sample past the last bit seen: everything up to it is out
+    expect(d.pendingFrom()).toBe(21.5);
   });
 });

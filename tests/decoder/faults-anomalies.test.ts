@@ -43,7 +43,7 @@ function clock(period: number, from: number, edges: number, skip: number[] = [])
 const byTime = (l: [number, number, number][]) => [...l].sort((a, b) => a[1] - b[1] || a[0] - b[0]);
 
 describe('zero-bit insertion positions', () => {
-  it('maps every destuffed bit to the line bit the encoder sent it as (ISO/IEC 13239 zero-bit insertion)', () => {
+  it('maps every destuffed bit to the line bit the encoder sent it as (ISO/IEC 13239:2002 zero-bit insertion, from memory)', () => {
     const rng = seededRng(11);
     for (let k = 0; k < 200; k++) {
       const bytes = randomFrame(rng, 40);

@@ -5,7 +5,7 @@ import { encodeLineBits, packLineBits, randomFrame, seededRng, type LineItem } f
 import { deframeBits } from './deframe-helpers';
 
 describe('encodeLineBits', () => {
-  it('stuffs the textbook example (Tanenbaum, Computer Networks, bit-stuffing figure, from memory)', () => {
+  it('stuffs the textbook example (Tanenbaum, Computer Networks, 5th edition, section 3.1.2, Fig. 3-5, from memory)', () => {
     // Data 011011111111111111110010 → 011011111011111011111010010; build the octets LSB first from those bits.
     const data = '011011111111111111110010';
     const bytes = new Uint8Array(3);
@@ -24,7 +24,7 @@ describe('encodeLineBits', () => {
     expect(fcs16(bytes)).toBe(0x906e);
   });
 
-  it('never puts six ones in a row between the flags (ISO/IEC 13239 zero-bit insertion)', () => {
+  it('never puts six ones in a row between the flags (ISO/IEC 13239:2002 zero-bit insertion, from memory)', () => {
     const rng = seededRng(11);
     for (let t = 0; t < 200; t++) {
       const { bits, frames } = encodeLineBits([{ kind: 'frame', bytes: randomFrame(rng) }]);
@@ -59,7 +59,7 @@ describe('encoder → deframer → FCS check (property tests, seeded PRNG)', () 
       checked.forEach((f, i) => {
         expect(Array.from(f.bytes.subarray(0, f.bytes.length - 2))).toEqual(Array.from(sent[i]));
         expect(f.firstSample).toBe(enc[i].startBit);
-        expect(f.lastSample).toBe(enc[i].endBit - 1);
+        expect(f.lastSample).toBe(enc[i].lastBit);
         expect(f.stuffed).toEqual(enc[i].stuffedPositions);
         expect(f.fcsReceived).toBe(f.fcsComputed);
       });

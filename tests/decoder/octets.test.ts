@@ -25,7 +25,7 @@ function read(chunks: Uint8Array[], opts: ReaderOptions = {}) {
 }
 
 describe('octet stream reader', () => {
-  it('takes 8 line bits per byte, least significant bit first (ISO/IEC 13239: octets are sent LSB first)', () => {
+  it('takes 8 line bits per byte, least significant bit first (ISO/IEC 13239:2002: octets are sent LSB first, from memory)', () => {
     const { bits, samples } = read([Uint8Array.of(0x7e, 0x01, 0x80)]);
     expect(bits).toEqual([0, 1, 1, 1, 1, 1, 1, 0, 1, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 0, 1]);
     expect(samples).toEqual(bits.map((_, i) => i));

@@ -44,6 +44,7 @@ function asExchange(r: Row): Exchange & { rowId: number } {
     requestCall: callOf(r, []),
     retries: [],
     responses: [],
+    damagedResponses: [],
     responseCall: r.answer === null && r.outcome === 'unanswered' ? null : callOf(r, answerField),
     callCode: r.callCode,
     callName: r.callName,

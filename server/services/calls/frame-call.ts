@@ -63,6 +63,7 @@ export function frameCall(m: CallsModule, capture: CaptureRow, frameId: number):
         length: f.length,
         available: f.available,
         truncated: f.truncated,
+        absent: f.absent,
         value: f.value,
         text: f.text,
         valueName: f.valueName,

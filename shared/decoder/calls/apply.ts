@@ -1,23 +1,31 @@
 // Applies a field map to one frame's information field. Never throws: a field that runs past
 // the end of the frame keeps the octets that are there and is marked truncated, and the fields
-// that depend on it (offset after it, length from it) are marked too.
+// that depend on it (offset after it, length from it) are marked too. A field the layout sends
+// only for some status values (onlyIfStatus) is absent, not truncated, for the others: it takes
+// no octets and the fields after it move up.
 import type { DecodedFrame } from '../types';
 import { FIXED_SIZE, valueName, type FieldDef, type FieldMap, type FieldRole, type LayoutDef } from './field-map';
 
 export type CallDirection = 'request' | 'response';
 
-/** CP/M file attributes carried in the high bit of the name characters (CP/M 2.2 Interface Guide, from memory). */
+/**
+ * CP/M file attributes carried in the high bit of the name characters. CP/M 2.2 Operating
+ * System Manual, section 5.2, Table 5-2: t1' = 1 read-only file, t2' = 1 SYS file (no DIR
+ * list); the name characters otherwise have the high bit 0. CP/M 3 Programmer's Guide, section
+ * 2.3: f1'–f8' are file attribute bits and t3' = 1 means archived. That f1'–f4' are left to user
+ * programs is from memory of the CP/M 3 and MP/M II guides.
+ */
 export interface CpmAttributes {
-  /** f1'–f4': free for user programs */
+  /** f1'–f4': left to user programs (CP/M 3, MP/M II) */
   f1: boolean;
   f2: boolean;
   f3: boolean;
   f4: boolean;
-  /** t1': read-only file */
+  /** t1': read-only file (CP/M 2.2) */
   readOnly: boolean;
-  /** t2': system file (hidden from DIR) */
+  /** t2': system file, not listed by DIR (CP/M 2.2) */
   system: boolean;
-  /** t3': archived (later CP/M-family systems; unused by CP/M 2.2) */
+  /** t3': archived (CP/M 3; unused by CP/M 2.2) */
   archive: boolean;
 }
 
@@ -40,6 +48,8 @@ export interface CallField {
   /** octets actually present (less than length when truncated) */
   available: number;
   truncated: boolean;
+  /** the layout leaves this field out for the frame's status value (onlyIfStatus); it takes no octets */
+  absent: boolean;
   /** numbers (bits: the whole value); null when truncated */
   value: number | null;
   /** text for ascii and cpm-name fields (masked to 7 bits); null otherwise */
@@ -62,8 +72,14 @@ export interface DecodedCall {
   /** "NAME.TYP" masked to 7 bits, padding removed */
   fileName: string | null;
   attributes: CpmAttributes | null;
-  /** record-number role, else (module * 32 + extent) * 128 + current-record */
+  /** record-number role, else (module * 32 + extent) * 128 + current-record (module bits only, see MODULE_MASK) */
   recordNumber: number | null;
+  /** FCB position and size fields (extent, module bits, record-count roles), when the layout has them */
+  extent: number | null;
+  module: number | null;
+  recordCount: number | null;
+  /** file-size role: the file's size in records as the server states it */
+  fileSize: number | null;
   status: number | null;
   statusMeaning: string | null;
   /** complete record data only (null when truncated or absent) */
@@ -77,25 +93,25 @@ export interface DecodedCall {
 }
 
 function readNumber(info: Uint8Array, at: number, type: FieldDef['type'], length: number): number {
-  switch (type) {
-    case 'u8':
-      return info[at];
-    case 'u16le':
-      return info[at] | (info[at + 1] << 8);
-    case 'u16be':
-      return (info[at] << 8) | info[at + 1];
-    case 'u24le':
-      return info[at] | (info[at + 1] << 8) | (info[at + 2] << 16);
-    case 'u24be':
-      return (info[at] << 16) | (info[at + 1] << 8) | info[at + 2];
-    default: {
-      // bits: little-endian across its octets
-      let v = 0;
-      for (let k = length - 1; k >= 0; k--) v = v * 256 + info[at + k];
-      return v;
-    }
+  let v = 0;
+  if (type === 'u16be' || type === 'u24be') {
+    // big-endian: the first octet is the most significant
+    for (let k = 0; k < length; k++) v = v * 256 + info[at + k];
+    return v;
   }
+  // every other number (u8, u16le, u24le, bits) is little-endian across its octets
+  for (let k = length - 1; k >= 0; k--) v = v * 256 + info[at + k];
+  return v;
 }
+
+/**
+ * The module number is the low four bits of the FCB's s2. CP/M 2.2 Operating System Manual,
+ * section 5.2 (Figure 5-2, Table 5-2): a file holds at most 65 536 records of 128 bytes in 16 KB
+ * logical extents, ex 0–31, so 65 536 / (32 × 128) = 16 modules. The high bit of s2 is the
+ * BDOS's own "file written" flag, set on open and make and masked off by the BDOS itself (from
+ * memory of the CP/M 2.2 BDOS listing); a station that forwards its FCB as the BDOS left it sends it.
+ */
+export const MODULE_MASK = 0x0f;
 
 const HEX = (b: number) => b.toString(16).toUpperCase().padStart(2, '0');
 const printable = (c: number) => (c >= 0x20 && c < 0x7f ? String.fromCharCode(c) : '.');
@@ -148,6 +164,10 @@ export function applyFieldMap(map: FieldMap, info: Uint8Array, direction: CallDi
     fileName: null,
     attributes: null,
     recordNumber: null,
+    extent: null,
+    module: null,
+    recordCount: null,
+    fileSize: null,
     status: null,
     statusMeaning: null,
     recordData: null,
@@ -173,6 +193,16 @@ export function applyFieldMap(map: FieldMap, info: Uint8Array, direction: CallDi
     if (typeof def.offset === 'number') offset = def.offset;
     else if (def.offset && typeof def.offset === 'object') offset = ends.get(def.offset.after) ?? NaN;
     else offset = prevEnd;
+    // the status is an earlier field (validation checks it); an unknown status leaves the field in
+    const status = roles.status?.value;
+    if (def.onlyIfStatus && status !== undefined && status !== null && !def.onlyIfStatus.includes(status)) {
+      const f = absentField(def, info, offset, status);
+      out.fields.push(f);
+      byId.set(def.id, f);
+      ends.set(def.id, offset);
+      prevEnd = offset;
+      continue;
+    }
     let length: number;
     const fixed = FIXED_SIZE[def.type];
     if (def.type === 'bits') length = typeof def.length === 'number' ? def.length : 1;
@@ -222,12 +252,21 @@ export function applyFieldMap(map: FieldMap, info: Uint8Array, direction: CallDi
   else {
     const ex = num('extent');
     const cr = num('current-record');
-    // CP/M 2.2: extent = 128 records (16 KB), module s2 = 32 extents (512 KB) (from memory)
-    if (ex !== null && cr !== null) out.recordNumber = ((num('module') ?? 0) * 32 + ex) * 128 + cr;
+    // CP/M 2.2 Operating System Manual 5.2: a logical extent is 16 KB = 128 records, ex 0–31;
+    // a module (s2) holds 32 extents (from memory of the CP/M 2.2 BDOS listing)
+    if (ex !== null && cr !== null) out.recordNumber = ((moduleBits(num('module')) ?? 0) * 32 + ex) * 128 + cr;
   }
+  out.extent = num('extent');
+  out.module = moduleBits(num('module'));
+  out.recordCount = num('record-count');
+  out.fileSize = num('file-size');
   const data = roles['record-data'];
   if (data && !data.truncated && data.available > 0) out.recordData = info.slice(data.offset, data.offset + data.length);
   return out;
+}
+
+function moduleBits(s2: number | null): number | null {
+  return s2 === null ? null : s2 & MODULE_MASK;
 }
 
 function callName(map: FieldMap, code: number): string | null {
@@ -248,6 +287,7 @@ function decodeField(def: FieldDef, info: Uint8Array, offset: number, length: nu
     length: Number.isFinite(length) ? length : 0,
     available,
     truncated,
+    absent: false,
     value: null,
     text: null,
     valueName: null,
@@ -300,6 +340,28 @@ function decodeField(def: FieldDef, info: Uint8Array, offset: number, length: nu
   return f;
 }
 
+/** A field the layout leaves out for this status value: no octets, not truncated. */
+function absentField(def: FieldDef, info: Uint8Array, offset: number, status: number): CallField {
+  return {
+    id: def.id,
+    name: def.name ?? def.id,
+    type: def.type,
+    role: def.role ?? null,
+    meaning: def.meaning ?? null,
+    offset: Number.isFinite(offset) ? offset : info.length,
+    length: 0,
+    available: 0,
+    truncated: false,
+    absent: true,
+    value: null,
+    text: null,
+    valueName: null,
+    bits: null,
+    attributes: null,
+    display: `(not sent when status is ${status})`,
+  };
+}
+
 /** Names of the set attribute bits, for display. */
 export function attributeList(a: CpmAttributes): string[] {
   const out: string[] = [];
@@ -313,11 +375,13 @@ export function attributeList(a: CpmAttributes): string[] {
 /**
  * Call-layer decode of a frame: only good I frames (and UI frames, which some networks use for
  * datagrams) carry a call. The information field starts after the link decode's address and
- * control; the FCS is not part of it.
+ * control; the FCS is not part of it. `badFcs: true` also reads a bad-FCS frame: its values may
+ * be damaged, so they serve only to guess which exchange it belonged to.
  */
-export function decodeFrameCall(map: FieldMap, frame: DecodedFrame, direction: CallDirection): DecodedCall | null {
+export function decodeFrameCall(map: FieldMap, frame: DecodedFrame, direction: CallDirection, badFcs = false): DecodedCall | null {
   const d = frame.decode;
-  if (frame.status !== 'ok' || !d || (d.kind !== 'I' && d.command !== 'UI') || d.infoLength === 0) return null;
+  const readable = frame.status === 'ok' || (badFcs && frame.status === 'bad-fcs');
+  if (!readable || !d || (d.kind !== 'I' && d.command !== 'UI') || d.infoLength === 0) return null;
   const { infoOffset, infoLength } = d;
   return applyFieldMap(map, frame.bytes.subarray(infoOffset, infoOffset + infoLength), direction);
 }

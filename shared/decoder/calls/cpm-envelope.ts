@@ -4,21 +4,30 @@
 //   request : call u8 (BDOS function number), tag u8, user u8 (0–15),
 //             then a 36-byte FCB when the call takes one, then a 128-byte record for writes
 //   response: call | 0x80, tag, status u8 (the BDOS return code for that call),
-//             the updated FCB when the request had one, then a 128-byte record for reads
+//             the updated FCB when the request had one, then a 128-byte record for reads —
+//             only when the status says a record follows (onlyIfStatus)
 //
-// Function numbers, FCB offsets and return codes follow the CP/M 2.2 Interface Guide (Digital
-// Research, 1979), cited from memory; record lock/unlock (42/43) follow the numbering of the
-// multi-user CP/M-family systems (MP/M II), from memory. Call 0x70 "boot load" is our own.
-import { parseFieldMap, type FieldMap, type FieldMapInput } from './field-map';
+// Sources, each named beside what it gives:
+// - "CP/M 2.2 manual": CP/M Operating System Manual (Digital Research, CP/M 2.2), section 5.2
+//   "Call Conventions": the function descriptions, Figure 5-2 (FCB format) and Table 5-2 (FCB
+//   fields). Where a function there returns nothing or only "nonzero", the value the envelope's
+//   server sends is marked with where it comes from instead.
+// - "CP/M 3 guide": CP/M 3 Programmer's Guide (Digital Research, first edition 1983), section 2.3
+//   (FCB fields, attributes) and section 3 (each BDOS function's return codes).
+// - record lock/unlock (42/43): CP/M 3 guide section 3, functions 42 and 43, which describes
+//   them as MP/M II functions; their error codes are from memory of the MP/M II Programmer's Guide.
+// - "from memory of the CP/M 2.2 BDOS listing": behaviour of the BDOS itself that no manual states.
+// Call 0x70 "boot load" is our own.
+import { parseFieldMap, type FieldMap, type FieldMapInput, type FieldRole } from './field-map';
 
 type FieldIn = FieldMapInput['layouts'][number]['fields'][number];
 type LayoutIn = FieldMapInput['layouts'][number];
 
-export const CPM_RECORD_BYTES = 128; // CP/M 2.2: the logical record is 128 bytes (from memory)
-export const CPM_FCB_BYTES = 36; // CP/M 2.2: FCB of 33 bytes for sequential, 36 with r0–r2 (from memory)
+export const CPM_RECORD_BYTES = 128; // CP/M 2.2 manual 5.2: "the basic unit of file information is a 128-byte record"
+export const CPM_FCB_BYTES = 36; // CP/M 2.2 manual 5.2: 33 bytes for sequential access, 36 with r0–r2 for random
 export const RESPONSE_FLAG = 0x80;
 
-/** BDOS function numbers (CP/M 2.2 Interface Guide, from memory) and our boot call. */
+/** BDOS function numbers (CP/M 2.2 manual 5.2; 42/43: CP/M 3 guide section 3, MP/M II functions) and our boot call. */
 export const BDOS = {
   CONSOLE_OUTPUT: 2,
   LIST_OUTPUT: 5,
@@ -46,15 +55,17 @@ export const BDOS = {
   BOOT_LOAD: 0x70,
 } as const;
 
-/** FCB field offsets (CP/M 2.2 Interface Guide, "File Control Block format", from memory). */
+/** FCB field offsets (CP/M 2.2 manual 5.2, Figure 5-2 "File Control Block Format"). */
 export const FCB = { dr: 0, f1: 1, t1: 9, ex: 12, s1: 13, s2: 14, rc: 15, d0: 16, cr: 32, r0: 33, r1: 34, r2: 35 } as const;
 
+// CP/M 2.2 manual 5.2, functions 15–19, 22, 23: a directory code 0–3 on success, 0FFH otherwise.
 const DIRECTORY_CODE = {
   '0': 'ok: directory code 0',
   '1': 'ok: directory code 1',
   '2': 'ok: directory code 2',
   '3': 'ok: directory code 3',
 };
+// CP/M 2.2 manual 5.2, function 33: 01, 03, 04, 06 (02 and 05 are not returned by a read).
 const RANDOM_READ_CODES = {
   '0': 'ok',
   '1': 'reading unwritten data',
@@ -62,6 +73,8 @@ const RANDOM_READ_CODES = {
   '4': 'seek to unwritten extent',
   '6': 'seek past physical end of disk',
 };
+// CP/M 2.2 manual 5.2, function 34: the read codes plus 05 (directory overflow); the names of
+// 02 and 05 as the CP/M 3 guide section 3, function 34, gives them.
 const RANDOM_WRITE_CODES = {
   '0': 'ok',
   '2': 'no available data block (disk full)',
@@ -69,7 +82,7 @@ const RANDOM_WRITE_CODES = {
   '5': 'no available directory space',
   '6': 'seek past physical end of disk',
 };
-// MP/M II lock/unlock record return codes (from memory).
+// Lock/unlock record return codes: from memory of the MP/M II Programmer's Guide (functions 42, 43).
 const LOCK_CODES = {
   '0': 'ok',
   '1': 'reading unwritten data',
@@ -97,10 +110,17 @@ interface CallSpec {
   extra?: FieldIn[];
   /** response payload after status when there is no FCB */
   responseExtra?: FieldIn[];
+  /** status values after which the response carries its record (reads): other answers carry none */
+  recordIfStatus?: number[];
+  /** roles of the response FCB's fields (open: its position and record count; compute file size: r0–r2) */
+  responseRoles?: Partial<Record<'ex' | 's2' | 'rc' | 'r', FieldRole>>;
   status: Record<string, string>;
 }
 
-// Return codes: CP/M 2.2 Interface Guide, each function's description (from memory).
+const READ_OK = [0];
+const DIRECTORY_FOUND = [0, 1, 2, 3];
+
+// Return codes per function; where the manual gives none the comment says where the value comes from.
 const CALLS: CallSpec[] = [
   {
     code: BDOS.CONSOLE_OUTPUT,
@@ -126,16 +146,33 @@ const CALLS: CallSpec[] = [
     extra: [{ id: 'text', type: 'ascii', length: 'rest', meaning: 'string up to and including "$"' }],
     status: { '0': 'ok' },
   },
-  { code: BDOS.RESET_DISK_SYSTEM, name: 'reset disk system', meaning: 'all drives read/write, drive A selected', fcb: false, status: { '0': 'ok', '0xFF': 'a file whose name starts with $ exists on A' } },
+  // CP/M 2.2 manual 5.2, function 13 returns nothing; the 0FFH when a $ file exists on A is the
+  // 2.2 BDOS's own behaviour (from memory of the CP/M 2.2 BDOS listing), forwarded by the server.
+  {
+    code: BDOS.RESET_DISK_SYSTEM,
+    name: 'reset disk system',
+    meaning: 'all drives read/write, drive A selected',
+    fcb: false,
+    status: { '0': 'ok', '0xFF': 'a file whose name starts with $ exists on A (2.2 BDOS behaviour)' },
+  },
+  // CP/M 2.2 manual 5.2, function 14 returns nothing; 0FFH on a select error is CP/M 3 behaviour
+  // (CP/M 3 guide section 3, function 14), which the envelope's server follows.
   {
     code: BDOS.SELECT_DISK,
     name: 'select disk',
     meaning: 'makes a drive the default',
     fcb: false,
     extra: [{ id: 'drive', type: 'u8', meaning: 'drive 0 = A … 15 = P', values: { '0': 'A', '1': 'B', '2': 'C', '3': 'D' } }],
-    status: { '0': 'ok', '0xFF': 'select error' },
+    status: { '0': 'ok', '0xFF': 'select error (as CP/M 3 answers it)' },
   },
-  { code: BDOS.OPEN_FILE, name: 'open file', meaning: 'finds the file and fills in the FCB', fcb: true, status: { ...DIRECTORY_CODE, '0xFF': 'file not found' } },
+  {
+    code: BDOS.OPEN_FILE,
+    name: 'open file',
+    meaning: 'finds the file and fills in the FCB; rc of the answer (with ex and s2) says how many records extent ex holds',
+    fcb: true,
+    responseRoles: { ex: 'extent', s2: 'module', rc: 'record-count' },
+    status: { ...DIRECTORY_CODE, '0xFF': 'file not found' },
+  },
   { code: BDOS.CLOSE_FILE, name: 'close file', meaning: 'writes the FCB back to the directory', fcb: true, status: { ...DIRECTORY_CODE, '0xFF': 'file not found' } },
   {
     code: BDOS.SEARCH_FIRST,
@@ -143,6 +180,7 @@ const CALLS: CallSpec[] = [
     meaning: 'first directory entry matching the FCB (? matches any character); the record holds four 32-byte entries, status picks one',
     fcb: true,
     reads: true,
+    recordIfStatus: DIRECTORY_FOUND,
     status: { ...DIRECTORY_CODE, '0xFF': 'no matching file' },
   },
   {
@@ -150,11 +188,24 @@ const CALLS: CallSpec[] = [
     name: 'search next',
     meaning: 'next directory entry matching the FCB of the last search first (takes no FCB)',
     fcb: false,
-    responseExtra: [{ id: 'record', type: 'bytes', length: 128, role: 'record-data', meaning: 'directory record: four 32-byte entries' }],
+    responseExtra: [{ id: 'record', type: 'bytes', length: 128, role: 'record-data', meaning: 'directory record: four 32-byte entries', onlyIfStatus: DIRECTORY_FOUND }],
     status: { ...DIRECTORY_CODE, '0xFF': 'no more matching files' },
   },
   { code: BDOS.DELETE_FILE, name: 'delete file', meaning: 'removes matching files', fcb: true, status: { ...DIRECTORY_CODE, '0xFF': 'file not found' } },
-  { code: BDOS.READ_SEQUENTIAL, name: 'read sequential', meaning: 'reads the record at the FCB’s position (ex, s2, cr) and advances cr', fcb: true, reads: true, position: 'sequential', status: { '0': 'ok', '1': 'end of file' } },
+  // CP/M 2.2 manual 5.2, function 20: 00H ok, nonzero when no data exist at the next record
+  // position; 01 is the value the CP/M 3 guide (section 3, function 20) names "reading unwritten data (end-of-file)".
+  {
+    code: BDOS.READ_SEQUENTIAL,
+    name: 'read sequential',
+    meaning: 'reads the record at the FCB’s position (ex, s2, cr) and advances cr',
+    fcb: true,
+    reads: true,
+    recordIfStatus: READ_OK,
+    position: 'sequential',
+    status: { '0': 'ok', '1': 'end of file' },
+  },
+  // CP/M 2.2 manual 5.2, function 21: 00H ok, nonzero when the disk is full; the values 01 and 02
+  // as the CP/M 3 guide (section 3, function 21) names them.
   {
     code: BDOS.WRITE_SEQUENTIAL,
     name: 'write sequential',
@@ -162,7 +213,7 @@ const CALLS: CallSpec[] = [
     fcb: true,
     writes: true,
     position: 'sequential',
-    status: { '0': 'ok', '1': 'error in extending the file (directory full)', '2': 'end of disk data (disk full)' },
+    status: { '0': 'ok', '1': 'no available directory space', '2': 'no available data block (disk full)' },
   },
   { code: BDOS.MAKE_FILE, name: 'make file', meaning: 'creates an empty file', fcb: true, status: { ...DIRECTORY_CODE, '0xFF': 'directory full' } },
   { code: BDOS.RENAME_FILE, name: 'rename file', meaning: 'renames the file named at FCB 0–15 to the name at FCB 16–31', fcb: true, status: { ...DIRECTORY_CODE, '0xFF': 'file not found' } },
@@ -174,9 +225,18 @@ const CALLS: CallSpec[] = [
     extra: [{ id: 'dma', type: 'u16le', meaning: 'DMA address' }],
     status: { '0': 'ok' },
   },
-  { code: BDOS.READ_RANDOM, name: 'read random', meaning: 'reads the record numbered r0–r2', fcb: true, reads: true, position: 'random', status: RANDOM_READ_CODES },
+  { code: BDOS.READ_RANDOM, name: 'read random', meaning: 'reads the record numbered r0–r2', fcb: true, reads: true, recordIfStatus: READ_OK, position: 'random', status: RANDOM_READ_CODES },
   { code: BDOS.WRITE_RANDOM, name: 'write random', meaning: 'writes the record numbered r0–r2', fcb: true, writes: true, position: 'random', status: RANDOM_WRITE_CODES },
-  { code: BDOS.COMPUTE_FILE_SIZE, name: 'compute file size', meaning: 'sets r0–r2 to the record count', fcb: true, status: { '0': 'ok' } },
+  // CP/M 2.2 manual 5.2, function 35 returns no code, only r0–r2 set to the virtual file size
+  // (the record after the end of the file); the envelope's server answers status 0.
+  {
+    code: BDOS.COMPUTE_FILE_SIZE,
+    name: 'compute file size',
+    meaning: 'sets r0–r2 to the virtual file size: the number of the record after the end of the file',
+    fcb: true,
+    responseRoles: { r: 'file-size' },
+    status: { '0': 'ok' },
+  },
   { code: BDOS.SET_RANDOM_RECORD, name: 'set random record', meaning: 'sets r0–r2 from the sequential position', fcb: true, status: { '0': 'ok' } },
   { code: BDOS.WRITE_RANDOM_ZERO_FILL, name: 'write random with zero fill', meaning: 'as write random, new blocks filled with zeros', fcb: true, writes: true, position: 'random', status: RANDOM_WRITE_CODES },
   { code: BDOS.LOCK_RECORD, name: 'lock record', meaning: 'locks the record numbered r0–r2 for this station', fcb: true, position: 'random', status: LOCK_CODES },
@@ -192,7 +252,7 @@ const CALLS: CallSpec[] = [
     ],
     responseExtra: [
       { id: 'record_no', type: 'u16le', role: 'record-number', meaning: 'record of the image, from 0' },
-      { id: 'record', type: 'bytes', length: 128, role: 'record-data', meaning: '128 bytes of the image' },
+      { id: 'record', type: 'bytes', length: 128, role: 'record-data', meaning: '128 bytes of the image', onlyIfStatus: READ_OK },
     ],
     status: { '0': 'ok', '1': 'record past the end of the image', '0xFF': 'no such image' },
   },
@@ -204,8 +264,12 @@ function fcbFields(position: CallSpec['position'], rename: boolean): FieldIn[] {
     { id: 'name', type: 'cpm-name', role: 'file-name', meaning: 'f1–f8 name and t1–t3 type, space padded; high bits are attributes (FCB bytes 1–11)' },
     { id: 'ex', type: 'u8', meaning: 'current extent, 0–31, 16 KB = 128 records each (FCB byte 12)' },
     { id: 's1', type: 'u8', meaning: 'reserved for the system (FCB byte 13)' },
-    { id: 's2', type: 'u8', meaning: 'module number, 32 extents = 512 KB each (FCB byte 14)' },
-    { id: 'rc', type: 'u8', meaning: 'records in the current extent, 0–128 (FCB byte 15)' },
+    {
+      id: 's2',
+      type: 'u8',
+      meaning: 'module number in the low four bits, 32 extents = 512 KB each; bit 7 is the BDOS’s own write flag (FCB byte 14)',
+    },
+    { id: 'rc', type: 'u8', meaning: 'records in extent ex, 0–127; the BDOS sets 128 when it opens a full extent (FCB byte 15)' },
     rename
       ? { id: 'new_dr', type: 'u8', meaning: 'rename: drive of the new name (FCB byte 16)' }
       : { id: 'd', type: 'bytes', length: 16, meaning: 'allocation map d0–d15 (FCB bytes 16–31)' },
@@ -244,13 +308,21 @@ function layoutsFor(c: CallSpec): LayoutIn[] {
   ];
   if (c.fcb) {
     request.push(...fcbFields(c.position, code === BDOS.RENAME_FILE));
-    response.push(...fcbFields(undefined, code === BDOS.RENAME_FILE).map((f) => ({ ...f, role: f.role === 'file-name' ? ('file-name' as const) : undefined })));
+    const roles: Partial<Record<string, FieldRole>> = c.responseRoles ?? {};
+    response.push(...fcbFields(undefined, code === BDOS.RENAME_FILE).map((f) => ({ ...f, role: f.role === 'file-name' ? ('file-name' as const) : roles[f.id] })));
   }
   if (c.extra) request.push(...c.extra);
   if (c.responseExtra) response.push(...c.responseExtra);
   if (c.writes) request.push({ id: 'record', type: 'bytes', length: CPM_RECORD_BYTES, role: 'record-data', meaning: 'the 128-byte record written' });
   if (c.reads && !c.responseExtra) {
-    response.push({ id: 'record', type: 'bytes', length: CPM_RECORD_BYTES, role: 'record-data', meaning: code === BDOS.SEARCH_FIRST ? 'directory record: four 32-byte entries' : 'the 128-byte record read' });
+    response.push({
+      id: 'record',
+      type: 'bytes',
+      length: CPM_RECORD_BYTES,
+      role: 'record-data',
+      meaning: code === BDOS.SEARCH_FIRST ? 'directory record: four 32-byte entries' : 'the 128-byte record read',
+      onlyIfStatus: c.recordIfStatus,
+    });
   }
   const slug = c.name.replace(/[^a-z0-9]+/gi, '-');
   return [

@@ -13,7 +13,10 @@
 // first frame to that station afterwards, whatever kind of frame it is (a poll, usually).
 // Only readable frames carry calls: a request that arrived damaged (bad FCS) and was sent again
 // shows as one send, so such an exchange is 'answered', not 'retried' (the fault desk shows the
-// damaged frame).
+// damaged frame). A damaged (bad-FCS) I frame from the server while a request of that station
+// waits, followed by a retry of that request, is the exchange's damaged answer: the reason it
+// was retried. Its call decode (unreliable: the bytes are damaged) only picks the exchange when
+// several wait; with one waiting it is that one's.
 // compareExchanges (below) sets two captures of the same rig side by side at exchange level.
 import type { DecodedFrame, LineEvent } from '../types';
 import { decodeFrameCall, type DecodedCall } from './apply';
@@ -35,6 +38,8 @@ export interface CallFrame {
   firstSample: number;
   lastSample: number;
   call: DecodedCall | null;
+  /** a bad-FCS I frame: its bytes read as a call anyway (values unreliable), else null */
+  damagedCall?: DecodedCall | null;
 }
 
 export type ExchangeOutcome = 'answered' | 'retried' | 'unanswered';
@@ -47,6 +52,8 @@ export interface Exchange {
   /** later sends of the same call and tag before an answer */
   retries: FrameRef[];
   responses: FrameRef[];
+  /** bad-FCS answers from the server that the station answered with a retry: why it was retried */
+  damagedResponses: FrameRef[];
   /** the first response's call decode */
   responseCall: DecodedCall | null;
   callCode: number | null;
@@ -100,6 +107,8 @@ interface Open {
   lastSendEnd: number;
   /** last bit of the latest response, when answered */
   answeredAt: number | null;
+  /** damaged answers since the latest send; they join the exchange when a retry follows */
+  damaged: FrameRef[];
 }
 
 interface StationState {
@@ -151,6 +160,10 @@ export class ExchangeTracker {
       this.sink.serviceDelay?.(d);
     }
     const call = f.call;
+    if (!call && f.damagedCall !== undefined && f.direction === 'from-server') {
+      this.damagedAnswer(st, f);
+      return;
+    }
     if (!call || call.callCode === null) return;
     if (f.direction === 'to-server') this.request(st, f, call);
     else this.response(st, f, call);
@@ -165,6 +178,8 @@ export class ExchangeTracker {
   private request(st: StationState, f: CallFrame, call: DecodedCall): void {
     const retryOf = st.open.find((o) => o.answeredAt === null && this.sameCall(o.ex, call));
     if (retryOf) {
+      retryOf.ex.damagedResponses.push(...retryOf.damaged);
+      retryOf.damaged = [];
       retryOf.ex.retries.push(f.ref);
       // a first send cut short that still checked good (a transmitter under-run) is made whole by its retry
       if (retryOf.ex.requestCall.truncated && !call.truncated) {
@@ -188,6 +203,7 @@ export class ExchangeTracker {
       requestCall: call,
       retries: [],
       responses: [],
+      damagedResponses: [],
       responseCall: null,
       callCode: call.callCode,
       callName: call.callName,
@@ -203,7 +219,17 @@ export class ExchangeTracker {
       outcome: 'unanswered',
       serviceDelaySeconds: delay ? delay.seconds : null,
     };
-    st.open.push({ ex, lastSendEnd: f.lastSample, answeredAt: null });
+    st.open.push({ ex, lastSendEnd: f.lastSample, answeredAt: null, damaged: [] });
+  }
+
+  /** A bad-FCS I frame from the server: held by the waiting exchange it most likely answers. */
+  private damagedAnswer(st: StationState, f: CallFrame): void {
+    const waiting = st.open.filter((o) => o.answeredAt === null);
+    const guess = f.damagedCall;
+    const o =
+      (guess && guess.callCode !== null ? waiting.find((x) => x.ex.callCode === guess.callCode && (!this.byTag || x.ex.tag === guess.tag)) : undefined) ??
+      (waiting.length === 1 ? waiting[0] : undefined);
+    if (o) o.damaged.push(f.ref);
   }
 
   private response(st: StationState, f: CallFrame, call: DecodedCall): void {
@@ -214,6 +240,7 @@ export class ExchangeTracker {
       return;
     }
     const ex = o.ex;
+    o.damaged = [];
     ex.responses.push(f.ref);
     if (o.answeredAt === null) {
       ex.responseCall = call;
@@ -251,12 +278,14 @@ export class ExchangeTracker {
 /** The parts of a capture's settings the call layer needs (shape of shared/schemas/captures.ts). */
 export interface CallLayerSettings {
   links: { channel: string; direction: LinkDirection | 'unknown'; stationAddress?: number | null }[];
-  handshake?: { channel: string; name: string; link?: string | null }[];
+  handshake?: { channel: string; name: string; link?: string | null; stationAddress?: number | null }[];
 }
 
 /**
  * Link roles and RTS lines from capture settings: links of unknown direction are left out; a
- * handshake line named RTS belongs to the station of the link it is attached to.
+ * handshake line named RTS belongs to the station it names (a multidrop line, where stations
+ * share the data wires but each has its own RTS), else to the station of the link it is
+ * attached to.
  */
 export function callLayerRoles(settings: CallLayerSettings): { links: LinkRole[]; rts: { channel: string; station: number }[] } {
   const links: LinkRole[] = [];
@@ -266,8 +295,8 @@ export function callLayerRoles(settings: CallLayerSettings): { links: LinkRole[]
   }
   const rts: { channel: string; station: number }[] = [];
   for (const h of settings.handshake ?? []) {
-    if (!/^rts$/i.test(h.name.trim()) || !h.link) continue;
-    const station = settings.links.find((l) => l.channel === h.link)?.stationAddress;
+    if (!/^rts$/i.test(h.name.trim())) continue;
+    const station = h.stationAddress ?? (h.link ? settings.links.find((l) => l.channel === h.link)?.stationAddress : null);
     if (station !== undefined && station !== null) rts.push({ channel: h.channel, station });
   }
   return { links, rts };
@@ -320,14 +349,16 @@ export class CallLayer {
     const station = role.station ?? frame.decode?.address;
     if (station === undefined) return;
     const direction = role.direction === 'to-server' ? 'request' : 'response';
+    const call = decodeFrameCall(this.options.map, frame, direction);
     const cf: CallFrame = {
       ref: { link: frame.link, seq: frame.seq },
       station,
       direction: role.direction,
       firstSample: frame.firstSample,
       lastSample: frame.lastSample,
-      call: decodeFrameCall(this.options.map, frame, direction),
+      call,
     };
+    if (frame.status === 'bad-fcs' && frame.decode?.kind === 'I') cf.damagedCall = decodeFrameCall(this.options.map, frame, direction, true);
     this.sink.call?.(cf, frame);
     this.tracker.push(cf);
   }

@@ -15,7 +15,9 @@ export type FieldType = (typeof FIELD_TYPES)[number];
  * What a field means to the call layer. `extent`, `module` and `current-record` are the CP/M
  * FCB's sequential position (ex, s2, cr): together they give the record number of sequential
  * reads and writes when no field has the `record-number` role. `length` counts the octets after
- * the field (plus the field's `lengthAdd`); a frame that disagrees is reported.
+ * the field (plus the field's `lengthAdd`); a frame that disagrees is reported. `record-count` is
+ * the FCB's rc (records in extent ex of module s2; in an open answer it sizes the file) and
+ * `file-size` a file's size in records as the server states it (r0–r2 after compute file size).
  */
 export const FIELD_ROLES = [
   'call',
@@ -29,6 +31,8 @@ export const FIELD_ROLES = [
   'module',
   'current-record',
   'length',
+  'record-count',
+  'file-size',
 ] as const;
 export type FieldRole = (typeof FIELD_ROLES)[number];
 
@@ -76,6 +80,11 @@ export const fieldSchema = z
     role: z.enum(FIELD_ROLES).optional(),
     /** for the length role: the value minus the octets after this field (default 0) */
     lengthAdd: z.number().int().min(-65535).max(65535).optional(),
+    /**
+     * present only when the layout's status field (an earlier field with the status role) has
+     * one of these values: e.g. the record after a read, which an end-of-file answer leaves out
+     */
+    onlyIfStatus: z.array(z.number().int().min(0).max(65535)).min(1).max(256).optional(),
   })
   .strict();
 
@@ -95,11 +104,25 @@ export const layoutSchema = z
   .strict();
 
 /**
- * What a call does to a file, for recovered files: opens and creates name a file; reads and
- * writes move one record (sequential reads end at an "end of file" answer, status 1); a boot
- * load reads a system image record by record.
+ * What a call does to a file, for recovered files: open names an existing file (its answer's
+ * record count sizes it), make creates an empty one, close ends a file written in the capture;
+ * reads and writes move one record (sequential reads end at an "end of file" answer, status 1);
+ * a boot load reads a system image record by record; compute-size answers with the file's size;
+ * lock and unlock hold and release a record for a station.
  */
-export const FILE_CALL_KINDS = ['open', 'read-sequential', 'write-sequential', 'read-random', 'write-random', 'boot-load'] as const;
+export const FILE_CALL_KINDS = [
+  'open',
+  'make',
+  'close',
+  'read-sequential',
+  'write-sequential',
+  'read-random',
+  'write-random',
+  'boot-load',
+  'compute-size',
+  'lock',
+  'unlock',
+] as const;
 export type FileCallKind = (typeof FILE_CALL_KINDS)[number];
 
 export const callNameSchema = z
@@ -186,6 +209,9 @@ export const fieldMapSchema = fieldMapBase.superRefine((map, ctx) => {
         if (want && !want.includes(f.type)) ctx.addIssue({ code: 'custom', path: fp('role'), message: `the role ${f.role} needs a field of type ${want.join(' or ')}` });
       }
       if (f.lengthAdd !== undefined && f.role !== 'length') ctx.addIssue({ code: 'custom', path: fp('lengthAdd'), message: 'only a field with the length role has lengthAdd' });
+      if (f.onlyIfStatus && !layout.fields.slice(0, fi).some((e) => e.role === 'status')) {
+        ctx.addIssue({ code: 'custom', path: fp('onlyIfStatus'), message: 'a field present only for some status values needs an earlier field with the status role' });
+      }
       if (f.length === 'rest') afterRest = true;
       else if (f.offset !== undefined) afterRest = false;
       seen.set(f.id, f);
@@ -204,6 +230,8 @@ const ROLE_TYPES: Partial<Record<FieldRole, FieldType[]>> = {
   module: NUMBER_TYPES,
   'current-record': NUMBER_TYPES,
   length: NUMBER_TYPES,
+  'record-count': NUMBER_TYPES,
+  'file-size': NUMBER_TYPES,
   'file-name': ['cpm-name', 'ascii'],
   'record-data': ['bytes', 'ascii'],
 };
@@ -282,13 +310,17 @@ function staticSpans(layout: LayoutDef): { offset: string; length: string }[] {
       offset = start === null ? 'follows' : String(start);
     }
     const fixed = FIXED_SIZE[f.type] ?? (f.type === 'bits' ? (typeof f.length === 'number' ? f.length : 1) : typeof f.length === 'number' ? f.length : null);
-    const length = fixed !== null ? String(fixed) : f.length === 'rest' ? 'rest of frame' : f.length && typeof f.length === 'object' ? `value of ${f.length.field}${f.length.add ? ` ${f.length.add > 0 ? '+' : '−'} ${Math.abs(f.length.add)}` : ''}` : '?';
-    const end = start !== null && fixed !== null ? start + fixed : null;
+    const size = fixed !== null ? String(fixed) : f.length === 'rest' ? 'rest of frame' : f.length && typeof f.length === 'object' ? `value of ${f.length.field}${f.length.add ? ` ${f.length.add > 0 ? '+' : '−'} ${Math.abs(f.length.add)}` : ''}` : '?';
+    const length = f.onlyIfStatus ? `${size}, only when status is ${orList(f.onlyIfStatus)}` : size;
+    // a field that may be left out does not fix where the next one starts
+    const end = start !== null && fixed !== null && !f.onlyIfStatus ? start + fixed : null;
     ends.set(f.id, end);
     prev = end;
     return { offset, length };
   });
 }
+
+const orList = (xs: readonly number[]) => (xs.length > 1 ? `${xs.slice(0, -1).join(', ')} or ${xs[xs.length - 1]}` : String(xs[0]));
 
 function valueList(values: Record<string, string> | undefined): string {
   if (!values) return '';

@@ -60,7 +60,7 @@ export interface FcbSpec {
   newName?: string;
 }
 
-/** A 36-byte FCB (CP/M 2.2 Interface Guide offsets, from memory). */
+/** A 36-byte FCB (CP/M 2.2 Operating System Manual 5.2, Figure 5-2 offsets). */
 export function fcb(spec: FcbSpec): Uint8Array {
   const out = new Uint8Array(36);
   out[FCB_OFFSET.dr] = spec.drive ?? 0;
@@ -182,8 +182,14 @@ export interface ScriptCall {
 
 export interface StationScript {
   address: number;
-  /** link-name prefix of the station's port, e.g. "p1" → p1_txd (to server), p1_rxd (from server), p1_rts */
+  /**
+   * link-name prefix of the station's port, e.g. "p1" → p1_txd (to server), p1_rxd (from server),
+   * p1_rts. Stations that name the same port share its data lines (a multidrop line); their
+   * calls must not overlap in time (the script does not arbitrate the line).
+   */
   port: string;
+  /** name of the station's RTS line (default `${port}_rts`; stations on a shared port each need their own) */
+  rtsName?: string;
   /** seconds from the capture start to the server's SNRM on this port */
   start: number;
   /** raise RTS before each request and drop it after */
@@ -207,6 +213,8 @@ export interface ScriptFrame {
   seq: number;
   startBit: number;
   endBit: number;
+  /** the last data bit (endBit - 1, or endBit - 2 after a trailing stuffed 0): where a receiver's frame ends */
+  lastBit: number;
   /** address, control, information (no FCS) */
   bytes: Uint8Array;
   damaged: boolean;
@@ -217,13 +225,16 @@ export interface ScriptFrame {
 export interface SessionLink {
   name: string;
   direction: LinkDirection;
-  station: number;
+  /** the station on this port; null when several stations share it (multidrop) */
+  station: number | null;
   bits: Uint8Array;
   frames: ScriptFrame[];
 }
 
 export interface ExpectedExchange {
   station: number;
+  /** the to-server link the request went out on */
+  link: string;
   callCode: number;
   tag: number;
   /** seq of the first readable send on the to-server link */
@@ -259,10 +270,10 @@ export const control = {
   ua: (f: boolean) => 0x63 | (f ? 0x10 : 0),
 };
 
-/** line bits a frame body takes after zero-bit insertion (flags not counted) */
-function bodyBits(bytes: Uint8Array, faults: FrameFaults | undefined): number {
+/** line bits a frame body takes after zero-bit insertion (flags not counted), and its last data bit */
+function bodyBits(bytes: Uint8Array, faults: FrameFaults | undefined): { length: number; last: number } {
   const f = encodeLineBits([{ kind: 'frame', bytes, faults }]).frames[0];
-  return f.endBit - f.startBit;
+  return { length: f.endBit - f.startBit, last: f.lastBit - f.startBit };
 }
 
 /** One link being written: frames placed at chosen bit positions with fill flags between. */
@@ -274,7 +285,7 @@ class LinkWriter {
   constructor(
     readonly name: string,
     readonly direction: LinkDirection,
-    readonly station: number,
+    public station: number | null,
   ) {}
 
   /**
@@ -304,11 +315,12 @@ class LinkWriter {
     // a flipped bit in the middle of the information (or control) field makes the FCS bad
     const faults: FrameFaults | undefined = damaged ? { flipBits: damageBit(bytes) } : undefined;
     this.items.push({ kind: 'frame', bytes, faults });
-    const len = bodyBits(bytes, faults);
+    const body = bodyBits(bytes, faults);
     const frame: ScriptFrame = {
       seq: this.frames.length,
       startBit: open + 8,
-      endBit: open + 8 + len,
+      endBit: open + 8 + body.length,
+      lastBit: open + 8 + body.last,
       bytes,
       damaged,
       kind: (bytes[1] & 1) === 0 ? 'I' : (bytes[1] & 3) === 1 ? 'S' : 'U',
@@ -346,11 +358,19 @@ export function encodeSession(script: SessionScript): EncodedSession {
   const rts: EncodedSession['rts'] = [];
   const expected: ExpectedExchange[] = [];
 
+  const ports = new Map<string, { up: LinkWriter; down: LinkWriter }>();
   for (const st of script.stations) {
-    const up = new LinkWriter(`${st.port}_txd`, 'to-server', st.address);
-    const down = new LinkWriter(`${st.port}_rxd`, 'from-server', st.address);
-    writers.push(up, down);
-    const rtsLine: HandshakeLine & { station: number } = { name: `${st.port}_rts`, initial: 0, edges: [], station: st.address };
+    let port = ports.get(st.port);
+    if (!port) {
+      port = { up: new LinkWriter(`${st.port}_txd`, 'to-server', st.address), down: new LinkWriter(`${st.port}_rxd`, 'from-server', st.address) };
+      ports.set(st.port, port);
+      writers.push(port.up, port.down);
+    } else if (port.up.station !== st.address) {
+      port.up.station = null;
+      port.down.station = null;
+    }
+    const { up, down } = port;
+    const rtsLine: HandshakeLine & { station: number } = { name: st.rtsName ?? `${st.port}_rts`, initial: 0, edges: [], station: st.address };
     if (st.rts) rts.push(rtsLine);
     const a = st.address;
     // link state: send and receive sequence numbers of each side
@@ -374,6 +394,7 @@ export function encodeSession(script: SessionScript): EncodedSession {
       const serviceDelay = rise !== null ? (poll.startBit - rise + 0.5) / rate : null;
       const ex: ExpectedExchange = {
         station: a,
+        link: up.name,
         callCode: call.request[0],
         tag: call.request[1],
         requestSeq: -1,
@@ -416,7 +437,7 @@ export function encodeSession(script: SessionScript): EncodedSession {
           continue;
         }
         const lost = damagedResp > 0;
-        const resp = down.send(req.endBit - 1 + bits(call.serverDelay), frameBytes(a, control.i(srvVs, srvVr, true), call.response), lost);
+        const resp = down.send(req.lastBit + bits(call.serverDelay), frameBytes(a, control.i(srvVs, srvVr, true), call.response), lost);
         if (lost) {
           damagedResp--;
           // the station never saw it: the server polls again and sends the same N(S) later
@@ -426,7 +447,7 @@ export function encodeSession(script: SessionScript): EncodedSession {
         srvVs = (srvVs + 1) & 7;
         stVr = (stVr + 1) & 7;
         ex.responseSeq = resp.seq;
-        ex.delaySeconds = (resp.startBit - (req.endBit - 1)) / rate;
+        ex.delaySeconds = (resp.startBit - req.lastBit) / rate;
         const ack = up.send(resp.endBit + turn, frameBytes(a, control.rr(stVr, true)), false);
         t = ack.endBit;
         break;
@@ -490,28 +511,45 @@ function call(request: Uint8Array, response: Uint8Array | null, delay: number): 
   return { request, response, serverDelay: delay };
 }
 
-/** open, read sequential record by record, the end-of-file answer, close */
-export function readFileCalls(name: string, data: Uint8Array, o: SequenceOptions & { attributes?: NameAttributes }): ScriptCall[] {
+/** The BDOS's own flag in the high bit of s2, set on open and make (from memory of the CP/M 2.2 BDOS listing). */
+export const S2_WRITE_FLAG = 0x80;
+
+/**
+ * open, read sequential record by record, the end-of-file answer (no record), close. The open
+ * answer's rc counts the records of extent 0, 128 when it is full (the BDOS's value on open).
+ * `bdosFlag`: the station forwards its FCB as the BDOS left it after open, with s2 bit 7 set.
+ */
+export function readFileCalls(name: string, data: Uint8Array, o: SequenceOptions & { attributes?: NameAttributes; bdosFlag?: boolean }): ScriptCall[] {
   const user = o.user ?? 0;
   const records = toRecords(data);
   const out: ScriptCall[] = [];
   let tag = o.tags.next();
   const size = Math.min(128, records.length);
-  out.push(call(requestInfo(15, tag, user, { fcb: { name } }), responseInfo(15, tag, 0, { fcb: { name, attributes: o.attributes, rc: size } }), o.delay));
+  const flag = o.bdosFlag ? S2_WRITE_FLAG : 0;
+  const pos = (record: number) => {
+    const p = sequentialPosition(record);
+    return { ...p, s2: p.s2 | flag };
+  };
+  out.push(call(requestInfo(15, tag, user, { fcb: { name } }), responseInfo(15, tag, 0, { fcb: { name, attributes: o.attributes, rc: size, s2: flag } }), o.delay));
   for (let i = 0; i <= records.length; i++) {
     tag = o.tags.next();
-    const at = sequentialPosition(i);
-    const next = sequentialPosition(i + 1);
+    const at = pos(i);
     const req = requestInfo(20, tag, user, { fcb: { name, ...at, rc: size } });
     const resp =
       i < records.length
-        ? responseInfo(20, tag, 0, { fcb: { name, attributes: o.attributes, ...next, rc: size }, record: records[i] })
-        : responseInfo(20, tag, 1, { fcb: { name, attributes: o.attributes, ...at, rc: size }, record: new Uint8Array(CPM_RECORD_BYTES).fill(0x1a) });
+        ? responseInfo(20, tag, 0, { fcb: { name, attributes: o.attributes, ...pos(i + 1), rc: size }, record: records[i] })
+        : responseInfo(20, tag, 1, { fcb: { name, attributes: o.attributes, ...at, rc: size } });
     out.push(call(req, resp, o.delay));
   }
   tag = o.tags.next();
-  out.push(call(requestInfo(16, tag, user, { fcb: { name } }), responseInfo(16, tag, 0, { fcb: { name, rc: size } }), o.delay));
+  out.push(call(requestInfo(16, tag, user, { fcb: { name, s2: flag } }), responseInfo(16, tag, 0, { fcb: { name, rc: size, s2: flag } }), o.delay));
   return out;
+}
+
+/** compute file size: the answer's r0–r2 hold the number of records */
+export function computeSizeCalls(name: string, records: number, o: SequenceOptions): ScriptCall[] {
+  const tag = o.tags.next();
+  return [call(requestInfo(35, tag, o.user ?? 0, { fcb: { name } }), responseInfo(35, tag, 0, { fcb: { name, random: records } }), o.delay)];
 }
 
 /** make file, write sequential record by record, close */
@@ -539,19 +577,30 @@ export function readRandomCalls(name: string, data: Uint8Array, order: number[],
     const ok = n < records.length;
     return call(
       requestInfo(33, tag, user, { fcb: { name, random: n } }),
-      responseInfo(33, tag, ok ? 0 : 1, { fcb: { name, random: n }, record: ok ? records[n] : new Uint8Array(CPM_RECORD_BYTES) }),
+      responseInfo(33, tag, ok ? 0 : 1, { fcb: { name, random: n }, record: ok ? records[n] : undefined }),
       o.delay,
     );
   });
 }
 
-/** open, lock record, read random, write random (the new contents), unlock, close */
-export function updateRecordCalls(name: string, record: number, before: Uint8Array, after: Uint8Array, o: SequenceOptions & { lockStatus?: number }): ScriptCall[] {
+/**
+ * open, lock record, read random, write random (the new contents), unlock, close. The open answer
+ * says the file has `fileRecords` records (default: up to the record updated).
+ */
+export function updateRecordCalls(
+  name: string,
+  record: number,
+  before: Uint8Array,
+  after: Uint8Array,
+  o: SequenceOptions & { lockStatus?: number; fileRecords?: number },
+): ScriptCall[] {
   const user = o.user ?? 0;
   const f = { name, random: record };
   const t = () => o.tags.next();
   let tag = t();
-  const out: ScriptCall[] = [call(requestInfo(15, tag, user, { fcb: { name } }), responseInfo(15, tag, 0, { fcb: { name } }), o.delay)];
+  // extent 0 is opened: its rc counts the file's records, 128 when that extent is full
+  const rc = Math.min(128, o.fileRecords ?? record + 1);
+  const out: ScriptCall[] = [call(requestInfo(15, tag, user, { fcb: { name } }), responseInfo(15, tag, 0, { fcb: { name, rc } }), o.delay)];
   tag = t();
   out.push(call(requestInfo(42, tag, user, { fcb: f }), responseInfo(42, tag, o.lockStatus ?? 0, { fcb: f }), o.delay));
   tag = t();
@@ -575,7 +624,7 @@ export function bootCalls(image: string, data: Uint8Array, o: SequenceOptions): 
     out.push(
       call(
         requestInfo(0x70, tag, 0, { extra: bootRequestExtra(image, i) }),
-        responseInfo(0x70, tag, ok ? 0 : 1, { extra: bootResponseExtra(i), record: ok ? records[i] : new Uint8Array(CPM_RECORD_BYTES) }),
+        responseInfo(0x70, tag, ok ? 0 : 1, { extra: bootResponseExtra(i), record: ok ? records[i] : undefined }),
         o.delay,
       ),
     );
@@ -601,7 +650,8 @@ export function directoryCalls(pattern: string, files: ListedFile[], o: Sequence
     const found = i < files.length;
     const entries: Uint8Array[] = [];
     for (let k = i - slot; k < Math.min(files.length, i - slot + 4); k++) entries.push(directoryEntry(user, files[k].name, { attributes: files[k].attributes, rc: files[k].rc }));
-    const record = directoryRecord(found ? entries : []);
+    // a "no (more) matching files" answer carries no directory record
+    const record = found ? directoryRecord(entries) : undefined;
     const req = requestInfo(code, tag, user, code === 17 ? { fcb: { name: pattern } } : {});
     const resp = responseInfo(code, tag, found ? slot : 0xff, code === 17 ? { fcb: { name: pattern }, record } : { record });
     out.push(call(req, resp, o.delay));

@@ -32,7 +32,7 @@
 import { fcs16 } from '../fcs';
 import type { ExpectedExchange, SessionLink, ScriptFrame } from './calls';
 import { control } from './calls';
-import { encodeLineBits, frameLineLength, type FrameFaults, type LineItem } from './line-bits';
+import { encodeLineBits, frameLineSpan, type FrameFaults, type LineItem } from './line-bits';
 import type { HandshakeLine } from './waveform';
 import type { LoggedFrame } from './writers/framelog';
 import type { LinkDirection } from '../calls/exchanges';
@@ -227,11 +227,13 @@ class Line {
   }
 
   private place(start: number, bytes: Uint8Array, role: EpisodeRole, station: number, faults: FrameFaults | undefined, status: 'ok' | 'abort', follows = false): EpisodeFrame {
-    const len = frameLineLength(bytes, faults);
+    const span = frameLineSpan(bytes, faults);
+    const len = span.length;
     const frame: EpisodeFrame = {
       seq: this.frames.length,
       startBit: start,
       endBit: start + len,
+      lastBit: start + span.last,
       bytes,
       damaged: false,
       kind: bytes.length > 1 ? kindOf(bytes[1]) : 'U',
@@ -413,6 +415,7 @@ export function planEpisode(script: EpisodeScript): Omit<EncodedEpisode, 'links'
     if (!s.ex) {
       s.ex = {
         station: a,
+        link: s.up.name,
         callCode: call.request[0],
         tag: call.request[1],
         requestSeq: -1,
@@ -445,6 +448,7 @@ export function planEpisode(script: EpisodeScript): Omit<EncodedEpisode, 'links'
         const ghost = sent.fragment.bytes;
         exchanges.push({
           station: multidrop ? ghost[0] : a,
+          link: s.up.name,
           callCode: ghost[2],
           tag: ghost[3] ?? -1,
           requestSeq: sent.fragment.seq,

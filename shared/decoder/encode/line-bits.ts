@@ -43,6 +43,11 @@ export interface EncodedFrame {
   startBit: number;
   /** line-bit index one past the last bit before the closing flag or abort */
   endBit: number;
+  /**
+   * line-bit index of the frame's last data bit: endBit - 1, or endBit - 2 when the transmitter
+   * stuffed a 0 after the last bit (its last five bits were 1s); a receiver's frame ends here
+   */
+  lastBit: number;
   /** positions of the inserted zeros, counted from startBit */
   stuffedPositions: number[];
   /** octets between the flags as a receiver should assemble them (FCS included, faults applied) */
@@ -140,6 +145,7 @@ export function encodeLineBits(items: LineItem[], options: EncodeOptions = {}): 
         } else ones = 0;
       }
       const endBit = w.n;
+      const lastBit = stuffedPositions.length > 0 && stuffedPositions[stuffedPositions.length - 1] === endBit - startBit - 1 ? endBit - 2 : endBit - 1;
       if (faults.abortAfterBits !== undefined) {
         const ones = faults.abortOnes ?? 7;
         if (ones < 7) throw new RangeError(`an abort is seven or more 1s, not ${ones}`);
@@ -147,7 +153,7 @@ export function encodeLineBits(items: LineItem[], options: EncodeOptions = {}): 
       } else if (!faults.noClosingFlag) {
         w.flag(false);
       }
-      frames.push({ startBit, endBit, stuffedPositions, wire, bitLength: stop });
+      frames.push({ startBit, endBit, lastBit, stuffedPositions, wire, bitLength: stop });
     }
   }
   return { bits: w.bits.slice(0, w.n), frames };
@@ -158,34 +164,46 @@ export function encodeLineBits(items: LineItem[], options: EncodeOptions = {}): 
  * counted, an abort's 1s not): for placing frames without encoding the whole line.
  */
 export function frameLineLength(bytes: Uint8Array, faults: FrameFaults = {}, fcs: 16 | 32 = 16): number {
+  return frameLineSpan(bytes, faults, fcs).length;
+}
+
+/**
+ * Line bits a frame takes between its flags after zero-bit insertion, and the offset of its last
+ * data bit in them (length - 1, or length - 2 when a 0 was stuffed after the last bit).
+ */
+export function frameLineSpan(bytes: Uint8Array, faults: FrameFaults = {}, fcs: 16 | 32 = 16): { length: number; last: number } {
   let octets: Uint8Array;
+  let total: number;
   if (faults.flipBits?.length || faults.residueBits || faults.wrongFcs || faults.noFcs) {
     const { bits } = frameBits(bytes, faults, fcs);
     octets = packLineBits(bits);
-    return stuffedLength(octets, faults.abortAfterBits !== undefined ? Math.min(faults.abortAfterBits, bits.length) : bits.length);
+    total = bits.length;
+  } else {
+    // the common case: the octets then the FCS, low-order octet first
+    const f = fcs === 16 ? fcs16(bytes) : fcs32(bytes);
+    octets = new Uint8Array(bytes.length + fcs / 8);
+    octets.set(bytes);
+    for (let k = 0; k < fcs / 8; k++) octets[bytes.length + k] = (f >>> (8 * k)) & 0xff;
+    total = octets.length * 8;
   }
-  // the common case: the octets then the FCS, low-order octet first
-  const f = fcs === 16 ? fcs16(bytes) : fcs32(bytes);
-  octets = new Uint8Array(bytes.length + fcs / 8);
-  octets.set(bytes);
-  for (let k = 0; k < fcs / 8; k++) octets[bytes.length + k] = (f >>> (8 * k)) & 0xff;
-  const total = octets.length * 8;
-  return stuffedLength(octets, faults.abortAfterBits !== undefined ? Math.min(faults.abortAfterBits, total) : total);
+  return stuffedSpan(octets, faults.abortAfterBits !== undefined ? Math.min(faults.abortAfterBits, total) : total);
 }
 
 /** the first `stop` bits of `octets` (LSB first) plus the 0 inserted after every five 1s among them */
-function stuffedLength(octets: Uint8Array, stop: number): number {
+function stuffedSpan(octets: Uint8Array, stop: number): { length: number; last: number } {
   let n = stop;
   let ones = 0;
+  let trailingZero = false;
   for (let i = 0; i < stop; i++) {
     if ((octets[i >> 3] >> (i & 7)) & 1) {
       if (++ones === 5) {
         n++;
         ones = 0;
+        trailingZero = i === stop - 1;
       }
     } else ones = 0;
   }
-  return n;
+  return { length: n, last: n - (trailingZero ? 2 : 1) };
 }
 
 /** Packs line bits into octets LSB first (the octet-stream capture format). */

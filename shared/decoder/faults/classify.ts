@@ -88,7 +88,7 @@ export interface SuspectBit {
   sample: number;
   /**
    * true when taken from the per-bit sample list; false when interpolated: the frame's line bits
-   * are spread evenly from firstSample (line bit 0) to lastSample (the last line bit), which is
+   * are spread evenly from firstSample (line bit 0) to lastSample (the last data bit), which is
    * exact for a steady clock and off by the clock's wander otherwise (jitter, missing or extra
    * edges inside the frame shift it — the view should draw a few bits either side)
    */
@@ -108,7 +108,9 @@ export function suspectBit(
   if (bitSamples && lineBit < bitSamples.length) {
     return { destuffedBit: f.flippedBit, lineBit, sample: bitSamples[lineBit], exact: true };
   }
-  const total = frameLineBits(f);
+  // lastSample is the last data bit: a 0 stuffed after it lies past the span
+  const all = frameLineBits(f);
+  const total = f.stuffed.length > 0 && f.stuffed[f.stuffed.length - 1] === all - 1 ? all - 1 : all;
   const span = f.lastSample - f.firstSample;
   const sample = total > 1 ? Math.round(f.firstSample + (span * lineBit) / (total - 1)) : f.firstSample;
   return { destuffedBit: f.flippedBit, lineBit, sample, exact: false };

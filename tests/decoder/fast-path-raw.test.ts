@@ -1,13 +1,11 @@
-// The fast paths must give exactly what the plain paths give: byte-at-a-time deframing of packed
-// line bits against the bit-at-a-time reference, and the fused raw + clock path against reader →
-// transitions → bit recovery. Inputs are seeded random line bits and captures; the bit patterns
-// they exercise are those of ISO/IEC 13239 (flag 01111110, zero-bit insertion after five 1s,
-// abort on seven 1s, idle on fifteen).
+// The fused raw + clock path must give exactly what reader → transitions → bit recovery gives,
+// with and without the anomaly tap, on seeded random captures (the deframer's own fast path is
+// checked in fast-path-deframe.test.ts). The bit patterns are those of ISO/IEC 13239:2002 (flag
+// 01111110, zero-bit insertion after five 1s, abort on seven 1s, idle on fifteen; from memory).
 import { describe, expect, it } from 'vitest';
-import { Deframer, type DeframerOptions } from '../../shared/decoder/deframe';
 import { AnomalyTap, type AnomalySink, type LineAnomaly } from '../../shared/decoder/faults/anomalies';
 import type { ClockSpread } from '../../shared/decoder/timing/clock-spread';
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
+import { randomFrame, seededRng } from '../../shared/decoder/encode/line-bits';
 import { renderWaveform } from '../../shared/decoder/encode/waveform';
 import { collect } from '../../shared/decoder/encode/writers/collect';
 import { csvChunks } from '../../shared/decoder/encode/writers/csv';
@@ -16,111 +14,9 @@ import { octetsFromLineBits } from '../../shared/decoder/encode/writers/octets';
 import { rawChunks } from '../../shared/decoder/encode/writers/raw';
 import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
 import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
-import type { BitChunk, LineEvent, RawFrame, Transitions } from '../../shared/decoder/types';
+import type { Transitions } from '../../shared/decoder/types';
+import { mixedLine } from './fast-path-helpers';
 import { runDecoder } from './pipeline-helpers';
-
-/** Line bits with every kind of event: frames (some stuffed heavily), shared flags and zeros, aborts, idle, noise. */
-function mixedLine(seed: number, items: number): Uint8Array {
-  const rng = seededRng(seed);
-  const list: LineItem[] = [{ kind: 'flags', count: 2 }];
-  for (let k = 0; k < items; k++) {
-    const r = rng();
-    if (r < 0.45) {
-      const bytes = randomFrame(rng, 60);
-      // frames of 0xFF / 0x7E octets are stuffed often and hold flag-like data
-      if (rng() < 0.2) for (let j = 0; j < bytes.length; j++) if (rng() < 0.5) bytes[j] = rng() < 0.5 ? 0xff : 0x7e;
-      list.push({ kind: 'frame', bytes, sharedFlag: rng() < 0.2, faults: rng() < 0.1 ? { residueBits: 1 + Math.floor(rng() * 7) } : {} });
-      list.push({ kind: 'flags', count: 1 + Math.floor(rng() * 3), sharedZero: rng() < 0.2 });
-    } else if (r < 0.55) {
-      list.push({ kind: 'idle', count: 7 + Math.floor(rng() * 20) });
-      list.push({ kind: 'flags', count: 1 });
-    } else if (r < 0.7) {
-      // noise biased toward 1s, so runs of five to seven 1s are common
-      const bits: number[] = [];
-      const len = 1 + Math.floor(rng() * 200);
-      for (let j = 0; j < len; j++) bits.push(rng() < 0.8 ? 1 : 0);
-      list.push({ kind: 'raw', bits });
-    } else {
-      list.push({ kind: 'flags', count: 1 + Math.floor(rng() * 4) });
-    }
-  }
-  return encodeLineBits(list).bits;
-}
-
-/** Irregular sample indices (a jittering clock), so a misplaced index shows. */
-function jitteredSamples(seed: number, n: number): Float64Array {
-  const rng = seededRng(seed);
-  const s = new Float64Array(n);
-  let t = 3;
-  for (let i = 0; i < n; i++) {
-    t += 4 + Math.floor(rng() * 3);
-    s[i] = t;
-  }
-  return s;
-}
-
-function pack(bits: Uint8Array): Uint8Array {
-  const out = new Uint8Array((bits.length + 7) >> 3);
-  for (let i = 0; i < bits.length; i++) out[i >> 3] |= bits[i] << (i & 7);
-  return out;
-}
-
-type Form = 'bitwise' | 'auto-packed' | 'packed';
-
-function deframe(bits: Uint8Array, samples: Float64Array, sizes: number[], form: Form, options: DeframerOptions = {}) {
-  const frames: RawFrame[] = [];
-  const events: LineEvent[] = [];
-  const d = new Deframer('L', { frame: (f) => frames.push(f), event: (e) => events.push(e) }, { ...options, bitwise: form === 'bitwise' });
-  let at = 0;
-  let k = 0;
-  while (at < bits.length) {
-    const end = Math.min(bits.length, at + Math.max(1, sizes[k++ % sizes.length]));
-    const part = bits.subarray(at, end);
-    const chunk: BitChunk =
-      form === 'packed'
-        ? { bits: new Uint8Array(0), packed: pack(part), samples: samples.subarray(at, end), n: end - at }
-        : { bits: part, samples: samples.subarray(at, end), n: end - at };
-    d.push(chunk);
-    at = end;
-  }
-  d.finish();
-  return { frames, events, pending: d.pendingFrom() };
-}
-
-describe('byte-at-a-time deframing', () => {
-  it('gives the same frames and events as the bit-at-a-time reference on random lines and chunkings (seeded PRNG)', () => {
-    for (let seed = 1; seed <= 8; seed++) {
-      const bits = mixedLine(seed, 200);
-      const samples = jitteredSamples(seed + 100, bits.length);
-      const rng = seededRng(seed + 200);
-      const sizes = Array.from({ length: 7 }, () => 1 + Math.floor(rng() * (rng() < 0.5 ? 20 : 3000)));
-      const reference = deframe(bits, samples, [bits.length], 'bitwise');
-      expect(reference.frames.length).toBeGreaterThan(50);
-      expect(reference.frames.some((f) => f.stuffed.length > 0)).toBe(true);
-      expect(new Set(reference.frames.map((f) => f.status)).size).toBeGreaterThan(2);
-      for (const form of ['auto-packed', 'packed'] as const) {
-        for (const split of [[bits.length], [8192], sizes]) {
-          const got = deframe(bits, samples, split, form);
-          expect(got.frames).toEqual(reference.frames);
-          expect(got.events).toEqual(reference.events);
-          expect(got.pending).toBe(reference.pending);
-        }
-      }
-    }
-  });
-
-  it('closes over-long frames at the same bit as the reference when the octet limit is reached mid-byte', () => {
-    for (let seed = 20; seed < 24; seed++) {
-      const bits = mixedLine(seed, 200);
-      const samples = jitteredSamples(seed, bits.length);
-      const options = { maxFrameOctets: 9 };
-      const reference = deframe(bits, samples, [bits.length], 'bitwise', options);
-      expect(reference.frames.some((f) => f.status === 'abort' && f.bytes.length === 9)).toBe(true);
-      expect(deframe(bits, samples, [13, 5000, 64], 'packed', options)).toEqual(reference);
-      expect(deframe(bits, samples, [bits.length], 'auto-packed', options)).toEqual(reference);
-    }
-  });
-});
 
 /** missing clock edges: single ones, a pair, and a long run that makes a silence */
 function lineClockFaults(rng: () => number): number[] {
