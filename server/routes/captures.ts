@@ -4,7 +4,7 @@ import multer from 'multer';
 import { z } from 'zod';
 import { captureSettingsSchema, timelineQuerySchema } from '../../shared/schemas';
 import { currentUser, rigAccess, type Guard } from '../auth/guard';
-import { badRequest, HttpError, notFound, parseBody, parseId } from '../http/errors';
+import { badRequest, HttpError, parseBody, parseId } from '../http/errors';
 import { deleteCapture } from '../services/captures/delete';
 import { detectCapture } from '../services/captures/detection';
 import { exportFrames } from '../services/captures/export';
@@ -115,9 +115,9 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
     const c = capture(req, rigAccess(res).rigId);
     const f = findFrame(m, c.currentJobId, parseId(req.params.frameId, 'frame'));
     const { dir } = parseBody(damagedQuerySchema, req.query);
+    // "none" is an answer, not an error: the timeline says so in place
     const id = m.timeline.damaged(f.jobId, f, dir);
-    if (id === null) throw notFound(`No damaged frame ${dir === 'next' ? 'after' : 'before'} this one`);
-    res.json({ id });
+    res.json({ id, t: id === null ? null : findFrame(m, f.jobId, id).t });
   });
 
   router.get(`${base}/frames/:frameId/waveform`, guard.requireRigRole('viewer'), async (req, res) => {

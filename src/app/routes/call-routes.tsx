@@ -19,6 +19,7 @@ import { timelineSearchFor } from '../../features/round-trips/components/exchang
 import { ExchangeTable } from '../../features/round-trips/components/exchange-table';
 import { RoundTripsView } from '../../features/round-trips/components/round-trips-view';
 import { queryClient } from '../query-client';
+import { whenSignedIn } from './session-loaders';
 
 // The call-layer views of a capture (round trips, recovered files, compare), mounted under the
 // capture route by router.tsx. Their view state (station, order, open file, B capture) lives in
@@ -31,12 +32,11 @@ function ids(params: LoaderFunctionArgs['params']): { rigId: number; captureId: 
 }
 
 /** Prefetches so the page paints with data; errors are left to the page, which shows them in place. */
-function prefetch(what: (rigId: number, captureId: number) => Promise<void>) {
-  return async ({ params }: LoaderFunctionArgs) => {
+function prefetch(what: (rigId: number, captureId: number) => Promise<unknown>) {
+  return whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
     const got = ids(params);
     if (got) await what(got.rigId, got.captureId);
-    return null;
-  };
+  });
 }
 
 function pathOnly({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevalidateFunctionArgs) {

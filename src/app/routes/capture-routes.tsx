@@ -6,7 +6,7 @@ import { NotFound } from '../../components/not-found';
 import { isApiError } from '../../lib/api';
 import { errorText } from '../../lib/error-text';
 import { rigQueryOptions, useRig } from '../../features/rigs/api/get-rig';
-import { captureQueryOptions, useCapture } from '../../features/captures/api/get-captures';
+import { captureQueryOptions, capturesQueryOptions, useCapture } from '../../features/captures/api/get-captures';
 import { CaptureList } from '../../features/captures/components/capture-list';
 import { CaptureNav } from '../../features/captures/components/capture-nav';
 import { CaptureSetup } from '../../features/captures/components/capture-setup';
@@ -14,11 +14,14 @@ import { canCapture } from '../../features/captures/components/permissions';
 import { UploadPanel } from '../../features/captures/components/upload-panel';
 import { overviewQueryOptions } from '../../features/overview/api/get-overview';
 import { CaptureOverview } from '../../features/overview/components/capture-overview';
+import { cursorAtQueryOptions, timelineCountQueryOptions, timelineRowsQueryOptions } from '../../features/timeline/api/get-timeline';
+import { filtersFromParams } from '../../features/timeline/api/timeline-filters';
 import { TimelineView } from '../../features/timeline/components/timeline-view';
 import { frameQueryOptions, useFrame } from '../../features/inspector/api/get-frame';
 import { FrameNotes } from '../../features/notes/components/frame-notes';
 import { FrameInspector } from '../../features/inspector/components/frame-inspector';
 import { queryClient } from '../query-client';
+import { whenSignedIn } from './session-loaders';
 
 function idFrom(value: string | undefined, what: string): number {
   const parsed = idParam.safeParse(value);
@@ -26,32 +29,48 @@ function idFrom(value: string | undefined, what: string): number {
   return parsed.data;
 }
 
-export async function captureLoader({ params }: LoaderFunctionArgs) {
+export const captureLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rigId = idFrom(params.rigId, 'rig');
   const captureId = idFrom(params.captureId, 'capture');
   await Promise.all([queryClient.ensureQueryData(rigQueryOptions(rigId)), queryClient.ensureQueryData(captureQueryOptions(rigId, captureId))]);
-  return null;
-}
+});
 
-export async function uploadLoader({ params }: LoaderFunctionArgs) {
+export const capturesLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
+  // the list shows its own loading state; waiting here only keeps the old tab until it can paint
+  await queryClient.prefetchQuery(capturesQueryOptions(idFrom(params.rigId, 'rig')));
+});
+
+export const uploadLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   await queryClient.ensureQueryData(rigQueryOptions(idFrom(params.rigId, 'rig')));
-  return null;
-}
+});
 
-export async function overviewLoader({ params }: LoaderFunctionArgs) {
+export const overviewLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rigId = idFrom(params.rigId, 'rig');
   const captureId = idFrom(params.captureId, 'capture');
   const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
   if (capture.status === 'decoded') await queryClient.ensureQueryData(overviewQueryOptions(rigId, captureId));
-  return null;
-}
+});
 
-export async function frameLoader({ params }: LoaderFunctionArgs) {
+/** The first page of rows where the URL's anchor says, and the match count, so the list paints with its rows. */
+export const timelineLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs) => {
+  const rigId = idFrom(params.rigId, 'rig');
+  const captureId = idFrom(params.captureId, 'capture');
+  const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
+  if (capture.status !== 'decoded') return;
+  const search = new URL(request.url).searchParams;
+  const { filters } = filtersFromParams(search);
+  const at = Number(search.get('at'));
+  // errors are left to the view, which shows them in place
+  void queryClient.prefetchQuery(timelineCountQueryOptions(rigId, captureId, filters));
+  const start = at > 0 ? ((await queryClient.fetchQuery(cursorAtQueryOptions(rigId, captureId, filters, at)).catch(() => null))?.cursor ?? null) : null;
+  await queryClient.prefetchInfiniteQuery(timelineRowsQueryOptions(rigId, captureId, filters, start));
+});
+
+export const frameLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rigId = idFrom(params.rigId, 'rig');
   const captureId = idFrom(params.captureId, 'capture');
   await queryClient.ensureQueryData(frameQueryOptions(rigId, captureId, idFrom(params.frameId, 'frame')));
-  return null;
-}
+});
 
 /** The timeline keeps its view in the search params; changing them must not rerun loaders on every scroll. */
 export function onlyOnPathChange({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevalidateFunctionArgs) {

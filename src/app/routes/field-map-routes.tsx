@@ -8,6 +8,7 @@ import { FieldMapList } from '../../features/field-maps/components/field-map-lis
 import { fieldNotesQueryOptions } from '../../features/notes/api/field-notes';
 import { FieldNotes } from '../../features/notes/components/field-notes';
 import { queryClient } from '../query-client';
+import { whenSignedIn } from './session-loaders';
 
 // The rig's field maps (children of `rigs/:rigId`, under the rig header). The editor's view state
 // (layout, preview capture and frame, diffed versions) lives in the search params.
@@ -17,13 +18,12 @@ function pathOnly({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevali
 }
 
 /** Prefetches so the page paints with data; errors are shown in place by the page. */
-async function listLoader({ params }: LoaderFunctionArgs) {
+const listLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rig = idParam.safeParse(params.rigId);
   if (rig.success) await queryClient.prefetchQuery(fieldMapsQueryOptions(rig.data));
-  return null;
-}
+});
 
-async function editorLoader({ params }: LoaderFunctionArgs) {
+const editorLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rig = idParam.safeParse(params.rigId);
   const map = idParam.safeParse(params.mapId);
   if (rig.success && map.success) {
@@ -32,8 +32,7 @@ async function editorLoader({ params }: LoaderFunctionArgs) {
       queryClient.prefetchQuery(fieldNotesQueryOptions(rig.data, map.data)),
     ]);
   }
-  return null;
-}
+});
 
 function FieldMapsRoute() {
   const rig = useRig(Number(useParams().rigId));
