@@ -12,6 +12,7 @@ import { SignInPage } from '../features/session/components/sign-in-page';
 import { AppLayout, AppLoading } from './layout/app-layout';
 import { queryClient } from './query-client';
 import { InvitationRoute } from './routes/invitation-route';
+import { SafetyRoute } from './routes/safety-route';
 import { AppRouteError, RigRouteError } from './routes/route-errors';
 import {
   MembersRoute,
@@ -96,6 +97,7 @@ export const router = createBrowserRouter([
                   ...noteRoutes,
                 ],
               },
+              { path: 'probing-safety', element: <SafetyRoute /> },
               { path: 'dev/mailbox', element: <MailboxPage /> },
               { path: '*', element: <NotFound /> },
             ],

@@ -1,5 +1,5 @@
 import { data, isRouteErrorResponse, Outlet, useLocation, useParams, useRouteError, type LoaderFunctionArgs, type ShouldRevalidateFunctionArgs } from 'react-router';
-import { idParam } from '../../../shared/schemas';
+import { idParam, type CaptureSummaryRow } from '../../../shared/schemas';
 import { ButtonLink } from '../../components/button';
 import { Card, CardTitle } from '../../components/card';
 import { NotFound } from '../../components/not-found';
@@ -19,7 +19,9 @@ import { filtersFromParams } from '../../features/timeline/api/timeline-filters'
 import { TimelineView } from '../../features/timeline/components/timeline-view';
 import { frameQueryOptions, useFrame } from '../../features/inspector/api/get-frame';
 import { FrameNotes } from '../../features/notes/components/frame-notes';
-import { FrameInspector } from '../../features/inspector/components/frame-inspector';
+import { FrameInspector, WAVEFORM_CONTEXT_BITS } from '../../features/inspector/components/frame-inspector';
+import { frameCallQueryOptions } from '../../features/inspector/api/get-frame-call';
+import { waveformQueryOptions } from '../../features/inspector/api/get-waveform';
 import { queryClient } from '../query-client';
 import { whenSignedIn } from './session-loaders';
 
@@ -69,7 +71,11 @@ export const timelineLoader = whenSignedIn(async ({ params, request }: LoaderFun
 export const frameLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rigId = idFrom(params.rigId, 'rig');
   const captureId = idFrom(params.captureId, 'capture');
-  await queryClient.ensureQueryData(frameQueryOptions(rigId, captureId, idFrom(params.frameId, 'frame')));
+  const frameId = idFrom(params.frameId, 'frame');
+  // the call and the waveform fill in beside the frame; the page waits only for the frame itself
+  void queryClient.prefetchQuery(frameCallQueryOptions(rigId, captureId, frameId));
+  const [capture] = await Promise.all([queryClient.ensureQueryData(captureQueryOptions(rigId, captureId)), queryClient.ensureQueryData(frameQueryOptions(rigId, captureId, frameId))]);
+  if (hasSamples(capture)) void queryClient.prefetchQuery(waveformQueryOptions(rigId, captureId, frameId, WAVEFORM_CONTEXT_BITS));
 });
 
 /** The timeline keeps its view in the search params; changing them must not rerun loaders on every scroll. */
@@ -152,15 +158,21 @@ export function TimelineRoute() {
   return <TimelineView rig={rig} capture={capture} />;
 }
 
+/** A frame log holds cut frames only: no line samples to draw a waveform from. */
+function hasSamples(capture: CaptureSummaryRow): boolean {
+  return (capture.settings?.format ?? capture.format) !== 'framelog';
+}
+
 export function FrameRoute() {
   const { rigId, captureId, frameId } = useIds();
+  const capture = useCapture(rigId, captureId);
   const location = useLocation();
   const fromTimeline = (location.state as { timelineSearch?: string } | null)?.timelineSearch;
   const backTo = `/rigs/${rigId}/captures/${captureId}/timeline${fromTimeline ?? `?sel=${frameId}`}`;
   const octetCount = useFrame(rigId, captureId, frameId).frame.hexAll.length / 2;
   return (
     <div className="space-y-4">
-      <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} />
+      <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} hasSamples={hasSamples(capture)} />
       <FrameNotes key={`notes-${frameId}`} rigId={rigId} captureId={captureId} frameId={frameId} octetCount={octetCount} />
     </div>
   );

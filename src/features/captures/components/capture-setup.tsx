@@ -15,7 +15,7 @@ import { ChannelRoleForm } from './channel-role-form';
 import { DeleteCaptureButton } from './delete-capture-button';
 import { DecodeProgress } from './decode-progress';
 import { canCapture } from './permissions';
-import { SafetyPanel } from './safety-panel';
+import { SafetyPanel } from '../../../components/safety-panel';
 
 const formatNames: Record<string, string> = {
   vcd: 'value change dump',

@@ -7,7 +7,7 @@ import { errorText } from '../../../lib/error-text';
 import { isApiError } from '../../../lib/api';
 import { useUploadCapture } from '../api/upload-capture';
 import { DropZone } from './drop-zone';
-import { SafetyPanel } from './safety-panel';
+import { SafetyPanel } from '../../../components/safety-panel';
 
 /** The server's message as a sentence: one full stop at the end, whatever it came with. */
 function sentence(text: string): string {
