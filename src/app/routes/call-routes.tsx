@@ -14,7 +14,8 @@ import { RecoveredFileList } from '../../features/recovered-files/components/rec
 import { exchangeKeys } from '../../features/round-trips/api/exchange-keys';
 import { useCallLayer } from '../../features/round-trips/api/get-call-layer';
 import { exchangeStatsQueryOptions } from '../../features/round-trips/api/get-exchange-stats';
-import { useExchanges } from '../../features/round-trips/api/get-exchanges';
+import { exchangeExportUrl, useExchanges } from '../../features/round-trips/api/get-exchanges';
+import { ExportLinks } from '../../components/export-links';
 import { timelineSearchFor } from '../../features/round-trips/components/exchange-order';
 import { ExchangeTable } from '../../features/round-trips/components/exchange-table';
 import { RoundTripsView } from '../../features/round-trips/components/round-trips-view';
@@ -113,12 +114,15 @@ function FileExchanges({ rigId, captureId, fileId }: { rigId: number; captureId:
   if (list.error) return <ErrorNotice error={list.error} />;
   if (!list.data) return <p className="text-sm text-muted">Loading exchanges…</p>;
   return (
-    <ExchangeTable
-      rows={list.data.rows}
-      frameHref={(id) => `${base}/frames/${id}`}
-      timelineHref={(row) => `${base}/timeline${timelineSearchFor(row)}`}
-      caption="Exchanges about this file"
-    />
+    <div className="space-y-2">
+      <ExportLinks href={(format) => exchangeExportUrl(rigId, captureId, { file: fileId }, format)} what="the exchanges about this file" />
+      <ExchangeTable
+        rows={list.data.rows}
+        frameHref={(id) => `${base}/frames/${id}`}
+        timelineHref={(row) => `${base}/timeline${timelineSearchFor(row)}`}
+        caption="Exchanges about this file"
+      />
+    </div>
   );
 }
 

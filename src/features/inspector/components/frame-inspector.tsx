@@ -103,7 +103,8 @@ export function FrameInspector({ rigId, captureId, frameId, backTo, hasSamples }
           <LinkDecode frame={frame} />
         </Card>
       </div>
-      <div className="grid gap-4 xl:grid-cols-2">
+      {/* the call table sits right under the octets: pointing at a field shades its octets above */}
+      <div className="space-y-4">
         <Card>
           <CardTitle aside={<span className="font-mono text-xs text-muted">{octets.length} octets</span>}>Octets</CardTitle>
           <HexView
