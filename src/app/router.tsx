@@ -38,6 +38,7 @@ import {
   frameLoader,
   onlyOnPathChange,
   overviewLoader,
+  setupLoader,
   timelineLoader,
   uploadLoader,
 } from './routes/capture-routes';
@@ -89,7 +90,7 @@ export const router = createBrowserRouter([
                 shouldRevalidate: onlyOnPathChange,
                 children: [
                   { index: true, loader: overviewLoader, element: <OverviewRoute /> },
-                  { path: 'setup', element: <CaptureSetupRoute /> },
+                  { path: 'setup', loader: setupLoader, element: <CaptureSetupRoute /> },
                   { path: 'timeline', loader: timelineLoader, element: <TimelineRoute />, shouldRevalidate: onlyOnPathChange, handle: { wide: true } },
                   { path: 'frames/:frameId', loader: frameLoader, element: <FrameRoute />, errorElement: <CaptureRouteError /> },
                   ...callRoutes,

@@ -1,5 +1,6 @@
 import { Suspense } from 'react';
 import { Outlet, useMatches, useNavigation } from 'react-router';
+import { UnsavedChangesGuard } from '../../components/unsaved-changes';
 import { AppHeader } from './app-header';
 
 /** A route whose handle says `{ wide: true }` (the timeline) gets the window's width for its columns. */
@@ -13,6 +14,7 @@ export function AppLayout() {
   return (
     <div className="min-h-screen">
       <AppHeader />
+      <UnsavedChangesGuard />
       <div
         aria-hidden
         className={`h-0.5 bg-flare-500 transition-opacity ${navigation.state === 'loading' ? 'animate-pulse opacity-100' : 'opacity-0'}`}

@@ -8,6 +8,8 @@ import { errorText } from '../../lib/error-text';
 import { rigQueryOptions, useRig } from '../../features/rigs/api/get-rig';
 import { captureQueryOptions, capturesQueryOptions, useCapture } from '../../features/captures/api/get-captures';
 import { CaptureList } from '../../features/captures/components/capture-list';
+import { jobQueryOptions } from '../../features/captures/api/decode-job';
+import { detectionQueryOptions } from '../../features/captures/api/get-detection';
 import { CaptureNav } from '../../features/captures/components/capture-nav';
 import { CaptureSetup } from '../../features/captures/components/capture-setup';
 import { canCapture } from '../../features/captures/components/permissions';
@@ -51,6 +53,17 @@ export const overviewLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs
   const captureId = idFrom(params.captureId, 'capture');
   const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
   if (capture.status === 'decoded') await queryClient.ensureQueryData(overviewQueryOptions(rigId, captureId));
+});
+
+/** What the channel-role form starts from: the detection of the file's head, and the last decode's progress. */
+export const setupLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
+  const rigId = idFrom(params.rigId, 'rig');
+  const captureId = idFrom(params.captureId, 'capture');
+  const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
+  await Promise.all([
+    queryClient.prefetchQuery(detectionQueryOptions(rigId, captureId)),
+    capture.job !== null ? queryClient.prefetchQuery(jobQueryOptions(rigId, captureId)) : null,
+  ]);
 });
 
 /** The first page of rows where the URL's anchor says, and the match count, so the list paints with its rows. */

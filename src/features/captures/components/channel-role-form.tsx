@@ -1,9 +1,10 @@
-import { useState, type FormEvent } from 'react';
+import { useEffect, useRef, useState, type FormEvent } from 'react';
 import { captureSettingsSchema, type CaptureSummaryRow, type Detection, type RigDetail } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
 import { SelectField, TextField } from '../../../components/field';
 import { ErrorNotice } from '../../../components/notice';
 import { isApiError } from '../../../lib/api';
+import { useUnsavedChanges } from '../../../components/unsaved-changes';
 import { parseWith, serverFieldErrors, type FieldErrors } from '../../../lib/form';
 import { clockEdgeLabels, encodingLabels, formatAddress, formatRate, formatTimeStep, plural } from '../../../lib/format';
 import { initialRoleForm, rowErrorKey, settingsFromForm, type ChannelRow, type RoleFormState } from './role-form-state';
@@ -40,6 +41,14 @@ interface Props {
 /** The channel-role form: what each channel carries, and how the line is coded. */
 export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled, onSubmit }: Props) {
   const [form, setForm] = useState<RoleFormState>(() => initialRoleForm(detection, capture, rig.lineSettings));
+  // what the form held when it was opened or last saved: leaving with anything else asks first
+  const [baseline, setBaseline] = useState(form);
+  const wasBusy = useRef(busy);
+  useEffect(() => {
+    if (wasBusy.current && !busy && !error) setBaseline(form);
+    wasBusy.current = busy;
+  }, [busy, error, form]);
+  useUnsavedChanges(!disabled && JSON.stringify(form) !== JSON.stringify(baseline), `the channel roles of “${capture.name}”`);
   const [clientErrors, setClientErrors] = useState<FieldErrors>({});
   const errors: FieldErrors = { ...serverFieldErrors(error), ...clientErrors };
   const set = <K extends keyof RoleFormState>(key: K, value: RoleFormState[K]) => setForm((f) => ({ ...f, [key]: value }));
