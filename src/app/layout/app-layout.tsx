@@ -13,7 +13,7 @@ export function AppLayout() {
   const wide = useMatches().some((m) => (m.handle as LayoutHandle | undefined)?.wide);
   return (
     <div className="min-h-screen">
-      <AppHeader />
+      <AppHeader wide={wide} />
       <UnsavedChangesGuard />
       <div
         aria-hidden

@@ -8,11 +8,13 @@ export function deleteCapture(rigId: number, captureId: number): Promise<void> {
 
 /**
  * Everything cached about one capture: its row and every view of it (their keys start
- * [view, rigId, captureId, …]). Called once no page of the capture is showing, so nothing refetches it.
+ * [view, rigId, captureId, …]). Only what no mounted view watches is dropped: the router commits
+ * the next page in a transition, and a removed query a view still reads would be fetched again
+ * (and answer 404); the rest goes with the views.
  */
 export function forgetCapture(queryClient: QueryClient, rigId: number, captureId: number): void {
-  queryClient.removeQueries({ queryKey: captureKeys.detail(rigId, captureId) });
-  queryClient.removeQueries({ predicate: (q) => q.queryKey[0] !== captureKeys.all[0] && q.queryKey[1] === rigId && q.queryKey[2] === captureId });
+  queryClient.removeQueries({ queryKey: captureKeys.detail(rigId, captureId), type: 'inactive' });
+  queryClient.removeQueries({ predicate: (q) => q.queryKey[0] !== captureKeys.all[0] && q.queryKey[1] === rigId && q.queryKey[2] === captureId, type: 'inactive' });
 }
 
 /** Owner only (the server refuses anyone else): removes the stored file, its decodes, frames, exchanges and notes. */

@@ -187,7 +187,7 @@ export function TimelineTable({ rigId, captureId, filters, start, selectedId, re
                   className="absolute left-0 flex w-full items-center gap-3 border-b border-line/40 bg-raised/40 px-3.5 text-[11.5px] italic text-muted"
                   style={{ height: ROW_HEIGHT, transform: `translateY(${item.start}px)`, contain: 'strict' }}
                 >
-                  <span className="w-[7.2rem] not-italic tabular-nums">{data.t.toFixed(6)}</span>
+                  <span className="w-[5.6rem] not-italic tabular-nums">{data.t.toFixed(6)}</span>
                   <span aria-hidden>┄</span>
                   <span className="truncate">Line event · {data.summary}</span>
                 </div>
