@@ -28,9 +28,9 @@ export interface ClockedCapture {
  * A clocked VCD: clock, two data links (desk → server "txd", server → desk "rxd") and an RTS
  * line, NRZI at 800 kbit/s sampled at 8 MHz. Two frames on txd get one flipped bit each, so
  * the decoder reports bad FCS with a single-bit diagnosis. `timescale` writes the same samples
- * with another VCD time unit (e.g. "1 ps"); `residueAt` lists requests sent with 3 bits over.
+ * with another VCD time unit (e.g. "1 ps"); `residueAt` lists requests sent with 3 bits over; `rtsOnce` leaves RTS up (one change).
  */
-export function writeClockedVcd(dir: string, requests = 24, opts: { timescale?: string; residueAt?: number[]; name?: string } = {}): ClockedCapture {
+export function writeClockedVcd(dir: string, requests = 24, opts: { timescale?: string; residueAt?: number[]; rtsOnce?: boolean; name?: string } = {}): ClockedCapture {
   const tx: LineItem[] = [{ kind: 'flags', count: 4 }];
   const rx: LineItem[] = [{ kind: 'flags', count: 4 }];
   const damaged: ClockedCapture['damaged'] = [];
@@ -63,7 +63,7 @@ export function writeClockedVcd(dir: string, requests = 24, opts: { timescale?: 
     samplePeriodSeconds: 125e-9,
     encoding: 'nrzi',
     clock: { name: 'clk', edge: 'rising' },
-    handshake: [{ name: 'rts', initial: 0, edges: [{ bit: 8, level: 1 }, { bit: txBits.bits.length - 8, level: 0 }] }],
+    handshake: [{ name: 'rts', initial: 0, edges: opts.rtsOnce ? [{ bit: 8, level: 1 }] : [{ bit: 8, level: 1 }, { bit: txBits.bits.length - 8, level: 0 }] }],
   });
   const path = join(dir, opts.name ?? 'wrenfield-desk-session.vcd');
   writeFileSync(path, collect(vcdChunks(wave, { timescale: opts.timescale ?? '1 ns' })));

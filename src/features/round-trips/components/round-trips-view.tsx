@@ -104,6 +104,7 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
         <label className="space-y-1 text-sm">
           <span className="block font-medium">Station</span>
           <select
+            aria-label="Station"
             value={chosen === null ? '' : String(chosen)}
             onChange={(e) => setParam({ station: e.target.value, ex: null, lp: null })}
             className="block rounded-md border border-line bg-surface px-2.5 py-1.5 text-sm text-text focus:outline-none focus:ring-2 focus:ring-focus/60"
@@ -195,7 +196,7 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
             Exchanges
             <ExportLinks
               href={(format) => exchangeExportUrl(rig.id, captureId, { station: stationFilter }, format)}
-              what={chosen === ALL ? 'every exchange of this capture' : 'the exchanges of this station'}
+              what={chosen === ALL ? 'every exchange of this capture' : 'the exchanges listed below'}
             />
           </span>
         </CardTitle>
