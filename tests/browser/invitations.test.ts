@@ -125,6 +125,8 @@ describe('invitations in the browser', () => {
       await second.page.getByRole('heading', { name: 'This invitation can no longer be used' }).waitFor();
       await second.page.getByText(/already been used/).waitFor();
       expect(await second.page.getByRole('button', { name: /join/i }).count()).toBe(0);
+      // what to do next is said once, not twice
+      expect((await second.page.locator('main').innerText()).match(/ask the rig owner/gi)).toHaveLength(1);
       await shot(second.page, 'already-used');
     } finally {
       for (const context of contexts) await context.close();
