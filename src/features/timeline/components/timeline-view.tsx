@@ -86,6 +86,7 @@ export function TimelineView({ rig, capture }: { rig: RigDetail; capture: Captur
   }
 
   function changeFilters(next: TimelineFilters) {
+    setRefocus(false);
     url.setFilters(next);
     setJump((j) => ({ t: url.currentAt(), n: j.n + 1 }));
   }
@@ -100,6 +101,7 @@ export function TimelineView({ rig, capture }: { rig: RigDetail; capture: Captur
         searchRef={searchRef}
         onChange={changeFilters}
         onJump={(t) => {
+          setRefocus(false);
           url.setView({ at: t });
           setJump((j) => ({ t, n: j.n + 1 }));
         }}
