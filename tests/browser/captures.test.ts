@@ -138,7 +138,7 @@ describe('captures in the browser', () => {
       expect(await page.locator('[data-testid="hex-view"] [data-suspect]').count()).toBe(1);
       await page.getByTestId('waveform').locator('svg').waitFor();
       await page.getByTestId('waveform-suspect').waitFor();
-      const lanes = await page.getByTestId('waveform').locator('path').count();
+      const lanes = await page.getByTestId('waveform').locator('path[data-lane]').count();
       expect(lanes).toBe(4); // clk, txd, rxd, rts
       await shot(page, 'inspector');
 

@@ -61,9 +61,12 @@ export function WaveformView({ window: w, frame, bits, suspect }: Props) {
             flag
           </text>
         ) : null}
-        {bits.map((b, k) =>
-          b.stuffed ? <rect key={`s${k}`} x={x(cellStart(k))} y={TOP - 4} width={(cell / span) * plot} height={height - TOP} fill="var(--color-flare-500)" opacity={0.22} /> : null,
-        )}
+        {/* one path for all stuffed zeros and one for all cell boundaries: a long frame would otherwise add a node per bit */}
+        <path
+          d={bits.map((b, k) => (b.stuffed ? `M${x(cellStart(k))},${TOP - 4}h${(cell / span) * plot}v${height - TOP}h${-(cell / span) * plot}Z` : '')).join('')}
+          fill="var(--color-flare-500)"
+          opacity={0.22}
+        />
         {suspect !== null && suspect >= 0 ? (
           <g data-testid="waveform-suspect">
             <rect x={x(cellStart(suspect))} y={TOP - 4} width={Math.max(3, (cell / span) * plot)} height={height - TOP} fill="#e0582f" opacity={0.35} />
@@ -72,11 +75,14 @@ export function WaveformView({ window: w, frame, bits, suspect }: Props) {
             </text>
           </g>
         ) : null}
-        {showBits
-          ? Array.from({ length: n + 1 }, (_, k) => (
-              <line key={`b${k}`} x1={x(cellStart(k))} x2={x(cellStart(k))} y1={TOP - 2} y2={height - 6} stroke="var(--color-ink-400)" strokeOpacity={0.25} strokeWidth={1} />
-            ))
-          : null}
+        {showBits ? (
+          <path
+            d={Array.from({ length: n + 1 }, (_, k) => `M${x(cellStart(k))},${TOP - 2}V${height - 6}`).join('')}
+            stroke="var(--color-ink-400)"
+            strokeOpacity={0.25}
+            strokeWidth={1}
+          />
+        ) : null}
         {(endShown ? [cellStart(0), cellStart(n)] : [cellStart(0)]).map((s, i) => (
           <g key={`edge${i}`}>
             <line x1={x(s)} x2={x(s)} y1={TOP - 6} y2={height - 2} stroke="var(--color-tide-600)" strokeWidth={1.5} strokeDasharray="4 3" />
@@ -112,7 +118,7 @@ export function WaveformView({ window: w, frame, bits, suspect }: Props) {
               <text x={8} y={top + LANE / 2 + 10} className="fill-muted text-[9px]">
                 {ch.role}
               </text>
-              <path d={d} fill="none" stroke={laneColour[ch.role]} strokeWidth={1.6} strokeLinejoin="miter" />
+              <path d={d} data-lane={ch.name} fill="none" stroke={laneColour[ch.role]} strokeWidth={1.6} strokeLinejoin="miter" />
             </g>
           );
         })}
