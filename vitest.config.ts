@@ -26,6 +26,7 @@ export default defineConfig({
           include: ['tests/browser/**/*.test.ts'],
           environment: 'node',
           globalSetup: ['tests/browser/global-setup.ts'],
+          setupFiles: ['tests/browser/support/console-setup.ts'],
           testTimeout: 90_000,
           hookTimeout: 180_000,
           fileParallelism: false,

@@ -172,7 +172,7 @@ async function main() {
       const t = performance.now();
       const f = findFrame(m, jobId, id);
       frameDetail(m, m.timeline, 1, f);
-      await waveformWindow(m, sha256, s, period, f, 16);
+      await waveformWindow(m, sha256, s, period, f, 16, 2000);
       ms.push(performance.now() - t);
     }
     line('frame detail + waveform window (random frames)', `p50 ${percentile(ms, 50).toFixed(2)} ms, p95 ${percentile(ms, 95).toFixed(2)} ms`, 'target < 50 ms');
@@ -200,7 +200,7 @@ async function main() {
         for (let i = 0; i < n; i++) {
           const f = findFrame(m, vcdJob, vids[Math.floor((((i * 7919) % n) / n) * vids.length)]);
           const t = performance.now();
-          await waveformWindow(m, stored.sha256, vcdSettings, vcdPeriod, f, 16);
+          await waveformWindow(m, stored.sha256, vcdSettings, vcdPeriod, f, 16, 2000);
           out.push(performance.now() - t);
         }
         return out;

@@ -2,9 +2,9 @@ import { randomUUID } from 'node:crypto';
 import { Router, type RequestHandler } from 'express';
 import multer from 'multer';
 import { z } from 'zod';
-import { captureSettingsSchema, timelineQuerySchema } from '../../shared/schemas';
+import { captureSettingsSchema, timelineQuerySchema, waveformQuerySchema } from '../../shared/schemas';
 import { currentUser, rigAccess, type Guard } from '../auth/guard';
-import { badRequest, HttpError, notFound, parseBody, parseId } from '../http/errors';
+import { badRequest, HttpError, parseBody, parseId } from '../http/errors';
 import { deleteCapture } from '../services/captures/delete';
 import { detectCapture } from '../services/captures/detection';
 import { exportFrames } from '../services/captures/export';
@@ -19,7 +19,6 @@ import { waveformWindow } from '../services/captures/waveform';
 
 const atQuerySchema = z.object({ t: z.coerce.number({ error: 'Give the time in seconds' }).min(0, 'The time cannot be negative') });
 const damagedQuerySchema = z.object({ dir: z.enum(['next', 'prev']).default('next') });
-const waveformQuerySchema = z.object({ bits: z.coerce.number().int().min(1).max(4096).default(16) });
 
 const megabytes = (n: number) => (n >= 1024 ** 3 ? `${(n / 1024 ** 3).toFixed(1)} GB` : `${Math.round(n / 1024 ** 2)} MB`);
 
@@ -115,9 +114,9 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
     const c = capture(req, rigAccess(res).rigId);
     const f = findFrame(m, c.currentJobId, parseId(req.params.frameId, 'frame'));
     const { dir } = parseBody(damagedQuerySchema, req.query);
+    // "none" is an answer, not an error: the timeline says so in place
     const id = m.timeline.damaged(f.jobId, f, dir);
-    if (id === null) throw notFound(`No damaged frame ${dir === 'next' ? 'after' : 'before'} this one`);
-    res.json({ id });
+    res.json({ id, t: id === null ? null : findFrame(m, f.jobId, id).t });
   });
 
   router.get(`${base}/frames/:frameId/waveform`, guard.requireRigRole('viewer'), async (req, res) => {
@@ -125,8 +124,8 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
     const f = findFrame(m, c.currentJobId, parseId(req.params.frameId, 'frame'));
     const job = currentJob(m, c)!;
     const settings = parseSettings(job.settings)!;
-    const { bits } = parseBody(waveformQuerySchema, req.query);
-    res.json(await waveformWindow(m, c.sha256, settings, job.samplePeriod ?? 1, f, bits));
+    const { bits, points } = parseBody(waveformQuerySchema, req.query);
+    res.json(await waveformWindow(m, c.sha256, settings, job.samplePeriod ?? 1, f, bits, points));
   });
 
   for (const format of ['csv', 'json'] as const) {

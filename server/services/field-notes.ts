@@ -68,9 +68,11 @@ export function createFieldNote(deps: CaptureDeps, rigId: number, mapId: number,
     throw badRequest('The note names another field map', { 'target.fieldMapId': `This is field map ${mapId}` });
   }
   checkFieldPath(map, input.target.fieldPath);
+  const now = new Date();
   const row = deps.db
     .insert(notes)
-    .values({ rigId, captureId: null, target: 'field', fieldMapId: mapId, fieldPath: input.target.fieldPath, body: input.body, authorId: caller.userId })
+    // one instant for both stamps, so a new note never reads as edited
+    .values({ rigId, captureId: null, target: 'field', fieldMapId: mapId, fieldPath: input.target.fieldPath, body: input.body, authorId: caller.userId, createdAt: now, updatedAt: now })
     .returning()
     .get();
   return readFieldNotes(deps, rigId, mapId, caller, eq(notes.id, row.id))[0];

@@ -103,9 +103,11 @@ export function createNote(deps: CaptureDeps, capture: CaptureRow, input: NoteIn
       pin = { ...pin, byteStart: t.byteStart, byteEnd: t.byteEnd };
     }
   }
+  const now = new Date();
   const row = deps.db
     .insert(notes)
-    .values({ rigId: capture.rigId, captureId: capture.id, target: t.kind, ...pin, body: input.body, authorId: caller.userId })
+    // one instant for both stamps, so a new note never reads as edited
+    .values({ rigId: capture.rigId, captureId: capture.id, target: t.kind, ...pin, body: input.body, authorId: caller.userId, createdAt: now, updatedAt: now })
     .returning()
     .get();
   return oneNote(deps, capture, row.id, caller);

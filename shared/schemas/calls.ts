@@ -311,6 +311,8 @@ export interface FrameCall {
   } | null;
   /** the visible exchange this frame belongs to, if any */
   exchangeId: number | null;
+  /** that exchange as the exchange list gives it (its request, retry and answer frames), null when none */
+  exchange: ExchangeRow | null;
 }
 
 // ---- compare ----

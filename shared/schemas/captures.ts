@@ -248,11 +248,23 @@ export interface FrameDetail {
   nextId: number | null;
 }
 
+/** GET …/frames/:frameId/waveform: context bits either side of the frame, and the drawing columns the changes are thinned to */
+export const waveformQuerySchema = z.object({
+  bits: z.coerce.number().int().min(1).max(4096).default(16),
+  points: z.coerce.number().int().min(16).max(20_000).default(2000),
+});
+
 export interface WaveformWindow {
-  /** sample index range of the window */
+  /** sample index range of the window: the frame and its context bits, at most MAX_WINDOW_BITS line bits */
   fromSample: number;
   toSample: number;
   samplePeriodSeconds: number;
-  /** each channel as level changes inside the window: [sample, level] pairs, the first at fromSample */
-  channels: { name: string; role: 'clock' | 'data' | 'handshake'; changes: [number, number][] }[];
+  /** the frame's samples per line bit (its sample span over its line bits) */
+  samplesPerBit: number;
+  /**
+   * each channel as level changes inside the window: [sample, level] pairs, the first at fromSample;
+   * `thinned` when a drawing column held more than three changes (the first two and the last are kept,
+   * so a busy stretch still draws as a stroke and every column ends at the right level)
+   */
+  channels: { name: string; role: 'clock' | 'data' | 'handshake'; changes: [number, number][]; thinned: boolean }[];
 }

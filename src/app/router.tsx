@@ -9,9 +9,10 @@ import { sessionKeys } from '../features/session/api/session-keys';
 import { ResetPasswordPage } from '../features/session/components/reset-password-page';
 import { ResetRequestPage } from '../features/session/components/reset-request-page';
 import { SignInPage } from '../features/session/components/sign-in-page';
-import { AppLayout } from './layout/app-layout';
+import { AppLayout, AppLoading } from './layout/app-layout';
 import { queryClient } from './query-client';
 import { InvitationRoute } from './routes/invitation-route';
+import { SafetyRoute } from './routes/safety-route';
 import { AppRouteError, RigRouteError } from './routes/route-errors';
 import {
   MembersRoute,
@@ -28,6 +29,7 @@ import {
   CaptureRouteError,
   CaptureSetupRoute,
   CapturesRoute,
+  capturesLoader,
   FrameRoute,
   OverviewRoute,
   TimelineRoute,
@@ -36,6 +38,8 @@ import {
   frameLoader,
   onlyOnPathChange,
   overviewLoader,
+  setupLoader,
+  timelineLoader,
   uploadLoader,
 } from './routes/capture-routes';
 import { callRoutes } from './routes/call-routes';
@@ -47,6 +51,8 @@ export const router = createBrowserRouter([
   {
     id: 'root',
     loader: rootLoader,
+    // painted while the first loaders run on a full page load
+    hydrateFallbackElement: <AppLoading />,
     errorElement: <AppRouteError />,
     children: [
       { path: 'sign-in', loader: signInLoader, element: <SignInPage /> },
@@ -71,7 +77,7 @@ export const router = createBrowserRouter([
                   { index: true, element: <StationsRoute /> },
                   { path: 'settings', element: <SettingsRoute /> },
                   { path: 'members', loader: membersLoader, element: <MembersRoute /> },
-                  { path: 'captures', element: <CapturesRoute /> },
+                  { path: 'captures', loader: capturesLoader, element: <CapturesRoute /> },
                   ...fieldMapRoutes,
                 ],
               },
@@ -84,14 +90,15 @@ export const router = createBrowserRouter([
                 shouldRevalidate: onlyOnPathChange,
                 children: [
                   { index: true, loader: overviewLoader, element: <OverviewRoute /> },
-                  { path: 'setup', element: <CaptureSetupRoute /> },
-                  { path: 'timeline', element: <TimelineRoute />, shouldRevalidate: onlyOnPathChange },
+                  { path: 'setup', loader: setupLoader, element: <CaptureSetupRoute /> },
+                  { path: 'timeline', loader: timelineLoader, element: <TimelineRoute />, shouldRevalidate: onlyOnPathChange, handle: { wide: true } },
                   { path: 'frames/:frameId', loader: frameLoader, element: <FrameRoute />, errorElement: <CaptureRouteError /> },
                   ...callRoutes,
                   ...faultRoutes,
                   ...noteRoutes,
                 ],
               },
+              { path: 'probing-safety', element: <SafetyRoute /> },
               { path: 'dev/mailbox', element: <MailboxPage /> },
               { path: '*', element: <NotFound /> },
             ],

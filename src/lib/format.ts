@@ -34,3 +34,37 @@ export function formatDateTime(iso: string): string {
   if (Number.isNaN(date.getTime())) return iso;
   return date.toLocaleString(undefined, { dateStyle: 'medium', timeStyle: 'short' });
 }
+
+/** "1 change", "2 changes", "1,024 rows": a count with its noun in the right number. */
+export function plural(n: number, one: string, many = `${one}s`): string {
+  return `${n.toLocaleString('en-GB')} ${n === 1 ? one : many}`;
+}
+
+const timeUnits: [number, string][] = [
+  [1, 's'],
+  [1e-3, 'ms'],
+  [1e-6, 'µs'],
+  [1e-9, 'ns'],
+  [1e-12, 'ps'],
+  [1e-15, 'fs'],
+];
+
+/** A time step in the unit that keeps its number at 1 or more: 1e-12 → "1 ps", 2.5e-7 → "250 ns". */
+export function formatTimeStep(seconds: number): string {
+  const [scale, unit] = timeUnits.find(([s]) => seconds >= s * 0.9995) ?? timeUnits[timeUnits.length - 1];
+  const v = seconds / scale;
+  return `${Number(v.toPrecision(4))} ${unit}`;
+}
+
+/** A sample rate in Hz, kHz, MHz or GHz: 4e6 → "4 MHz". */
+export function formatRate(perSecond: number): string {
+  const units: [number, string][] = [
+    [1e12, 'THz'],
+    [1e9, 'GHz'],
+    [1e6, 'MHz'],
+    [1e3, 'kHz'],
+    [1, 'Hz'],
+  ];
+  const [scale, unit] = units.find(([s]) => perSecond >= s) ?? units[units.length - 1];
+  return `${Number((perSecond / scale).toPrecision(4))} ${unit}`;
+}

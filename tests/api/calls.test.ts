@@ -191,6 +191,8 @@ describe('call layer over the demo captures', () => {
     const ex = ((await viewer.get(`${url(file)}/exchanges?limit=1`).expect(200)).body as ExchangePage).rows[0];
     const fc = (await viewer.get(`${url(file)}/frames/${ex.requestFrameId}/call`).expect(200)).body as FrameCall;
     expect(fc.exchangeId).toBe(ex.id);
+    // the exchange comes whole, as the exchange list gives it, so the inspector can link its other frames
+    expect(fc.exchange).toEqual(ex);
     expect(fc.call!.direction).toBe('request');
     expect(fc.call!.callCode).toBe(ex.call.code);
     // address and control come first (modulo-8 control: one octet each)

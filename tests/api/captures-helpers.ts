@@ -83,7 +83,7 @@ function collectChunks(chunks: Iterable<Uint8Array>): Buffer {
 }
 
 /** A clocked VCD: clock "clk", data "tx" (station 0x21) and "rx" (server 0x10), an RTS line that rises before the first frame. */
-export function clockedVcd(framesPerLink = 60): TestCapture {
+export function clockedVcd(framesPerLink = 60, opts: { timescale?: string } = {}): TestCapture {
   const a = linkTraffic('tx', 0x21, framesPerLink);
   const b = linkTraffic('rx', 0x10, framesPerLink, 5000);
   const ea = encodeLineBits(a.items);
@@ -100,7 +100,7 @@ export function clockedVcd(framesPerLink = 60): TestCapture {
     clock: { name: 'clk', edge: 'rising' },
     handshake: [rts],
   });
-  return { file: collectChunks(vcdChunks(w, { timescale: '1 ns' })), sent: [...a.sent, ...b.sent], links: ['tx', 'rx'], samplePeriodSeconds: 1e-7 };
+  return { file: collectChunks(vcdChunks(w, { timescale: opts.timescale ?? '1 ns' })), sent: [...a.sent, ...b.sent], links: ['tx', 'rx'], samplePeriodSeconds: 1e-7 };
 }
 
 /** Raw 1-byte samples without a clock (bit 0 "tx", bit 1 "rx"), NRZI, 8 samples per bit at 8 MHz. */

@@ -199,11 +199,13 @@ describe('a clocked VCD capture, from upload to export', () => {
     expect(page.rows[0].id).toBe(frames.find((f) => f.t >= target.t)!.id);
     const damaged = frames.filter((f) => f.status !== 'ok');
     const next = await w.viewer.get(`${url}/frames/${frames[0].id}/damaged?dir=next`);
-    expect(next.body).toEqual({ id: damaged[0].id });
+    expect(next.body).toEqual({ id: damaged[0].id, t: damaged[0].t });
     const prev = await w.viewer.get(`${url}/frames/${damaged[1].id}/damaged?dir=prev`);
-    expect(prev.body).toEqual({ id: damaged[0].id });
+    expect(prev.body).toEqual({ id: damaged[0].id, t: damaged[0].t });
+    // no damaged frame that way is an answer, not a missing resource
     const none = await w.viewer.get(`${url}/frames/${frames[0].id}/damaged?dir=prev`);
-    expect(none.status).toBe(404);
+    expect(none.status).toBe(200);
+    expect(none.body).toEqual({ id: null, t: null });
   });
 
   it('shows a damaged frame’s octets, FCS and the single flipped bit the FCS points to', async () => {

@@ -28,6 +28,8 @@ describe('field notes', () => {
     const res = await w.viewer.post(`${mapUrl}/notes`, { target: { kind: 'field', fieldPath: lastPath }, body: 'Seen zero on every bench run' });
     expect(res.status).toBe(201);
     expect(res.body as Note).toMatchObject({ captureId: null, target: { kind: 'field', fieldPath: lastPath, frameId: null }, author: { name: 'Vic Viewer' }, canEdit: true });
+    // one instant for both stamps: a new note does not read as edited
+    expect((res.body as Note).updatedAt).toBe((res.body as Note).createdAt);
     const seen = (await w.analyst.get(`${mapUrl}/notes?fieldPath=${encodeURIComponent(lastPath)}`)).body as Note[];
     expect(seen.map((n) => n.body)).toEqual(['Seen zero on every bench run']);
     expect(seen[0]).toMatchObject({ canEdit: false, canDelete: false });

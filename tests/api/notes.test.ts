@@ -49,6 +49,8 @@ describe('notes', () => {
       canDelete: true,
     });
     expect(Date.parse(note.createdAt)).toBeGreaterThan(Date.now() - 60_000);
+    // one instant for both stamps: a new note does not read as edited
+    expect(note.updatedAt).toBe(note.createdAt);
     const seen = (await w.analyst.get(`${url}/notes?frameId=${frame.id}`)).body as Note[];
     expect(seen.map((n) => n.id)).toContain(note.id);
     expect(seen.find((n) => n.id === note.id)).toMatchObject({ canEdit: false, canDelete: false });

@@ -5,11 +5,9 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { launchBrowser, newPage, stepShots } from './support/browser';
 import { signInAsDemo } from './support/flows';
+import { CLOCKED, DEMO_RIG, REPLACEMENT, waitForDemo } from './support/demo';
 
 const baseUrl = inject('baseUrl');
-const DEMO_RIG = 'Wrenfield Parish Office, 1983';
-const CLOCKED = 'wrenfield-session-clocked.raw';
-const REPLACEMENT = 'wrenfield-session-replacement.raw';
 
 interface ManifestFile {
   key: string;
@@ -30,30 +28,9 @@ afterAll(async () => {
   await browser?.close();
 });
 
-/**
- * The seed decodes the sample captures in the background when the server starts; waits (through
- * the API the pages use) until both session captures are decoded and their call layer has run.
- */
 async function waitForDemoCalls(page: Page): Promise<{ rigId: number; clocked: number; replacement: number }> {
-  return page.evaluate(
-    async ({ rigName, names }) => {
-      const rigs = (await (await fetch('/api/rigs')).json()) as { id: number; name: string }[];
-      const rig = rigs.find((r) => r.name === rigName);
-      if (!rig) throw new Error(`no rig "${rigName}"`);
-      const deadline = Date.now() + 150_000;
-      for (;;) {
-        const captures = (await (await fetch(`/api/rigs/${rig.id}/captures`)).json()) as { id: number; name: string; status: string }[];
-        const ids = names.map((n) => captures.find((c) => c.name === n));
-        if (ids.every((c) => c?.status === 'decoded')) {
-          const layers = await Promise.all(ids.map(async (c) => (await fetch(`/api/rigs/${rig.id}/captures/${c!.id}/field-map`)).json()));
-          if (layers.every((l: { current: unknown }) => l.current)) return { rigId: rig.id, clocked: ids[0]!.id, replacement: ids[1]!.id };
-        }
-        if (Date.now() > deadline) throw new Error(`the demo captures were not decoded in time: ${JSON.stringify(captures.map((c) => [c.name, c.status]))}`);
-        await new Promise((r) => setTimeout(r, 1000));
-      }
-    },
-    { rigName: DEMO_RIG, names: [CLOCKED, REPLACEMENT] },
-  );
+  const { rigId, ids } = await waitForDemo(page, [CLOCKED, REPLACEMENT]);
+  return { rigId, clocked: ids[CLOCKED], replacement: ids[REPLACEMENT] };
 }
 
 async function openClockedCapture(page: Page): Promise<{ rigId: number; clocked: number; replacement: number }> {

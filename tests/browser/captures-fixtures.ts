@@ -27,9 +27,10 @@ export interface ClockedCapture {
 /**
  * A clocked VCD: clock, two data links (desk → server "txd", server → desk "rxd") and an RTS
  * line, NRZI at 800 kbit/s sampled at 8 MHz. Two frames on txd get one flipped bit each, so
- * the decoder reports bad FCS with a single-bit diagnosis.
+ * the decoder reports bad FCS with a single-bit diagnosis. `timescale` writes the same samples
+ * with another VCD time unit (e.g. "1 ps"); `residueAt` lists requests sent with 3 bits over; `rtsOnce` leaves RTS up (one change).
  */
-export function writeClockedVcd(dir: string, requests = 24): ClockedCapture {
+export function writeClockedVcd(dir: string, requests = 24, opts: { timescale?: string; residueAt?: number[]; rtsOnce?: boolean; name?: string } = {}): ClockedCapture {
   const tx: LineItem[] = [{ kind: 'flags', count: 4 }];
   const rx: LineItem[] = [{ kind: 'flags', count: 4 }];
   const damaged: ClockedCapture['damaged'] = [];
@@ -38,7 +39,9 @@ export function writeClockedVcd(dir: string, requests = 24): ClockedCapture {
     const address = 0x21 + (i % 3);
     const name = names[i % names.length];
     const flip = i === 5 || i === 17 ? 21 + i : undefined;
-    tx.push({ kind: 'frame', bytes: frame(address, iControl(i, i, true), `OPEN ${name} rec ${i}`), faults: flip === undefined ? undefined : { flipBits: [flip] } });
+    // a request that runs on for three bits before its closing flag: a residue frame
+    const residue = opts.residueAt?.includes(i) ? { residueBits: 3 } : undefined;
+    tx.push({ kind: 'frame', bytes: frame(address, iControl(i, i, true), `OPEN ${name} rec ${i}`), faults: flip === undefined ? residue : { flipBits: [flip] } });
     if (flip !== undefined) damaged.push({ link: 'txd', index: i, flippedBit: flip });
     tx.push({ kind: 'flags', count: 30 });
     // the answer comes while the request's closing flags go out
@@ -60,10 +63,10 @@ export function writeClockedVcd(dir: string, requests = 24): ClockedCapture {
     samplePeriodSeconds: 125e-9,
     encoding: 'nrzi',
     clock: { name: 'clk', edge: 'rising' },
-    handshake: [{ name: 'rts', initial: 0, edges: [{ bit: 8, level: 1 }, { bit: txBits.bits.length - 8, level: 0 }] }],
+    handshake: [{ name: 'rts', initial: 0, edges: opts.rtsOnce ? [{ bit: 8, level: 1 }] : [{ bit: 8, level: 1 }, { bit: txBits.bits.length - 8, level: 0 }] }],
   });
-  const path = join(dir, 'wrenfield-desk-session.vcd');
-  writeFileSync(path, collect(vcdChunks(wave, { timescale: '1 ns' })));
+  const path = join(dir, opts.name ?? 'wrenfield-desk-session.vcd');
+  writeFileSync(path, collect(vcdChunks(wave, { timescale: opts.timescale ?? '1 ns' })));
   return { path, damaged };
 }
 

@@ -4,6 +4,7 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { launchBrowser, newPage, stepShots } from './support/browser';
+import { allowConsole } from './support/console';
 import { signInAsDemo } from './support/flows';
 import { writeClockedVcd } from './captures-fixtures';
 
@@ -137,7 +138,7 @@ describe('captures in the browser', () => {
       expect(await page.locator('[data-testid="hex-view"] [data-suspect]').count()).toBe(1);
       await page.getByTestId('waveform').locator('svg').waitFor();
       await page.getByTestId('waveform-suspect').waitFor();
-      const lanes = await page.getByTestId('waveform').locator('path').count();
+      const lanes = await page.getByTestId('waveform').locator('path[data-lane]').count();
       expect(lanes).toBe(4); // clk, txd, rxd, rts
       await shot(page, 'inspector');
 
@@ -157,10 +158,17 @@ describe('captures in the browser', () => {
       await signInAsDemo(page, baseUrl, 'analyst@demo.test');
       const rigId = await openDemoRigCaptures(page);
       await page.goto(`${baseUrl}/rigs/${rigId}/captures/new`);
+      allowConsole(page, /status of 422 \(Unprocessable Entity\) \(\/api\/rigs\/\d+\/captures:/);
       await page.getByLabel('Capture file').setInputFiles(notCapture);
-      await page.getByRole('alert').filter({ hasText: 'Flagline cannot read this file' }).waitFor();
+      const alert = page.getByRole('alert').filter({ hasText: 'This file is not a capture Flagline can read' });
+      await alert.waitFor();
+      // said once, with what to do next, and nothing stored
+      expect((await alert.innerText()).match(/not a capture/g)).toHaveLength(1);
+      await alert.getByText('Nothing was stored.').waitFor();
       await stepShots('capture-refused')(page, 'not-a-capture');
       expect(new URL(page.url()).pathname).toBe(`/rigs/${rigId}/captures/new`);
+      await alert.getByRole('button', { name: 'Clear this message' }).click();
+      await expect.poll(() => page.getByRole('alert').count()).toBe(0);
     } finally {
       await context.close();
     }
@@ -177,6 +185,7 @@ describe('captures in the browser', () => {
       expect(await page.getByLabel('Capture file').count()).toBe(0);
       await stepShots('capture-viewer')(page, 'no-upload');
 
+      allowConsole(page, /status of 403 \(Forbidden\) \(\/api\/rigs\/\d+\/captures:/);
       const status = await page.evaluate(async (id) => {
         const session = await (await fetch('/api/session')).json();
         const body = new FormData();

@@ -3,10 +3,9 @@ import type { Browser, Page } from 'playwright-core';
 import type { FaultDeskView } from '../../shared/schemas';
 import { launchBrowser, newPage, stepShots } from './support/browser';
 import { signInAsDemo } from './support/flows';
+import { CLOCKED, DEMO_RIG, waitForDemo } from './support/demo';
 
 const baseUrl = inject('baseUrl');
-const DEMO_RIG = 'Wrenfield Parish Office, 1983';
-const CLOCKED = 'wrenfield-session-clocked.raw';
 
 let browser: Browser;
 beforeAll(async () => {
@@ -16,24 +15,9 @@ afterAll(async () => {
   await browser?.close();
 });
 
-/** Waits (through the API the pages use) until the clocked session is decoded. */
 async function waitForClocked(page: Page): Promise<{ rigId: number; captureId: number }> {
-  return page.evaluate(
-    async ({ rigName, name }) => {
-      const rigs = (await (await fetch('/api/rigs')).json()) as { id: number; name: string }[];
-      const rig = rigs.find((r) => r.name === rigName);
-      if (!rig) throw new Error(`no rig "${rigName}"`);
-      const deadline = Date.now() + 150_000;
-      for (;;) {
-        const captures = (await (await fetch(`/api/rigs/${rig.id}/captures`)).json()) as { id: number; name: string; status: string }[];
-        const c = captures.find((x) => x.name === name);
-        if (c?.status === 'decoded') return { rigId: rig.id, captureId: c.id };
-        if (Date.now() > deadline) throw new Error('the clocked demo capture was not decoded in time');
-        await new Promise((r) => setTimeout(r, 1000));
-      }
-    },
-    { rigName: DEMO_RIG, name: CLOCKED },
-  );
+  const { rigId, ids } = await waitForDemo(page, [CLOCKED], { callLayer: false });
+  return { rigId, captureId: ids[CLOCKED] };
 }
 
 describe('fault desk', () => {

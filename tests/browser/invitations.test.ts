@@ -1,6 +1,7 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { launchBrowser, newPage, stepShots, unique } from './support/browser';
+import { allowConsole } from './support/console';
 import { DEMO_OWNER, addStation, createRig, inviteAndReadLink, openInNewContext, signInAsDemo } from './support/flows';
 
 const baseUrl = inject('baseUrl');
@@ -86,6 +87,7 @@ describe('invitations in the browser', () => {
       expect(await page.getByRole('link', { name: 'Dev mailbox' }).count()).toBe(0);
       await shot(page, 'viewer-members');
 
+      allowConsole(page, /status of 403 \(Forbidden\) \(\/api\/rigs\/\d+:/);
       const answer = await patchRigDirectly(page, rigId, 'Taken over');
       expect(answer.status).toBe(403);
       await page.reload();
@@ -119,9 +121,12 @@ describe('invitations in the browser', () => {
 
       const second = await openInNewContext(browser, href);
       contexts.push(second.context);
+      allowConsole(second.page, /status of 410 \(Gone\) \(\/api\/invitations\//);
       await second.page.getByRole('heading', { name: 'This invitation can no longer be used' }).waitFor();
       await second.page.getByText(/already been used/).waitFor();
       expect(await second.page.getByRole('button', { name: /join/i }).count()).toBe(0);
+      // what to do next is said once, not twice
+      expect((await second.page.locator('main').innerText()).match(/ask the rig owner/gi)).toHaveLength(1);
       await shot(second.page, 'already-used');
     } finally {
       for (const context of contexts) await context.close();
@@ -146,6 +151,7 @@ describe('invitations in the browser', () => {
 
       const visitor = await openInNewContext(browser, href);
       contexts.push(visitor.context);
+      allowConsole(visitor.page, /status of 404 \(Not Found\) \(\/api\/invitations\//);
       await visitor.page.getByRole('heading', { name: 'Unknown invitation' }).waitFor();
       expect(await visitor.page.getByLabel('Choose a password').count()).toBe(0);
     } finally {

@@ -4,10 +4,9 @@ import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import { launchBrowser, newPage, stepShots } from './support/browser';
 import { signInAsDemo } from './support/flows';
+import { CLOCKED, DEMO_RIG, getJson, waitForDemo } from './support/demo';
 
 const baseUrl = inject('baseUrl');
-const DEMO_RIG = 'Wrenfield Parish Office, 1983';
-const CLOCKED = 'wrenfield-session-clocked.raw';
 // beside stepShots' own screenshots of this test (same folder rule as support/browser.ts)
 const artifactsDir = resolve(import.meta.dirname, `../../test-artifacts/${process.env.FLAGLINE_BROWSER_COLOR_SCHEME === 'dark' ? 'browser-dark' : 'browser'}/overview-timeline-calls`);
 mkdirSync(artifactsDir, { recursive: true });
@@ -36,31 +35,9 @@ interface Exchange {
   call: { name: string | null };
 }
 
-/** Waits (through the API the pages use) until the clocked session is decoded and its call layer has run. */
 async function waitForClocked(page: Page): Promise<{ rigId: number; captureId: number }> {
-  return page.evaluate(
-    async ({ rigName, name }) => {
-      const rigs = (await (await fetch('/api/rigs')).json()) as { id: number; name: string }[];
-      const rig = rigs.find((r) => r.name === rigName);
-      if (!rig) throw new Error(`no rig "${rigName}"`);
-      const deadline = Date.now() + 150_000;
-      for (;;) {
-        const captures = (await (await fetch(`/api/rigs/${rig.id}/captures`)).json()) as { id: number; name: string; status: string }[];
-        const c = captures.find((x) => x.name === name);
-        if (c?.status === 'decoded') {
-          const layer = (await (await fetch(`/api/rigs/${rig.id}/captures/${c.id}/field-map`)).json()) as { current: unknown };
-          if (layer.current) return { rigId: rig.id, captureId: c.id };
-        }
-        if (Date.now() > deadline) throw new Error('the clocked demo capture was not decoded in time');
-        await new Promise((r) => setTimeout(r, 1000));
-      }
-    },
-    { rigName: DEMO_RIG, name: CLOCKED },
-  );
-}
-
-async function getJson<T>(page: Page, path: string): Promise<T> {
-  return page.evaluate(async (p) => (await fetch(p)).json(), path) as Promise<T>;
+  const { rigId, ids } = await waitForDemo(page, [CLOCKED]);
+  return { rigId, captureId: ids[CLOCKED] };
 }
 
 describe('exchanges on the overview and in the timeline', () => {

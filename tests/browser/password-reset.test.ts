@@ -1,6 +1,7 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import type { Browser, BrowserContext } from 'playwright-core';
 import { launchBrowser, newPage, stepShots, unique } from './support/browser';
+import { allowConsole } from './support/console';
 import { DEMO_OWNER, createRig, inviteAndReadLink, openInNewContext, readMailLink, signIn, signInAsDemo } from './support/flows';
 
 const baseUrl = inject('baseUrl');
@@ -59,11 +60,13 @@ describe('password reset in the browser', () => {
       await page.getByRole('link').filter({ hasText: rigName }).waitFor();
 
       await page.getByRole('button', { name: 'Sign out' }).click();
+      allowConsole(page, /status of 401 \(Unauthorized\) \(\/api\/session:/);
       await signIn(page, email, 'first password 1');
       await page.getByRole('alert').filter({ hasText: 'do not match an account' }).waitFor();
       await signIn(page, email, 'second password 2');
       await page.getByRole('button', { name: 'Sign out' }).waitFor();
 
+      allowConsole(page, /status of 410 \(Gone\) \(\/api\/password-resets\//);
       await page.goto(resetLink);
       await page.getByRole('heading', { name: 'This reset link can no longer be used' }).waitFor();
       await page.getByText(/already been used/).waitFor();

@@ -1,6 +1,7 @@
 import { afterAll, beforeAll, describe, expect, inject, it } from 'vitest';
 import type { Browser } from 'playwright-core';
 import { launchBrowser, newPage, stepShots, unique } from './support/browser';
+import { allowConsole } from './support/console';
 import { DEMO_OWNER, addStation, createRig, signInAsDemo } from './support/flows';
 
 const baseUrl = inject('baseUrl');
@@ -66,6 +67,8 @@ describe('rigs in the browser', () => {
       await shot(page, 'address-out-of-range');
 
       await addStation(page, '0x10', 'First server', 'Server');
+      // the browser logs the server's 409 for the taken address this step provokes
+      allowConsole(page, /status of 409 \(Conflict\) \(\/api\/rigs\/\d+\/stations:/);
       await form.getByLabel('Address').fill('0x10');
       await form.getByLabel('Name').fill('Second claim');
       await form.getByRole('button', { name: 'Add station' }).click();
@@ -125,6 +128,8 @@ describe('rigs in the browser', () => {
     const { context, page } = await newPage(browser);
     try {
       await signInAsDemo(page, baseUrl, DEMO_OWNER);
+      // asking for a rig that does not exist: the browser logs the 404 this test provokes
+      allowConsole(page, /status of 404 \(Not Found\) \(\/api\/rigs\/999999:/);
       await page.goto(`${baseUrl}/rigs/999999`);
       await page.getByRole('heading', { name: 'No such rig' }).waitFor();
       await page.goto(`${baseUrl}/rigs/not-a-number/settings`);

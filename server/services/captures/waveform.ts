@@ -7,9 +7,16 @@ import type { CaptureDeps } from './deps';
 import type { FrameRecord } from './frame-detail';
 import { csvHeadEnd } from '../../jobs/csv-seek';
 import { headerEnd, headerIds, resumeText } from '../../jobs/vcd-seek';
+import { thinChanges } from './waveform-thin';
 
-/** most samples one window may span, so a request cannot make the server read a whole huge file for one picture */
-const MAX_WINDOW_SAMPLES = 20_000_000;
+/**
+ * The window is sized in line bits, not samples: a VCD with a 1 ps time unit has a million samples
+ * in one bit at 800 kbit/s. At most this many bits (frame plus context) per window, so a request
+ * cannot make the server read a whole huge file for one picture.
+ */
+export const MAX_WINDOW_BITS = 65_536;
+/** raw samples and octet streams are read sample by sample: their windows also stop at this many samples */
+const MAX_READ_SAMPLES = 20_000_000;
 const CHUNK = 1 << 20;
 
 type Role = WaveformWindow['channels'][number]['role'];
@@ -108,13 +115,27 @@ async function readRange(filePath: string, start: number, end: number, onChunk: 
   }
 }
 
-export async function waveformWindow(deps: CaptureDeps, sha256: string, s: CaptureSettings, period: number, f: FrameRecord, bits: number): Promise<WaveformWindow> {
+/**
+ * Level changes of the channels around a frame: `bits` line bits of context either side of it, each
+ * channel thinned to at most three changes per drawing column (`points` columns across the window).
+ */
+export async function waveformWindow(
+  deps: CaptureDeps,
+  sha256: string,
+  s: CaptureSettings,
+  period: number,
+  f: FrameRecord,
+  bits: number,
+  points: number,
+): Promise<WaveformWindow> {
   if (s.format === 'framelog') throw new HttpError(422, 'A frame log holds cut frames, not line samples: there is no waveform to show');
   const stuffed = (JSON.parse(f.stuffed) as number[]).length;
   const samplesPerBit = Math.max(1, (f.lastSample - f.firstSample) / Math.max(1, f.bitLength + stuffed - 1));
   const margin = Math.ceil(bits * samplesPerBit);
   const from = Math.max(0, Math.floor(f.firstSample - margin));
-  const to = Math.min(from + MAX_WINDOW_SAMPLES, Math.ceil(f.lastSample + margin));
+  const sampled = s.format === 'raw' || s.format === 'octets';
+  const cap = from + Math.min(Math.ceil(MAX_WINDOW_BITS * samplesPerBit), sampled ? MAX_READ_SAMPLES : Number.MAX_SAFE_INTEGER);
+  const to = Math.min(cap, Math.ceil(f.lastSample + margin));
   const wanted = wantedChannels(s);
   const filePath = deps.store.pathOf(sha256);
   const size = fs.statSync(filePath).size;
@@ -193,6 +214,10 @@ export async function waveformWindow(deps: CaptureDeps, sha256: string, s: Captu
     fromSample: from,
     toSample: to,
     samplePeriodSeconds: period,
-    channels: result.map((r, i) => ({ name: r.name, role: wanted[i]?.role ?? 'data', changes: r.changes })),
+    samplesPerBit,
+    channels: result.map((r, i) => {
+      const changes = thinChanges(r.changes, from, to, points);
+      return { name: r.name, role: wanted[i]?.role ?? 'data', changes, thinned: changes.length < r.changes.length };
+    }),
   };
 }

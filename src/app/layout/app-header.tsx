@@ -6,7 +6,8 @@ import { useSession } from '../../features/session/api/get-session';
 import { useSignOut } from '../../features/session/api/sign-out';
 import { ErrorNotice } from '../../components/notice';
 
-export function AppHeader() {
+/** `wide`: the page below uses the window's width, so the header lines up with it. */
+export function AppHeader({ wide = false }: { wide?: boolean }) {
   const session = useSession();
   const rigs = useRigsIfLoaded(Boolean(session.user));
   const signOut = useSignOut();
@@ -18,7 +19,7 @@ export function AppHeader() {
 
   return (
     <header className="border-b border-ink-800 bg-ink-900 text-ink-100">
-      <div className="mx-auto flex h-14 max-w-6xl items-center gap-4 px-4">
+      <div className={`mx-auto flex h-14 items-center gap-4 px-4 ${wide ? 'max-w-[120rem]' : 'max-w-6xl'}`}>
         <Link to="/" className="flex items-center gap-2 font-semibold tracking-tight text-white">
           <LogoMark className="h-7 w-7" />
           <span>Flagline</span>

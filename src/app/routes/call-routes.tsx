@@ -4,21 +4,23 @@ import { idParam } from '../../../shared/schemas';
 import { ButtonLink } from '../../components/button';
 import { Card, CardTitle } from '../../components/card';
 import { ErrorNotice } from '../../components/notice';
-import { useCapture, useCaptures } from '../../features/captures/api/get-captures';
-import { useRig } from '../../features/rigs/api/get-rig';
-import { comparisonKeys } from '../../features/compare/api/get-comparison';
+import { capturesQueryOptions, useCapture, useCaptures } from '../../features/captures/api/get-captures';
+import { rigQueryOptions, useRig } from '../../features/rigs/api/get-rig';
+import { comparisonKeys, comparisonQueryOptions } from '../../features/compare/api/get-comparison';
 import { CompareView } from '../../features/compare/components/compare-view';
 import { recoveredFileKeys } from '../../features/recovered-files/api/file-keys';
 import { recoveredFilesQueryOptions } from '../../features/recovered-files/api/get-files';
 import { RecoveredFileList } from '../../features/recovered-files/components/recovered-file-list';
 import { exchangeKeys } from '../../features/round-trips/api/exchange-keys';
-import { useCallLayer } from '../../features/round-trips/api/get-call-layer';
+import { callLayerQueryOptions, useCallLayer } from '../../features/round-trips/api/get-call-layer';
 import { exchangeStatsQueryOptions } from '../../features/round-trips/api/get-exchange-stats';
-import { useExchanges } from '../../features/round-trips/api/get-exchanges';
+import { exchangeExportUrl, exchangesQueryOptions, useExchanges } from '../../features/round-trips/api/get-exchanges';
+import { ExportLinks } from '../../components/export-links';
 import { timelineSearchFor } from '../../features/round-trips/components/exchange-order';
 import { ExchangeTable } from '../../features/round-trips/components/exchange-table';
 import { RoundTripsView } from '../../features/round-trips/components/round-trips-view';
 import { queryClient } from '../query-client';
+import { whenSignedIn } from './session-loaders';
 
 // The call-layer views of a capture (round trips, recovered files, compare), mounted under the
 // capture route by router.tsx. Their view state (station, order, open file, B capture) lives in
@@ -31,12 +33,11 @@ function ids(params: LoaderFunctionArgs['params']): { rigId: number; captureId: 
 }
 
 /** Prefetches so the page paints with data; errors are left to the page, which shows them in place. */
-function prefetch(what: (rigId: number, captureId: number) => Promise<void>) {
-  return async ({ params }: LoaderFunctionArgs) => {
+function prefetch(what: (rigId: number, captureId: number) => Promise<unknown>) {
+  return whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
     const got = ids(params);
     if (got) await what(got.rigId, got.captureId);
-    return null;
-  };
+  });
 }
 
 function pathOnly({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevalidateFunctionArgs) {
@@ -113,12 +114,15 @@ function FileExchanges({ rigId, captureId, fileId }: { rigId: number; captureId:
   if (list.error) return <ErrorNotice error={list.error} />;
   if (!list.data) return <p className="text-sm text-muted">Loading exchanges…</p>;
   return (
-    <ExchangeTable
-      rows={list.data.rows}
-      frameHref={(id) => `${base}/frames/${id}`}
-      timelineHref={(row) => `${base}/timeline${timelineSearchFor(row)}`}
-      caption="Exchanges about this file"
-    />
+    <div className="space-y-2">
+      <ExportLinks href={(format) => exchangeExportUrl(rigId, captureId, { file: fileId }, format)} what="the exchanges about this file" />
+      <ExchangeTable
+        rows={list.data.rows}
+        frameHref={(id) => `${base}/frames/${id}`}
+        timelineHref={(row) => `${base}/timeline${timelineSearchFor(row)}`}
+        caption="Exchanges about this file"
+      />
+    </div>
   );
 }
 
@@ -145,19 +149,53 @@ function CompareRoute() {
   );
 }
 
+/**
+ * Round trips opens on one station: the one in the link, else the first that has exchanges. The
+ * statistics say which that is, so the loader guesses it from the rig's roster (the stations by
+ * address, as the statistics list them) and reads its exchanges beside the statistics instead of
+ * after them; a wrong guess only costs the view one more request.
+ */
+const roundTripsLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs) => {
+  const got = ids(params);
+  if (!got) return;
+  const { rigId, captureId } = got;
+  const param = new URL(request.url).searchParams.get('station');
+  const rig = await queryClient.ensureQueryData(rigQueryOptions(rigId));
+  const guess = [...rig.stations].filter((s) => s.role !== 'server').sort((a, b) => a.address - b.address)[0]?.address;
+  const station = param === 'all' ? null : param !== null && /^\d+$/.test(param) ? Number(param) : (guess ?? null);
+  const stations = station === null ? [] : [station];
+  await Promise.all([
+    queryClient.prefetchQuery(callLayerQueryOptions(rigId, captureId)),
+    queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, [])),
+    station !== null || param === 'all' ? queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, stations)) : null,
+    station !== null || param === 'all' ? queryClient.prefetchQuery(exchangesQueryOptions(rigId, captureId, { station: stations })) : null,
+  ]);
+});
+
 /** Children of the capture route (`rigs/:rigId/captures/:captureId`). */
 export const callRoutes: RouteObject[] = [
-  {
-    path: 'round-trips',
-    loader: prefetch((rigId, captureId) => queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, []))),
-    element: <RoundTripsRoute />,
-    shouldRevalidate: pathOnly,
-  },
+  { path: 'round-trips', loader: roundTripsLoader, element: <RoundTripsRoute />, shouldRevalidate: pathOnly },
   {
     path: 'files',
-    loader: prefetch((rigId, captureId) => queryClient.prefetchQuery(recoveredFilesQueryOptions(rigId, captureId))),
+    loader: prefetch((rigId, captureId) =>
+      Promise.all([queryClient.prefetchQuery(callLayerQueryOptions(rigId, captureId)), queryClient.prefetchQuery(recoveredFilesQueryOptions(rigId, captureId))]),
+    ),
     element: <RecoveredFilesRoute />,
     shouldRevalidate: pathOnly,
   },
-  { path: 'compare', element: <CompareRoute />, shouldRevalidate: pathOnly },
+  {
+    path: 'compare',
+    loader: whenSignedIn(async ({ params, request }: LoaderFunctionArgs) => {
+      const got = ids(params);
+      if (!got) return;
+      const b = Number(new URL(request.url).searchParams.get('with'));
+      await Promise.all([
+        queryClient.prefetchQuery(callLayerQueryOptions(got.rigId, got.captureId)),
+        queryClient.prefetchQuery(capturesQueryOptions(got.rigId)),
+        Number.isInteger(b) && b > 0 && b !== got.captureId ? queryClient.prefetchQuery(comparisonQueryOptions(got.rigId, got.captureId, b)) : null,
+      ]);
+    }),
+    element: <CompareRoute />,
+    shouldRevalidate: pathOnly,
+  },
 ];

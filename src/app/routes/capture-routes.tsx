@@ -1,24 +1,31 @@
 import { data, isRouteErrorResponse, Outlet, useLocation, useParams, useRouteError, type LoaderFunctionArgs, type ShouldRevalidateFunctionArgs } from 'react-router';
-import { idParam } from '../../../shared/schemas';
+import { idParam, type CaptureSummaryRow } from '../../../shared/schemas';
 import { ButtonLink } from '../../components/button';
 import { Card, CardTitle } from '../../components/card';
 import { NotFound } from '../../components/not-found';
 import { isApiError } from '../../lib/api';
 import { errorText } from '../../lib/error-text';
 import { rigQueryOptions, useRig } from '../../features/rigs/api/get-rig';
-import { captureQueryOptions, useCapture } from '../../features/captures/api/get-captures';
+import { captureQueryOptions, capturesQueryOptions, useCapture } from '../../features/captures/api/get-captures';
 import { CaptureList } from '../../features/captures/components/capture-list';
+import { jobQueryOptions } from '../../features/captures/api/decode-job';
+import { detectionQueryOptions } from '../../features/captures/api/get-detection';
 import { CaptureNav } from '../../features/captures/components/capture-nav';
 import { CaptureSetup } from '../../features/captures/components/capture-setup';
 import { canCapture } from '../../features/captures/components/permissions';
 import { UploadPanel } from '../../features/captures/components/upload-panel';
 import { overviewQueryOptions } from '../../features/overview/api/get-overview';
 import { CaptureOverview } from '../../features/overview/components/capture-overview';
+import { cursorAtQueryOptions, timelineCountQueryOptions, timelineRowsQueryOptions } from '../../features/timeline/api/get-timeline';
+import { filtersFromParams } from '../../features/timeline/api/timeline-filters';
 import { TimelineView } from '../../features/timeline/components/timeline-view';
 import { frameQueryOptions, useFrame } from '../../features/inspector/api/get-frame';
 import { FrameNotes } from '../../features/notes/components/frame-notes';
-import { FrameInspector } from '../../features/inspector/components/frame-inspector';
+import { FrameInspector, WAVEFORM_CONTEXT_BITS } from '../../features/inspector/components/frame-inspector';
+import { frameCallQueryOptions } from '../../features/inspector/api/get-frame-call';
+import { waveformQueryOptions } from '../../features/inspector/api/get-waveform';
 import { queryClient } from '../query-client';
+import { whenSignedIn } from './session-loaders';
 
 function idFrom(value: string | undefined, what: string): number {
   const parsed = idParam.safeParse(value);
@@ -26,32 +33,63 @@ function idFrom(value: string | undefined, what: string): number {
   return parsed.data;
 }
 
-export async function captureLoader({ params }: LoaderFunctionArgs) {
+export const captureLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rigId = idFrom(params.rigId, 'rig');
   const captureId = idFrom(params.captureId, 'capture');
   await Promise.all([queryClient.ensureQueryData(rigQueryOptions(rigId)), queryClient.ensureQueryData(captureQueryOptions(rigId, captureId))]);
-  return null;
-}
+});
 
-export async function uploadLoader({ params }: LoaderFunctionArgs) {
+export const capturesLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
+  // the list shows its own loading state; waiting here only keeps the old tab until it can paint
+  await queryClient.prefetchQuery(capturesQueryOptions(idFrom(params.rigId, 'rig')));
+});
+
+export const uploadLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   await queryClient.ensureQueryData(rigQueryOptions(idFrom(params.rigId, 'rig')));
-  return null;
-}
+});
 
-export async function overviewLoader({ params }: LoaderFunctionArgs) {
+export const overviewLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rigId = idFrom(params.rigId, 'rig');
   const captureId = idFrom(params.captureId, 'capture');
   const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
   if (capture.status === 'decoded') await queryClient.ensureQueryData(overviewQueryOptions(rigId, captureId));
-  return null;
-}
+});
 
-export async function frameLoader({ params }: LoaderFunctionArgs) {
+/** What the channel-role form starts from: the detection of the file's head, and the last decode's progress. */
+export const setupLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rigId = idFrom(params.rigId, 'rig');
   const captureId = idFrom(params.captureId, 'capture');
-  await queryClient.ensureQueryData(frameQueryOptions(rigId, captureId, idFrom(params.frameId, 'frame')));
-  return null;
-}
+  const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
+  await Promise.all([
+    queryClient.prefetchQuery(detectionQueryOptions(rigId, captureId)),
+    capture.job !== null ? queryClient.prefetchQuery(jobQueryOptions(rigId, captureId)) : null,
+  ]);
+});
+
+/** The first page of rows where the URL's anchor says, and the match count, so the list paints with its rows. */
+export const timelineLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs) => {
+  const rigId = idFrom(params.rigId, 'rig');
+  const captureId = idFrom(params.captureId, 'capture');
+  const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
+  if (capture.status !== 'decoded') return;
+  const search = new URL(request.url).searchParams;
+  const { filters } = filtersFromParams(search);
+  const at = Number(search.get('at'));
+  // errors are left to the view, which shows them in place
+  void queryClient.prefetchQuery(timelineCountQueryOptions(rigId, captureId, filters));
+  const start = at > 0 ? ((await queryClient.fetchQuery(cursorAtQueryOptions(rigId, captureId, filters, at)).catch(() => null))?.cursor ?? null) : null;
+  await queryClient.prefetchInfiniteQuery(timelineRowsQueryOptions(rigId, captureId, filters, start));
+});
+
+export const frameLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
+  const rigId = idFrom(params.rigId, 'rig');
+  const captureId = idFrom(params.captureId, 'capture');
+  const frameId = idFrom(params.frameId, 'frame');
+  // the call and the waveform fill in beside the frame; the page waits only for the frame itself
+  void queryClient.prefetchQuery(frameCallQueryOptions(rigId, captureId, frameId));
+  const [capture] = await Promise.all([queryClient.ensureQueryData(captureQueryOptions(rigId, captureId)), queryClient.ensureQueryData(frameQueryOptions(rigId, captureId, frameId))]);
+  if (hasSamples(capture)) void queryClient.prefetchQuery(waveformQueryOptions(rigId, captureId, frameId, WAVEFORM_CONTEXT_BITS));
+});
 
 /** The timeline keeps its view in the search params; changing them must not rerun loaders on every scroll. */
 export function onlyOnPathChange({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevalidateFunctionArgs) {
@@ -133,15 +171,21 @@ export function TimelineRoute() {
   return <TimelineView rig={rig} capture={capture} />;
 }
 
+/** A frame log holds cut frames only: no line samples to draw a waveform from. */
+function hasSamples(capture: CaptureSummaryRow): boolean {
+  return (capture.settings?.format ?? capture.format) !== 'framelog';
+}
+
 export function FrameRoute() {
   const { rigId, captureId, frameId } = useIds();
+  const capture = useCapture(rigId, captureId);
   const location = useLocation();
   const fromTimeline = (location.state as { timelineSearch?: string } | null)?.timelineSearch;
   const backTo = `/rigs/${rigId}/captures/${captureId}/timeline${fromTimeline ?? `?sel=${frameId}`}`;
   const octetCount = useFrame(rigId, captureId, frameId).frame.hexAll.length / 2;
   return (
     <div className="space-y-4">
-      <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} />
+      <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} hasSamples={hasSamples(capture)} />
       <FrameNotes key={`notes-${frameId}`} rigId={rigId} captureId={captureId} frameId={frameId} octetCount={octetCount} />
     </div>
   );

@@ -7,6 +7,7 @@ import { useCapture } from '../../features/captures/api/get-captures';
 import { faultsQueryOptions, useFaults } from '../../features/fault-desk/api/get-faults';
 import { FaultDeskView } from '../../features/fault-desk/components/fault-desk-view';
 import { queryClient } from '../query-client';
+import { whenSignedIn } from './session-loaders';
 
 // The fault desk of a capture (…/faults?cause=&offset=), mounted under the capture route by router.tsx.
 // The chosen group and page live in the search params.
@@ -17,15 +18,14 @@ function viewState(search: URLSearchParams): { cause: DamageCauseName | null; of
   return { cause: cause.success ? cause.data : null, offset: Number.isInteger(offset) && offset > 0 ? offset : 0 };
 }
 
-async function faultsLoader({ params, request }: LoaderFunctionArgs) {
+const faultsLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs) => {
   const rig = idParam.safeParse(params.rigId);
   const capture = idParam.safeParse(params.captureId);
-  if (!rig.success || !capture.success) return null;
+  if (!rig.success || !capture.success) return;
   const { cause, offset } = viewState(new URL(request.url).searchParams);
   // errors are left to the page, which shows them in place
   await queryClient.prefetchQuery(faultsQueryOptions(rig.data, capture.data, cause, offset));
-  return null;
-}
+});
 
 function pathOnly({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevalidateFunctionArgs) {
   return currentUrl.pathname !== nextUrl.pathname ? defaultShouldRevalidate : false;

@@ -5,9 +5,11 @@ import { fieldMapQueryOptions } from '../../features/field-maps/api/get-field-ma
 import { fieldMapsQueryOptions } from '../../features/field-maps/api/get-field-maps';
 import { FieldMapEditor, type EditorViewState } from '../../features/field-maps/components/field-map-editor';
 import { FieldMapList } from '../../features/field-maps/components/field-map-list';
+import { prefetchDefaultPreview } from '../../features/field-maps/api/get-preview-frame';
 import { fieldNotesQueryOptions } from '../../features/notes/api/field-notes';
 import { FieldNotes } from '../../features/notes/components/field-notes';
 import { queryClient } from '../query-client';
+import { whenSignedIn } from './session-loaders';
 
 // The rig's field maps (children of `rigs/:rigId`, under the rig header). The editor's view state
 // (layout, preview capture and frame, diffed versions) lives in the search params.
@@ -17,23 +19,31 @@ function pathOnly({ currentUrl, nextUrl, defaultShouldRevalidate }: ShouldRevali
 }
 
 /** Prefetches so the page paints with data; errors are shown in place by the page. */
-async function listLoader({ params }: LoaderFunctionArgs) {
+const listLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rig = idParam.safeParse(params.rigId);
   if (rig.success) await queryClient.prefetchQuery(fieldMapsQueryOptions(rig.data));
-  return null;
-}
+});
 
-async function editorLoader({ params }: LoaderFunctionArgs) {
+const editorLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs) => {
   const rig = idParam.safeParse(params.rigId);
   const map = idParam.safeParse(params.mapId);
   if (rig.success && map.success) {
+    const search = new URL(request.url).searchParams;
+    // the preview's chain (captures → frames → one frame) starts now rather than after the first paint; the page does not wait for it
+    void prefetchDefaultPreview(queryClient, rig.data, num(search.get('capture')), num(search.get('frame'))).catch(() => undefined);
     await Promise.all([
-      queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data)),
+      queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data)).then(async () => {
+        // the version list diffs the latest version against the one before; both are fixed once saved
+        const latest = queryClient.getQueryData(fieldMapQueryOptions(rig.data, map.data).queryKey);
+        if (latest) {
+          const to = latest.latestVersion;
+          await Promise.all([to, Math.max(1, to - 1)].map((v) => queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data, v))));
+        }
+      }),
       queryClient.prefetchQuery(fieldNotesQueryOptions(rig.data, map.data)),
     ]);
   }
-  return null;
-}
+});
 
 function FieldMapsRoute() {
   const rig = useRig(Number(useParams().rigId));

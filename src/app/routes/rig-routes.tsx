@@ -16,11 +16,11 @@ import { PendingInvitationList } from '../../features/invitations/components/pen
 import { pendingInvitationsQueryOptions } from '../../features/invitations/api/pending-invitations';
 import { Card, CardTitle } from '../../components/card';
 import { queryClient } from '../query-client';
+import { whenSignedIn } from './session-loaders';
 
-export async function rigListLoader() {
+export const rigListLoader = whenSignedIn(async () => {
   await queryClient.ensureQueryData(rigsQueryOptions());
-  return null;
-}
+});
 
 function rigIdFrom(params: LoaderFunctionArgs['params']): number {
   const parsed = idParam.safeParse(params.rigId);
@@ -28,18 +28,16 @@ function rigIdFrom(params: LoaderFunctionArgs['params']): number {
   return parsed.data;
 }
 
-export async function rigLoader({ params }: LoaderFunctionArgs) {
+export const rigLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   await queryClient.ensureQueryData(rigQueryOptions(rigIdFrom(params)));
-  return null;
-}
+});
 
-export async function membersLoader({ params }: LoaderFunctionArgs) {
+export const membersLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) => {
   const rigId = rigIdFrom(params);
   const rig = await queryClient.ensureQueryData(rigQueryOptions(rigId));
   if (can.manageMembers(rig.myRole)) void queryClient.prefetchQuery(pendingInvitationsQueryOptions(rigId));
   await queryClient.ensureQueryData(membersQueryOptions(rigId));
-  return null;
-}
+});
 
 function useRigId(): number {
   return Number(useParams().rigId);

@@ -19,6 +19,19 @@ export async function requireUserLoader({ request }: LoaderFunctionArgs) {
   return null;
 }
 
+/**
+ * The router runs a route's loader beside its parents' loaders, not after them. Loaders of pages
+ * behind sign-in wrap themselves in this, so a visitor who is not signed in (and is being sent to
+ * the sign-in page by requireUserLoader) asks the API for nothing it would refuse with a 401.
+ */
+export function whenSignedIn<Args extends LoaderFunctionArgs>(load: (args: Args) => Promise<unknown>) {
+  return async (args: Args) => {
+    const session = await queryClient.ensureQueryData(sessionQueryOptions());
+    if (session.user) await load(args);
+    return null;
+  };
+}
+
 export async function signInLoader({ request }: LoaderFunctionArgs) {
   const session = await queryClient.ensureQueryData(sessionQueryOptions());
   if (session.user) {

@@ -1,6 +1,7 @@
 import { mkdirSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { chromium, type Browser, type BrowserContext, type Page } from 'playwright-core';
+import { watchConsole } from './console';
 
 /** FLAGLINE_BROWSER_COLOR_SCHEME=dark runs every browser test in dark mode (screenshots go to browser-dark/). */
 const colorScheme = process.env.FLAGLINE_BROWSER_COLOR_SCHEME === 'dark' ? 'dark' : 'light';
@@ -15,6 +16,8 @@ export async function launchBrowser(): Promise<Browser> {
 
 export async function newPage(browser: Browser): Promise<{ context: BrowserContext; page: Page }> {
   const context = await browser.newContext({ viewport: { width: 1200, height: 860 }, colorScheme });
+  // a console error or warning the test did not cause fails it (support/console-setup.ts)
+  watchConsole(context);
   const page = await context.newPage();
   page.setDefaultTimeout(15_000);
   return { context, page };

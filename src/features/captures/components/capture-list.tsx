@@ -6,6 +6,7 @@ import { ErrorNotice } from '../../../components/notice';
 import { formatBytes, formatCount } from '../../../components/units';
 import { formatDateTime } from '../../../lib/format';
 import { useCaptures } from '../api/get-captures';
+import { DeleteCaptureButton } from './delete-capture-button';
 import { canCapture } from './permissions';
 
 const statusWords: Record<CaptureSummaryRow['status'], string> = {
@@ -25,6 +26,7 @@ function captureHref(rigId: number, c: CaptureSummaryRow): string {
 export function CaptureList({ rig }: { rig: RigDetail }) {
   const captures = useCaptures(rig.id);
   const mayUpload = canCapture.upload(rig.myRole);
+  const mayRemove = canCapture.remove(rig.myRole);
   return (
     <Card>
       <CardTitle aside={mayUpload ? <ButtonLink to={`/rigs/${rig.id}/captures/new`}>Upload a capture</ButtonLink> : null}>Captures</CardTitle>
@@ -43,12 +45,17 @@ export function CaptureList({ rig }: { rig: RigDetail }) {
               <th className="py-2 pr-4 font-medium">State</th>
               <th className="py-2 pr-4 text-right font-medium">Frames</th>
               <th className="py-2 pr-4 text-right font-medium">Size</th>
-              <th className="py-2 font-medium">Uploaded</th>
+              <th className="py-2 pr-4 font-medium">Uploaded</th>
+              {mayRemove ? (
+                <th className="py-2 font-medium">
+                  <span className="sr-only">Remove</span>
+                </th>
+              ) : null}
             </tr>
           </thead>
           <tbody>
             {captures.data.map((c) => (
-              <tr key={c.id} className="border-b border-line/70 last:border-0">
+              <tr key={c.id} className="border-b border-line/70 last:border-0" data-testid="capture-row" data-capture={c.name}>
                 <td className="py-2 pr-4">
                   <Link to={captureHref(rig.id, c)} className="font-medium text-link hover:underline">
                     {c.name}
@@ -57,13 +64,21 @@ export function CaptureList({ rig }: { rig: RigDetail }) {
                 <td className="py-2 pr-4 text-muted">{statusWords[c.status]}</td>
                 <td className="py-2 pr-4 text-right font-mono">{c.status === 'decoded' ? formatCount(c.frameCount) : '—'}</td>
                 <td className="py-2 pr-4 text-right font-mono text-muted">{formatBytes(c.size)}</td>
-                <td className="py-2 text-muted">
+                <td className="py-2 pr-4 text-muted">
                   {formatDateTime(c.uploadedAt)} · {c.uploadedBy}
                 </td>
+                {mayRemove ? (
+                  <td className="py-2 text-right">
+                    <DeleteCaptureButton rigId={rig.id} capture={c} compact />
+                  </td>
+                ) : null}
               </tr>
             ))}
           </tbody>
         </table>
+      ) : null}
+      {captures.data?.some((c) => c.status === 'failed' || c.status === 'cancelled' || c.status === 'interrupted') && !mayRemove ? (
+        <p className="mt-3 text-xs text-muted">A capture that failed to decode can be set up and decoded again from its channel roles; only the rig's owner can remove one.</p>
       ) : null}
     </Card>
   );

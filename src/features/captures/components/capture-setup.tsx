@@ -12,9 +12,10 @@ import { captureQueryOptions, useCapture } from '../api/get-captures';
 import { useDetection } from '../api/get-detection';
 import { useSaveSettings } from '../api/save-settings';
 import { ChannelRoleForm } from './channel-role-form';
+import { DeleteCaptureButton } from './delete-capture-button';
 import { DecodeProgress } from './decode-progress';
 import { canCapture } from './permissions';
-import { SafetyPanel } from './safety-panel';
+import { SafetyPanel } from '../../../components/safety-panel';
 
 const formatNames: Record<string, string> = {
   vcd: 'value change dump',
@@ -109,6 +110,18 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
         ) : null}
         {current?.state === 'done' ? (
           <ButtonLink to={`/rigs/${rig.id}/captures/${captureId}`}>Open the overview</ButtonLink>
+        ) : null}
+        {canCapture.remove(rig.myRole) ? (
+          <Card className="border-danger/40">
+            <CardTitle>Delete this capture</CardTitle>
+            <p className="mb-3 text-sm text-muted">
+              {current?.state === 'failed' || !current
+                ? 'A file that does not decode can be removed here. '
+                : ''}
+              Removes the stored file, its decodes, frames, exchanges, recovered files and notes for everyone. This cannot be undone.
+            </p>
+            <DeleteCaptureButton rigId={rig.id} capture={capture} onDeleted={() => navigate(`/rigs/${rig.id}/captures`, { replace: true })} />
+          </Card>
         ) : null}
       </div>
       <SafetyPanel />

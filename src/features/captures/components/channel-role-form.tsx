@@ -1,11 +1,12 @@
-import { useState, type FormEvent } from 'react';
+import { useEffect, useRef, useState, type FormEvent } from 'react';
 import { captureSettingsSchema, type CaptureSummaryRow, type Detection, type RigDetail } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
 import { SelectField, TextField } from '../../../components/field';
 import { ErrorNotice } from '../../../components/notice';
 import { isApiError } from '../../../lib/api';
+import { useUnsavedChanges } from '../../../components/unsaved-changes';
 import { parseWith, serverFieldErrors, type FieldErrors } from '../../../lib/form';
-import { clockEdgeLabels, encodingLabels, formatAddress } from '../../../lib/format';
+import { clockEdgeLabels, encodingLabels, formatAddress, formatRate, formatTimeStep, plural } from '../../../lib/format';
 import { initialRoleForm, rowErrorKey, settingsFromForm, type ChannelRow, type RoleFormState } from './role-form-state';
 
 const formatOptions = [
@@ -40,12 +41,24 @@ interface Props {
 /** The channel-role form: what each channel carries, and how the line is coded. */
 export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled, onSubmit }: Props) {
   const [form, setForm] = useState<RoleFormState>(() => initialRoleForm(detection, capture, rig.lineSettings));
+  // what the form held when it was opened or last saved: leaving with anything else asks first
+  const [baseline, setBaseline] = useState(form);
+  const wasBusy = useRef(busy);
+  useEffect(() => {
+    if (wasBusy.current && !busy && !error) setBaseline(form);
+    wasBusy.current = busy;
+  }, [busy, error, form]);
+  useUnsavedChanges(!disabled && JSON.stringify(form) !== JSON.stringify(baseline), `the channel roles of “${capture.name}”`);
   const [clientErrors, setClientErrors] = useState<FieldErrors>({});
   const errors: FieldErrors = { ...serverFieldErrors(error), ...clientErrors };
   const set = <K extends keyof RoleFormState>(key: K, value: RoleFormState[K]) => setForm((f) => ({ ...f, [key]: value }));
   const setRow = (name: string, patch: Partial<ChannelRow>) =>
     setForm((f) => ({ ...f, rows: f.rows.map((r) => (r.name === name ? { ...r, ...patch } : r)) }));
   const framed = form.format === 'framelog' || form.format === 'octets';
+  // a VCD's $timescale or a CSV's time column fixes the time base; the form shows it instead of asking
+  const fileTimeStep =
+    detection.sampleRate !== null && form.format === detection.format && form.format === 'vcd' && form.sampleRate === '' ? 1 / detection.sampleRate : null;
+  const csvTimeStep = detection.sampleRate !== null && form.format === 'csv' && detection.format === 'csv' ? 1 / detection.sampleRate : null;
   const dataLinks = form.rows.filter((r) => r.use === 'data' && r.name !== form.clock);
   const stationOptions = [
     { value: '', label: 'Station not known' },
@@ -78,14 +91,27 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
             error={errors.format}
             hint={detection.format ? 'Detected from the content; change it if the guess is wrong' : 'Not detected — choose it'}
           />
-          {!framed ? (
+          {!framed && fileTimeStep !== null ? (
+            <div className="space-y-1 text-sm" data-testid="time-resolution">
+              <p className="font-medium">Time resolution</p>
+              <p className="py-1.5 font-mono">{formatTimeStep(fileTimeStep)} per step</p>
+              <p className="text-xs text-muted">From the file's $timescale; nothing to enter</p>
+            </div>
+          ) : !framed ? (
             <TextField
               label="Sample rate (samples/s)"
               inputMode="decimal"
               value={form.sampleRate}
               onChange={(e) => set('sampleRate', e.target.value)}
               error={errors.sampleRate}
-              hint={detection.sampleRate ? 'Read from the file' : 'Needed for raw samples and sample-index tables'}
+              placeholder={csvTimeStep !== null ? 'from the time column' : undefined}
+              hint={
+                Number(form.sampleRate) > 0
+                  ? `${formatRate(Number(form.sampleRate))}: one sample every ${formatTimeStep(1 / Number(form.sampleRate))}`
+                  : csvTimeStep !== null
+                    ? `Empty: the time column's step, ${formatTimeStep(csvTimeStep)}`
+                    : 'Needed for raw samples and sample-index tables'
+              }
               className="font-mono"
             />
           ) : null}
@@ -158,98 +184,89 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
           <h3 className="mb-1 text-sm font-semibold">Channels</h3>
           <p className="mb-3 text-xs text-muted">Each data channel is one link: one direction of one serial line. Handshake lines show up as line events.</p>
           {errors.links ? <p className="mb-2 text-sm text-danger">{errors.links}</p> : null}
-          <div className="overflow-x-auto">
-            <table className="w-full text-sm">
-              <thead>
-                <tr className="border-b border-line text-left text-xs uppercase tracking-wide text-muted">
-                  <th className="py-2 pr-3 font-medium">Channel</th>
-                  <th className="py-2 pr-3 font-medium">Activity</th>
-                  <th className="py-2 pr-3 font-medium">Use</th>
-                  <th className="py-2 font-medium">Details</th>
-                </tr>
-              </thead>
-              <tbody>
-                {form.rows.map((row) => {
-                  const detected = detection.channels.find((c) => c.name === row.name);
-                  const isClock = row.name === form.clock;
-                  return (
-                    <tr key={row.name} className="border-b border-line/60 align-top last:border-0" aria-label={`Channel ${row.name}`}>
-                      <td className="py-2 pr-3">
-                        <span className="font-mono">{row.name}</span>
-                        {detected ? <span className="block text-xs text-muted">{detected.source}</span> : null}
-                      </td>
-                      <td className="py-2 pr-3 font-mono text-xs text-muted">
-                        {detected ? `${detected.transitions.toLocaleString('en-GB')} changes` : '—'}
-                      </td>
-                      <td className="w-44 py-2 pr-3">
-                        {isClock ? (
-                          <span className="inline-block rounded bg-tide-100 px-1.5 py-0.5 font-mono text-xs text-tide-700 dark:bg-tide-500/15 dark:text-tide-300">clock</span>
-                        ) : (
-                          <SelectField
-                            label={`Use of ${row.name}`}
-                            wrapperClassName="[&>label]:sr-only"
-                            value={row.use}
-                            onChange={(e) => setRow(row.name, { use: e.target.value as ChannelRow['use'] })}
-                            options={useOptions}
-                            error={rowError(row, 'channel')}
-                          />
-                        )}
-                      </td>
-                      <td className="py-2">
-                        {!isClock && row.use === 'data' ? (
-                          <div className="grid gap-2 sm:grid-cols-3">
-                            <SelectField
-                              label={`Direction of ${row.name}`}
-                              wrapperClassName="[&>label]:sr-only"
-                              value={row.direction}
-                              onChange={(e) => setRow(row.name, { direction: e.target.value as ChannelRow['direction'] })}
-                              options={directionOptions}
-                              error={rowError(row, 'direction')}
-                            />
-                            <SelectField
-                              label={`Station on ${row.name}`}
-                              wrapperClassName="[&>label]:sr-only"
-                              value={row.station}
-                              onChange={(e) => setRow(row.name, { station: e.target.value })}
-                              options={stationOptions}
-                              error={rowError(row, 'stationAddress')}
-                            />
-                            <TextField
-                              label={`Label of ${row.name}`}
-                              wrapperClassName="[&>label]:sr-only"
-                              placeholder="e.g. port 2, desk → server"
-                              value={row.label}
-                              onChange={(e) => setRow(row.name, { label: e.target.value })}
-                              error={rowError(row, 'label')}
-                            />
-                          </div>
-                        ) : null}
-                        {!isClock && row.use === 'handshake' ? (
-                          <div className="grid gap-2 sm:grid-cols-3">
-                            <TextField
-                              label={`Line name of ${row.name}`}
-                              wrapperClassName="[&>label]:sr-only"
-                              placeholder="RTS, CTS, DCD…"
-                              value={row.lineName}
-                              onChange={(e) => setRow(row.name, { lineName: e.target.value })}
-                              error={rowError(row, 'name')}
-                            />
-                            <SelectField
-                              label={`Link of ${row.name}`}
-                              wrapperClassName="[&>label]:sr-only sm:col-span-2"
-                              value={row.lineLink}
-                              onChange={(e) => setRow(row.name, { lineLink: e.target.value })}
-                              options={[{ value: '', label: 'Not tied to a link' }, ...dataLinks.map((l) => ({ value: l.name, label: `Belongs to ${l.name}` }))]}
-                            />
-                          </div>
-                        ) : null}
-                      </td>
-                    </tr>
-                  );
-                })}
-              </tbody>
-            </table>
-          </div>
+          <ul className="divide-y divide-line/60 border-y border-line/60" aria-label="Channels">
+            {form.rows.map((row) => {
+              const detected = detection.channels.find((c) => c.name === row.name);
+              const isClock = row.name === form.clock;
+              const details = !isClock && (row.use === 'data' || row.use === 'handshake');
+              // the details go on a line of their own, so each select shows its whole choice
+              return (
+                <li key={row.name} className="space-y-2 py-2.5" aria-label={`Channel ${row.name}`}>
+                  <div className="flex flex-wrap items-center gap-x-4 gap-y-1">
+                    <div className="min-w-40 flex-1">
+                      <span className="font-mono text-sm">{row.name}</span>
+                      {detected ? (
+                        <span className="ml-2 text-xs text-muted">
+                          {detected.source} · {plural(detected.transitions, 'change')}
+                        </span>
+                      ) : null}
+                    </div>
+                    <div className="w-52">
+                      {isClock ? (
+                        <span className="inline-block rounded bg-tide-100 px-1.5 py-0.5 font-mono text-xs text-tide-700 dark:bg-tide-500/15 dark:text-tide-300">clock</span>
+                      ) : (
+                        <SelectField
+                          label={`Use of ${row.name}`}
+                          wrapperClassName="[&>label]:sr-only"
+                          value={row.use}
+                          onChange={(e) => setRow(row.name, { use: e.target.value as ChannelRow['use'] })}
+                          options={useOptions}
+                          error={rowError(row, 'channel')}
+                        />
+                      )}
+                    </div>
+                  </div>
+                  {details && row.use === 'data' ? (
+                    <div className="grid gap-2 sm:grid-cols-[minmax(11rem,1fr)_minmax(12rem,1fr)_minmax(12rem,1.2fr)]">
+                      <SelectField
+                        label={`Direction of ${row.name}`}
+                        wrapperClassName="[&>label]:sr-only"
+                        value={row.direction}
+                        onChange={(e) => setRow(row.name, { direction: e.target.value as ChannelRow['direction'] })}
+                        options={directionOptions}
+                        error={rowError(row, 'direction')}
+                      />
+                      <SelectField
+                        label={`Station on ${row.name}`}
+                        wrapperClassName="[&>label]:sr-only"
+                        value={row.station}
+                        onChange={(e) => setRow(row.name, { station: e.target.value })}
+                        options={stationOptions}
+                        error={rowError(row, 'stationAddress')}
+                      />
+                      <TextField
+                        label={`Label of ${row.name}`}
+                        wrapperClassName="[&>label]:sr-only"
+                        placeholder="e.g. port 2, desk → server"
+                        value={row.label}
+                        onChange={(e) => setRow(row.name, { label: e.target.value })}
+                        error={rowError(row, 'label')}
+                      />
+                    </div>
+                  ) : null}
+                  {details && row.use === 'handshake' ? (
+                    <div className="grid gap-2 sm:grid-cols-[minmax(9rem,1fr)_minmax(14rem,2fr)]">
+                      <TextField
+                        label={`Line name of ${row.name}`}
+                        wrapperClassName="[&>label]:sr-only"
+                        placeholder="RTS, CTS, DCD…"
+                        value={row.lineName}
+                        onChange={(e) => setRow(row.name, { lineName: e.target.value })}
+                        error={rowError(row, 'name')}
+                      />
+                      <SelectField
+                        label={`Link of ${row.name}`}
+                        wrapperClassName="[&>label]:sr-only"
+                        value={row.lineLink}
+                        onChange={(e) => setRow(row.name, { lineLink: e.target.value })}
+                        options={[{ value: '', label: 'Not tied to a link' }, ...dataLinks.map((l) => ({ value: l.name, label: `Belongs to ${l.name}` }))]}
+                      />
+                    </div>
+                  ) : null}
+                </li>
+              );
+            })}
+          </ul>
         </div>
       </fieldset>
       {error && !isApiError(error, 400) ? <ErrorNotice error={error} /> : null}

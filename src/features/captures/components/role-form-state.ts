@@ -55,7 +55,8 @@ export function initialRoleForm(detection: Detection, capture: CaptureSummaryRow
   const clock = s ? (s.clock ?? '') : suggestedClock;
   return {
     format: s?.format ?? detection.format ?? 'vcd',
-    sampleRate: String(s?.sampleRate ?? detection.sampleRate ?? ''),
+    // a rate the file states itself (VCD timescale, CSV time column) is not copied into the form: the reader takes it from the file
+    sampleRate: s?.sampleRate == null ? '' : String(s.sampleRate),
     rawWidth: s?.rawWidth === 2 ? '2' : '1',
     channelNames: (s?.channelNames ?? []).join(', '),
     clock,

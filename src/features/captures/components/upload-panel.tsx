@@ -7,7 +7,13 @@ import { errorText } from '../../../lib/error-text';
 import { isApiError } from '../../../lib/api';
 import { useUploadCapture } from '../api/upload-capture';
 import { DropZone } from './drop-zone';
-import { SafetyPanel } from './safety-panel';
+import { SafetyPanel } from '../../../components/safety-panel';
+
+/** The server's message as a sentence: one full stop at the end, whatever it came with. */
+function sentence(text: string): string {
+  const t = text.trim();
+  return /[.!?]$/.test(t) ? t : `${t}.`;
+}
 
 /** Step 1 of a capture: the file goes up with visible progress, then the roles form takes over. */
 export function UploadPanel({ rigId }: { rigId: number }) {
@@ -35,9 +41,20 @@ export function UploadPanel({ rigId }: { rigId: number }) {
           ) : null}
           {upload.error ? (
             <ErrorNotice>
-              {isApiError(upload.error, 422)
-                ? `Flagline cannot read this file: ${upload.error.message} Export the capture from the analyzer as a value change dump or a CSV table with a header row and try again.`
-                : errorText(upload.error)}
+              {isApiError(upload.error, 422) ? (
+                <>
+                  <p className="font-medium">{sentence(upload.error.message)}</p>
+                  <p className="mt-1">
+                    Nothing was stored. Export the recording from the analyzer as a value change dump, a CSV table with a header row, raw binary
+                    samples or an octet stream, then drop that file here.
+                  </p>
+                </>
+              ) : (
+                <p>{errorText(upload.error)}</p>
+              )}
+              <button type="button" className="mt-2 text-sm font-medium text-link hover:underline" onClick={() => upload.reset()}>
+                Clear this message
+              </button>
             </ErrorNotice>
           ) : null}
         </div>

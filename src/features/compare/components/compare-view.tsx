@@ -46,6 +46,7 @@ export function CompareView({ rig, capture, captures }: CompareViewProps) {
           <label className="space-y-1 text-sm">
             <span className="block font-medium">B (compare with)</span>
             <select
+              data-testid="compare-with"
               value={b === null ? '' : String(b)}
               onChange={(e) => set('with', e.target.value === '' ? null : e.target.value)}
               className="block max-w-md rounded-md border border-line bg-surface px-2.5 py-1.5 text-sm text-text focus:outline-none focus:ring-2 focus:ring-focus/60"

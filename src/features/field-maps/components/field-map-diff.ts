@@ -24,21 +24,34 @@ export interface FieldMapDiff {
   layouts: LayoutChange[];
 }
 
-/** Short, stable text of a property value for the diff ("—" when absent). */
-export function describeValue(value: unknown): string {
+/** Short, stable text of a property value for the diff ("—" when absent), in words rather than JSON. */
+export function describeValue(value: unknown, property?: string): string {
   if (value === undefined || value === null) return '—';
   if (typeof value === 'string') return value;
   if (typeof value === 'number' || typeof value === 'boolean') return String(value);
-  return JSON.stringify(value);
+  if (Array.isArray(value)) return value.length === 0 ? '(none)' : value.map((v) => describeValue(v)).join(', ');
+  if (typeof value === 'object') {
+    const entries = Object.entries(value as Record<string, unknown>).filter(([, v]) => v !== undefined);
+    if (entries.length === 0) return '(none)';
+    // value names read as the editor writes them: "0 = ok; 255 = not found"
+    if (property === 'values') return entries.map(([k, v]) => `${k} = ${describeValue(v)}`).join('; ');
+    if (property === 'length' && 'field' in (value as object)) {
+      const { field, add } = value as { field: string; add?: number };
+      return `value of ${field}${add ? ` ${add > 0 ? '+' : '−'} ${Math.abs(add)}` : ''}`;
+    }
+    if (property === 'offset' && 'after' in (value as object)) return `after ${(value as { after: string }).after}`;
+    return entries.map(([k, v]) => `${k} ${describeValue(v, k)}`).join(', ');
+  }
+  return String(value);
 }
 
 function compareProps(a: Record<string, unknown>, b: Record<string, unknown>, skip: string[]): PropertyChange[] {
   const keys = [...new Set([...Object.keys(a), ...Object.keys(b)])].filter((k) => !skip.includes(k));
   const out: PropertyChange[] = [];
   for (const k of keys) {
-    const from = describeValue(a[k]);
-    const to = describeValue(b[k]);
-    if (from !== to) out.push({ property: k, from, to });
+    // compared as data, shown as words
+    if (JSON.stringify(a[k] ?? null) === JSON.stringify(b[k] ?? null)) continue;
+    out.push({ property: k, from: describeValue(a[k], k), to: describeValue(b[k], k) });
   }
   return out;
 }

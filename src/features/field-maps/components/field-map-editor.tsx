@@ -6,6 +6,7 @@ import { Button, ButtonLink } from '../../../components/button';
 import { Card, CardTitle } from '../../../components/card';
 import { ErrorNotice, SuccessNotice } from '../../../components/notice';
 import { isApiError } from '../../../lib/api';
+import { useUnsavedChanges } from '../../../components/unsaved-changes';
 import { fetchFieldMap, useFieldMap, writeUpHref } from '../api/get-field-map';
 import { useSaveFieldMap } from '../api/save-field-map';
 import { errorsByPath, errorsUnder, serverFieldErrors, type ErrorsByPath } from './draft-errors';
@@ -74,6 +75,8 @@ export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: P
     () => ({ ...(validation && !validation.ok ? errorsByPath(validation.errors) : {}), ...(serverErrors ?? {}) }),
     [validation, serverErrors],
   );
+
+  useUnsavedChanges(dirty, `the field map “${draft?.name ?? ''}”`);
 
   if (latest.error) return <ErrorNotice error={latest.error} />;
   if (!latest.data || !draft) return <p className="text-sm text-muted">Loading the field map…</p>;

@@ -61,7 +61,7 @@ export function FieldMapList({ rig }: { rig: RigDetail }) {
       ) : (
         <ul aria-label="Field maps" className="divide-y divide-line">
           {maps.data.map((m) => (
-            <li key={m.id} className="py-3">
+            <li key={m.id} className="py-3" data-testid="field-map-row">
               <div className="flex flex-wrap items-center justify-between gap-3">
                 <div>
                   <Link className="font-medium text-link hover:underline" to={`/rigs/${rig.id}/field-maps/${m.id}`}>

@@ -2,7 +2,7 @@ import { useMemo, useState } from 'react';
 import { applyFieldMap, type CallDirection } from '../../../../shared/decoder/calls/apply';
 import type { FieldMap } from '../../../../shared/decoder/calls/field-map';
 import { ErrorNotice } from '../../../components/notice';
-import { usePreviewCaptures, usePreviewFrame, usePreviewFrames } from '../api/get-preview-frame';
+import { decodedNewestFirst, usePreviewCaptures, usePreviewFrame, usePreviewFrames } from '../api/get-preview-frame';
 import { swatch } from './field-colours';
 
 interface Props {
@@ -23,10 +23,7 @@ const control = 'rounded border border-line bg-surface px-2 py-1 text-sm';
 /** The draft applied in the browser to one frame's information field: coloured octets and decoded values. */
 export function FramePreview({ rigId, map, draftValid, captureId, frameId, onPick, onShowLayout }: Props) {
   const captures = usePreviewCaptures(rigId);
-  const decoded = useMemo(
-    () => (captures.data ?? []).filter((c) => c.status === 'decoded').sort((a, b) => b.uploadedAt.localeCompare(a.uploadedAt)),
-    [captures.data],
-  );
+  const decoded = useMemo(() => decodedNewestFirst(captures.data ?? []), [captures.data]);
   const capture = captureId ?? decoded[0]?.id ?? null;
   const frames = usePreviewFrames(rigId, capture);
   const frameChoice = frameId ?? frames.data?.[0]?.id ?? null;
@@ -59,6 +56,7 @@ export function FramePreview({ rigId, map, draftValid, captureId, frameId, onPic
 
   return (
     <section aria-label="Preview" className="space-y-3">
+      {(frame.data && call) || (captures.data && decoded.length === 0) ? <span hidden data-testid="preview-ready" /> : null}
       <div className="flex flex-wrap items-end gap-3">
         <label className="text-sm font-medium">
           Capture{' '}

@@ -38,7 +38,7 @@ export function LayoutTable({ doc, li, renderFieldNotes }: { doc: FieldMapInput;
                   <td className="px-2 py-1.5 font-mono">{f.id}</td>
                   <td className="px-2 py-1.5">{f.name ?? ''}</td>
                   <td className="px-2 py-1.5 font-mono text-xs">{f.offset === undefined ? 'follows' : typeof f.offset === 'number' ? f.offset : `after ${f.offset.after}`}</td>
-                  <td className="px-2 py-1.5 font-mono text-xs">{f.length === undefined ? 'type' : describeValue(f.length)}</td>
+                  <td className="px-2 py-1.5 font-mono text-xs">{f.length === undefined ? 'type' : describeValue(f.length, 'length')}</td>
                   <td className="px-2 py-1.5 font-mono text-xs">{f.type}</td>
                   <td className="px-2 py-1.5 text-xs">{f.role ?? ''}</td>
                   <td className="px-2 py-1.5 text-xs">{f.meaning ?? ''}</td>

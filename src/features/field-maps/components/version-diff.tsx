@@ -33,7 +33,7 @@ function FieldLine({ change }: { change: FieldChange }) {
       <li>
         <span className="font-medium text-ok">Field added</span> <span className="font-mono">{change.id}</span> at #{change.position} ({change.field.type}
         {change.field.name ? `, “${change.field.name}”` : ''}
-        {change.field.length !== undefined ? `, length ${describeValue(change.field.length)}` : ''})
+        {change.field.length !== undefined ? `, length ${describeValue(change.field.length, 'length')}` : ''})
       </li>
     );
   if (change.kind === 'removed')

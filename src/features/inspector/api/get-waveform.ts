@@ -3,8 +3,11 @@ import type { WaveformWindow } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
 import { framePath, inspectorKeys } from './inspector-keys';
 
+/** columns the server thins each channel to: the widest drawing the inspector makes, one change pair per 3 px */
+export const WAVEFORM_POINTS = 2000;
+
 export function fetchWaveform(rigId: number, captureId: number, frameId: number, bits: number): Promise<WaveformWindow> {
-  return api(`${framePath(rigId, captureId, frameId)}/waveform?bits=${bits}`);
+  return api(`${framePath(rigId, captureId, frameId)}/waveform?bits=${bits}&points=${WAVEFORM_POINTS}`);
 }
 
 export function waveformQueryOptions(rigId: number, captureId: number, frameId: number, bits: number) {
@@ -16,6 +19,6 @@ export function waveformQueryOptions(rigId: number, captureId: number, frameId: 
 }
 
 /** Non-suspending: the waveform is read from the stored capture and may take a moment; the rest of the inspector does not wait. */
-export function useWaveform(rigId: number, captureId: number, frameId: number, bits: number) {
-  return useQuery(waveformQueryOptions(rigId, captureId, frameId, bits));
+export function useWaveform(rigId: number, captureId: number, frameId: number, bits: number, enabled = true) {
+  return useQuery({ ...waveformQueryOptions(rigId, captureId, frameId, bits), enabled });
 }

@@ -6,16 +6,19 @@ import { ErrorNotice } from '../../../components/notice';
 import { StatusChip } from '../../../components/status-chip';
 import { formatSeconds } from '../../../components/units';
 import { useFrame } from '../api/get-frame';
+import { useFrameCall } from '../api/get-frame-call';
 import { useWaveform } from '../api/get-waveform';
 import { BitView } from './bit-view';
+import { CallDecode } from './call-decode';
+import { ExchangeFrames } from './exchange-frames';
 import { FcsPanel } from './fcs-panel';
 import { lineBits, linePositionOf, octetsOf } from './frame-bits';
-import { HexView } from './hex-view';
+import { HexView, type HexSpan } from './hex-view';
 import { LinkDecode } from './link-decode';
 import { WaveformView } from './waveform-view';
 
-/** context bits either side of the frame in the waveform: enough to show both flags */
-const WAVEFORM_CONTEXT_BITS = 24;
+/** context bits either side of the frame in the waveform: enough to show both flags (the loader prefetches the same) */
+export const WAVEFORM_CONTEXT_BITS = 24;
 
 async function copy(text: string): Promise<boolean> {
   try {
@@ -27,10 +30,22 @@ async function copy(text: string): Promise<boolean> {
 }
 
 /** Screen 6: one frame down to its bits and the signal it came from. */
-export function FrameInspector({ rigId, captureId, frameId, backTo }: { rigId: number; captureId: number; frameId: number; backTo: string }) {
+interface Props {
+  rigId: number;
+  captureId: number;
+  frameId: number;
+  backTo: string;
+  /** false for a frame log, which has no line samples to draw */
+  hasSamples: boolean;
+}
+
+export function FrameInspector({ rigId, captureId, frameId, backTo, hasSamples }: Props) {
   const { frame, prevId, nextId } = useFrame(rigId, captureId, frameId);
-  const waveform = useWaveform(rigId, captureId, frameId, WAVEFORM_CONTEXT_BITS);
+  const waveform = useWaveform(rigId, captureId, frameId, WAVEFORM_CONTEXT_BITS, hasSamples);
+  const decoded = useFrameCall(rigId, captureId, frameId);
   const [copied, setCopied] = useState<string | null>(null);
+  const [activeField, setActiveField] = useState<number | null>(null);
+  const spans: HexSpan[] = (decoded.data?.call?.fields ?? []).map((f) => ({ start: f.frameOffset, end: f.frameOffset + f.available, label: f.name }));
   const octets = octetsOf(frame.hexAll);
   const bits = lineBits(frame);
   const suspectLine = frame.flippedBit === null ? null : linePositionOf(bits, frame.flippedBit);
@@ -74,7 +89,9 @@ export function FrameInspector({ rigId, captureId, frameId, backTo }: { rigId: n
         </div>
       </div>
       {copied ? <p role="status" className="text-xs text-muted">{copied}</p> : null}
-      <p className="text-sm text-muted">{frame.summary}</p>
+      <p className="text-sm text-muted" data-testid="frame-summary">
+        {frame.summary}
+      </p>
 
       <div className="grid gap-4 lg:grid-cols-2">
         <Card>
@@ -86,17 +103,49 @@ export function FrameInspector({ rigId, captureId, frameId, backTo }: { rigId: n
           <LinkDecode frame={frame} />
         </Card>
       </div>
-      <Card>
-        <CardTitle aside={<span className="font-mono text-xs text-muted">{octets.length} octets</span>}>Octets</CardTitle>
-        <HexView octets={octets} hasFcs={frame.fcsReceived !== null} suspectOctet={frame.flippedBit === null ? null : frame.flippedBit >> 3} />
-      </Card>
+      {/* the call table sits right under the octets: pointing at a field shades its octets above */}
+      <div className="space-y-4">
+        <Card>
+          <CardTitle aside={<span className="font-mono text-xs text-muted">{octets.length} octets</span>}>Octets</CardTitle>
+          <HexView
+            octets={octets}
+            hasFcs={frame.fcsReceived !== null}
+            suspectOctet={frame.flippedBit === null ? null : frame.flippedBit >> 3}
+            spans={spans}
+            activeSpan={activeField}
+            onSpan={setActiveField}
+          />
+        </Card>
+        <Card>
+          <CardTitle aside={decoded.data ? <span className="text-xs text-muted">{decoded.data.map.name}</span> : null}>Call decode</CardTitle>
+          {decoded.error ? <ErrorNotice error={decoded.error} /> : null}
+          {decoded.isPending ? <p className="text-sm text-muted">Reading the call…</p> : null}
+          {decoded.data ? <CallDecode decoded={decoded.data} activeField={activeField} onField={setActiveField} /> : null}
+          {decoded.data?.exchange ? (
+            <div className="mt-4 border-t border-line pt-3">
+              <h3 className="mb-1.5 text-sm font-semibold">Exchange</h3>
+              <ExchangeFrames
+                exchange={decoded.data.exchange}
+                frameId={frameId}
+                frameHref={(id) => `${base}/frames/${id}`}
+                roundTripsHref={`${base}/round-trips?${new URLSearchParams({ station: String(decoded.data.exchange.station.address), ex: String(decoded.data.exchange.id) })}`}
+              />
+            </div>
+          ) : decoded.data ? (
+            <p className="mt-3 text-xs text-muted">This frame is not part of an exchange.</p>
+          ) : null}
+        </Card>
+      </div>
       <Card>
         <CardTitle aside={<span className="font-mono text-xs text-muted">{frame.bitLength} bits, {frame.stuffed.length} stuffed zeros</span>}>Bits on the line</CardTitle>
         <BitView bits={bits} suspectBit={frame.flippedBit} />
       </Card>
       <Card>
-        <CardTitle aside={<span className="font-mono text-xs text-muted">samples {frame.firstSample}–{frame.lastSample}</span>}>Waveform</CardTitle>
-        {waveform.isPending ? <p className="text-sm text-muted">Reading the samples around the frame…</p> : null}
+        <CardTitle aside={hasSamples ? <span className="font-mono text-xs text-muted">samples {frame.firstSample}–{frame.lastSample}</span> : null}>Waveform</CardTitle>
+        {!hasSamples ? (
+          <p className="text-sm text-muted">This capture is a frame log: it holds the frames already cut, not the line samples, so there is no waveform to draw.</p>
+        ) : null}
+        {hasSamples && waveform.isPending ? <p className="text-sm text-muted">Reading the samples around the frame…</p> : null}
         {waveform.error ? <ErrorNotice error={waveform.error} /> : null}
         {waveform.data ? (
           waveform.data.channels.length === 0 ? (

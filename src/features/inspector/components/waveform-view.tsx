@@ -1,4 +1,5 @@
 import type { FrameDetail, WaveformWindow } from '../../../../shared/schemas';
+import { formatDelta } from '../../../components/units';
 import type { LineBit } from './frame-bits';
 
 const LANE = 42;
@@ -34,23 +35,38 @@ export function WaveformView({ window: w, frame, bits, suspect }: Props) {
   const cellStart = (k: number) => frame.firstSample + (k - 0.5) * cell;
   const showBits = (cell / span) * plot >= 4;
   const flagWidth = 8 * cell;
-  const microseconds = (s: number) => ((s - frame.firstSample) * w.samplePeriodSeconds * 1e6).toFixed(1);
+  // the axis counts line time from the frame's first bit, in the unit that keeps it readable
+  const fromFrame = (s: number) => formatDelta((s - frame.firstSample) * w.samplePeriodSeconds);
+  const endShown = cellStart(n) <= w.toSample;
+  const thinned = w.channels.some((c) => c.thinned);
 
   return (
+    <div className="space-y-1">
+    {!endShown || thinned ? (
+      <p className="text-xs text-muted">
+        {!endShown ? 'The frame is longer than one window: this shows its start. ' : ''}
+        {thinned ? 'Stretches with more changes than the drawing has pixels are drawn as solid strokes.' : ''}
+      </p>
+    ) : null}
     <div className="overflow-x-auto rounded-md border border-line bg-canvas" data-testid="waveform">
       <svg width={width} height={height} role="img" aria-label={`Waveform of ${w.channels.map((c) => c.name).join(', ')} around the frame`} className="block">
         {/* flags before and after, the frame body, stuffed zeros and the suspect bit as bands behind the traces */}
         <rect x={x(cellStart(0) - flagWidth)} y={TOP - 4} width={(flagWidth / span) * plot} height={height - TOP} fill="var(--color-ink-400)" opacity={0.12} />
-        <rect x={x(cellStart(n))} y={TOP - 4} width={(flagWidth / span) * plot} height={height - TOP} fill="var(--color-ink-400)" opacity={0.12} />
+        {endShown ? <rect x={x(cellStart(n))} y={TOP - 4} width={(flagWidth / span) * plot} height={height - TOP} fill="var(--color-ink-400)" opacity={0.12} /> : null}
         <text x={x(cellStart(0) - flagWidth / 2)} y={14} textAnchor="middle" className="fill-muted text-[10px]">
           flag
         </text>
-        <text x={x(cellStart(n) + flagWidth / 2)} y={14} textAnchor="middle" className="fill-muted text-[10px]">
-          flag
-        </text>
-        {bits.map((b, k) =>
-          b.stuffed ? <rect key={`s${k}`} x={x(cellStart(k))} y={TOP - 4} width={(cell / span) * plot} height={height - TOP} fill="var(--color-flare-500)" opacity={0.22} /> : null,
-        )}
+        {endShown ? (
+          <text x={x(cellStart(n) + flagWidth / 2)} y={14} textAnchor="middle" className="fill-muted text-[10px]">
+            flag
+          </text>
+        ) : null}
+        {/* one path for all stuffed zeros and one for all cell boundaries: a long frame would otherwise add a node per bit */}
+        <path
+          d={bits.map((b, k) => (b.stuffed ? `M${x(cellStart(k))},${TOP - 4}h${(cell / span) * plot}v${height - TOP}h${-(cell / span) * plot}Z` : '')).join('')}
+          fill="var(--color-flare-500)"
+          opacity={0.22}
+        />
         {suspect !== null && suspect >= 0 ? (
           <g data-testid="waveform-suspect">
             <rect x={x(cellStart(suspect))} y={TOP - 4} width={Math.max(3, (cell / span) * plot)} height={height - TOP} fill="#e0582f" opacity={0.35} />
@@ -59,12 +75,15 @@ export function WaveformView({ window: w, frame, bits, suspect }: Props) {
             </text>
           </g>
         ) : null}
-        {showBits
-          ? Array.from({ length: n + 1 }, (_, k) => (
-              <line key={`b${k}`} x1={x(cellStart(k))} x2={x(cellStart(k))} y1={TOP - 2} y2={height - 6} stroke="var(--color-ink-400)" strokeOpacity={0.25} strokeWidth={1} />
-            ))
-          : null}
-        {[cellStart(0), cellStart(n)].map((s, i) => (
+        {showBits ? (
+          <path
+            d={Array.from({ length: n + 1 }, (_, k) => `M${x(cellStart(k))},${TOP - 2}V${height - 6}`).join('')}
+            stroke="var(--color-ink-400)"
+            strokeOpacity={0.25}
+            strokeWidth={1}
+          />
+        ) : null}
+        {(endShown ? [cellStart(0), cellStart(n)] : [cellStart(0)]).map((s, i) => (
           <g key={`edge${i}`}>
             <line x1={x(s)} x2={x(s)} y1={TOP - 6} y2={height - 2} stroke="var(--color-tide-600)" strokeWidth={1.5} strokeDasharray="4 3" />
             <text x={x(s) + (i === 0 ? 3 : -3)} y={height - 4} textAnchor={i === 0 ? 'start' : 'end'} className="fill-muted text-[10px]">
@@ -72,11 +91,11 @@ export function WaveformView({ window: w, frame, bits, suspect }: Props) {
             </text>
           </g>
         ))}
-        <text x={LABEL} y={TOP - 8} className="fill-muted font-mono text-[10px]">
-          {microseconds(w.fromSample)} µs
+        <text x={LABEL} y={TOP - 8} className="fill-muted font-mono text-[10px]" data-testid="waveform-axis-start">
+          {fromFrame(w.fromSample)}
         </text>
-        <text x={width - 8} y={TOP - 8} textAnchor="end" className="fill-muted font-mono text-[10px]">
-          +{microseconds(w.toSample)} µs
+        <text x={width - 8} y={TOP - 8} textAnchor="end" className="fill-muted font-mono text-[10px]" data-testid="waveform-axis-end">
+          {fromFrame(w.toSample)}
         </text>
         {w.channels.map((ch, i) => {
           const top = TOP + i * LANE + 6;
@@ -99,11 +118,12 @@ export function WaveformView({ window: w, frame, bits, suspect }: Props) {
               <text x={8} y={top + LANE / 2 + 10} className="fill-muted text-[9px]">
                 {ch.role}
               </text>
-              <path d={d} fill="none" stroke={laneColour[ch.role]} strokeWidth={1.6} strokeLinejoin="miter" />
+              <path d={d} data-lane={ch.name} fill="none" stroke={laneColour[ch.role]} strokeWidth={1.6} strokeLinejoin="miter" />
             </g>
           );
         })}
       </svg>
+    </div>
     </div>
   );
 }

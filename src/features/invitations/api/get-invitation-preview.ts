@@ -17,6 +17,7 @@ export function invitationPreviewQueryOptions(token: string) {
   });
 }
 
-export function useInvitationPreview(token: string) {
-  return useQuery(invitationPreviewQueryOptions(token));
+/** `enabled: false` once the invitation is accepted: the link is used up, asking again would only get a 410. */
+export function useInvitationPreview(token: string, enabled = true) {
+  return useQuery({ ...invitationPreviewQueryOptions(token), enabled });
 }

@@ -22,10 +22,20 @@ const roleMeaning = {
 
 export function AcceptInvitationPage({ onAccepted }: { onAccepted: (result: AcceptedInvitation) => void }) {
   const { token = '' } = useParams();
-  const preview = useInvitationPreview(token);
   const accept = useAcceptInvitation(token);
+  const preview = useInvitationPreview(token, !accept.isSuccess);
   const [clientErrors, setClientErrors] = useState<FieldErrors>({});
   const errors = { ...serverFieldErrors(accept.error), ...clientErrors };
+
+  if (accept.isSuccess) {
+    return (
+      <CenteredPage title="Invitation">
+        <p role="status" className="text-sm text-muted">
+          You joined the rig. Opening it…
+        </p>
+      </CenteredPage>
+    );
+  }
 
   if (preview.isPending) {
     return (
@@ -42,11 +52,12 @@ export function AcceptInvitationPage({ onAccepted }: { onAccepted: (result: Acce
     return (
       <CenteredPage title={gone ? 'This invitation can no longer be used' : unknown ? 'Unknown invitation' : 'Invitation'}>
         <ErrorNotice error={error}>{unknown ? 'This invitation link is not valid. Check that you copied all of it.' : undefined}</ErrorNotice>
-        <p className="mt-4 text-sm text-muted">
-          {gone || unknown
-            ? 'Ask the rig owner to send you a new invitation. If you already joined, sign in instead.'
-            : 'Reload the page to try again.'}
-        </p>
+        {/* a used or expired link: the server's message already says what to do */}
+        {!gone ? (
+          <p className="mt-4 text-sm text-muted">
+            {unknown ? 'Ask the rig owner to send you a new invitation. If you already joined, sign in instead.' : 'Reload the page to try again.'}
+          </p>
+        ) : null}
         <p className="mt-4 text-sm">
           <Link to="/sign-in" className="text-link hover:underline">
             Go to sign in

@@ -3,6 +3,7 @@ import { invitationInputSchema } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
 import { SelectField, TextField } from '../../../components/field';
 import { ErrorNotice, SuccessNotice } from '../../../components/notice';
+import { useFormEdits } from '../../../components/unsaved-changes';
 import { parseWith, readForm, serverFieldErrors, type FieldErrors } from '../../../lib/form';
 import { useSendInvitation } from '../api/pending-invitations';
 
@@ -18,6 +19,7 @@ export function InviteForm({ rigId }: { rigId: number }) {
   const [sentTo, setSentTo] = useState<string | null>(null);
   const [formKey, setFormKey] = useState(0);
   const errors = { ...serverFieldErrors(send.error), ...clientErrors };
+  const edits = useFormEdits('the invitation you are writing');
 
   function submit(event: FormEvent<HTMLFormElement>) {
     event.preventDefault();
@@ -28,6 +30,7 @@ export function InviteForm({ rigId }: { rigId: number }) {
     setClientErrors({});
     send.mutate(parsed.data, {
       onSuccess: (invitation) => {
+        edits.saved();
         setSentTo(invitation.email);
         setFormKey((k) => k + 1);
       },
@@ -35,7 +38,7 @@ export function InviteForm({ rigId }: { rigId: number }) {
   }
 
   return (
-    <form key={formKey} aria-label="Invite someone" onSubmit={submit} noValidate className="space-y-3">
+    <form key={formKey} aria-label="Invite someone" onSubmit={submit} onChange={edits.onChange} noValidate className="space-y-3">
       <div className="grid gap-3 sm:grid-cols-[1fr_18rem]">
         <TextField label="E-mail address" name="email" type="email" autoComplete="off" error={errors.email} />
         <SelectField label="Role" name="role" defaultValue="viewer" options={roleOptions} error={errors.role} />

@@ -5,6 +5,7 @@ import { Button } from '../../../components/button';
 import { Card, CardTitle } from '../../../components/card';
 import { TextArea, TextField } from '../../../components/field';
 import { ErrorNotice } from '../../../components/notice';
+import { useUnsavedChanges } from '../../../components/unsaved-changes';
 import { parseWith, serverFieldErrors, type FieldErrors } from '../../../lib/form';
 import { useCreateNote } from '../api/create-note';
 import { useNotes } from '../api/get-notes';
@@ -19,6 +20,7 @@ export function CaptureNotes({ rigId, captureId }: { rigId: number; captureId: n
   const create = useCreateNote(rigId, captureId);
   const [body, setBody] = useState('');
   const [errors, setErrors] = useState<FieldErrors>({});
+  useUnsavedChanges(body.trim() !== '', 'your note on the capture');
 
   function find(e: FormEvent) {
     e.preventDefault();
@@ -45,6 +47,7 @@ export function CaptureNotes({ rigId, captureId }: { rigId: number; captureId: n
         </form>
         {notes.error ? <ErrorNotice error={notes.error} /> : null}
         {notes.isPending ? <p className="text-sm text-muted">Reading the notes…</p> : null}
+        {notes.data ? <span hidden data-testid="notes-ready" /> : null}
         {notes.data ? (
           <NoteList rigId={rigId} captureId={captureId} notes={notes.data} linkFrames empty={q ? `No note mentions “${q}”.` : 'No notes yet. Pin one to a frame from the inspector, or add one to the capture below.'} />
         ) : null}

@@ -3,6 +3,7 @@ import { fieldNoteInputSchema, type Note } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
 import { TextArea } from '../../../components/field';
 import { ErrorNotice } from '../../../components/notice';
+import { useUnsavedChanges } from '../../../components/unsaved-changes';
 import { parseWith, serverFieldErrors, type FieldErrors } from '../../../lib/form';
 import { NoteCard } from './note-item';
 import { groupByFieldPath, useCreateFieldNote, useDeleteFieldNote, useFieldNotes, useUpdateFieldNote } from '../api/field-notes';
@@ -52,6 +53,7 @@ function AddFieldNote({ rigId, mapId, fieldPath }: FieldNotesProps) {
   const [errors, setErrors] = useState<FieldErrors>({});
   const server = serverFieldErrors(create.error);
   const shown = { ...server, ...errors };
+  useUnsavedChanges(body.trim() !== '', `your note on ${fieldPath}`);
 
   function submit(e: FormEvent) {
     e.preventDefault();

@@ -4,6 +4,7 @@ import { Button } from '../../../components/button';
 import { Card, CardTitle } from '../../../components/card';
 import { SelectField, TextArea, TextField } from '../../../components/field';
 import { ErrorNotice } from '../../../components/notice';
+import { useUnsavedChanges } from '../../../components/unsaved-changes';
 import { parseWith, serverFieldErrors, type FieldErrors } from '../../../lib/form';
 import { useCreateNote } from '../api/create-note';
 import { useNotes } from '../api/get-notes';
@@ -22,6 +23,7 @@ export function FrameNotes({ rigId, captureId, frameId, octetCount }: { rigId: n
   const [byteEnd, setByteEnd] = useState('0');
   const [errors, setErrors] = useState<FieldErrors>({});
   const shown = { ...serverFieldErrors(create.error), ...errors };
+  useUnsavedChanges(body.trim() !== '', 'your note on this frame');
   const [fromSelection, setFromSelection] = useState(false);
   useHexSelection(
     useCallback(([first, last]: [number, number]) => {

@@ -4,6 +4,7 @@ import type { Note } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
 import { TextArea } from '../../../components/field';
 import { ErrorNotice } from '../../../components/notice';
+import { useUnsavedChanges } from '../../../components/unsaved-changes';
 import { formatDateTime } from '../../../lib/format';
 import { serverFieldErrors } from '../../../lib/form';
 import { useDeleteNote } from '../api/delete-note';
@@ -47,6 +48,7 @@ export function NoteCard({
   const [editing, setEditing] = useState(false);
   const [draft, setDraft] = useState(note.body);
   const edited = note.updatedAt !== note.createdAt;
+  useUnsavedChanges(editing && draft !== note.body, 'your edit of a note');
   const editButton = compact ? 'px-2 py-1 text-xs' : '';
 
   return (

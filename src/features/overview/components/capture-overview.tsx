@@ -31,7 +31,7 @@ export function CaptureOverview({ rigId, captureId }: { rigId: number; captureId
   const timeline = `/rigs/${rigId}/captures/${captureId}/timeline`;
   return (
     <div className="space-y-5">
-      <div className="grid gap-3 sm:grid-cols-2 lg:grid-cols-5">
+      <div className="grid gap-3 sm:grid-cols-2 lg:grid-cols-5" data-testid="overview-stats">
         <Stat label="Duration" value={formatDuration(o.durationSeconds)} />
         <Stat label="Frames" value={formatCount(total)} />
         <Stat label="Damaged frames" value={formatCount(damaged)} hint={total ? `${((damaged / total) * 100).toFixed(2)} % of frames` : undefined} />

@@ -14,8 +14,12 @@ export function useDeleteRig(rigId: number) {
   });
 }
 
-/** Called once the rig's page is gone, so no mounted view refetches the deleted rig. */
+/**
+ * Called after leaving the rig's page. The router commits the next page in a transition, so the
+ * rig's views may still be mounted: only queries no view watches are dropped (a removed query a
+ * mounted view still reads would be fetched again, and answer 404); the rest go with the views.
+ */
 export function forgetRig(queryClient: ReturnType<typeof useQueryClient>, rigId: number): void {
-  queryClient.removeQueries({ queryKey: rigKeys.detail(rigId) });
-  queryClient.removeQueries({ queryKey: rigKeys.members(rigId) });
+  queryClient.removeQueries({ queryKey: rigKeys.detail(rigId), type: 'inactive' });
+  queryClient.removeQueries({ queryKey: rigKeys.members(rigId), type: 'inactive' });
 }

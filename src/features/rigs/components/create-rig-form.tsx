@@ -5,6 +5,7 @@ import { Button, ButtonLink } from '../../../components/button';
 import { Card } from '../../../components/card';
 import { TextArea, TextField } from '../../../components/field';
 import { ErrorNotice } from '../../../components/notice';
+import { useFormEdits } from '../../../components/unsaved-changes';
 import { parseWith, readForm, serverFieldErrors, type FieldErrors } from '../../../lib/form';
 import { useCreateRig } from '../api/create-rig';
 import { LineSettingsFields } from './line-settings-fields';
@@ -14,6 +15,7 @@ export function CreateRigForm() {
   const navigate = useNavigate();
   const [clientErrors, setClientErrors] = useState<FieldErrors>({});
   const errors = { ...serverFieldErrors(createRig.error), ...clientErrors };
+  const edits = useFormEdits('the new rig');
 
   function submit(event: FormEvent<HTMLFormElement>) {
     event.preventDefault();
@@ -21,14 +23,19 @@ export function CreateRigForm() {
     const parsed = parseWith(rigInputSchema, readForm(event.currentTarget));
     if (!parsed.ok) return setClientErrors(parsed.errors);
     setClientErrors({});
-    createRig.mutate(parsed.data, { onSuccess: (rig) => navigate(`/rigs/${rig.id}`) });
+    createRig.mutate(parsed.data, {
+      onSuccess: (rig) => {
+        edits.saved();
+        void navigate(`/rigs/${rig.id}`);
+      },
+    });
   }
 
   return (
     <div className="mx-auto max-w-2xl space-y-4">
       <h1 className="text-xl font-semibold">New rig</h1>
       <Card>
-        <form onSubmit={submit} noValidate className="space-y-5">
+        <form onSubmit={submit} onChange={edits.onChange} noValidate className="space-y-5">
           <TextField label="Rig name" name="name" error={errors.name} placeholder="e.g. Club network, bench 2" />
           <TextArea label="Description" name="description" rows={2} error={errors.description} hint="Optional: what the network is and where it lives." />
           <LineSettingsFields errors={errors} />

@@ -4,6 +4,7 @@ import { Button } from '../../../components/button';
 import { Card, CardTitle } from '../../../components/card';
 import { TextArea, TextField } from '../../../components/field';
 import { ErrorNotice, SuccessNotice } from '../../../components/notice';
+import { useFormEdits } from '../../../components/unsaved-changes';
 import { parseWith, readForm, serverFieldErrors, type FieldErrors } from '../../../lib/form';
 import { bitOrderLabels, clockEdgeLabels, encodingLabels, formatBitRate } from '../../../lib/format';
 import { useRig } from '../api/get-rig';
@@ -48,6 +49,7 @@ function RigSettingsForm({ rigId }: { rigId: number }) {
   const [clientErrors, setClientErrors] = useState<FieldErrors>({});
   const [saved, setSaved] = useState(false);
   const errors = { ...serverFieldErrors(update.error), ...clientErrors };
+  const edits = useFormEdits('the rig settings');
 
   function submit(event: FormEvent<HTMLFormElement>) {
     event.preventDefault();
@@ -56,14 +58,19 @@ function RigSettingsForm({ rigId }: { rigId: number }) {
     const parsed = parseWith(rigInputSchema, readForm(event.currentTarget));
     if (!parsed.ok) return setClientErrors(parsed.errors);
     setClientErrors({});
-    update.mutate(parsed.data, { onSuccess: () => setSaved(true) });
+    update.mutate(parsed.data, {
+      onSuccess: () => {
+        edits.saved();
+        setSaved(true);
+      },
+    });
   }
 
   return (
     <Card>
       <CardTitle>Rig and line settings</CardTitle>
       {/* keyed by the saved values so the form shows what the server stored */}
-      <form key={JSON.stringify([rig.name, rig.description, rig.lineSettings, rig.responseTimeoutMs])} onSubmit={submit} noValidate className="max-w-2xl space-y-5">
+      <form key={JSON.stringify([rig.name, rig.description, rig.lineSettings, rig.responseTimeoutMs])} onSubmit={submit} onChange={edits.onChange} noValidate className="max-w-2xl space-y-5">
         <TextField label="Rig name" name="name" defaultValue={rig.name} error={errors.name} />
         <TextArea label="Description" name="description" rows={2} defaultValue={rig.description} error={errors.description} />
         <LineSettingsFields defaults={rig.lineSettings} errors={errors} />

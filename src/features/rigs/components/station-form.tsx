@@ -3,6 +3,7 @@ import { stationInputSchema, type Station } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
 import { SelectField, TextField } from '../../../components/field';
 import { ErrorNotice } from '../../../components/notice';
+import { useFormEdits } from '../../../components/unsaved-changes';
 import { parseWith, readForm, serverFieldErrors, type FieldErrors } from '../../../lib/form';
 import { formatAddress } from '../../../lib/format';
 import { useCreateStation, useUpdateStation } from '../api/stations';
@@ -21,6 +22,7 @@ export function StationForm({ rigId, station, onDone }: { rigId: number; station
   const [formKey, setFormKey] = useState(0);
   const addressRef = useRef<HTMLInputElement>(null);
   const errors = { ...serverFieldErrors(mutation.error), ...clientErrors };
+  const edits = useFormEdits(station ? `station ${formatAddress(station.address)}` : 'the new station');
 
   function submit(event: FormEvent<HTMLFormElement>) {
     event.preventDefault();
@@ -30,10 +32,19 @@ export function StationForm({ rigId, station, onDone }: { rigId: number; station
     if (!parsed.ok) return setClientErrors(parsed.errors);
     setClientErrors({});
     if (station) {
-      update.mutate({ stationId: station.id, patch: parsed.data }, { onSuccess: () => onDone?.() });
+      update.mutate(
+        { stationId: station.id, patch: parsed.data },
+        {
+          onSuccess: () => {
+            edits.saved();
+            onDone?.();
+          },
+        },
+      );
     } else {
       create.mutate(parsed.data, {
         onSuccess: () => {
+          edits.saved();
           setFormKey((k) => k + 1);
           requestAnimationFrame(() => addressRef.current?.focus());
           onDone?.();
@@ -44,7 +55,7 @@ export function StationForm({ rigId, station, onDone }: { rigId: number; station
 
   const title = station ? `Edit station ${formatAddress(station.address)}` : 'Add a station';
   return (
-    <form key={formKey} aria-label={title} onSubmit={submit} noValidate className="space-y-3">
+    <form key={formKey} aria-label={title} onSubmit={submit} onChange={edits.onChange} noValidate className="space-y-3">
       <h3 className="text-sm font-semibold">{title}</h3>
       <div className="grid gap-3 sm:grid-cols-[8rem_1fr_9rem]">
         <TextField

@@ -39,3 +39,12 @@ export function exchangesQueryOptions(rigId: number, captureId: number, query: E
 export function useExchanges(rigId: number, captureId: number, query: ExchangeListQuery, enabled = true) {
   return useQuery({ ...exchangesQueryOptions(rigId, captureId, query), enabled });
 }
+
+/** The exchanges the filters select, as a file the server streams (time order, every row). */
+export function exchangeExportUrl(rigId: number, captureId: number, query: ExchangeListQuery, format: 'csv' | 'json'): string {
+  const params = new URLSearchParams();
+  if (query.station?.length) params.set('station', query.station.join(','));
+  if (query.file !== undefined) params.set('file', String(query.file));
+  const q = params.toString();
+  return `${callsPath(rigId, captureId)}/exchanges/export.${format}${q ? `?${q}` : ''}`;
+}

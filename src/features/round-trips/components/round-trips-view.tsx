@@ -1,3 +1,4 @@
+import { useEffect, useState } from 'react';
 import { useSearchParams } from 'react-router';
 import type { ExchangeRow, RigDetail, StationExchangeStats } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
@@ -6,7 +7,8 @@ import { ErrorNotice } from '../../../components/notice';
 import { formatCount, formatDuration } from '../../../components/units';
 import { formatAddress } from '../../../lib/format';
 import { useExchangeStats } from '../api/get-exchange-stats';
-import { useExchanges } from '../api/get-exchanges';
+import { exchangeExportUrl, useExchanges } from '../api/get-exchanges';
+import { ExportLinks } from '../../../components/export-links';
 import { ExchangeLadder, type LadderLane } from './exchange-ladder';
 import { exchangeOrderLabels, exchangeOrders, orderExchanges, parseExchangeOrder, timelineSearchFor } from './exchange-order';
 import { ExchangeTable } from './exchange-table';
@@ -34,6 +36,8 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
   const exchanges = useExchanges(rig.id, captureId, { station: stationFilter }, chosen !== null);
   const order = parseExchangeOrder(params.get('order'));
   const selectedId = params.get('ex') === null ? null : Number(params.get('ex'));
+  // the exchange to bring into view once its ladder page is drawn: the one in the link at first, later the one asked for
+  const [reveal, setReveal] = useState<number | null>(selectedId);
 
   const base = `/rigs/${rig.id}/captures/${captureId}`;
   const frameHref = (id: number) => `${base}/frames/${id}`;
@@ -52,6 +56,16 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
       { replace, preventScrollReset: true },
     );
   }
+
+  const drawn = exchanges.data !== undefined;
+  useEffect(() => {
+    if (reveal === null || !drawn) return;
+    const band = document.querySelector(`[data-exchange="${reveal}"]`);
+    if (!band) return;
+    band.scrollIntoView({ block: 'center' });
+    band.querySelector<SVGAElement | HTMLAnchorElement>('a')?.focus({ preventScroll: true });
+    setReveal(null);
+  });
 
   if (all.error) return <ErrorNotice error={all.error} />;
   if (all.isPending) return <p className="text-sm text-muted">Loading exchanges…</p>;
@@ -80,7 +94,8 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
   const showInLadder = (row: ExchangeRow) => {
     const i = byTime.findIndex((r) => r.id === row.id);
     setParam({ ex: String(row.id), lp: String(Math.floor(i / LADDER_PAGE)) }, true);
-    document.getElementById('ladder')?.scrollIntoView({ behavior: 'smooth', block: 'start' });
+    // scrolled to once the ladder page holding it is drawn (see the effect above)
+    setReveal(row.id);
   };
 
   return (
@@ -89,6 +104,7 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
         <label className="space-y-1 text-sm">
           <span className="block font-medium">Station</span>
           <select
+            aria-label="Station"
             value={chosen === null ? '' : String(chosen)}
             onChange={(e) => setParam({ station: e.target.value, ex: null, lp: null })}
             className="block rounded-md border border-line bg-surface px-2.5 py-1.5 text-sm text-text focus:outline-none focus:ring-2 focus:ring-focus/60"
@@ -176,7 +192,13 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
             </div>
           }
         >
-          Exchanges
+          <span className="flex flex-wrap items-center gap-3">
+            Exchanges
+            <ExportLinks
+              href={(format) => exchangeExportUrl(rig.id, captureId, { station: stationFilter }, format)}
+              what={chosen === ALL ? 'every exchange of this capture' : 'the exchanges listed below'}
+            />
+          </span>
         </CardTitle>
         <ExchangeTable rows={listed} frameHref={frameHref} timelineHref={timelineHref} onShow={showInLadder} showStation={chosen === ALL} caption={`Exchanges, ${exchangeOrderLabels[order].toLowerCase()}`} />
       </Card>

@@ -1,20 +1,13 @@
-import type { FrameDetail } from '../../../../shared/schemas';
-import { api, isApiError } from '../../../lib/api';
+import { api } from '../../../lib/api';
 import { timelineBase } from './timeline-keys';
 
-/** The next or previous damaged frame from a frame, with its time; null when there is none. */
+/** The next or previous damaged frame from a frame, with its time; null when there is none that way. */
 export async function fetchDamagedNeighbour(
   rigId: number,
   captureId: number,
   frameId: number,
   dir: 'next' | 'prev',
 ): Promise<{ id: number; t: number } | null> {
-  try {
-    const { id } = await api<{ id: number }>(`${timelineBase(rigId, captureId)}/frames/${frameId}/damaged?dir=${dir}`);
-    const detail = await api<FrameDetail>(`${timelineBase(rigId, captureId)}/frames/${id}`);
-    return { id, t: detail.frame.t };
-  } catch (error) {
-    if (isApiError(error, 404)) return null;
-    throw error;
-  }
+  const found = await api<{ id: number | null; t: number | null }>(`${timelineBase(rigId, captureId)}/frames/${frameId}/damaged?dir=${dir}`);
+  return found.id === null || found.t === null ? null : { id: found.id, t: found.t };
 }

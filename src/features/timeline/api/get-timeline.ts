@@ -1,16 +1,20 @@
-import { keepPreviousData, queryOptions, useInfiniteQuery, useQuery } from '@tanstack/react-query';
+import { infiniteQueryOptions, keepPreviousData, queryOptions, useInfiniteQuery, useQuery } from '@tanstack/react-query';
 import type { TimelinePage, TimelineRow } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
 import { filterSearch, type TimelineFilters } from './timeline-filters';
 import { timelineBase, timelineKeys } from './timeline-keys';
 
 export const PAGE_ROWS = 1000;
+/** the first page only fills the window and a little more, so the list paints at once; later pages are full */
+export const FIRST_PAGE_ROWS = 200;
 /** pages kept in memory; older ones are dropped as the user scrolls on, and fetched again on the way back */
 export const MAX_PAGES = 8;
 
 interface PageParam {
   cursor: string | null;
   direction: 'forward' | 'backward';
+  /** rows to ask for (PAGE_ROWS unless said) */
+  limit?: number;
 }
 
 export interface LoadedPage extends TimelinePage {
@@ -25,7 +29,7 @@ export async function fetchTimelinePage(
   signal?: AbortSignal,
 ): Promise<LoadedPage> {
   const q = filterSearch(filters);
-  q.set('limit', String(PAGE_ROWS));
+  q.set('limit', String(param.limit ?? PAGE_ROWS));
   q.set('direction', param.direction);
   if (param.cursor) q.set('cursor', param.cursor);
   const page = await api<TimelinePage>(`${timelineBase(rigId, captureId)}/timeline?${q}`, { signal });
@@ -44,11 +48,12 @@ function isDescending(rows: TimelineRow[]): boolean {
 /**
  * Pages in both directions from a start cursor (null = the beginning). A page read forward
  * continues forward with nextCursor and back with prevCursor; a page read backward the other way round.
+ * The route's loader prefetches the first page with the same options.
  */
-export function useTimelineRows(rigId: number, captureId: number, filters: TimelineFilters, start: string | null, enabled: boolean) {
-  return useInfiniteQuery({
+export function timelineRowsQueryOptions(rigId: number, captureId: number, filters: TimelineFilters, start: string | null) {
+  return infiniteQueryOptions({
     queryKey: timelineKeys.rows(rigId, captureId, filters, start),
-    initialPageParam: { cursor: start, direction: 'forward' } as PageParam,
+    initialPageParam: { cursor: start, direction: 'forward', limit: FIRST_PAGE_ROWS } as PageParam,
     queryFn: ({ pageParam, signal }) => fetchTimelinePage(rigId, captureId, filters, pageParam, signal),
     getNextPageParam: (last): PageParam | undefined => {
       const cursor = last.direction === 'forward' ? last.nextCursor : last.prevCursor;
@@ -59,9 +64,12 @@ export function useTimelineRows(rigId: number, captureId: number, filters: Timel
       return cursor ? { cursor, direction: 'backward' } : undefined;
     },
     maxPages: MAX_PAGES,
-    enabled,
     staleTime: Infinity,
   });
+}
+
+export function useTimelineRows(rigId: number, captureId: number, filters: TimelineFilters, start: string | null, enabled: boolean) {
+  return useInfiniteQuery({ ...timelineRowsQueryOptions(rigId, captureId, filters, start), enabled });
 }
 
 export function fetchTimelineCount(rigId: number, captureId: number, filters: TimelineFilters): Promise<{ count: number }> {
@@ -82,12 +90,21 @@ export function fetchCursorAt(rigId: number, captureId: number, filters: Timelin
   return api(`${timelineBase(rigId, captureId)}/timeline/at?${q}`);
 }
 
-/** The cursor of the first row at or after t, so a link with a time opens the view there. */
-export function useCursorAt(rigId: number, captureId: number, filters: TimelineFilters, t: number | null) {
-  return useQuery({
-    queryKey: timelineKeys.at(rigId, captureId, filters, t ?? 0),
-    queryFn: () => fetchCursorAt(rigId, captureId, filters, t ?? 0),
-    enabled: t !== null && t > 0,
+export function cursorAtQueryOptions(rigId: number, captureId: number, filters: TimelineFilters, t: number) {
+  return queryOptions({
+    queryKey: timelineKeys.at(rigId, captureId, filters, t),
+    queryFn: () => fetchCursorAt(rigId, captureId, filters, t),
     staleTime: Infinity,
   });
+}
+
+/** The cursor of the first row at or after t, so a link with a time opens the view there. */
+export function useCursorAt(rigId: number, captureId: number, filters: TimelineFilters, t: number | null) {
+  return useQuery({ ...cursorAtQueryOptions(rigId, captureId, filters, t ?? 0), enabled: t !== null && t > 0 });
+}
+
+/** The frames the filters select, as a file (the server streams it; time order, no paging). */
+export function timelineExportUrl(rigId: number, captureId: number, filters: TimelineFilters, format: 'csv' | 'json'): string {
+  const q = filterSearch(filters).toString();
+  return `${timelineBase(rigId, captureId)}/export.${format}${q ? `?${q}` : ''}`;
 }

@@ -18,18 +18,21 @@ export interface TimelineMeta {
 const col = createColumnHelper<TimelineRow>();
 const frameOnly = <T,>(fn: (f: TimelineFrame) => T) => (row: TimelineRow) => (row.type === 'frame' ? fn(row) : null);
 
-/** Column widths in px; the summary takes what is left. Shared by header and rows so they line up. */
+/**
+ * Column widths; the summary takes what is left (the timeline page is wider than the others for it).
+ * Shared by header and rows so they line up.
+ */
 export const columnWidths: Record<string, string> = {
-  time: '7.2rem',
-  dprev: '6.4rem',
-  dsel: '6.4rem',
-  link: '6.5rem',
-  station: '9rem',
-  kind: '5.6rem',
-  seq: '6.4rem',
-  length: '3.4rem',
+  time: '6rem',
+  gap: '6rem',
+  fromSelected: '7rem',
+  link: '5.5rem',
+  station: '8rem',
+  kind: '4.6rem',
+  seq: '6rem',
+  length: '3.2rem',
   status: '6.6rem',
-  summary: 'minmax(10rem,1fr)',
+  summary: 'minmax(8rem,1fr)',
 };
 
 export const timelineColumns = [
@@ -39,8 +42,8 @@ export const timelineColumns = [
     cell: (c) => <span className="tabular-nums">{formatSeconds(c.getValue())}</span>,
   }),
   col.display({
-    id: 'dprev',
-    header: 'Δ previous',
+    id: 'gap',
+    header: () => <span title="Time since the row above">Gap</span>,
     cell: (c) => {
       const meta = c.table.options.meta as TimelineMeta;
       const prev = meta.rows[c.row.index - 1];
@@ -48,8 +51,8 @@ export const timelineColumns = [
     },
   }),
   col.display({
-    id: 'dsel',
-    header: 'Δ selected',
+    id: 'fromSelected',
+    header: () => <span title="Time of the row counted from the selected frame (negative: before it)">Since selected</span>,
     cell: (c) => {
       const meta = c.table.options.meta as TimelineMeta;
       return meta.selectedT === null ? null : <span className="tabular-nums text-muted">{formatDelta(c.row.original.t - meta.selectedT)}</span>;
@@ -120,10 +123,13 @@ export const timelineColumns = [
       const meta = c.table.options.meta as TimelineMeta;
       const row = c.row.original;
       const e = row.type === 'frame' ? meta.calls?.get(row.id) : undefined;
+      // the cell is as wide as the page allows; what does not fit ends in an ellipsis and is whole on hover and in the inspector
       return (
         <>
           {e && meta.callHref ? <CallMarker exchange={e} href={meta.callHref(e)} /> : null}
-          <span className="truncate">{c.getValue()}</span>
+          <span className="min-w-0 truncate" title={c.getValue()} data-testid="row-summary">
+            {c.getValue()}
+          </span>
         </>
       );
     },

@@ -29,10 +29,12 @@ interface Props {
   onOpen: (frame: TimelineFrame) => void;
   onAnchor: (t: number) => void;
   onDamaged: (dir: 'next' | 'prev') => void;
+  /** take the keyboard focus when mounted (the list was remounted by a jump the keys asked for) */
+  focusOnMount?: boolean;
 }
 
 /** The virtualised frame list: only the rows in view are in the DOM; pages load as the user nears either end. */
-export function TimelineTable({ rigId, captureId, filters, start, selectedId, revealId, linkLabels, onSelect, onOpen, onAnchor, onDamaged }: Props) {
+export function TimelineTable({ rigId, captureId, filters, start, selectedId, revealId, linkLabels, onSelect, onOpen, onAnchor, onDamaged, focusOnMount = false }: Props) {
   const query = useTimelineRows(rigId, captureId, filters, start, true);
   const rows = useMemo(() => query.data?.pages.flatMap((p) => p.rows) ?? [], [query.data]);
   const scrollRef = useRef<HTMLDivElement>(null);
@@ -97,6 +99,12 @@ export function TimelineTable({ rigId, captureId, filters, start, selectedId, re
     const index = rows.findIndex((r) => r.type === 'frame' && r.id === revealId);
     if (index >= 0) virtualizer.scrollToIndex(index, { align: 'center' });
   }, [revealId, rows, virtualizer]);
+
+  useEffect(() => {
+    if (focusOnMount) scrollRef.current?.focus({ preventScroll: true });
+    // only when mounted: a later change of the flag belongs to the next list
+    // eslint-disable-next-line react-hooks/exhaustive-deps
+  }, []);
 
   const anchorTimer = useRef<number | undefined>(undefined);
   useEffect(() => () => window.clearTimeout(anchorTimer.current), []);
@@ -179,7 +187,7 @@ export function TimelineTable({ rigId, captureId, filters, start, selectedId, re
                   className="absolute left-0 flex w-full items-center gap-3 border-b border-line/40 bg-raised/40 px-3.5 text-[11.5px] italic text-muted"
                   style={{ height: ROW_HEIGHT, transform: `translateY(${item.start}px)`, contain: 'strict' }}
                 >
-                  <span className="w-[7.2rem] not-italic tabular-nums">{data.t.toFixed(6)}</span>
+                  <span className="w-[5.6rem] not-italic tabular-nums">{data.t.toFixed(6)}</span>
                   <span aria-hidden>┄</span>
                   <span className="truncate">Line event · {data.summary}</span>
                 </div>

@@ -4,7 +4,8 @@ import type { CaptureSummaryRow, RigDetail, TimelineFrame } from '../../../../sh
 import { ErrorNotice } from '../../../components/notice';
 import { formatCount } from '../../../components/units';
 import { fetchDamagedNeighbour } from '../api/damaged-neighbour';
-import { useCursorAt, useTimelineCount } from '../api/get-timeline';
+import { timelineExportUrl, useCursorAt, useTimelineCount } from '../api/get-timeline';
+import { ExportLinks } from '../../../components/export-links';
 import type { TimelineFilters } from '../api/timeline-filters';
 import { TimelineFilterBar } from './timeline-filter-bar';
 import { TimelineTable } from './timeline-table';
@@ -22,6 +23,8 @@ export function TimelineView({ rig, capture }: { rig: RigDetail; capture: Captur
   const cursorAt = useCursorAt(rig.id, capture.id, url.filters, jump.t);
   const count = useTimelineCount(rig.id, capture.id, url.filters);
   const searchRef = useRef<HTMLInputElement>(null);
+  // a jump remounts the list; when the keys were driving it, the new list takes the focus back
+  const [refocus, setRefocus] = useState(false);
   // the URL catches up a moment after a click; keys pressed right after it use the newest selection
   const selected = useRef<number | null>(url.sel);
   useEffect(() => {
@@ -60,23 +63,30 @@ export function TimelineView({ rig, capture }: { rig: RigDetail; capture: Captur
   async function damaged(dir: 'next' | 'prev') {
     const from = selected.current;
     if (from === null) return setMessage('Select a frame first (click a row), then press n or p.');
+    const keysInList = Boolean(document.activeElement?.closest('[data-testid="timeline-scroller"]'));
     setMessage(null);
     setNavError(null);
     try {
       const found = await fetchDamagedNeighbour(rig.id, capture.id, from, dir);
-      if (!found) return setMessage(dir === 'next' ? 'No damaged frame after the selected one.' : 'No damaged frame before the selected one.');
+      if (!found) {
+        return setMessage(dir === 'next' ? 'No later damaged frame: none follows the selected one.' : 'No earlier damaged frame: none comes before the selected one.');
+      }
       selected.current = found.id;
       url.setView({ sel: found.id, at: found.t });
       setReveal(found.id);
       // a frame outside the loaded pages: start the list a little before it
       const loaded = document.querySelector(`[data-frame-id="${found.id}"]`);
-      if (!loaded) setJump((j) => ({ t: found.t, n: j.n + 1 }));
+      if (!loaded) {
+        setRefocus(keysInList);
+        setJump((j) => ({ t: found.t, n: j.n + 1 }));
+      }
     } catch (error) {
       setNavError(error);
     }
   }
 
   function changeFilters(next: TimelineFilters) {
+    setRefocus(false);
     url.setFilters(next);
     setJump((j) => ({ t: url.currentAt(), n: j.n + 1 }));
   }
@@ -91,13 +101,17 @@ export function TimelineView({ rig, capture }: { rig: RigDetail; capture: Captur
         searchRef={searchRef}
         onChange={changeFilters}
         onJump={(t) => {
+          setRefocus(false);
           url.setView({ at: t });
           setJump((j) => ({ t, n: j.n + 1 }));
         }}
       />
       <div className="flex flex-wrap items-center justify-between gap-2 text-xs text-muted">
-        <span data-testid="match-count">
-          {count.data ? `${formatCount(count.data.count)} rows match` : count.error ? 'Could not count the rows' : 'Counting…'}
+        <span className="flex flex-wrap items-center gap-3">
+          <span data-testid="match-count">
+            {count.data ? `${formatCount(count.data.count)} ${count.data.count === 1 ? 'row matches' : 'rows match'}` : count.error ? 'Could not count the rows' : 'Counting…'}
+          </span>
+          <ExportLinks href={(format) => timelineExportUrl(rig.id, capture.id, url.filters, format)} what="the frames that match these filters" />
         </span>
         <span>
           <kbd className="font-mono">↑ ↓</kbd> move · <kbd className="font-mono">Enter</kbd> open · <kbd className="font-mono">n</kbd>/
@@ -123,6 +137,7 @@ export function TimelineView({ rig, capture }: { rig: RigDetail; capture: Captur
           onOpen={open}
           onAnchor={url.setAnchor}
           onDamaged={(dir) => void damaged(dir)}
+          focusOnMount={refocus}
         />
       )}
     </div>

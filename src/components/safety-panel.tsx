@@ -1,3 +1,5 @@
+import { Link } from 'react-router';
+
 /** Cautions for clipping a logic analyzer onto old serial hardware; shown beside the upload and roles form. */
 export function SafetyPanel() {
   return (
@@ -25,5 +27,26 @@ export function SafetyPanel() {
         <li>Follow your local electrical codes, and ask someone qualified when in doubt.</li>
       </ul>
     </aside>
+  );
+}
+
+/** The route that shows the whole panel on a page of its own (linked from the short cautions). */
+export const SAFETY_PAGE = '/probing-safety';
+
+/**
+ * The short form, where the app sends someone back to live hardware (e.g. after a bad FCS):
+ * the three dangers in one breath and a link to the whole panel.
+ */
+export function ProbingCautions({ className = '' }: { className?: string }) {
+  return (
+    <p role="note" aria-label="Probing cautions" className={`rounded-md border border-flare-500/50 bg-flare-100/60 px-3 py-2 text-xs dark:bg-flare-500/8 ${className}`}>
+      <span aria-hidden>⚠ </span>
+      <strong>Before you probe again:</strong> RS-232 lines swing to ±12 V and can destroy a 3.3 V analyzer input (probe the TTL side or use a level
+      shifter); mains-powered supplies and CRT high voltage can kill, even after power-off. Clip the ground on first, and follow your local codes; ask
+      someone qualified when in doubt.{' '}
+      <Link to={SAFETY_PAGE} className="font-medium text-link hover:underline">
+        Probing safely, in full →
+      </Link>
+    </p>
   );
 }
