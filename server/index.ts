@@ -13,7 +13,7 @@ import { mountViteDev, serveBuiltClient } from './http/client';
 import { apiNotFound, errorHandler } from './http/errors';
 import { createRateLimits, DEFAULT_RATE_LIMITS, type RateLimitOptions } from './http/rate-limits';
 import { securityHeaders } from './http/security';
-import { createMailer } from './mail/mailer';
+import { chooseMailMode, createMailer } from './mail/mailer';
 import { captureRoutes } from './routes/captures';
 import { compareRoutes } from './routes/compare';
 import { exchangeRoutes } from './routes/exchanges';
@@ -48,8 +48,10 @@ export interface AppOptions {
   /** bcrypt cost; 12 unless given here or in FLAGLINE_BCRYPT_COST (tests use 4) */
   bcryptCost?: number;
   rateLimit?: Partial<RateLimitOptions>;
-  /** FLAGLINE_SMTP_URL unless given; '' forces the fake mailbox */
+  /** FLAGLINE_SMTP_URL unless given; '' means none */
   smtpUrl?: string;
+  /** without SMTP, keep mail in the development mailbox (default: in demo or development mode; otherwise mail is off) */
+  mailbox?: boolean;
   /** Express "trust proxy" (default FLAGLINE_TRUST_PROXY or 'loopback'): decides when a request counts as https */
   trustProxy?: string | boolean | number;
   /** folder of stored captures and upload temp files (default FLAGLINE_DATA_DIR or data/) */
@@ -84,10 +86,13 @@ export async function createApp(opts: AppOptions = {}) {
   const dev = opts.dev ?? false;
   const hasher = createPasswordHasher(opts.bcryptCost ?? envNumber('FLAGLINE_BCRYPT_COST') ?? PRODUCTION_BCRYPT_COST);
   const sessionStore = new SqliteSessionStore(handle.db);
+  const limits = createRateLimits({ ...DEFAULT_RATE_LIMITS, ...opts.rateLimit });
+  const smtpUrl = opts.smtpUrl ?? process.env.FLAGLINE_SMTP_URL;
+  const mailMode = chooseMailMode({ smtpUrl, mailbox: opts.mailbox ?? Boolean(opts.demo || dev) });
   const ctx: AppContext = {
     db: handle.db,
     hasher,
-    mailer: createMailer(handle.db, opts.smtpUrl ?? process.env.FLAGLINE_SMTP_URL),
+    mailer: createMailer(handle.db, { mode: mailMode, smtpUrl, limits: limits.mail, log: dev ? (m) => console.log(m) : undefined }),
     sessionStore,
     publicUrl: (opts.publicUrl ?? process.env.FLAGLINE_PUBLIC_URL ?? `http://localhost:${process.env.PORT || 3000}`).replace(/\/+$/, ''),
     demo: opts.demo ?? false,
@@ -102,7 +107,6 @@ export async function createApp(opts: AppOptions = {}) {
   const callsModule = createCallsModule(captureModule);
   const passport = createPassport(ctx);
   const guard = createGuard(ctx);
-  const limits = createRateLimits({ ...DEFAULT_RATE_LIMITS, ...opts.rateLimit });
 
   const app = express();
   app.disable('x-powered-by');
@@ -117,10 +121,11 @@ export async function createApp(opts: AppOptions = {}) {
   // field-map documents are larger than forms: the built-in map alone is about 50 KB
   api.use('/rigs/:rigId/field-maps', express.json({ limit: FIELD_MAP_BODY_LIMIT }));
   api.use(express.json({ limit: JSON_BODY_LIMIT }));
+  const secret = sessionSecret(handle.db);
   api.use(
     session({
       name: 'flagline.sid',
-      secret: sessionSecret(handle.db),
+      secret,
       store: sessionStore,
       resave: false,
       saveUninitialized: false,
@@ -131,7 +136,7 @@ export async function createApp(opts: AppOptions = {}) {
   );
   api.use(passport.initialize());
   api.use(passport.session());
-  api.use(csrfProtection);
+  api.use(csrfProtection(secret));
   api.use(sessionRoutes(ctx, guard, passport, limits));
   api.use(passwordResetRoutes(ctx, limits));
   api.use(invitationRoutes(ctx, guard));

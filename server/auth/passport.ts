@@ -50,6 +50,14 @@ export function verifyCredentials(passport: FlaglinePassport, req: Request): Pro
 export const signIn = (req: Request, user: User) =>
   new Promise<void>((resolve, reject) => req.login(user, (err) => (err ? reject(err) : resolve())));
 
-/** Signs out; req.logout also regenerates the session. */
+/**
+ * Signs out. req.logout regenerates the session, and express-session would store the new, empty
+ * one; it is dropped instead, so a signed-out browser has no session row, like any visitor.
+ */
 export const signOut = (req: Request) =>
-  new Promise<void>((resolve, reject) => req.logout((err) => (err ? reject(err) : resolve())));
+  new Promise<void>((resolve, reject) =>
+    req.logout((err) => {
+      if (err) return reject(err);
+      req.session.destroy((destroyErr) => (destroyErr ? reject(destroyErr) : resolve()));
+    }),
+  );

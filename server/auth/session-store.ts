@@ -5,12 +5,21 @@ import { sessions } from '../db/schema';
 
 const DEFAULT_TTL_MS = 14 * 24 * 60 * 60 * 1000;
 const CLEANUP_INTERVAL_MS = 15 * 60 * 1000;
+/**
+ * The cookie's expiry slides on every response; the stored one is moved only when it lags by more
+ * than this. Otherwise every GET would be a write (an fsync, and a wait for the write lock while a
+ * decode worker holds it) for an expiry that moves by seconds out of fourteen days.
+ */
+const TOUCH_EVERY_MS = 60 * 60 * 1000;
+const REMEMBERED_SESSIONS = 10_000;
 
 type Callback = (err?: unknown) => void;
 
 /** express-session store on the `sessions` table, so sign-ins survive a server restart. */
 export class SqliteSessionStore extends session.Store {
   private timer: NodeJS.Timeout;
+  /** the expiry last read or written per session id, so touch() knows when a write is due */
+  private readonly storedExpiry = new Map<string, number>();
 
   constructor(private readonly db: Db) {
     super();
@@ -25,6 +34,11 @@ export class SqliteSessionStore extends session.Store {
     return Date.now() + (sess.cookie?.maxAge ?? DEFAULT_TTL_MS);
   }
 
+  private remember(sid: string, expiresAt: number): void {
+    if (this.storedExpiry.size >= REMEMBERED_SESSIONS && !this.storedExpiry.has(sid)) this.storedExpiry.clear();
+    this.storedExpiry.set(sid, expiresAt);
+  }
+
   clearExpired(): number {
     return this.db.delete(sessions).where(lt(sessions.expiresAt, Date.now())).run().changes;
   }
@@ -35,8 +49,10 @@ export class SqliteSessionStore extends session.Store {
       if (!row) return cb(null, null);
       if (row.expiresAt < Date.now()) {
         this.db.delete(sessions).where(eq(sessions.sid, sid)).run();
+        this.storedExpiry.delete(sid);
         return cb(null, null);
       }
+      this.remember(sid, row.expiresAt);
       cb(null, JSON.parse(row.data) as session.SessionData);
     } catch (err) {
       cb(err);
@@ -52,6 +68,7 @@ export class SqliteSessionStore extends session.Store {
         .values({ sid, data, expiresAt })
         .onConflictDoUpdate({ target: sessions.sid, set: { data, expiresAt } })
         .run();
+      this.remember(sid, expiresAt);
       cb?.();
     } catch (err) {
       cb?.(err);
@@ -61,6 +78,7 @@ export class SqliteSessionStore extends session.Store {
   destroy(sid: string, cb?: Callback): void {
     try {
       this.db.delete(sessions).where(eq(sessions.sid, sid)).run();
+      this.storedExpiry.delete(sid);
       cb?.();
     } catch (err) {
       cb?.(err);
@@ -69,7 +87,11 @@ export class SqliteSessionStore extends session.Store {
 
   touch(sid: string, sess: session.SessionData, cb?: Callback): void {
     try {
-      this.db.update(sessions).set({ expiresAt: this.expiry(sess) }).where(eq(sessions.sid, sid)).run();
+      const expiresAt = this.expiry(sess);
+      const stored = this.storedExpiry.get(sid);
+      if (stored !== undefined && expiresAt - stored < TOUCH_EVERY_MS) return cb?.();
+      this.db.update(sessions).set({ expiresAt }).where(eq(sessions.sid, sid)).run();
+      this.remember(sid, expiresAt);
       cb?.();
     } catch (err) {
       cb?.(err);

@@ -5,6 +5,7 @@
  */
 import { defaultDbPath } from '../db/client';
 import { startServer } from '../index';
+import { chooseMailMode, mailStartupNotice } from '../mail/mailer';
 import { DEMO_ACCOUNTS, DEMO_PASSWORD } from '../seed/demo';
 import { buildClient, clientBuildReason } from './client-build';
 
@@ -44,6 +45,8 @@ async function main() {
     console.log(`Demo mode: sign in with ${DEMO_ACCOUNTS.map((a) => `${a.email} (${a.role})`).join(', ')}`);
     console.log(`           password for all three: ${DEMO_PASSWORD}`);
   }
+  const mail = mailStartupNotice(chooseMailMode({ smtpUrl: process.env.FLAGLINE_SMTP_URL, mailbox: demo || dev }));
+  if (mail) console.log(mail);
 
   const stop = () => {
     void server.close().finally(() => process.exit(0));

@@ -5,6 +5,7 @@ import { z } from 'zod';
 import { captureSettingsSchema, timelineQuerySchema, waveformQuerySchema } from '../../shared/schemas';
 import { currentUser, rigAccess, type Guard } from '../auth/guard';
 import { badRequest, HttpError, parseBody, parseId } from '../http/errors';
+import { multipartError } from '../http/multipart';
 import { deleteCapture } from '../services/captures/delete';
 import { detectCapture } from '../services/captures/detection';
 import { exportFrames } from '../services/captures/export';
@@ -30,6 +31,8 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
   const upload = multer({
     storage: multer.diskStorage({ destination: m.store.tmpDir, filename: (_req, _file, cb) => cb(null, `upload-${randomUUID()}`) }),
     limits: { fileSize: m.maxUploadBytes, files: 1, fields: 10 },
+    // browsers send a file name's UTF-8 bytes as they are; busboy would read them as latin1 ("StÃ¶rung")
+    defParamCharset: 'utf8',
   }).single('file');
   // multer removes its partial file itself when it stops with an error
   const receiveFile: RequestHandler = (req, res, next) =>
@@ -39,7 +42,7 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
         if (err.code === 'LIMIT_FILE_SIZE') return next(new HttpError(413, `The file is larger than the upload limit of ${megabytes(m.maxUploadBytes)}`));
         return next(badRequest(`The upload was refused: ${err.message}. Send one file in the multipart field "file"`));
       }
-      next(err);
+      next(multipartError(err) ?? err);
     });
 
   router.get('/rigs/:rigId/captures', guard.requireRigRole('viewer'), (_req, res) => {

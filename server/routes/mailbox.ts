@@ -1,17 +1,21 @@
 import { Router } from 'express';
 import { currentUser, type Guard } from '../auth/guard';
 import type { AppContext } from '../context';
-import { forbidden, notFound } from '../http/errors';
-import { listMail, ownsAnyRig } from '../services/mailbox';
+import { notFound } from '../http/errors';
+import { listMailFor } from '../services/mailbox';
 
-/** Development mailbox: what the fake transport "sent". Real SMTP → 404 (there is nothing to show). */
+/**
+ * Development mailbox: what the database transport kept instead of sending, each person seeing the
+ * messages addressed to them. It exists only in demo or development mode without SMTP (404 otherwise).
+ */
 export function mailboxRoutes(ctx: AppContext, guard: Guard): Router {
   const router = Router();
 
   router.get('/dev/mailbox', guard.requireUser, (req, res) => {
-    if (!ctx.mailer.isFake) throw notFound('The development mailbox exists only without FLAGLINE_SMTP_URL');
-    if (!ownsAnyRig(ctx.db, currentUser(req).id)) throw forbidden('The development mailbox is for rig owners');
-    res.json(listMail(ctx.db));
+    if (ctx.mailer.mode !== 'mailbox') {
+      throw notFound('There is no development mailbox here: it exists only in demo or development mode without FLAGLINE_SMTP_URL');
+    }
+    res.json(listMailFor(ctx.db, currentUser(req).email));
   });
 
   return router;

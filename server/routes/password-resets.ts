@@ -9,9 +9,9 @@ import { completePasswordReset, previewPasswordReset, requestPasswordReset } fro
 export function passwordResetRoutes(ctx: AppContext, limits: { reset: RequestHandler[] }): Router {
   const router = Router();
 
-  router.post('/password-resets', ...limits.reset, async (req, res) => {
+  router.post('/password-resets', ...limits.reset, (req, res) => {
     const { email } = parseBody(resetRequestSchema, req.body);
-    await requestPasswordReset(ctx, email);
+    requestPasswordReset(ctx, email);
     res.status(202).json({ message: 'If an account uses that address, a reset link is on its way' });
   });
 

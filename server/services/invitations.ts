@@ -57,6 +57,8 @@ export async function createInvitation(
 ): Promise<Invitation> {
   const { db } = ctx;
   const email = input.email.trim().toLowerCase();
+  ctx.mailer.ensureCanSend('invitations');
+  ctx.mailer.limits.checkInvitation(email, inviter.id);
   const { token, tokenHash } = newToken();
   const now = new Date();
   const expiresAt = new Date(now.getTime() + INVITATION_LIFETIME_MS);
@@ -98,6 +100,7 @@ export async function createInvitation(
     console.error('[flagline] invitation mail failed:', err);
     throw new HttpError(502, `The invitation mail to ${email} could not be sent; nothing was saved, try again later`);
   }
+  ctx.mailer.limits.countInvitation(email, inviter.id);
   return { id, rigId, email, role: input.role, invitedBy: inviter.name, createdAt: now.toISOString(), expiresAt: expiresAt.toISOString() };
 }
 

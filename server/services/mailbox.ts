@@ -1,23 +1,20 @@
-import { and, desc, eq } from 'drizzle-orm';
+import { desc, eq } from 'drizzle-orm';
 import type { MailMessage } from '../../shared/schemas';
 import type { Db } from '../db/client';
-import { mailMessages, memberships } from '../db/schema';
+import { mailMessages } from '../db/schema';
 
 const MAILBOX_LIMIT = 200;
 
-export const ownsAnyRig = (db: Db, userId: number): boolean =>
-  db
-    .select({ id: memberships.id })
-    .from(memberships)
-    .where(and(eq(memberships.userId, userId), eq(memberships.role, 'owner')))
-    .limit(1)
-    .get() !== undefined;
-
-/** The fake transport's messages, newest first. */
-export function listMail(db: Db): MailMessage[] {
+/**
+ * The development mailbox of one person: only messages addressed to their own e-mail, newest
+ * first. (Everyone else's mail holds reset and invitation links that would let a reader sign in
+ * as them.) The mailer stores one plain lower-case address per message.
+ */
+export function listMailFor(db: Db, email: string): MailMessage[] {
   return db
     .select()
     .from(mailMessages)
+    .where(eq(mailMessages.to, email.trim().toLowerCase()))
     .orderBy(desc(mailMessages.id))
     .limit(MAILBOX_LIMIT)
     .all()

@@ -12,23 +12,28 @@ type ResetRow = typeof passwordResets.$inferSelect;
 
 /**
  * Mails a reset link when the address has an account. The caller answers 202 either way, so the
- * answer does not reveal which addresses have accounts. A mail that cannot be sent is logged and its
- * token withdrawn.
+ * answer does not reveal which addresses have accounts, and so does the time it takes: both paths
+ * check the limits, make a token and render the mail; only an existing account then stores the
+ * token and hands the mail to the transport, without waiting for it (an SMTP round trip would
+ * otherwise tell the two apart). A mail that cannot be sent is logged and its token withdrawn.
  */
-export async function requestPasswordReset(ctx: Pick<AppContext, 'db' | 'mailer' | 'publicUrl'>, email: string): Promise<void> {
+export function requestPasswordReset(ctx: Pick<AppContext, 'db' | 'mailer' | 'publicUrl'>, email: string): void {
+  ctx.mailer.ensureCanSend('password-reset links');
+  ctx.mailer.limits.takeReset(email);
   const user = findUserByEmail(ctx.db, email);
-  if (!user) return;
   const { token, tokenHash } = newToken();
   const expiresAt = new Date(Date.now() + RESET_LIFETIME_MS);
+  const mail = passwordResetMail({ to: user?.email ?? email, name: user?.name ?? email, link: `${ctx.publicUrl}/reset-password/${token}`, expiresAt });
+  if (!user) return;
   const row = ctx.db.insert(passwordResets).values({ userId: user.id, tokenHash, expiresAt }).returning({ id: passwordResets.id }).get();
-  try {
-    await ctx.mailer.send(
-      passwordResetMail({ to: user.email, name: user.name, link: `${ctx.publicUrl}/reset-password/${token}`, expiresAt }),
-    );
-  } catch (err) {
-    ctx.db.delete(passwordResets).where(eq(passwordResets.id, row.id)).run();
+  ctx.mailer.send(mail).catch((err: unknown) => {
     console.error('[flagline] password reset mail failed:', err);
-  }
+    try {
+      ctx.db.delete(passwordResets).where(eq(passwordResets.id, row.id)).run();
+    } catch (cleanupErr) {
+      console.error('[flagline] could not withdraw the unsent reset link:', cleanupErr);
+    }
+  });
 }
 
 function usableReset(db: Db, token: string, now = new Date()): ResetRow {

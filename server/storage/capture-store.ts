@@ -17,6 +17,26 @@ export interface CaptureStore {
   remove(sha256: string): void;
 }
 
+/**
+ * Uploads that were still arriving when the server stopped (killed, crashed, power cut) stay in
+ * the temp folder; no request will ever finish them. Runs when the server starts: a file last
+ * written before this process began is such a leftover (an upload in progress elsewhere keeps
+ * its file's time moving, so a second process sharing the folder, as tests do, loses nothing).
+ */
+function clearLeftoverUploads(tmpDir: string): void {
+  const started = performance.timeOrigin;
+  let removed = 0;
+  for (const entry of fs.readdirSync(tmpDir, { withFileTypes: true })) {
+    if (!entry.isFile()) continue;
+    const file = path.join(tmpDir, entry.name);
+    const written = fs.statSync(file, { throwIfNoEntry: false })?.mtimeMs;
+    if (written === undefined || written >= started) continue;
+    fs.rmSync(file, { force: true });
+    removed++;
+  }
+  if (removed > 0) console.log(`[flagline] removed ${removed} unfinished upload${removed === 1 ? '' : 's'} left in ${tmpDir}`);
+}
+
 export const defaultDataDir = () => process.env.FLAGLINE_DATA_DIR || path.join(repoRoot, 'data');
 
 export function createCaptureStore(dataDir: string = defaultDataDir()): CaptureStore {
@@ -24,6 +44,7 @@ export function createCaptureStore(dataDir: string = defaultDataDir()): CaptureS
   const tmpDir = path.join(dataDir, 'tmp');
   fs.mkdirSync(dir, { recursive: true });
   fs.mkdirSync(tmpDir, { recursive: true });
+  clearLeftoverUploads(tmpDir);
   const pathOf = (sha256: string) => {
     if (!/^[0-9a-f]{64}$/.test(sha256)) throw new Error(`not a sha256: ${sha256}`);
     return path.join(dir, sha256);

@@ -34,8 +34,10 @@ export interface SessionInfo {
   csrfToken: string;
   /** present only in demo mode: the accounts shown on the sign-in page */
   demo: { password: string; accounts: { email: string; role: string }[] } | null;
-  /** development mailbox available (fake mail transport) */
+  /** development mailbox available (demo or development mode without SMTP): each person reads their own mail there */
   devMailbox: boolean;
+  /** this server sends no mail at all (no SMTP outside demo and development mode): no invitations or reset links */
+  mailOff: boolean;
 }
 
 /** POST /api/session and POST /api/password-resets/:token answer this (the user is signed in) */

@@ -11,15 +11,27 @@ import { createPasswordHasher } from '../../server/auth/passwords';
 export const TEST_BCRYPT_COST = 4;
 export const PASSWORD = 'correct horse battery';
 
-/** An app on a fresh in-memory database, fast hashing, limits out of the way, fake mailbox. */
+/** the rate limits out of the way; tests of a limit set their own */
+export const GENEROUS_LIMITS = {
+  signIn: 1000,
+  signInPerAddress: 10_000,
+  signInBackoffMaxMs: 0,
+  reset: 1000,
+  resetPerRecipient: 1000,
+  invitationsPerUser: 1000,
+  invitationsPerRecipient: 1000,
+};
+
+/** An app on a fresh in-memory database, fast hashing, limits out of the way, development mailbox. */
 export async function testApp(opts: AppOptions = {}): Promise<FlaglineApp> {
   const handle = openDb(':memory:');
   const app = await createApp({
     db: handle,
     bcryptCost: TEST_BCRYPT_COST,
-    rateLimit: { signIn: 1000, reset: 1000 },
+    rateLimit: GENEROUS_LIMITS,
     publicUrl: 'http://flagline.test',
     smtpUrl: '',
+    mailbox: true,
     ...opts,
   });
   return {

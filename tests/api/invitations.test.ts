@@ -26,9 +26,11 @@ describe('invitations', () => {
     expect(invitation).toMatchObject({ rigId, email: 'new.person@example.test', role: 'viewer', invitedBy: 'Olive Owner' });
     expect(Date.parse(invitation.expiresAt) - Date.parse(invitation.createdAt)).toBe(7 * 24 * 3600 * 1000);
 
-    const mailbox = await owner.get('/api/dev/mailbox').expect(200);
-    expect(mailbox.body[0]).toMatchObject({ to: 'new.person@example.test', subject: 'Olive Owner invited you to the rig "Parish rig" on Flagline' });
-    expect(mailbox.body[0].html).toContain(`http://flagline.test/invitations/${token}`);
+    const mail = app.db.sqlite.prepare('select "to", subject, html from mail_messages order by id desc limit 1').get() as { to: string; subject: string; html: string };
+    expect(mail).toMatchObject({ to: 'new.person@example.test', subject: 'Olive Owner invited you to the rig "Parish rig" on Flagline' });
+    expect(mail.html).toContain(`http://flagline.test/invitations/${token}`);
+    // the invitation is the invitee's mail, not the inviter's
+    expect((await owner.get('/api/dev/mailbox').expect(200)).body).toEqual([]);
     // only the hash is kept
     expect(count('select count(*) as n from invitations where token_hash = ?', token)).toBe(0);
 
@@ -129,12 +131,14 @@ describe('invitations', () => {
 });
 
 describe('development mailbox', () => {
-  it('is there for owners only while the fake transport is used', async () => {
+  it('is open to everyone signed in, showing each person only their own mail', async () => {
     const viewerOnly = await makeUser(app, 'v@example.test');
     addMember(app, rigId, viewerOnly, 'viewer');
-    await (await signedIn(app, 'v@example.test')).get('/api/dev/mailbox').expect(403);
+    await invite('v.other@example.test');
+    const viewer = await signedIn(app, 'v@example.test');
+    expect((await viewer.get('/api/dev/mailbox').expect(200)).body).toEqual([]);
     await (await anonymous(app)).get('/api/dev/mailbox').expect(401);
-    expect((await owner.get('/api/session')).body.devMailbox).toBe(true);
+    expect((await owner.get('/api/session')).body).toMatchObject({ devMailbox: true, mailOff: false });
   });
 
   it('answers 404 when real SMTP is configured', async () => {

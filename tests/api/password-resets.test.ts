@@ -1,4 +1,5 @@
-import { afterEach, beforeEach, describe, expect, it } from 'vitest';
+import net from 'node:net';
+import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest';
 import type { FlaglineApp } from '../../server/index';
 import { PASSWORD, anonymous, linkFromMail, makeUser, signedIn, testApp } from './helpers';
 
@@ -75,4 +76,34 @@ describe('password reset', () => {
       limited.close();
     }
   });
+
+  it('answers without waiting for the mail server, so an existing account takes no longer than an unknown one', async () => {
+    // a mail server that accepts connections and says nothing until the test lets it go
+    const sockets: net.Socket[] = [];
+    const silent = net.createServer((socket) => sockets.push(socket));
+    await new Promise<void>((resolve) => silent.listen(0, '127.0.0.1', resolve));
+    const port = (silent.address() as net.AddressInfo).port;
+    const smtpApp = await testApp({ smtpUrl: `smtp://127.0.0.1:${port}` });
+    try {
+      await makeUser(smtpApp, 'ada@example.test', 'Ada');
+      const guest = await anonymous(smtpApp);
+      // both answer while the mail to Ada is still waiting for the server's greeting
+      await guest.post('/api/password-resets', { email: 'ada@example.test' }).expect(202);
+      await guest.post('/api/password-resets', { email: 'nobody@example.test' }).expect(202);
+      await expect.poll(() => sockets.length).toBe(1);
+      const resets = () => (smtpApp.db.sqlite.prepare('select count(*) as n from password_resets').get() as { n: number }).n;
+      expect(resets()).toBe(1);
+      // the server hangs up: the mail fails later and its link is withdrawn
+      const log = vi.spyOn(console, 'error').mockImplementation(() => {});
+      sockets.forEach((s) => s.destroy());
+      await expect.poll(resets).toBe(0);
+      expect(log).toHaveBeenCalledWith('[flagline] password reset mail failed:', expect.anything());
+      log.mockRestore();
+    } finally {
+      sockets.forEach((s) => s.destroy());
+      silent.close();
+      smtpApp.close();
+    }
+  });
 });
+

@@ -4,6 +4,7 @@ import type { ExchangeQuery } from '../../../shared/schemas';
 import { visibleRun } from './capture-layer';
 import { EXCHANGE_COLUMNS, filters, stationNames, toExchangeRow, type Row } from './exchanges';
 import type { CallsModule } from './module';
+import { csvCell } from '../../http/csv';
 
 const PAGE = 2000;
 const CSV_COLUMNS = [
@@ -28,12 +29,6 @@ const CSV_COLUMNS = [
   'retryFrameIds',
   'responseFrameIds',
 ] as const;
-
-const csvCell = (v: unknown) => {
-  if (v === null || v === undefined) return '';
-  const s = Array.isArray(v) ? v.join(' ') : String(v);
-  return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-};
 
 export async function exportExchanges(
   m: CallsModule,

@@ -3,6 +3,7 @@ import type { TimelineQuery } from '../../../shared/schemas';
 import type { CaptureDeps } from './deps';
 import { frameSummary } from './summaries';
 import { frameFilters, type SelectiveProbe } from './timeline';
+import { csvCell } from '../../http/csv';
 
 const COLUMNS = ['id', 'link', 'seq', 't', 'tEnd', 'status', 'address', 'station', 'kind', 'command', 'ns', 'nr', 'pf', 'infoLength', 'fcsReceived', 'fcsComputed', 'flippedBit', 'hex', 'summary'] as const;
 
@@ -27,12 +28,6 @@ interface ExportRow {
 }
 
 const PAGE = 2000;
-
-const csvCell = (v: unknown) => {
-  if (v === null || v === undefined) return '';
-  const s = String(v);
-  return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-};
 
 /** Streams the filtered frames of the visible run as CSV or a JSON array, row by row. */
 export async function exportFrames(deps: CaptureDeps, res: Response, opts: { jobId: number | null; q: TimelineQuery; names: Map<number, string>; fileName: string; format: 'csv' | 'json'; selective?: SelectiveProbe }) {

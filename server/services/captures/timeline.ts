@@ -77,7 +77,7 @@ export function frameFilters(jobId: number, q: TimelineQuery, selective: Selecti
     const notesOfRun = "notes n where n.capture_id = (select capture_id from decode_jobs where id = ?) and n.body like ? escape '\\'";
     // the trigram index answers substrings of three or more characters without LIKE wildcards
     if (q.text.length >= 3 && escaped === q.text && selective('text', `%${q.text}%`)) {
-      where.push(`f.id in (select rowid from frame_search where text like ? union select nf.id from ${notesOfRun.replace('notes n', 'notes n join frames nf on nf.job_id = ? and nf.link = n.link and nf.seq = n.seq')})`);
+      where.push(`f.id in (select rowid from frame_search where text like ? union select nf.id from ${notesOfRun.replace('notes n', 'notes n cross join frames nf on nf.job_id = ? and nf.link = n.link and nf.seq = n.seq')})`);
       params.push(`%${q.text}%`, jobId, jobId, `%${escaped}%`);
     }
     where.push(`(f.text like ? escape '\\' or exists (select 1 from ${notesOfRun} and n.link = f.link and n.seq = f.seq))`);

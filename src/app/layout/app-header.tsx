@@ -15,7 +15,6 @@ export function AppHeader({ wide = false }: { wide?: boolean }) {
   const rigMatch = useMatch('/rigs/:rigId/*');
   const currentRigId = rigMatch ? Number(rigMatch.params.rigId) : null;
   const currentRig = rigs.data?.find((r) => r.id === currentRigId);
-  const ownsARig = rigs.data?.some((r) => r.myRole === 'owner') ?? false;
 
   return (
     <header className="border-b border-ink-800 bg-ink-900 text-ink-100">
@@ -52,7 +51,7 @@ export function AppHeader({ wide = false }: { wide?: boolean }) {
           ) : null}
         </nav>
         <div className="ml-auto flex items-center gap-3 text-sm">
-          {session.devMailbox && ownsARig ? (
+          {session.devMailbox && session.user ? (
             <NavLink
               to="/dev/mailbox"
               className={({ isActive }) =>

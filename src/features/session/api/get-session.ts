@@ -25,6 +25,7 @@ export function replaceSession(queryClient: QueryClient, next: { user: User | nu
   queryClient.setQueryData<SessionInfo>(sessionKeys.current(), {
     demo: previous?.demo ?? null,
     devMailbox: previous?.devMailbox ?? false,
+    mailOff: previous?.mailOff ?? false,
     user: next.user,
     csrfToken: next.csrfToken,
   });

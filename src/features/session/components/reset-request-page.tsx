@@ -6,10 +6,12 @@ import { CenteredPage } from '../../../components/centered-page';
 import { TextField } from '../../../components/field';
 import { ErrorNotice, SuccessNotice } from '../../../components/notice';
 import { parseWith, readForm, serverFieldErrors, type FieldErrors } from '../../../lib/form';
+import { useSession } from '../api/get-session';
 import { useRequestPasswordReset } from '../api/password-reset';
 
 export function ResetRequestPage() {
   const request = useRequestPasswordReset();
+  const { mailOff } = useSession();
   const [clientErrors, setClientErrors] = useState<FieldErrors>({});
   const [sentTo, setSentTo] = useState<string | null>(null);
   const errors = { ...serverFieldErrors(request.error), ...clientErrors };
@@ -25,7 +27,12 @@ export function ResetRequestPage() {
 
   return (
     <CenteredPage title="Reset your password">
-      {sentTo ? (
+      {mailOff ? (
+        <p className="text-sm text-muted">
+          This server sends no e-mail (no mail server is set up), so it cannot send reset links. Ask whoever runs it to set a new
+          password for you, or to set up mail.
+        </p>
+      ) : sentTo ? (
         <SuccessNotice>
           If an account exists for <strong>{sentTo}</strong>, a message with a reset link is on its way. The link works once
           and expires after a while.

@@ -60,9 +60,13 @@ export function SignInPage() {
           <Button type="submit" busy={signIn.isPending}>
             Sign in
           </Button>
-          <Link to="/reset-password" className="text-sm text-link hover:underline">
-            Forgot your password?
-          </Link>
+          {session.mailOff ? (
+            <span className="max-w-56 text-right text-xs text-muted">This server sends no e-mail: to reset a password, ask whoever runs it.</span>
+          ) : (
+            <Link to="/reset-password" className="text-sm text-link hover:underline">
+              Forgot your password?
+            </Link>
+          )}
         </div>
       </form>
       {session.demo ? (
