@@ -151,13 +151,25 @@ function parse(argv: string[]): Cli {
   };
 }
 
+/** the CLI option behind each setting a DecodeIssue can name */
+const OPTION_OF: Record<string, string> = {
+  data: '--data',
+  bitRate: '--bit-rate',
+  sampleRate: '--sample-rate',
+  clock: '--clock',
+  handshake: '--handshake',
+};
+
+/** where the problem is: a place in the file, or the option to give (a setting has no place) */
 function position(issue: DecodeIssue): string {
+  if (issue.setting) return `option ${OPTION_OF[issue.setting] ?? issue.setting}`;
   return issue.line !== undefined ? `line ${issue.line} (byte ${issue.offset})` : `byte ${issue.offset}`;
 }
 
 function failInput(file: string, issue: DecodeIssue): never {
   const hint = issue.skipped ? ' Run with --lenient to decode the rest of the file anyway.' : '';
-  process.stderr.write(`decode: ${file}: at ${position(issue)}: expected ${issue.expected}. ${issue.message}${hint}\n`);
+  const where = issue.setting ? `${position(issue)}` : `at ${position(issue)}`;
+  process.stderr.write(`decode: ${file}: ${where}: expected ${issue.expected}. ${issue.message}${hint}\n`);
   process.exit(2);
 }
 
@@ -347,7 +359,7 @@ function writeOut(bytes: Uint8Array): void {
 /** Ends the process with one line instead of a stack trace, for throws in any callback. */
 function reportThrown(e: unknown): never {
   if (e instanceof DecodeError) {
-    process.stderr.write(`decode: at ${position(e.issue)}: expected ${e.issue.expected}. ${e.issue.message}\n`);
+    process.stderr.write(`decode: ${e.issue.setting ? '' : 'at '}${position(e.issue)}: expected ${e.issue.expected}. ${e.issue.message}\n`);
     process.exit(2);
   }
   process.stderr.write(`decode: internal error: ${(e as Error)?.message ?? String(e)}\n`);

@@ -19,12 +19,21 @@ import type { LinkBits } from './link-bits';
  *   glitch right beside a real edge gives two short pulses in a row; the three edges become
  *   one, placed so the time spent at each level is kept (off by at most the glitch width).
  * - The period is kept within ±10 % of the nominal one.
+ * - A silent stretch costs constant time: after MAX_SILENT_CELLS cells without a transition the
+ *   line is idle (or held at space, where no frame can go on either), no further cells are counted, and the next transition locks afresh. Without this a long gap,
+ *   or a capture whose times jump far ahead, would be walked bit by bit.
  */
 const PHASE_GAIN = 0.5;
 const FREQ_GAIN = 0.02;
 const MAX_RATE_ERROR = 0.1;
 /** pulses shorter than this share of a bit are glitches (real cells shrink by at most the jitter) */
 const GLITCH_FRACTION = 0.35;
+/**
+ * cells counted after the last transition before the line counts as silent: far beyond the 7
+ * cells of an abort and the 15 of idle (ISO/IEC 13239, from memory), and beyond any run NRZ data
+ * holds with the learned period
+ */
+export const MAX_SILENT_CELLS = 256;
 
 export class ClockRecovery {
   private period: number;
@@ -34,6 +43,8 @@ export class ClockRecovery {
   /** sample position (fractional) of the next cell's middle, once locked */
   private next = 0;
   private locked = false;
+  /** cells emitted since the last transition */
+  private silent = 0;
   /** line level now (0/1), -1 before the first value */
   level = -1;
   /**
@@ -110,23 +121,32 @@ export class ClockRecovery {
   private emitUpTo(t: number): void {
     let next = this.next;
     const level = this.level;
+    let silent = this.silent;
     while (next <= t) {
+      if (silent >= MAX_SILENT_CELLS) {
+        // the rest of the stretch is silence: skipped in one step, the next edge locks again
+        this.locked = false;
+        break;
+      }
       this.out.sampled(level, Math.round(next));
       next += this.period;
+      silent++;
     }
+    this.silent = silent;
     this.next = next;
   }
 
   private apply(t: number): void {
     const v = 1 - this.level;
+    // a change at the very sampling instant counts as after it (setup time)
+    if (this.locked) this.emitUpTo(t);
+    this.silent = 0;
     if (!this.locked) {
       this.locked = true;
       this.next = t + this.period / 2;
       this.level = v;
       return;
     }
-    // a change at the very sampling instant counts as after it (setup time)
-    this.emitUpTo(t);
     const err = t - (this.next - this.period / 2);
     this.next += PHASE_GAIN * err;
     let p = this.period + FREQ_GAIN * err;

@@ -77,6 +77,13 @@ export interface Decoder {
   readonly format: CaptureFormat | null;
 }
 
+/** a bit recovered from the data must span at least this many samples (common practice) */
+export const MIN_SAMPLES_PER_BIT = 2;
+
+function fmt(n: number): string {
+  return Number.isFinite(n) ? String(Number(n.toPrecision(4))) : String(n);
+}
+
 /** Bytes looked at before guessing the format of an 'auto' capture. */
 const DETECT_BYTES = 16 * 1024;
 
@@ -127,6 +134,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
         offset: reader?.bytesRead ?? 0,
         expected: `a ${role} channel named one of: ${channels.map((c) => c.name).join(', ')}`,
         message: `The capture has no channel "${name}" (given as ${role}); its channels are ${channels.map((c) => c.name).join(', ')}.`,
+        setting: role,
       });
     }
     return found ?? null;
@@ -141,6 +149,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
           offset: reader?.bytesRead ?? 0,
           expected: 'the data channel(s) to decode',
           message: `Name the data channel(s) that carry the frames; the capture's channels are ${channels.map((c) => c.name).join(', ')}.`,
+          setting: 'data',
         });
         return;
       }
@@ -153,8 +162,21 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
           offset: 0,
           expected: 'a bit rate or a clock channel',
           message: 'Without a clock channel the bit clock is recovered from the data: give the nominal bit rate (bit/s).',
+          setting: 'bitRate',
         });
         return;
+      }
+      if (!clock) {
+        const samplesPerBit = 1 / (options.bitRate! * samplePeriodSeconds);
+        if (!(samplesPerBit >= MIN_SAMPLES_PER_BIT)) {
+          fail({
+            offset: 0,
+            expected: `a bit rate of at most ${fmt(1 / (MIN_SAMPLES_PER_BIT * samplePeriodSeconds))} bit/s at this sample rate`,
+            message: `At ${fmt(1 / samplePeriodSeconds)} samples per second a bit of ${fmt(options.bitRate!)} bit/s spans ${samplesPerBit.toPrecision(3)} samples; recovering the clock from the data needs at least ${MIN_SAMPLES_PER_BIT} samples per bit (common practice: 4 or more). Check the sample rate against the bit rate.`,
+            setting: 'bitRate',
+          });
+          return;
+        }
       }
       for (const d of data) addLink(d!.name);
       const opts: BitRecoveryOptions = {

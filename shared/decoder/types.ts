@@ -24,6 +24,12 @@ export interface DecodeIssue {
    * treat it as bad input.
    */
   skipped?: boolean;
+  /**
+   * Set when the problem is a setting left out or not fitting the capture (named as in
+   * DecoderOptions: 'data', 'bitRate', 'sampleRate', 'clock', 'handshake'), not a place in the
+   * file: `offset` and `line` then say nothing and are not shown.
+   */
+  setting?: string;
 }
 
 /** Thrown only at the boundary between the decoder and its caller (CLI, API): never from hot loops. */

@@ -118,10 +118,24 @@ describe('CSV reader', () => {
   });
 
   it('marks cells other than 0/1 unknown and reports the column once', () => {
-    const { rec, reader } = read('time,a\n0,1\n1,x\n2,?\n3,0\n');
+    const { rec, reader } = read('time,a\n0,1\n1,?\n2,#\n3,0\n');
     expect(rec.list.map((x) => x[2])).toEqual([1, 2, 0, 0]);
     expect(reader.issues).toHaveLength(1);
-    expect(reader.issues[0]).toMatchObject({ line: 3, expected: '0 or 1' });
+    expect(reader.issues[0]).toMatchObject({ line: 3, expected: '0 or 1', skipped: true });
+  });
+
+  // x and z as in a VCD (IEEE Std 1364-2001 §18.2.1, value ::= 0 | 1 | x | X | z | Z; section from a
+  // secondary source): an unknown level is data, not a malformed cell, so a strict caller goes on.
+  it('warns of unknown levels (x, z) with their row and signal, once per signal, without marking anything skipped', () => {
+    const { rec, reader } = read('time,a,b\n0,1,0\n1,x,0\n2,1,Z\n3,X,1\n4,0,z\n');
+    // the last entry is the end-of-capture marker
+    expect(rec.list.filter((x) => x[0] === 0).map((x) => x[2])).toEqual([1, 2, 1, 2, 0, 0]);
+    expect(reader.fatal()).toBeNull();
+    expect(reader.issues.map((i) => [i.line, i.skipped ?? false, /"a"|"b"/.exec(i.message)?.[0]])).toEqual([
+      [3, false, '"a"'],
+      [4, false, '"b"'],
+    ]);
+    expect(reader.issues[0].message).toMatch(/unknown \(x or z\) from row 3 \(sample 1\)/);
   });
 
   it('reports and skips rows that go back in time or have no time', () => {

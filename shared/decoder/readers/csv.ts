@@ -21,7 +21,8 @@ const enum TimeKind {
 /**
  * CSV sample table (common practice for logic-analyzer exports): a header row of names, then
  * one row per sample or one row per change. Delimiter: comma, semicolon or tab, whichever the
- * header uses. Channel cells are 0 or 1 (anything else is unknown, value 2, with an issue).
+ * header uses. Channel cells are 0 or 1; x or z is an unknown level (value 2, a warning with
+ * its row, as in a VCD); anything else is unknown too, reported as a malformed cell.
  *
  * Time comes from a column named like "time"/"seconds" (in seconds), converted to an integer
  * sample index: with opts.sampleRate it is round(seconds × rate); without, the resolution is
@@ -53,6 +54,7 @@ export class CsvReader implements CaptureReader {
   private batch: TransitionBatch | null = null;
   private readonly dec: Decimal = { mantissa: 0, scale: 0 };
   private readonly badColumn = new Set<number>();
+  private readonly reportedUnknown = new Set<number>();
   private fineReported = false;
 
   constructor(
@@ -60,7 +62,7 @@ export class CsvReader implements CaptureReader {
     private readonly sink: TransitionSink,
   ) {
     if (opts.sampleRate !== undefined && !(opts.sampleRate > 0)) {
-      this.log.fatal({ offset: 0, expected: 'a positive sample rate', message: 'The sample rate must be a positive number of samples per second.' });
+      this.log.fatal({ offset: 0, expected: 'a positive sample rate', message: 'The sample rate must be a positive number of samples per second.', setting: 'sampleRate' });
     }
   }
 
@@ -158,13 +160,19 @@ export class CsvReader implements CaptureReader {
       this.timeColumn = sampleAt;
       this.timeKind = TimeKind.SampleNumber;
       if (!this.opts.sampleRate) {
-        this.fail(offset, 'a sample rate', `Column "${names[sampleAt]}" numbers the samples but gives no time: give the sample rate (samples per second).`);
+        this.log.fatal({ offset, line: this.line, expected: 'a sample rate', message: `Column "${names[sampleAt]}" numbers the samples but gives no time: give the sample rate (samples per second).`, setting: 'sampleRate' });
         return;
       }
     } else {
       this.timeKind = TimeKind.RowNumber;
       if (!this.opts.sampleRate) {
-        this.fail(offset, 'a time column such as "time" (seconds)', 'The table has no time column (named time, t or seconds) and no sample rate was given, so its samples cannot be placed in time.');
+        this.log.fatal({
+          offset,
+          line: this.line,
+          expected: 'a time column such as "time" (seconds)',
+          message: 'The table has no time column (named time, t or seconds) and no sample rate was given, so its samples cannot be placed in time: give the sample rate.',
+          setting: 'sampleRate',
+        });
         return;
       }
     }
@@ -250,6 +258,12 @@ export class CsvReader implements CaptureReader {
           });
         }
       }
+      if (!Number.isSafeInteger(sample) || (!Number.isNaN(this.origin) && !Number.isSafeInteger(sample - this.origin))) {
+        // 1e999, 9007199254740993 s and the like: no sample index can hold them exactly
+        const text = new TextDecoder().decode(buf.subarray(cell[0], Math.min(cell[1], cell[0] + 40)));
+        this.fail(offset, 'a finite time within range', `Row ${line} has the time "${text}", which cannot be placed: times must be finite and count fewer than 2^53 steps of the time resolution from the first row.`);
+        return;
+      }
       if (this.timeKind !== TimeKind.SampleNumber || this.rows === 0) {
         if (Number.isNaN(this.origin)) this.origin = sample;
       }
@@ -274,7 +288,11 @@ export class CsvReader implements CaptureReader {
         else {
           const [a, b] = trim(buf, s, i);
           v = b - a === 1 && (buf[a] === 48 || buf[a] === 49) ? buf[a] - 48 : 2;
-          if (v === 2) this.badCell(col, ch, offset, line);
+          if (v === 2) {
+            const k = buf[a] | 32;
+            if (b - a === 1 && (k === 120 || k === 122)) this.unknownCell(ch, offset, line, sample);
+            else this.badCell(col, ch, offset, line);
+          }
         }
         batch.set(ch, sample, v);
       }
@@ -287,6 +305,18 @@ export class CsvReader implements CaptureReader {
         if (ch >= 0) this.badCell(c, ch, offset, line);
       }
     }
+  }
+
+  /** x or z, as a VCD has them: the level is unknown there, which is data, not a malformed cell */
+  private unknownCell(ch: number, offset: number, line: number, sample: number): void {
+    if (this.reportedUnknown.has(ch)) return;
+    this.reportedUnknown.add(ch);
+    this.log.add({
+      offset,
+      line,
+      expected: '0 or 1',
+      message: `Signal "${this.channels[ch].name}" is unknown (x or z) from row ${line} (sample ${sample}); bits there are not trusted. Later unknown stretches of this signal are not reported again.`,
+    });
   }
 
   private badCell(col: number, ch: number, offset: number, line: number): void {

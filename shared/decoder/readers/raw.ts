@@ -48,6 +48,7 @@ export class RawReader implements CaptureReader {
         offset: 0,
         expected: 'a sample rate',
         message: 'Raw binary samples carry no time base: give the sample rate (samples per second) the capture was taken at.',
+        setting: 'sampleRate',
       });
     }
   }

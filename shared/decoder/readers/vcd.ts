@@ -28,6 +28,12 @@ const enum Mode {
 }
 
 const MAX_CHANNELS = 256;
+/** $var declarations kept (channels, buses and the ones beyond the channel cap, listed for the user); the rest are counted */
+export const MAX_VARS = 4096;
+/** a header longer than this is refused: real captures declare a few hundred signals at most */
+export const MAX_HEADER_BYTES = 16 << 20;
+/** scopes nested deeper than this are not named (their $var still counts) */
+const MAX_SCOPE_DEPTH = 64;
 /** the fast path hands the batch on at this many transitions (the batch has room for more) */
 const FAST_LIMIT = 16384;
 const MAX_TOKEN = 1 << 20;
@@ -55,7 +61,13 @@ export class VcdReader implements CaptureReader {
   private command: string | null = null;
   private args: string[] = [];
   private scope: string[] = [];
+  private scopeDepth = 0;
   private sawTimescale = false;
+  /** $var declarations beyond MAX_VARS: counted, not kept */
+  varsNotKept = 0;
+  /** 1-bit signals declared beyond MAX_CHANNELS, and the first of them */
+  private signalsNotRead = 0;
+  private firstNotRead = '';
 
   // body state
   private batch: TransitionBatch | null = null;
@@ -306,7 +318,17 @@ export class VcdReader implements CaptureReader {
 
   private token(buf: Uint8Array, start: number, end: number, offset: number): void {
     if (this.mode === Mode.Body) this.bodyToken(buf, start, end, offset);
+    else if (offset >= MAX_HEADER_BYTES) this.headerTooLong(offset);
     else this.headerToken(latin1(buf, start, end), offset);
+  }
+
+  private headerTooLong(offset: number): void {
+    this.log.fatal({
+      offset,
+      line: this.line,
+      expected: `$enddefinitions within the first ${MAX_HEADER_BYTES >> 20} MiB`,
+      message: `The value change dump's header runs past ${MAX_HEADER_BYTES >> 20} MiB without $enddefinitions (${this.vars.length + this.varsNotKept} $var declarations so far); Flagline refuses headers this long. Dump only the serial lines' signals.`,
+    });
   }
 
   // ---- header ----
@@ -347,10 +369,10 @@ export class VcdReader implements CaptureReader {
         return;
       }
       case '$scope':
-        this.scope.push(args[1] ?? args[0] ?? '?');
+        if (this.scopeDepth++ < MAX_SCOPE_DEPTH) this.scope.push(args[1] ?? args[0] ?? '?');
         return;
       case '$upscope':
-        this.scope.pop();
+        if (this.scopeDepth > 0 && this.scopeDepth-- <= MAX_SCOPE_DEPTH) this.scope.pop();
         return;
       case '$var':
         this.declare(args, offset);
@@ -371,6 +393,11 @@ export class VcdReader implements CaptureReader {
       this.malformed(offset, '$var type size identifier reference $end', `A $var declaration "${args.join(' ')}" is incomplete; it was skipped.`);
       return;
     }
+    if (this.vars.length >= MAX_VARS && this.lookupText(id) < 0) {
+      // kept: at most MAX_VARS, so a header of millions of signals costs no memory per signal
+      this.varsNotKept++;
+      return;
+    }
     const reference = select && select.startsWith('[') ? ref + select : ref;
     let channel = -1;
     const scalar = width === 1 && type !== 'real' && type !== 'realtime' && type !== 'event';
@@ -388,7 +415,7 @@ export class VcdReader implements CaptureReader {
     }
     if (scalar) {
       if (this.channels.length >= MAX_CHANNELS) {
-        this.issue(offset, `at most ${MAX_CHANNELS} 1-bit signals`, `Only the first ${MAX_CHANNELS} 1-bit signals are read; "${reference}" was skipped.`);
+        if (this.signalsNotRead++ === 0) this.firstNotRead = reference;
       } else {
         channel = this.channels.length;
         this.channels.push({ index: channel, name: reference });
@@ -434,6 +461,12 @@ export class VcdReader implements CaptureReader {
   }
 
   private startBody(offset: number): void {
+    if (this.signalsNotRead > 0) {
+      this.issue(offset, `at most ${MAX_CHANNELS} 1-bit signals`, `Only the first ${MAX_CHANNELS} 1-bit signals are read; ${this.signalsNotRead} more, from "${this.firstNotRead}" on, were skipped.`);
+    }
+    if (this.varsNotKept > 0) {
+      this.issue(offset, `at most ${MAX_VARS} $var declarations`, `The header declares ${this.vars.length + this.varsNotKept} signals; only the first ${MAX_VARS} were read and the changes of the other ${this.varsNotKept} are skipped.`);
+    }
     if (!this.sawTimescale) {
       this.issue(offset, '$timescale', 'The header has no $timescale; 1 ns per time unit was assumed (common practice).');
     }
@@ -567,7 +600,7 @@ export class VcdReader implements CaptureReader {
     let t = 0;
     for (let i = start + 1; i < end; i++) {
       const d = buf[i] - 48;
-      if (d < 0 || d > 9 || end - start > 17) {
+      if (d < 0 || d > 9) {
         this.malformed(offset, '#<decimal time>', `"${latin1(buf, start, Math.min(end, start + 40))}" is not a time; it was skipped.`);
         return;
       }
@@ -577,8 +610,19 @@ export class VcdReader implements CaptureReader {
       this.malformed(offset, '#<decimal time>', 'A "#" without a time was skipped.');
       return;
     }
+    if (!Number.isSafeInteger(t)) {
+      // no sample index holds it exactly, and nothing after it could be placed
+      this.log.fatal({
+        offset,
+        line: this.line,
+        expected: `a time below 2^53 ${this.timeUnit()}`,
+        message: `The time "${latin1(buf, start, Math.min(end, start + 40))}" is beyond what can be placed (2^53 time units); the value change dump is malformed.`,
+      });
+      return;
+    }
     if (t < this.time) {
-      this.issue(offset, `a time of at least ${this.time}`, `Time goes back from ${this.time} to ${t}; the changes that follow were placed at ${this.time}.`);
+      // IEEE 1364-2005 §18.2.1: simulation times in a value change dump only increase
+      this.malformed(offset, `a time of at least ${this.time}`, `Time goes back from ${this.time} to ${t} on line ${this.line}; times must increase. The changes that follow were placed at ${this.time}.`);
       return;
     }
     // leaving the first time that gave values: the channels it left out start unknown
@@ -587,6 +631,10 @@ export class VcdReader implements CaptureReader {
   }
 
   private anyValue = false;
+
+  private timeUnit(): string {
+    return `units of ${this.samplePeriodSeconds} s`;
+  }
 
   /** channels that got no value at the first time start as unknown */
   private fillUnset(): void {
@@ -637,6 +685,8 @@ export class VcdReader implements CaptureReader {
   }
 
   private unknownId(buf: Uint8Array, start: number, end: number, offset: number): void {
+    // most likely one of the declarations beyond MAX_VARS, already reported once
+    if (this.varsNotKept > 0) return;
     this.malformed(offset, 'an identifier code declared by $var', `Identifier code "${latin1(buf, start, Math.min(end, start + 40))}" was never declared; the change was skipped.`);
   }
 
