@@ -30,6 +30,8 @@ export interface DecodeIssue {
    * file: `offset` and `line` then say nothing and are not shown.
    */
   setting?: string;
+  /** a problem of the file's structure that makes it malformed as a whole (checked at upload) */
+  code?: 'time-back' | 'time-range' | 'no-enddefinitions' | 'header-too-long';
 }
 
 /** Thrown only at the boundary between the decoder and its caller (CLI, API): never from hot loops. */

@@ -1,4 +1,6 @@
+import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
+import { HEAD_BYTES, readHead } from '../../server/services/captures/upload';
 import { renderWaveform } from '../../shared/decoder/encode/waveform';
 import { collect } from '../../shared/decoder/encode/writers/collect';
 import { csvChunks } from '../../shared/decoder/encode/writers/csv';
@@ -60,7 +62,7 @@ describe('format detection from content', () => {
     const raw = collect(rawChunks(waveform));
     const d = detectFormat(raw.subarray(0, 16384));
     expect(d.format).toBe('raw');
-    expect(d.reason).toMatch(/distinct byte values/);
+    expect(d.reason).toMatch(/bits change and \d+ never do/);
   });
 
   it('recognises line-bit octets by their flag octets in one bit alignment', () => {
@@ -129,5 +131,66 @@ describe('head inspection', () => {
   it('lists the links of a frame log', () => {
     const log = text('0.001 tx: FF 03\n0.002 rx: 01 73\n');
     expect(inspectHead(log, 'framelog').channels.map((c) => c.name)).toEqual(['tx', 'rx']);
+  });
+});
+
+// Issue: three of the demo's own files were refused at upload; detection must go by content alone.
+describe('format detection of every file in samples/, as an upload does it', () => {
+  const manifest = JSON.parse(readFileSync('samples/manifest.json', 'utf8')) as {
+    captures: { file: string; settings: { format: string; rawWidth?: number } }[];
+    otherRigs: { captures: { file: string; settings: { format: string; rawWidth?: number } }[] }[];
+  };
+  const captures = new Map([...manifest.captures, ...manifest.otherRigs.flatMap((r) => r.captures)].map((c) => [c.file, c.settings]));
+  for (const file of readdirSync('samples')) {
+    const settings = captures.get(file);
+    it(`${file}: ${settings ? `read as ${settings.format}` : 'refused (not a capture)'}`, () => {
+      // the same head and the same function the upload route uses
+      const d = detectFormat(readHead(`samples/${file}`, HEAD_BYTES));
+      if (!settings) {
+        expect(d.format).toBeNull();
+        return;
+      }
+      expect(d.format).toBe(settings.format);
+      if (d.format === 'raw') expect(d.rawWidth).toBe(settings.rawWidth ?? 1);
+    });
+  }
+});
+
+// Issue: a raw one-byte-per-sample file with a clock bit was taken for an octet stream.
+describe('binary heads in doubt', () => {
+  it('reads one-byte samples whose every bit changes (a clock beside 7 data lines) as samples, line bits as the alternative', () => {
+    const links = Array.from({ length: 7 }, (_, k) => ({ name: `d${k}`, bits: lineBits(6, 50 + k) }));
+    const w = renderWaveform({ links, samplesPerBit: 4, samplePeriodSeconds: 1 / 4e6, encoding: 'nrz', clock: { name: 'clk', edge: 'rising' } });
+    const raw = collect(rawChunks(w));
+    const d = detectFormat(raw.subarray(0, 65536));
+    expect(d.format).toBe('raw');
+    expect(d.rawWidth).toBe(1);
+    expect(d.alternatives).toEqual(['octets']);
+    expect(d.reason).toMatch(/some at least four times as often/);
+  });
+
+  it('keeps line bits as line bits: every position changes at about the same rate', () => {
+    const d = detectFormat(octetsFromLineBits(lineBits(200, 3)));
+    expect(d.format).toBe('octets');
+    expect(d.alternatives ?? []).toEqual([]);
+  });
+
+  it('reads NRZI line bits by their flags once NRZI-decoded (ISO/IEC 13239: a 0 is a change of level)', () => {
+    const bits = lineBits(60, 11);
+    const levels = new Uint8Array(bits.length);
+    let level = 1;
+    bits.forEach((b, i) => {
+      if (b === 0) level ^= 1;
+      levels[i] = level;
+    });
+    const d = detectFormat(octetsFromLineBits(levels));
+    expect(d.format).toBe('octets');
+    expect(d.reason).toMatch(/read as NRZI/);
+  });
+
+  it('still refuses bytes that are neither', () => {
+    let x = 12345;
+    const noise = Uint8Array.from({ length: 65536 }, () => ((x = (x * 1103515245 + 12345) >>> 0) >>> 24));
+    expect(detectFormat(noise).format).toBeNull();
   });
 });

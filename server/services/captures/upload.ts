@@ -1,5 +1,5 @@
 import fs from 'node:fs';
-import { detectFormat } from '../../../shared/decoder/readers/detect';
+import { checkHead, detectFormat } from '../../../shared/decoder/readers/detect';
 import type { CaptureSummaryRow } from '../../../shared/schemas';
 import { captures } from '../../db/schema';
 import { HttpError } from '../../http/errors';
@@ -32,8 +32,14 @@ export interface UploadedFile {
 export async function storeUpload(deps: CaptureDeps, rigId: number, userId: number, file: UploadedFile): Promise<CaptureSummaryRow> {
   let adopted = false;
   try {
-    const detection = detectFormat(readHead(file.path));
+    const head = readHead(file.path);
+    const detection = detectFormat(head);
     if (!detection.format) throw new HttpError(422, `This file is not a capture Flagline can read: ${detection.reason}`);
+    const problem = checkHead(head, detection.format, head.length < HEAD_BYTES);
+    if (problem) {
+      const where = problem.line !== undefined ? `line ${problem.line}` : `byte ${problem.offset}`;
+      throw new HttpError(422, `This ${detection.format === 'vcd' ? 'value change dump' : 'CSV table'} is malformed at ${where}: ${problem.message}`);
+    }
     const { sha256, size } = await deps.store.adopt(file.path);
     adopted = true;
     const row = deps.db

@@ -285,7 +285,10 @@ export class SettingsFinder {
     const detected = detectFormat(head);
     let formats: CaptureFormat[];
     if (o.format) formats = [o.format];
-    else if (detected.format === 'raw' || detected.format === 'octets') formats = [detected.format, ...binaryDoubt(head, detected.format)];
+    else if (detected.format === 'raw' || detected.format === 'octets') {
+      // detection in doubt names the other format; the finder's own test may add it too
+      formats = [...new Set<CaptureFormat>([detected.format, ...(detected.alternatives ?? []), ...binaryDoubt(head, detected.format)])];
+    }
     else if (detected.format) formats = [detected.format];
     else if (!looksLikeText(head)) {
       // detection could not tell: both, the likelier first

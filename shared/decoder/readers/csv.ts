@@ -261,7 +261,13 @@ export class CsvReader implements CaptureReader {
       if (!Number.isSafeInteger(sample) || (!Number.isNaN(this.origin) && !Number.isSafeInteger(sample - this.origin))) {
         // 1e999, 9007199254740993 s and the like: no sample index can hold them exactly
         const text = new TextDecoder().decode(buf.subarray(cell[0], Math.min(cell[1], cell[0] + 40)));
-        this.fail(offset, 'a finite time within range', `Row ${line} has the time "${text}", which cannot be placed: times must be finite and count fewer than 2^53 steps of the time resolution from the first row.`);
+        this.log.fatal({
+          offset,
+          line,
+          expected: 'a finite time within range',
+          message: `Row ${line} has the time "${text}", which cannot be placed: times must be finite and count fewer than 2^53 steps of the time resolution from the first row.`,
+          code: 'time-range',
+        });
         return;
       }
       if (this.timeKind !== TimeKind.SampleNumber || this.rows === 0) {
@@ -269,7 +275,7 @@ export class CsvReader implements CaptureReader {
       }
       sample -= this.origin;
       if (sample < this.lastSample) {
-        this.log.add({ offset, line, expected: 'times in increasing order', message: `Row ${line} goes back in time; it was skipped.`, skipped: true });
+        this.log.add({ offset, line, expected: 'times in increasing order', message: `Row ${line} goes back in time; it was skipped.`, skipped: true, code: 'time-back' });
         return;
       }
     }

@@ -11,6 +11,13 @@ export interface Detection {
   format: CaptureFormat | null;
   /** why, in words a user can check */
   reason: string;
+  /**
+   * Other formats the content fits too (binary heads in doubt between samples and line bits):
+   * a caller that can trial-decode, the settings finder, tries them after `format`.
+   */
+  alternatives?: CaptureFormat[];
+  /** raw samples: the bytes per sample the content suggests */
+  rawWidth?: 1 | 2;
 }
 
 /**
@@ -108,6 +115,102 @@ export function countFlags(bytes: Uint8Array): number {
   return best;
 }
 
+/** the bit stream read as it is, inverted, and NRZI-decoded (a 0 is a change of level, ISO/IEC 13239) */
+type BitReading = 'as it is' | 'inverted' | 'as NRZI';
+
+/**
+ * Line bits: flags (six 1s between 0s) and few other runs of 7 to 14 1s, as zero-bit insertion
+ * leaves them (ISO/IEC 13239, from memory), in the stream as it is, inverted (a swapped pair of
+ * wires) or NRZI-decoded (flags are then runs of seven equal levels).
+ */
+function lineBitEvidence(bytes: Uint8Array): { reading: BitReading; six: number; other: number; strong: boolean; weak: boolean } {
+  const readings: [BitReading, Uint8Array][] = [
+    ['as it is', bytes],
+    ['inverted', bytes.map((b) => b ^ 0xff)],
+    ['as NRZI', nrziDecode(bytes)],
+  ];
+  let best = { reading: 'as it is' as BitReading, six: 0, other: 0, strong: false, weak: false };
+  let bestScore = -1;
+  for (const [reading, b] of readings) {
+    const runs = onesRuns(b);
+    const strong = runs.six >= 2 && runs.sevenToFourteen <= Math.max(1, runs.six / 10);
+    const weak = runs.six >= 4 && runs.sevenToFourteen <= runs.six / 3;
+    const score = (strong ? 2 : weak ? 1 : 0) * 1e9 + runs.six - runs.sevenToFourteen;
+    if (score > bestScore) {
+      bestScore = score;
+      best = { reading, six: runs.six, other: runs.sevenToFourteen, strong, weak: strong || weak };
+    }
+  }
+  return best;
+}
+
+/** NRZI to bits, LSB first: a bit is 1 when the level stays, 0 when it changes; the line starts at 1 */
+function nrziDecode(bytes: Uint8Array): Uint8Array {
+  const out = new Uint8Array(bytes.length);
+  let last = 1;
+  for (let i = 0; i < bytes.length; i++) {
+    const b = bytes[i];
+    let x = 0;
+    for (let k = 0; k < 8; k++) {
+      const level = (b >> k) & 1;
+      if (level === last) x |= 1 << k;
+      last = level;
+    }
+    out[i] = x;
+  }
+  return out;
+}
+
+/**
+ * Samples: each bit of a sample is one channel, so some bit positions never change (unused
+ * inputs) while others do, or change at very different rates (a clock bit beside data lines),
+ * read one or two bytes per sample. In line bits every position changes, and at about the same
+ * rate: each carries every eighth bit of the data.
+ */
+function sampleEvidence(bytes: Uint8Array): { width: 1 | 2; fixed: number; active: number; uneven: boolean } | null {
+  const found: { width: 1 | 2; fixed: number; active: number; uneven: boolean }[] = [];
+  const counts = new Int32Array(16);
+  for (const width of [1, 2] as const) {
+    const n = Math.floor(bytes.length / width);
+    if (n < 256) continue;
+    counts.fill(0);
+    let prev = width === 1 ? bytes[0] : bytes[0] | (bytes[1] << 8);
+    for (let i = 1; i < n; i++) {
+      const v = width === 1 ? bytes[i] : bytes[2 * i] | (bytes[2 * i + 1] << 8);
+      let d = v ^ prev;
+      prev = v;
+      while (d !== 0) {
+        const low = d & -d;
+        counts[31 - Math.clz32(low)]++;
+        d ^= low;
+      }
+    }
+    let active = 0;
+    let most = 0;
+    let least = Infinity;
+    for (let k = 0; k < width * 8; k++) {
+      if (counts[k] === 0) continue;
+      active++;
+      most = Math.max(most, counts[k]);
+      least = Math.min(least, counts[k]);
+    }
+    const fixed = width * 8 - active;
+    // a clock bit changes every one or two samples, data a few times per bit cell
+    const uneven = active > 1 && most >= 4 * least && most >= n * 0.2;
+    if (active > 0 && (fixed > 0 || uneven)) found.push({ width, fixed, active, uneven: fixed === 0 });
+  }
+  if (found.length === 0) return null;
+  if (found.length === 1) return found[0];
+  // both widths fit: two-byte samples repeat at a distance of two bytes rather than one
+  let one = 0;
+  let two = 0;
+  for (let i = 2; i < bytes.length; i++) {
+    if (bytes[i] === bytes[i - 1]) one++;
+    if (bytes[i] === bytes[i - 2]) two++;
+  }
+  return two > one * 1.2 + bytes.length * 0.05 ? found[1] : found[0];
+}
+
 function detectBinary(bytes: Uint8Array): Detection {
   const seen = new Uint8Array(256);
   let distinct = 0;
@@ -120,26 +223,60 @@ function detectBinary(bytes: Uint8Array): Detection {
     if (i > 0 && bytes[i] === bytes[i - 1]) repeats++;
   }
   const repeatRate = bytes.length > 1 ? repeats / (bytes.length - 1) : 1;
-  const runs = onesRuns(bytes);
-  // Zero-bit insertion (ISO/IEC 13239) keeps runs of six 1s for flags and seven or more for
-  // aborts and idle (15+); random bytes have as many runs of 7..14 as of exactly 6.
-  if (runs.six >= 2 && runs.sevenToFourteen <= Math.max(1, runs.six / 10)) {
-    return {
-      format: 'octets',
-      reason: `${runs.six} flag patterns (01111110) and almost no other runs of six or more 1s, as zero-bit insertion leaves them: raw line bits.`,
-    };
-  }
-  const flags = countFlags(bytes);
-  if (distinct <= 64 && (repeatRate >= 0.3 || distinct <= 16)) {
+  const lines = lineBitEvidence(bytes);
+  const samples = sampleEvidence(bytes);
+  const fewValues = distinct <= 64 && (repeatRate >= 0.3 || distinct <= 16);
+  const flagsText = `${lines.six} flag patterns (01111110) in the bits read ${lines.reading}, with ${lines.other} other runs of seven or more 1s`;
+  const doubt = (other: CaptureFormat) => ` It fits ${other === 'raw' ? 'raw samples' : 'line bits'} too, so the settings finder tries both.`;
+  // every bit changing at uneven rates is the weaker sign: it decides only between samples and
+  // line bits (a counter or other structured data has uneven bits too), and line bits stay in the running
+  if (samples && (!samples.uneven || lines.weak)) {
+    // bits that never change do not happen in line bits: no doubt then
+    const alternatives: CaptureFormat[] = samples.uneven ? ['octets'] : [];
+    const how = samples.uneven
+      ? `every bit changes, some at least four times as often as others (a clock beside data lines)`
+      : `${samples.active} bits change and ${samples.fixed} never do`;
     return {
       format: 'raw',
-      reason: `Only ${distinct} distinct byte values, ${Math.round(repeatRate * 100)} % of bytes equal to the one before: raw binary samples.`,
+      rawWidth: samples.width,
+      alternatives,
+      reason: `Read ${samples.width === 1 ? 'one byte' : 'two bytes'} per sample, ${how}, as the channels of a logic analyzer's samples do: raw binary samples.${alternatives.length ? doubt('octets') : ''}`,
     };
+  }
+  if (lines.strong) {
+    const alternatives: CaptureFormat[] = fewValues ? ['raw'] : [];
+    return { format: 'octets', alternatives, reason: `${flagsText}, as zero-bit insertion leaves them: raw line bits.${alternatives.length ? doubt('raw') : ''}` };
+  }
+  if (fewValues) {
+    const alternatives: CaptureFormat[] = lines.weak ? ['octets'] : [];
+    return {
+      format: 'raw',
+      alternatives,
+      reason: `Only ${distinct} distinct byte values, ${Math.round(repeatRate * 100)} % of bytes equal to the one before: raw binary samples.${alternatives.length ? doubt('octets') : ''}`,
+    };
+  }
+  if (lines.weak) {
+    return { format: 'octets', alternatives: ['raw'], reason: `${flagsText}: probably raw line bits.${doubt('raw')}` };
   }
   return {
     format: null,
-    reason: `Binary data with ${distinct} distinct byte values that change on ${Math.round((1 - repeatRate) * 100)} % of bytes and only ${flags} flag octets: neither samples nor line bits.`,
+    reason: `Binary data with ${distinct} distinct byte values that change on ${Math.round((1 - repeatRate) * 100)} % of bytes, every bit of it changing, and only ${lines.six} flag patterns against ${lines.other} other runs of seven or more 1s: neither samples nor line bits.`,
   };
+}
+
+/**
+ * A problem of the file as a whole, found in its head: a time that goes back or cannot be placed,
+ * a VCD header without $enddefinitions (when the head is the whole file) or one far too long.
+ * Uploads are refused with it, naming the line, instead of being stored and failing at decode.
+ * Problems of settings not given yet (a sample rate) are not the file's and are not reported.
+ */
+export function checkHead(head: Uint8Array, format: CaptureFormat, whole: boolean): DecodeIssue | null {
+  if (format !== 'vcd' && format !== 'csv') return null;
+  const sink = { header: () => {}, transitions: () => {} };
+  const reader = format === 'vcd' ? new VcdReader({}, sink) : new CsvReader({}, sink);
+  reader.push(whole ? head : wholeLines(head));
+  if (whole && !reader.fatal()) reader.finish();
+  return reader.issues.find((i) => i.code !== undefined && !i.setting) ?? null;
 }
 
 // ---- channels and roles ----

@@ -300,6 +300,7 @@ export class VcdReader implements CaptureReader {
         line: this.line,
         expected: '$enddefinitions $end',
         message: 'The value change dump ends before its header does ($enddefinitions is missing).',
+        code: 'no-enddefinitions',
       });
       return;
     }
@@ -328,6 +329,7 @@ export class VcdReader implements CaptureReader {
       line: this.line,
       expected: `$enddefinitions within the first ${MAX_HEADER_BYTES >> 20} MiB`,
       message: `The value change dump's header runs past ${MAX_HEADER_BYTES >> 20} MiB without $enddefinitions (${this.vars.length + this.varsNotKept} $var declarations so far); Flagline refuses headers this long. Dump only the serial lines' signals.`,
+      code: 'header-too-long',
     });
   }
 
@@ -617,12 +619,20 @@ export class VcdReader implements CaptureReader {
         line: this.line,
         expected: `a time below 2^53 ${this.timeUnit()}`,
         message: `The time "${latin1(buf, start, Math.min(end, start + 40))}" is beyond what can be placed (2^53 time units); the value change dump is malformed.`,
+        code: 'time-range',
       });
       return;
     }
     if (t < this.time) {
       // IEEE 1364-2005 §18.2.1: simulation times in a value change dump only increase
-      this.malformed(offset, `a time of at least ${this.time}`, `Time goes back from ${this.time} to ${t} on line ${this.line}; times must increase. The changes that follow were placed at ${this.time}.`);
+      this.log.add({
+        offset,
+        line: this.line,
+        expected: `a time of at least ${this.time}`,
+        message: `Time goes back from ${this.time} to ${t} on line ${this.line}; times must increase. The changes that follow were placed at ${this.time}.`,
+        skipped: true,
+        code: 'time-back',
+      });
       return;
     }
     // leaving the first time that gave values: the channels it left out start unknown
