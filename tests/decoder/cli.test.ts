@@ -55,7 +55,11 @@ beforeAll(() => {
   writeFileSync(file('prose.txt'), 'Dear diary,\nnothing here is a capture.\n');
   // Cut off inside its header.
   writeFileSync(file('broken.vcd'), '$timescale 1 ns $end\n$scope module top $end\n$var wire 1 ! clk $end\n$var wire 1 " tx $end\n');
-  // A body line that is no time (IEEE 1364-2005 §18.2: simulation time is '#' followed by a decimal number).
+  // A body line that is no time (IEEE Std 1364-2001 §18.2.1: simulation_time ::= # decimal_number; subclause from a secondary source).
+  writeFileSync(
+    file('back-time.vcd'),
+    '$timescale 1 ns $end\n$scope module top $end\n$var wire 1 ! clk $end\n$var wire 1 " tx $end\n$upscope $end\n$enddefinitions $end\n#0 0! 1"\n#5 1!\n#3 0!\n#9 1!\n',
+  );
   writeFileSync(
     file('bad-time.vcd'),
     '$timescale 1 ns $end\n$scope module top $end\n$var wire 1 ! clk $end\n$var wire 1 " tx $end\n$upscope $end\n$enddefinitions $end\n#0\n0!\n1"\n#1x2\n1!\n',
@@ -103,8 +107,14 @@ describe('decode CLI', () => {
     const cases: [string[], RegExp][] = [
       [[file('missing.bin')], /cannot read .*missing\.bin: no such file/],
       [[file('two-links.bin'), '--format', 'wav'], /--format must be one of/],
-      [[file('two-links.bin'), '--format', 'raw', '--clock', 'clk', '--data', 'tx'], /at byte 0: expected a sample rate/],
-      [[file('two-links.bin'), ...rawArgs.slice(0, -1), 'txd'], /no channel "txd".*clk, tx, rx/],
+      // a setting left out or not fitting is named by its option, not by an unrelated place in the file
+      [[file('two-links.bin'), '--format', 'raw', '--clock', 'clk', '--data', 'tx'], /: option --sample-rate: expected a sample rate/],
+      [[file('two-links.bin'), ...rawArgs.slice(0, -1), 'txd'], /: option --data: .*no channel "txd".*clk, tx, rx/],
+      [[file('two-links.vcd'), '--settings', 'given', '--clock', 'clk'], /: option --data: expected the data channel/],
+      [[file('two-links.vcd'), '--settings', 'given', '--data', 'tx'], /: option --bit-rate: expected a bit rate or a clock channel/],
+      // IEEE Std 1364-2001 §18.2.1 (simulation_time ::= # decimal_number; section from a secondary
+      // source): times only increase as a dump is written (from memory)
+      [[file('back-time.vcd'), '--clock', 'clk', '--data', 'tx'], /at line 9 .*Time goes back from 5 to 3 on line 9.*--lenient/],
       [[file('prose.txt'), '--data', 'x'], /format/],
       [[file('broken.vcd'), '--format', 'vcd', '--clock', 'clk', '--data', 'tx'], /at line 5 .*expected \$enddefinitions/],
       [[file('bad-time.vcd'), '--clock', 'clk', '--data', 'tx'], /at line 10 .*expected #<decimal time>.*--lenient/],
@@ -122,6 +132,12 @@ describe('decode CLI', () => {
     const r = await run([file('bad-time.vcd'), '--clock', 'clk', '--data', 'tx', '--lenient']);
     expect(r.code).toBe(0);
     expect(r.stderr).toMatch(/warning at line 10 .*"#1x2" is not a time/);
+  });
+
+  it('decodes past a time going back with --lenient and lists it as a warning', async () => {
+    const r = await run([file('back-time.vcd'), '--clock', 'clk', '--data', 'tx', '--lenient']);
+    expect(r.code).toBe(0);
+    expect(r.stderr).toMatch(/warning at line 9 .*Time goes back/);
   });
 
   it('stops quietly when the reader of its output goes away', async () => {

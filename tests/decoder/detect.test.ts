@@ -8,7 +8,7 @@ import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
 import { octetsFromLineBits } from '../../shared/decoder/encode/writers/octets';
 import { rawChunks } from '../../shared/decoder/encode/writers/raw';
 import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
-import { detectFormat, inspectHead } from '../../shared/decoder/readers/detect';
+import { checkHead, detectFormat, inspectHead } from '../../shared/decoder/readers/detect';
 import { randomBits, stuffed } from './support/signals';
 
 const text = (s: string) => new TextEncoder().encode(s);
@@ -40,7 +40,7 @@ const waveform = renderWaveform({
 });
 
 describe('format detection from content', () => {
-  it('recognises a value change dump by its keywords (IEEE 1364-2005 §18.2)', () => {
+  it('recognises a value change dump by its keywords (IEEE Std 1364-2001 §18.2)', () => {
     expect(detectFormat(collect(vcdChunks(waveform))).format).toBe('vcd');
     expect(detectFormat(text('$comment hand written $end\n$timescale 1ns $end')).format).toBe('vcd');
   });
@@ -192,5 +192,29 @@ describe('binary heads in doubt', () => {
     let x = 12345;
     const noise = Uint8Array.from({ length: 65536 }, () => ((x = (x * 1103515245 + 12345) >>> 0) >>> 24));
     expect(detectFormat(noise).format).toBeNull();
+  });
+});
+
+// Issue: a malformed VCD looked fine at upload and dead-ended later; the upload now names the line.
+describe('checks of the head at upload', () => {
+  const head = '$timescale 1 ns $end\n$var wire 1 ! d $end\n';
+  it('refuses a VCD whose time goes back, naming the line', () => {
+    const p = checkHead(text(`${head}$enddefinitions $end\n#0 1!\n#10 0!\n#4 1!\n`), 'vcd', true);
+    expect(p).toMatchObject({ line: 6, code: 'time-back' });
+  });
+
+  it('refuses a whole VCD without $enddefinitions, but not a head cut inside a long header', () => {
+    expect(checkHead(text(head), 'vcd', true)).toMatchObject({ code: 'no-enddefinitions' });
+    expect(checkHead(text(head), 'vcd', false)).toBeNull();
+  });
+
+  it('refuses a CSV time that cannot be placed and one going back, not a missing sample rate', () => {
+    expect(checkHead(text('time,d\n0,1\n1e999,0\n'), 'csv', true)).toMatchObject({ line: 3, code: 'time-range' });
+    expect(checkHead(text('time,d\n0,1\n2,0\n1,1\n'), 'csv', true)).toMatchObject({ line: 4, code: 'time-back' });
+    expect(checkHead(text('sample,d\n0,1\n1,0\n'), 'csv', true)).toBeNull();
+  });
+
+  it('passes a well-formed capture', () => {
+    expect(checkHead(text(`${head}$enddefinitions $end\n#0 1!\n#10 0!\n`), 'vcd', true)).toBeNull();
   });
 });

@@ -7,7 +7,8 @@ import { feed, randomBits, randomSplit, recordingSink, waveformList } from './su
 
 const text = (s: string) => new TextEncoder().encode(s);
 
-// Hand-written in the form IEEE 1364-2005 §18.2 gives for a four-state VCD file: declaration
+// Hand-written in the form IEEE Std 1364-2001 §18.2 gives for a four-state VCD file (subclause numbers
+// from a secondary source annotated against the 2001 edition, see shared/decoder/readers/vcd.ts): declaration
 // commands ($date, $version, $comment, $timescale, $scope/$upscope, $var, $enddefinitions),
 // then simulation commands ($dumpvars, $dumpoff, $dumpon, #time) and value changes.
 const HAND = `$date
@@ -108,11 +109,11 @@ function read(bytes: Uint8Array | Uint8Array[]) {
 }
 
 describe('VCD reader', () => {
-  it('reads a hand-written dump with a 1 ps timescale, nested and repeated scopes, x/z and $dumpoff (IEEE 1364-2005 §18.2)', () => {
+  it('reads a hand-written dump with a 1 ps timescale, nested and repeated scopes, x/z and $dumpoff (IEEE Std 1364-2001 §18.2)', () => {
     const { reader, rec } = read(text(HAND));
     expect(reader.fatal()).toBeNull();
     expect(rec.headers).toBe(1);
-    // IEEE 1364-2005 §18.2.3.8: $timescale 1 ps → one time unit is 1e-12 s
+    // IEEE Std 1364-2001 §18.2.3.5 ($timescale): 1 ps → one time unit is 1e-12 s
     expect(rec.samplePeriodSeconds).toBe(1e-12);
     // the same reference in two scopes is addressed as scope.name; unique references stay plain
     expect(rec.channels.map((c) => c.name)).toEqual(['clk', 'rig.tx.data', 'rts', 'rig.rx.data']);
@@ -146,7 +147,7 @@ describe('VCD reader', () => {
     expect(rec.list).toEqual(EXPECTED);
   });
 
-  it('reads a chosen vector as one channel per bit, extending short values (IEEE 1364-2005 §18.2.3.8)', () => {
+  it('reads a chosen vector as one channel per bit, extending short values (IEEE Std 1364-2001 §18.2.2, Table 83, rules for left-extending vector values; subclause from memory)', () => {
     const dump = '$timescale 1 ns $end\n$scope module top $end\n$var wire 1 ! clk $end\n$var reg 4 % port [7:4] $end\n$upscope $end\n$enddefinitions $end\n#0\n0!\nb1010 %\n#5\nb1 %\n#9\nbx %\n#12\nb0110 %\n';
     const sink = recordingSink();
     const reader = new VcdReader({ vcdBuses: ['top.port'] }, sink);
@@ -206,7 +207,7 @@ describe('VCD reader', () => {
     expect(rec.list).toEqual(waveformList(w));
   });
 
-  it('shares one identifier code between several declarations (IEEE 1364-2005 §18.2.3.8)', () => {
+  it('shares one identifier code between several declarations (IEEE Std 1364-2001 §18.2.3.8, $var)', () => {
     const { rec } = read(text('$timescale 1 us $end\n$scope module a $end\n$var wire 1 ! sig $end\n$upscope $end\n$scope module b $end\n$var wire 1 ! sig $end\n$upscope $end\n$enddefinitions $end\n#0\n0!\n#3\n1!\n'));
     expect(rec.channels.map((c) => c.name)).toEqual(['a.sig', 'b.sig']);
     expect(rec.list).toEqual([

@@ -1,4 +1,4 @@
-/** Seconds per unit of the time units IEEE 1364-2005 §18.2.3.8 allows in $timescale. */
+/** Seconds per unit of the time units $timescale allows: 1, 10 or 100 of s, ms, us, ns, ps, fs (IEEE Std 1364-2001 §18.2.3.5; subclause from a secondary source). */
 const UNITS: Record<string, number> = { s: 1, ms: 1e-3, us: 1e-6, ns: 1e-9, ps: 1e-12, fs: 1e-15 };
 
 /** "1ps", "10 ns", "100 us" → seconds; null when it is not 1/10/100 of a known unit */

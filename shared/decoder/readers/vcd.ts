@@ -39,7 +39,11 @@ const FAST_LIMIT = 16384;
 const MAX_TOKEN = 1 << 20;
 
 /**
- * Value change dump (IEEE 1364-2005 §18): header declarations, then #time and value changes.
+ * Value change dump (IEEE Std 1364-2001 clause 18): header declarations, then #time and value changes.
+ * Subclause numbers here are those of IEEE Std 1364-2001 as a third-party reader annotated against
+ * that edition gives them ($scope 18.2.3.4, $timescale 18.2.3.5, $upscope 18.2.3.6, $var 18.2.3.8,
+ * value changes 18.2.1); not checked against the standard's own text. IEEE Std 1364-2005 keeps
+ * clause 18 for VCD files (from memory).
  * The body is parsed from bytes, token by token, with identifier codes looked up by a numeric
  * key, so no strings are made per change. A token split between two chunks is carried over.
  *
@@ -446,7 +450,7 @@ export class VcdReader implements CaptureReader {
       this.vars.push(v);
       return;
     }
-    // IEEE 1364-2005 §18.2.3.8: the reference may carry its range, e.g. data [7:0]
+    // IEEE Std 1364-2001 §18.2.3.8 ($var): the reference may carry its range, e.g. data [7:0]
     const range = /^\[(\d+):(\d+)\]$/.exec(select ?? '') ?? /\[(\d+):(\d+)\]$/.exec(v.reference);
     const msb = range ? Number(range[1]) : v.width - 1;
     const lsb = range ? Number(range[2]) : 0;
@@ -624,7 +628,8 @@ export class VcdReader implements CaptureReader {
       return;
     }
     if (t < this.time) {
-      // IEEE 1364-2005 §18.2.1: simulation times in a value change dump only increase
+      // IEEE Std 1364-2001 §18.2.1 gives simulation_time ::= # decimal_number; that times only
+      // increase follows from the dump being written as simulation time advances (from memory)
       this.log.add({
         offset,
         line: this.line,
@@ -667,7 +672,11 @@ export class VcdReader implements CaptureReader {
     }
   }
 
-  /** a vector value for a chosen bus: right-aligned, extended on the left (IEEE 1364-2005 §18.2.3.8: 0 for a leading 0/1, else x or z) */
+  /**
+   * a vector value for a chosen bus: right-aligned, extended on the left with 0 for a leading 0/1,
+   * else with x or z (IEEE Std 1364-2001 §18.2.2 "Formats of variable values", Table 83 "Rules for
+   * left-extending vector values"; table number from a secondary source, subclause from memory)
+   */
   private busChange(key: number, offset: number): void {
     const chans = this.busChannels.get(key);
     if (!chans) return;

@@ -12,7 +12,7 @@ export interface VcdWriterOptions {
   chunkSize?: number;
 }
 
-/** n-th identifier code from the printable characters ! … ~ (IEEE 1364-2005 §18.2.3.8) */
+/** n-th identifier code from the printable characters ! … ~ (IEEE Std 1364-2001 §18.2.3.8, $var identifier_code; subclause from a secondary source) */
 export function identifierCode(n: number): string {
   let s = '';
   do {
