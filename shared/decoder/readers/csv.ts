@@ -1,6 +1,7 @@
 import type { CaptureReader, ChannelInfo, DecodeIssue, ReaderOptions, TransitionSink } from '../types';
 import { type Decimal, parseDecimal, POW10 } from './decimal';
 import { IssueLog } from './issue-log';
+import { LineSplitter } from './line-splitter';
 import { TransitionBatch } from './transition-batch';
 
 /** header names of a time column in seconds, and of a sample-number column (common practice) */
@@ -35,9 +36,13 @@ export class CsvReader implements CaptureReader {
   bytesRead = 0;
   channels: ChannelInfo[] = [];
   private readonly log = new IssueLog();
-  private carry: Uint8Array | null = null;
+  private readonly lines = new LineSplitter(
+    MAX_LINE,
+    (buf, start, end, offset) => this.lineBytes(buf, start, end, offset),
+    (offset) => this.fail(offset, 'a line shorter than 1 MiB', 'A line is longer than 1 MiB; this is not a CSV sample table.'),
+    () => this.log.fatalIssue !== null,
+  );
   private line = 0;
-  private lineOffset = 0;
   private delimiter = 44;
   private columns = 0;
   private timeColumn = -1;
@@ -78,38 +83,12 @@ export class CsvReader implements CaptureReader {
     if (this.log.fatalIssue) return;
     const base = this.bytesRead;
     this.bytesRead += chunk.length;
-    let from = 0;
-    if (this.carry) {
-      const nl = chunk.indexOf(10);
-      if (nl < 0) {
-        this.carry = concat(this.carry, chunk);
-        if (this.carry.length > MAX_LINE) this.fail(this.lineOffset, 'a line shorter than 1 MiB', 'A line is longer than 1 MiB; this is not a CSV sample table.');
-        return;
-      }
-      const whole = concat(this.carry, chunk.subarray(0, nl));
-      this.carry = null;
-      this.lineBytes(whole, 0, whole.length, this.lineOffset);
-      from = nl + 1;
-    }
-    while (from < chunk.length && !this.log.fatalIssue) {
-      const nl = chunk.indexOf(10, from);
-      if (nl < 0) {
-        this.carry = chunk.slice(from);
-        this.lineOffset = base + from;
-        return;
-      }
-      this.lineBytes(chunk, from, nl, base + from);
-      from = nl + 1;
-    }
+    this.lines.push(chunk, base);
   }
 
   finish(): void {
     if (this.log.fatalIssue) return;
-    if (this.carry) {
-      const whole = this.carry;
-      this.carry = null;
-      this.lineBytes(whole, 0, whole.length, this.lineOffset);
-    }
+    this.lines.finish();
     if (this.log.fatalIssue) return;
     if (!this.headerDone) {
       this.fail(this.bytesRead, 'a header row', 'The file has no header row naming its columns.');
@@ -346,11 +325,4 @@ function trim(buf: Uint8Array, s: number, e: number): [number, number] {
   while (s < e && (buf[s] === 32 || buf[s] === 9 || buf[s] === 34)) s++;
   while (e > s && (buf[e - 1] === 32 || buf[e - 1] === 9 || buf[e - 1] === 34 || buf[e - 1] === 13)) e--;
   return [s, e];
-}
-
-function concat(a: Uint8Array, b: Uint8Array): Uint8Array {
-  const out = new Uint8Array(a.length + b.length);
-  out.set(a);
-  out.set(b, a.length);
-  return out;
 }

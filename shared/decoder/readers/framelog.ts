@@ -1,6 +1,7 @@
 import type { CaptureReader, ChannelInfo, DecodeIssue, FrameLogSink, ReaderOptions } from '../types';
 import { type Decimal, parseDecimal, POW10 } from './decimal';
 import { IssueLog } from './issue-log';
+import { LineSplitter } from './line-splitter';
 
 /** time resolution of frame-log samples: 1 ns */
 export const FRAMELOG_SCALE = 9;
@@ -29,8 +30,13 @@ interface Pending {
 export class FrameLogReader implements CaptureReader {
   bytesRead = 0;
   private readonly log = new IssueLog();
-  private carry: Uint8Array | null = null;
-  private carryOffset = 0;
+  private readonly lines = new LineSplitter(
+    MAX_LINE,
+    (buf, start, end, offset) => this.lineBytes(buf, start, end, offset),
+    (offset) =>
+      this.log.fatal({ offset, line: this.line + 1, expected: 'a line shorter than 1 MiB', message: 'A line is longer than 1 MiB; this is not a frame log.' }),
+    () => this.log.fatalIssue !== null,
+  );
   private line = 0;
   private head: Pending[] | null = [];
   private headLines = 0;
@@ -60,40 +66,13 @@ export class FrameLogReader implements CaptureReader {
     if (this.log.fatalIssue) return;
     const base = this.bytesRead;
     this.bytesRead += chunk.length;
-    let from = 0;
-    if (this.carry) {
-      const nl = chunk.indexOf(10);
-      if (nl < 0) {
-        this.carry = concat(this.carry, chunk);
-        if (this.carry.length > MAX_LINE) {
-          this.log.fatal({ offset: this.carryOffset, line: this.line + 1, expected: 'a line shorter than 1 MiB', message: 'A line is longer than 1 MiB; this is not a frame log.' });
-        }
-        return;
-      }
-      const whole = concat(this.carry, chunk.subarray(0, nl));
-      this.carry = null;
-      this.lineBytes(whole, 0, whole.length, this.carryOffset);
-      from = nl + 1;
-    }
-    while (from < chunk.length) {
-      const nl = chunk.indexOf(10, from);
-      if (nl < 0) {
-        this.carry = chunk.slice(from);
-        this.carryOffset = base + from;
-        return;
-      }
-      this.lineBytes(chunk, from, nl, base + from);
-      from = nl + 1;
-    }
+    this.lines.push(chunk, base);
   }
 
   finish(): void {
     if (this.log.fatalIssue) return;
-    if (this.carry) {
-      const whole = this.carry;
-      this.carry = null;
-      this.lineBytes(whole, 0, whole.length, this.carryOffset);
-    }
+    this.lines.finish();
+    if (this.log.fatalIssue) return;
     if (this.head) this.release();
     if (this.frames === 0) {
       this.log.fatal({ offset: this.bytesRead, line: this.line, expected: '<seconds> <hex bytes> lines', message: 'The frame log holds no frames.' });
@@ -131,6 +110,11 @@ export class FrameLogReader implements CaptureReader {
     }
     const d = this.dec;
     const first = d.scale <= FRAMELOG_SCALE ? d.mantissa * POW10[FRAMELOG_SCALE - d.scale] : Math.round(d.mantissa / POW10[d.scale - FRAMELOG_SCALE]);
+    if (!Number.isSafeInteger(first)) {
+      // 1e999 s and the like: no nanosecond count holds it
+      this.bad(offset, line, 'a finite time in seconds', `Line ${line} has a time that cannot be placed (it must be finite and below 2^53 ns); it was skipped.`);
+      return;
+    }
     i = e;
     while (i < end && isSpace(buf[i])) i++;
     // optional link column
@@ -199,11 +183,4 @@ function hexValue(c: number): number {
   if (c >= 65 && c <= 70) return c - 55;
   if (c >= 97 && c <= 102) return c - 87;
   return -1;
-}
-
-function concat(a: Uint8Array, b: Uint8Array): Uint8Array {
-  const out = new Uint8Array(a.length + b.length);
-  out.set(a);
-  out.set(b, a.length);
-  return out;
 }

@@ -1,5 +1,6 @@
 import type { CaptureReader, ChannelInfo, DecodeIssue, ReaderOptions, TransitionSink } from '../types';
 import { IssueLog } from './issue-log';
+import { Carry } from './line-splitter';
 import { parseTimescale } from './timescale';
 import { TransitionBatch } from './transition-batch';
 
@@ -58,8 +59,8 @@ export class VcdReader implements CaptureReader {
   private readonly log = new IssueLog();
   private mode = Mode.Header;
   private line = 1;
-  private carry: Uint8Array | null = null;
-  private carryOffset = 0;
+  /** a token cut at a chunk's end */
+  private readonly carry = new Carry(MAX_TOKEN, (offset) => this.tooLong(offset));
 
   // header state
   private command: string | null = null;
@@ -115,17 +116,16 @@ export class VcdReader implements CaptureReader {
     this.bytesRead += chunk.length;
     let i = 0;
     const len = chunk.length;
-    if (this.carry) {
+    if (this.carry.held) {
       // finish the token split across chunks
       while (i < len && chunk[i] > 32) i++;
       if (i === len) {
-        this.carry = concat(this.carry, chunk);
-        if (this.carry.length > MAX_TOKEN) this.tooLong();
+        this.carry.add(chunk);
         return;
       }
-      const whole = concat(this.carry, chunk.subarray(0, i));
-      this.carry = null;
-      this.token(whole, 0, whole.length, this.carryOffset);
+      const offset = this.carry.offset;
+      const whole = this.carry.take(chunk.subarray(0, i));
+      this.token(whole, 0, whole.length, offset);
     }
     this.scan(chunk, i, base);
   }
@@ -148,8 +148,7 @@ export class VcdReader implements CaptureReader {
       const start = i;
       while (i < len && buf[i] > 32) i++;
       if (i === len) {
-        this.carry = buf.slice(start);
-        this.carryOffset = base + start;
+        this.carry.start(buf.subarray(start), base + start);
         return;
       }
       this.token(buf, start, i, base + start);
@@ -236,8 +235,7 @@ export class VcdReader implements CaptureReader {
       i++;
       while (i < len && buf[i] > 32) i++;
       if (i === len) {
-        this.carry = buf.slice(start);
-        this.carryOffset = base + start;
+        this.carry.start(buf.subarray(start), base + start);
         break;
       }
       if (plain) {
@@ -293,10 +291,10 @@ export class VcdReader implements CaptureReader {
 
   finish(): void {
     if (this.log.fatalIssue) return;
-    if (this.carry) {
-      const whole = this.carry;
-      this.carry = null;
-      this.token(whole, 0, whole.length, this.carryOffset);
+    if (this.carry.held) {
+      const offset = this.carry.offset;
+      const whole = this.carry.take(new Uint8Array(0));
+      this.token(whole, 0, whole.length, offset);
     }
     if (this.mode === Mode.Header) {
       this.log.fatal({
@@ -312,9 +310,9 @@ export class VcdReader implements CaptureReader {
     this.batch!.end(this.time);
   }
 
-  private tooLong(): void {
+  private tooLong(offset: number): void {
     this.log.fatal({
-      offset: this.carryOffset,
+      offset,
       line: this.line,
       expected: 'a token shorter than 1 MiB',
       message: 'A single word of the file is longer than 1 MiB; this is not a value change dump.',
@@ -352,7 +350,9 @@ export class VcdReader implements CaptureReader {
     }
     if (tok !== '$end') {
       this.args.push(tok);
-      if (this.args.length > 10000) this.tooLong();
+      if (this.args.length > 10000) {
+        this.log.fatal({ offset, line: this.line, expected: `${this.command} with at most 10000 words`, message: `The header's ${this.command} runs past 10000 words without $end; this is not a value change dump.` });
+      }
       return;
     }
     const cmd = this.command;
@@ -727,11 +727,4 @@ function latin1(buf: Uint8Array, start: number, end: number): string {
   let s = '';
   for (let i = start; i < end; i++) s += String.fromCharCode(buf[i]);
   return s;
-}
-
-function concat(a: Uint8Array, b: Uint8Array): Uint8Array {
-  const out = new Uint8Array(a.length + b.length);
-  out.set(a);
-  out.set(b, a.length);
-  return out;
 }
