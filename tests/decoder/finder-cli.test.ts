@@ -7,10 +7,11 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode/line-bits';
 import { renderWaveform } from '../../shared/decoder/encode/waveform';
 import { rawBytes } from '../../shared/decoder/encode/writers/raw';
+import { decodeCli } from './cli-command';
 
 function run(args: string[]): Promise<{ code: number | null; stdout: string; stderr: string }> {
   return new Promise((resolve) => {
-    const child = spawn('node_modules/.bin/tsx', ['server/cli/decode.ts', ...args]);
+    const child = spawn(process.execPath, [decodeCli, ...args]);
     let stdout = '';
     let stderr = '';
     child.stdout.on('data', (d) => (stdout += d));
