@@ -3,10 +3,7 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
+import { collect, frameLogChunks, rawChunks, vcdChunks } from '../../shared/decoder/encode';
 import { decodeCli } from './cli-command';
 import { clockedWaveform, encodeLineBits, traffic } from './pipeline-helpers';
 

@@ -4,13 +4,10 @@ import { execFileSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { CallLayer, callLayerRoles, type Exchange } from '../../shared/decoder/calls/exchanges';
+import { CPM_ENVELOPE, CallLayer, callLayerRoles, type Exchange, missingRanges, recoverFiles } from '../../shared/decoder/calls';
 import { callKeyFromFieldMap, callShapeFromFieldMap, FaultDesk, type OctetTimingDetail, type UnderrunDetail } from '../../shared/decoder/faults';
 import { TimingTap } from '../../shared/decoder/timing';
-import { missingRanges, recoverFiles } from '../../shared/decoder/calls/files';
-import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
-import type { DecodedFrame } from '../../shared/decoder/types';
+import { createDecoder, type DecoderOptions, type DecodedFrame } from '../../shared/decoder';
 import { captureSettingsSchema, type CaptureSettingsInput } from '../../shared/schemas/captures';
 import { decodeCli } from './cli-command';
 
