@@ -37,6 +37,8 @@ export default tseslint.config(
     rules: {
       // unused names fail tsc's noUnusedParameters-like review; an underscore marks one kept on purpose
       '@typescript-eslint/no-unused-vars': ['error', { argsIgnorePattern: '^_', varsIgnorePattern: '^_', caughtErrors: 'none', ignoreRestSiblings: true }],
+      // declaration merging (Express.User extends the API's User) needs an empty interface
+      '@typescript-eslint/no-empty-object-type': ['error', { allowInterfaces: 'with-single-extends' }],
       'import-x/no-cycle': ['error', { ignoreExternal: true }],
       'import-x/no-self-import': 'error',
       'import-x/no-restricted-paths': [

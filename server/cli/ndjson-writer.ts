@@ -258,7 +258,7 @@ export class NdjsonWriter {
       buf[--at] = 48 + (v - q * 10);
       v = q;
     }
-    buf[--at] = 48 + v;
+    buf[at - 1] = 48 + v;
   }
 
   /**

@@ -40,9 +40,10 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
   const current = job.data ?? capture.job;
   const active = isJobActive(current);
 
+  const state = current?.state;
   if (active) watched.current = true;
   useEffect(() => {
-    if (!current || active || !watched.current) return;
+    if (!state || active || !watched.current) return;
     let timer: number | undefined;
     let live = true;
     // the job we watched has an outcome: the capture's status and frame count changed with it
@@ -52,13 +53,13 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
       // views of the decoded capture (overview, timeline, frames) key on [view, rigId, captureId, …]; a new decode replaces them all
       queryClient.removeQueries({ predicate: (q) => q.queryKey[0] !== captureKeys.all[0] && q.queryKey[1] === rig.id && q.queryKey[2] === captureId });
       // land on the overview, after the full bar has been seen for a moment
-      if (live && current.state === 'done') timer = window.setTimeout(() => navigate(`/rigs/${rig.id}/captures/${captureId}`), 700);
+      if (live && state === 'done') timer = window.setTimeout(() => navigate(`/rigs/${rig.id}/captures/${captureId}`), 700);
     })();
     return () => {
       live = false;
       window.clearTimeout(timer);
     };
-  }, [current?.state, active, navigate, queryClient, rig.id, captureId]);
+  }, [state, active, navigate, queryClient, rig.id, captureId]);
 
   return (
     <div className="grid items-start gap-5 lg:grid-cols-[1fr_22rem]">

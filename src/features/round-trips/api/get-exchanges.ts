@@ -15,7 +15,7 @@ export interface ExchangeList {
 export async function fetchExchanges(rigId: number, captureId: number, query: ExchangeListQuery, signal?: AbortSignal): Promise<ExchangeList> {
   const rows: ExchangeRow[] = [];
   let cursor: string | null = null;
-  let total = 0;
+  let total: number;
   do {
     const params = new URLSearchParams({ limit: '1000', sort: 'time' });
     if (query.station?.length) params.set('station', query.station.join(','));

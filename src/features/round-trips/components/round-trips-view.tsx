@@ -58,6 +58,7 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
   }
 
   const drawn = exchanges.data !== undefined;
+  // eslint-disable-next-line react-hooks/exhaustive-deps -- after every render on purpose: the band may be drawn a render or two after the data arrives
   useEffect(() => {
     if (reveal === null || !drawn) return;
     const band = document.querySelector(`[data-exchange="${reveal}"]`);
