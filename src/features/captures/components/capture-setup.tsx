@@ -16,6 +16,7 @@ import { DeleteCaptureButton } from './delete-capture-button';
 import { DecodeProgress } from './decode-progress';
 import { canCapture } from './permissions';
 import { SafetyPanel } from '../../../components/safety-panel';
+import { clearDecodedViews, captureScope } from '../../../lib/scope';
 
 const formatNames: Record<string, string> = {
   vcd: 'value change dump',
@@ -50,10 +51,10 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
     void (async () => {
       await queryClient.fetchQuery({ ...captureQueryOptions(rig.id, captureId), staleTime: 0 });
       await queryClient.invalidateQueries({ queryKey: captureKeys.list(rig.id) });
-      // views of the decoded capture (overview, timeline, frames) key on [view, rigId, captureId, …]; a new decode replaces them all
-      queryClient.removeQueries({ predicate: (q) => q.queryKey[0] !== captureKeys.all[0] && q.queryKey[1] === rig.id && q.queryKey[2] === captureId });
+      // a new decode replaces every view of the decoded capture (and comparisons with it)
+      clearDecodedViews(queryClient, rig.id, captureId);
       // land on the overview, after the full bar has been seen for a moment
-      if (live && state === 'done') timer = window.setTimeout(() => navigate(`/rigs/${rig.id}/captures/${captureId}`), 700);
+      if (live && state === 'done') timer = window.setTimeout(() => navigate(`${captureScope(rig.id, captureId).page}`), 700);
     })();
     return () => {
       live = false;
@@ -110,7 +111,7 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
           </ErrorNotice>
         ) : null}
         {current?.state === 'done' ? (
-          <ButtonLink to={`/rigs/${rig.id}/captures/${captureId}`}>Open the overview</ButtonLink>
+          <ButtonLink to={`${captureScope(rig.id, captureId).page}`}>Open the overview</ButtonLink>
         ) : null}
         {canCapture.remove(rig.myRole) ? (
           <Card className="border-danger/40">
