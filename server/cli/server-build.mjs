@@ -52,29 +52,51 @@ export async function buildServer() {
   // built beside, then swapped in: a server or CLI started meanwhile never sees half a build
   const fresh = `${serverDist}.building-${process.pid}-${Math.random().toString(36).slice(2)}`;
   fs.rmSync(fresh, { recursive: true, force: true });
-  const result = await build({
+  const common = {
     absWorkingDir: repoRoot,
-    entryPoints: Object.entries(SERVER_ENTRIES).map(([out, entry]) => ({ in: entry, out })),
     outdir: fresh,
     outExtension: { '.js': '.mjs' },
-    // shared code in flat chunks beside the entries (see the note at the top)
-    chunkNames: '[name]-[hash]',
     bundle: true,
-    splitting: true,
     format: 'esm',
     platform: 'node',
     target: 'node20',
-    packages: 'external',
     sourcemap: 'linked',
     metafile: true,
     logLevel: 'warning',
-  });
-  const inputs = Object.keys(result.metafile.inputs).filter((f) => !f.startsWith('node_modules/'));
+  };
+  const entries = Object.entries(SERVER_ENTRIES).map(([out, entry]) => ({ in: entry, out }));
+  const [server, cli] = await Promise.all([
+    build({
+      ...common,
+      entryPoints: entries.filter((e) => e.out !== 'decode'),
+      // shared code in flat chunks beside the entries (see the note at the top)
+      splitting: true,
+      chunkNames: '[name]-[hash]',
+      packages: 'external',
+    }),
+    // The CLI is one file with its one small package (crc) inside: every module node resolves
+    // and loads is start-up time, and the CLI must answer within 150 ms.
+    build({ ...common, entryPoints: entries.filter((e) => e.out === 'decode'), plugins: [externalExcept(['crc'])] }),
+  ]);
+  const inputs = [...new Set([...Object.keys(server.metafile.inputs), ...Object.keys(cli.metafile.inputs)])].filter((f) => !f.startsWith('node_modules/'));
   fs.writeFileSync(path.join(fresh, path.basename(INPUTS)), JSON.stringify({ builtAt, entries: SERVER_ENTRIES, inputs }));
   const old = `${fresh}.old`;
   if (fs.existsSync(serverDist)) fs.renameSync(serverDist, old);
   fs.renameSync(fresh, serverDist);
   fs.rmSync(old, { recursive: true, force: true });
+}
+
+/** esbuild plugin: packages stay external (resolved from node_modules at run time) except `bundled`. */
+function externalExcept(bundled) {
+  return {
+    name: 'external-except',
+    setup(b) {
+      b.onResolve({ filter: /^[^./]/ }, (args) => {
+        const name = args.path.startsWith('@') ? args.path.split('/').slice(0, 2).join('/') : args.path.split('/')[0];
+        return bundled.includes(name) || args.path.startsWith('node:') ? undefined : { path: args.path, external: true };
+      });
+    },
+  };
 }
 
 /** Builds when stale (saying why on stderr); returns the file URL of the entry `name`. */
