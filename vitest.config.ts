@@ -9,6 +9,8 @@ export default defineConfig({
           name: 'decoder',
           include: ['tests/decoder/**/*.test.ts'],
           environment: 'node',
+          // the CLI tests run the compiled CLI (dist/server/decode.mjs)
+          globalSetup: ['tests/decoder/global-setup.ts'],
           testTimeout: 60_000,
         },
       },

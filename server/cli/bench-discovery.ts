@@ -3,11 +3,7 @@
 //   by offset, so no disk is needed) whose first 24 MB are an idle line, and on one busy from the
 //   start — target: at most 16 MB read and an answer within 2 s;
 // - field hints over 1 M frames of CP/M call envelope traffic — target: within 10 s.
-import { bootCalls, readFileCalls, Tags, type ScriptCall } from '../../shared/decoder/encode/calls';
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
+import { bootCalls, readFileCalls, Tags, type ScriptCall, encodeLineBits, randomFrame, seededRng, type LineItem, renderWaveform, collect, rawChunks } from '../../shared/decoder/encode';
 import { findSettings, type CaptureSource } from '../../shared/decoder/finder';
 import { FieldHints, type HintFrame } from '../../shared/decoder/hints';
 

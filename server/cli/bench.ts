@@ -16,22 +16,16 @@ import { spawn, spawnSync } from 'node:child_process';
 import { closeSync, existsSync, mkdtempSync, openSync, readFileSync, readSync, rmSync, writeSync } from 'node:fs';
 import { cpus, loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
-import { checkFrame } from '../../shared/decoder/check';
-import { Deframer } from '../../shared/decoder/deframe';
-import { requestInfo, responseInfo } from '../../shared/decoder/encode/calls';
-import { planEpisode, type EpisodeStation } from '../../shared/decoder/encode/episodes';
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform, type Waveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
-import { createDecoder } from '../../shared/decoder/pipeline';
-import { ClockedRawBits } from '../../shared/decoder/raw-clocked';
-import { RawReader } from '../../shared/decoder/readers/raw';
+import { checkFrame, Deframer, createDecoder, ClockedRawBits } from '../../shared/decoder';
+import { requestInfo, responseInfo, planEpisode, type EpisodeStation, encodeLineBits, randomFrame, seededRng, type LineItem, renderWaveform, type Waveform, collect, rawChunks, vcdChunks } from '../../shared/decoder/encode';
+import { RawReader } from '../../shared/decoder/readers';
 import { LineTiming, scheduleWindow, type TimingExchange, type TimingFrame } from '../../shared/decoder/timing';
 import { benchDiscovery } from './bench-discovery';
+import { benchStartup } from './bench-startup';
 import { NdjsonWriter } from './ndjson-writer';
+import { ensureServerBuild } from './server-build.mjs';
 
 const mb = (bytes: number) => bytes / 1e6;
 const fmt = (n: number, digits = 1) => n.toFixed(digits);
@@ -425,7 +419,7 @@ function runStage(stage: Stage, file: string, spb: number): void {
 
 /**
  * Writes a raw capture of about `sizeMb` MB by repeating one generated block, then times on it, side
- * by side: the C reference (bench/reference.c), the CLI end to end as one JavaScript file and through
+ * by side: the C reference (bench/reference.c), the CLI end to end as built (dist/server/decode.mjs) and through
  * `npm run decode`, each decoder stage added in turn (one fresh process each, as the CLI and the
  * app's worker run), and the decoder with the anomaly tap as the app's worker runs it.
  */
@@ -443,7 +437,7 @@ async function benchCli(sizeMb: number, general: boolean): Promise<void> {
     }
     closeSync(fd);
     const cliArgs = [file, '--format', 'raw', '--sample-rate', String(BIT_RATE * spb), '--channels', 'clk,a,b', '--clock', 'clk', '--data', 'a,b'];
-    const cliBundle = await bundle('server/cli/decode.ts', dir, 'decode.mjs');
+    const cliBundle = fileURLToPath(await ensureServerBuild('decode'));
     const benchBundle = await bundle('server/cli/bench.ts', dir, 'bench.mjs');
     const runs = 2;
     process.stdout.write(`\n${fmt(mb(written), 0)} MB raw capture, ${spb} samples/bit, 2 links; best of ${runs} runs each; load average ${loadNow()} now\n`);
@@ -466,7 +460,7 @@ async function benchCli(sizeMb: number, general: boolean): Promise<void> {
     if (c) row('C reference (bench/reference.c, cc -O2)', c, '—', null, c.note);
     else process.stdout.write('C reference: no C compiler (cc) here, ratios not measured\n');
     const cli = await bestChild(runs, process.execPath, [cliBundle, ...cliArgs]);
-    row('CLI decode (one JS file), end to end', cli, '≤ 2× C; RSS < 300 MB', c, `${cli.frames} frames, start-up included`);
+    row('CLI decode (compiled, dist/server), end to end', cli, '≤ 2× C; RSS < 300 MB', c, `${cli.frames} frames, start-up included`);
     const npmCli = await bestChild(runs, 'npm', ['run', '--silent', 'decode', '--', ...cliArgs]);
     row('CLI decode via npm run decode, end to end', npmCli, '—', c);
     const stage = (name: Stage) => bestChild(runs, process.execPath, [benchBundle, '--stage', name, '--file', file]);
@@ -564,6 +558,7 @@ async function main(): Promise<void> {
     benchVcd(SPARSE);
     benchServiceStats();
     for (const r of await benchDiscovery()) report({ stage: r.stage, mbPerS: r.mbPerS, rssMb: peakRssMb(), target: r.target, note: r.note });
+    for (const r of await benchStartup()) report({ stage: r.stage, rssMb: peakRssMb(), target: r.target, note: r.note });
   }
   if (values['cli-mb'] !== undefined) {
     const size = Number(values['cli-mb']);

@@ -6,9 +6,8 @@
 import { closeSync, openSync, readSync, statSync, writeSync } from 'node:fs';
 import { parseArgs } from 'node:util';
 import { decoderOptionsOf, discoveryOf, findSettings, type FinderOptions, type FinderResult } from '../../shared/decoder/finder';
-import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
+import { createDecoder, type DecoderOptions, DecodeError, type DecodeIssue, type FrameStatus } from '../../shared/decoder';
 import { openFileSource } from '../services/discovery';
-import { DecodeError, type DecodeIssue, type FrameStatus } from '../../shared/decoder/types';
 import { NdjsonWriter, seconds } from './ndjson-writer';
 
 const USAGE = `usage: npm run --silent decode -- <capture> [options]

@@ -8,31 +8,8 @@
 import { createHash } from 'node:crypto';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { BDOS } from '../../shared/decoder/calls/cpm-envelope';
-import {
-  bootCalls,
-  directoryCalls,
-  encodeSession,
-  nrziOctets,
-  readFileCalls,
-  requestInfo,
-  sessionFrameLog,
-  Tags,
-  textOutputCalls,
-  toRecords,
-  updateRecordCalls,
-  type EncodedSession,
-  type ScriptCall,
-  type SessionScript,
-  writeFileCalls,
-} from '../../shared/decoder/encode/calls';
-import { encodeEpisode, type EncodedEpisode, type EpisodeCall, type EpisodeScript } from '../../shared/decoder/encode/episodes';
-import { seededRng } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform, type WaveformFaults } from '../../shared/decoder/encode/waveform';
-import { csvChunks } from '../../shared/decoder/encode/writers/csv';
-import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
+import { BDOS } from '../../shared/decoder/calls';
+import { bootCalls, directoryCalls, encodeSession, nrziOctets, readFileCalls, requestInfo, sessionFrameLog, Tags, textOutputCalls, toRecords, updateRecordCalls, type EncodedSession, type ScriptCall, type SessionScript, writeFileCalls, encodeEpisode, type EncodedEpisode, type EpisodeCall, type EpisodeScript, seededRng, renderWaveform, type WaveformFaults, csvChunks, frameLogChunks, rawChunks, vcdChunks } from '../../shared/decoder/encode';
 import type { CaptureSettingsInput } from '../../shared/schemas/captures';
 import { saltmarshReadme, writeSaltmarsh } from './samples-saltmarsh';
 

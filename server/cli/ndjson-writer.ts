@@ -3,7 +3,7 @@
 // so they are written byte by byte instead of building an object and a string per frame for
 // JSON.stringify (that was the CLI's largest cost after the decoder itself). frameRecord() is the
 // same shape as an object: the reference the writer is tested against, field for field.
-import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
+import type { DecodedFrame, LineEvent } from '../../shared/decoder';
 
 /** Seconds with float noise trimmed (sample × period gives e.g. 0.30000000000000004). */
 export const seconds = (sample: number, period: number) => Number((sample * period).toPrecision(12));
@@ -258,7 +258,7 @@ export class NdjsonWriter {
       buf[--at] = 48 + (v - q * 10);
       v = q;
     }
-    buf[--at] = 48 + v;
+    buf[at - 1] = 48 + v;
   }
 
   /**

@@ -7,18 +7,9 @@
 import { createHash } from 'node:crypto';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { fileCallsOf, missingRanges, recoverFiles } from '../../shared/decoder/calls/files';
-import { parseFieldMap } from '../../shared/decoder/calls/field-map';
-import { encodeSession, sessionFrameLog, type EncodedSession, type ScriptCall, type SessionScript } from '../../shared/decoder/encode/calls';
-import { LEDGER_MAP_DOCUMENT, LEDGER_RECORD_BYTES, ledgerFetchCalls, ledgerReadCalls, ledgerWriteCalls } from '../../shared/decoder/encode/ledger-envelope';
-import { seededRng } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { pairExchanges } from '../../shared/decoder/calls/exchanges';
-import { createDecoder } from '../../shared/decoder/pipeline';
-import type { DecodedFrame } from '../../shared/decoder/types';
+import { fileCallsOf, missingRanges, recoverFiles, parseFieldMap, pairExchanges } from '../../shared/decoder/calls';
+import { encodeSession, sessionFrameLog, type EncodedSession, type ScriptCall, type SessionScript, LEDGER_MAP_DOCUMENT, LEDGER_RECORD_BYTES, ledgerFetchCalls, ledgerReadCalls, ledgerWriteCalls, seededRng, renderWaveform, collect, frameLogChunks, rawChunks } from '../../shared/decoder/encode';
+import { createDecoder, type DecodedFrame } from '../../shared/decoder';
 import type { CaptureSettingsInput } from '../../shared/schemas/captures';
 
 const BIT_RATE = 500_000;

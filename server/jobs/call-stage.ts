@@ -6,11 +6,8 @@
 // Raw better-sqlite3 throughout: the worker has no Drizzle handle.
 import { createHash } from 'node:crypto';
 import type Database from 'better-sqlite3';
-import { callLayerRoles, CallLayer, type Exchange } from '../../shared/decoder/calls/exchanges';
-import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
-import { parseFieldMap, type FieldMap } from '../../shared/decoder/calls/field-map';
-import { recoverFiles } from '../../shared/decoder/calls/files';
-import type { DecodedFrame, FrameStatus, LineEvent } from '../../shared/decoder/types';
+import { callLayerRoles, CallLayer, type Exchange, CPM_ENVELOPE_DOCUMENT, parseFieldMap, type FieldMap, recoverFiles } from '../../shared/decoder/calls';
+import type { DecodedFrame, FrameStatus, LineEvent } from '../../shared/decoder';
 import type { CaptureSettings } from '../../shared/schemas';
 import { payloadLength } from './run-rows';
 

@@ -4,8 +4,7 @@
 import fs from 'node:fs';
 import { parentPort, workerData } from 'node:worker_threads';
 import Database from 'better-sqlite3';
-import { createDecoder, type Decoder } from '../../shared/decoder/pipeline';
-import type { DecodeIssue } from '../../shared/decoder/types';
+import { createDecoder, type Decoder, type DecodeIssue } from '../../shared/decoder';
 import type { CaptureSettings } from '../../shared/schemas';
 import { chosenMap, createCallRun, runCallStage, switchToCallRun } from './call-stage';
 import { decoderOptions } from './decoder-options';

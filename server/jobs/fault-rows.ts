@@ -1,6 +1,6 @@
 import type Database from 'better-sqlite3';
 import { callKeyFromFieldMap, FaultDesk, type CallKeyLookup, type FaultReport, type LineAnomaly } from '../../shared/decoder/faults';
-import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
+import type { DecodedFrame, LineEvent } from '../../shared/decoder';
 import type { CaptureSettings } from '../../shared/schemas';
 import { chosenMap } from './call-stage';
 

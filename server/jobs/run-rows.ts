@@ -1,5 +1,5 @@
 import type Database from 'better-sqlite3';
-import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
+import type { DecodedFrame, LineEvent } from '../../shared/decoder';
 
 // Rows of one decode run (frames + their search entries, line events, seek points), written in
 // batched transactions with prepared statements and removed the same way. Used by the worker

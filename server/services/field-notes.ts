@@ -1,7 +1,7 @@
 // Notes on a field of a field map: they belong to the rig (no capture), are named by
 // "layout id.field id" and go into the map's Markdown write-up under the field's layout.
 import { and, asc, eq } from 'drizzle-orm';
-import { parseFieldMap, type FieldMap } from '../../shared/decoder/calls/field-map';
+import { parseFieldMap, type FieldMap } from '../../shared/decoder/calls';
 import type { FieldNoteInput, FieldNoteQuery, Note, NotePatch } from '../../shared/schemas';
 import { notes, users } from '../db/schema';
 import { badRequest, forbidden, notFound } from '../http/errors';

@@ -9,12 +9,15 @@ export {
   FCS32_GOOD_RESIDUE,
   fcs16,
   fcs16Good,
+  fcs16Package,
   fcs16Register,
   fcs32,
   locateSingleBitError16,
   locateSingleBitError32,
 } from './fcs';
 export { BitRecovery } from './bits';
+export { ClockedRawBits } from './raw-clocked';
+export { TimeOrder } from './time-order';
 export { createReader } from './readers';
 export { detectFormat } from './readers/detect';
 // What a capture reveals about itself: settings finder, link directions, station roster, field hints.

@@ -99,7 +99,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
   let head: Uint8Array[] = [];
   let headLength = 0;
   let period: number | null = null;
-  let links: string[] = [];
+  const links: string[] = [];
   const deframers = new Map<string, Deframer>();
   const deframerList: Deframer[] = [];
   let recovery: BitRecovery | ClockedRawBits | null = null;

@@ -158,7 +158,6 @@ export class ClockedRawBits {
     const wStart = from + head;
     const wCount = end - wStart >= 4 ? (end - wStart) >> 2 : 0;
     const words = wCount > 0 ? new Int32Array(bytes.buffer, bytes.byteOffset + wStart, wCount) : null;
-    const wEnd = wStart + wCount * 4;
     const wordLimit = BIT_CHUNK_SIZE - 4;
     let i = from;
     // bytes one at a time until `stop`; then whole words while they last

@@ -2,7 +2,7 @@
 // decode of one frame, and the comparison of two captures. Request schemas (zod) and the shapes
 // of the answers. The field-map document itself is validated by shared/decoder/calls/field-map.ts.
 import { z } from 'zod';
-import type { FieldMapInput } from '../decoder/calls/field-map';
+import type { FieldMapInput } from '../decoder/calls';
 
 const csvList = <T extends z.ZodTypeAny>(item: T) =>
   z.preprocess((v) => (typeof v === 'string' ? (v === '' ? [] : v.split(',')) : v), z.array(item));

@@ -1,6 +1,6 @@
 import { QueryClient } from '@tanstack/react-query';
 import { ApiError, setCsrfTokenSource } from '../lib/api';
-import { sessionQueryOptions } from '../features/session/api/get-session';
+import { sessionQueryOptions } from '../lib/session';
 
 export const queryClient = new QueryClient({
   defaultOptions: {

@@ -46,22 +46,33 @@ interface RequestOptions {
 
 export async function api<T>(path: string, options: RequestOptions = {}): Promise<T> {
   const method = options.method ?? 'GET';
-  const response = await send(path, method, options);
-  if (response.status === 403 && method !== 'GET' && csrfSource) {
-    // A token goes stale when the server session ends; fetch a fresh one and try once more.
-    const retry = await isCsrfRejection(response.clone());
-    if (retry) return readAnswer<T>(await send(path, method, options, await csrfSource.refresh()));
+  if (method === 'GET') return readAnswer<T>(await send(path, method, options));
+  return withCsrfToken(async (token) => readAnswer<T>(await send(path, method, options, token)));
+}
+
+/**
+ * Runs a state-changing request with the session's CSRF token. A token goes stale when the server
+ * session ends or is renewed: when the server rejects it, the request runs once more with a fresh
+ * one. The client's one CSRF retry — api() and the capture upload (XHR, for its progress) use it.
+ */
+export async function withCsrfToken<T>(request: (token: string | undefined) => Promise<T>): Promise<T> {
+  const token = csrfSource ? await csrfSource.get() : undefined;
+  try {
+    return await request(token);
+  } catch (error) {
+    if (!csrfSource || !isCsrfRejection(error)) throw error;
+    return request(await csrfSource.refresh());
   }
-  return readAnswer<T>(response);
+}
+
+function isCsrfRejection(error: unknown): boolean {
+  return error instanceof ApiError && error.status === 403 && /csrf/i.test(error.message);
 }
 
 async function send(path: string, method: Method, options: RequestOptions, token?: string): Promise<Response> {
   const headers: Record<string, string> = { accept: 'application/json' };
   if (options.body !== undefined) headers['content-type'] = 'application/json';
-  if (method !== 'GET') {
-    const csrf = token ?? (csrfSource ? await csrfSource.get() : undefined);
-    if (csrf) headers['x-csrf-token'] = csrf;
-  }
+  if (token) headers['x-csrf-token'] = token;
   try {
     return await fetch(path, {
       method,
@@ -73,15 +84,6 @@ async function send(path: string, method: Method, options: RequestOptions, token
   } catch (cause) {
     if (cause instanceof DOMException && cause.name === 'AbortError') throw cause;
     throw new ApiError(0, 'Cannot reach the Flagline server. Check your connection and try again.');
-  }
-}
-
-async function isCsrfRejection(response: Response): Promise<boolean> {
-  try {
-    const body = (await response.json()) as { error?: unknown };
-    return typeof body.error === 'string' && /csrf/i.test(body.error);
-  } catch {
-    return false;
   }
 }
 

@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
+import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls';
 import type { FlaglineApp } from '../../server/index';
 import { ensureBuiltInMap } from '../../server/jobs/call-stage';
 

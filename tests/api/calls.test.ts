@@ -5,7 +5,7 @@ import { createHash } from 'node:crypto';
 import fs from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
+import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls';
 import type {
   CaptureCallLayer,
   CaptureSummaryRow,

@@ -1,7 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { encodeLineBits } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { csvChunks, type CsvWriterOptions } from '../../shared/decoder/encode/writers/csv';
+import { encodeLineBits, renderWaveform, csvChunks, type CsvWriterOptions } from '../../shared/decoder/encode';
 import { SEEK_SPACING } from '../../server/jobs/vcd-seek';
 import { buildWorld, closeWorld, linkTraffic, put, upload, waitForJob, type World } from './captures-helpers';
 

@@ -5,7 +5,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { CaptureSummaryRow, TimelineFrame, TimelinePage, TimelineRow } from '../../shared/schemas';
 import { buildWorld, clockedVcd, closeWorld, put, recoveredRaw, upload, waitForJob, type SentFrame, type TestCapture, type World } from './captures-helpers';
 import type { Client } from './helpers';
-import { fcs16 } from '../../shared/decoder/fcs';
+import { fcs16 } from '../../shared/decoder';
 
 const countBy = <T,>(xs: T[], key: (x: T) => string) => xs.reduce<Record<string, number>>((m, x) => ((m[key(x)] = (m[key(x)] ?? 0) + 1), m), {});
 

@@ -1,7 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { encodeLineBits, type FrameFaults, type LineItem } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform, type Glitch } from '../../shared/decoder/encode/waveform';
-import { vcdBytes } from '../../shared/decoder/encode/writers/vcd';
+import { encodeLineBits, type FrameFaults, type LineItem, renderWaveform, type Glitch, vcdBytes } from '../../shared/decoder/encode';
 import type { FaultDeskView, FaultFrameRow } from '../../shared/schemas';
 import { buildWorld, closeWorld, put, upload, waitForJob, type World } from './captures-helpers';
 

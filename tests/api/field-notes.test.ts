@@ -2,7 +2,7 @@
 // same authorship rules as capture notes, and listed under their layout in the Markdown write-up.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { FieldMapDetail, Note } from '../../shared/schemas';
-import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
+import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls';
 import { buildWorld, closeWorld, type World } from './captures-helpers';
 
 let w: World;

@@ -107,6 +107,7 @@ describe('mail headers and limits', () => {
     const mail = app.db.sqlite.prepare('select "to", subject, text from mail_messages').get() as { to: string; subject: string; text: string };
     expect(mail.to).toBe('new@example.test');
     expect(mail.subject).toBe('Olive Bcc: everyone@example.test invited you to the rig "Parish Bcc: victim@example.test X-Evil: 1" on Flagline');
+    // eslint-disable-next-line no-control-regex -- the check is for control characters
     expect(mail.subject).not.toMatch(/[\u0000-\u001f\u007f-\u009f\u2028\u2029]/);
     // the body's first line stays one line too
     expect(mail.text.split('\n')[0]).toContain('"Parish Bcc: victim@example.test X-Evil: 1"');

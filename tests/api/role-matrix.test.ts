@@ -6,7 +6,7 @@ import { clockedVcd, seedDecodedCapture, tempDataDir } from './captures-helpers'
 import { Client, addMember, anonymous, makeUser, rigBody, signedIn, testApp } from './helpers';
 import { listRoutes } from './route-list';
 import { seedCallLayer } from './calls-helpers';
-import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
+import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls';
 
 /**
  * Every API route, with the status each kind of caller gets. The callers:

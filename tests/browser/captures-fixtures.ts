@@ -1,11 +1,7 @@
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { encodeLineBits, type LineItem } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { frameLogChunks, type LoggedFrame } from '../../shared/decoder/encode/writers/framelog';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
-import { fcs16 } from '../../shared/decoder/fcs';
+import { encodeLineBits, type LineItem, renderWaveform, collect, frameLogChunks, type LoggedFrame, vcdChunks } from '../../shared/decoder/encode';
+import { fcs16 } from '../../shared/decoder';
 
 // Invented traffic of our own demo scenario (stations 0x21–0x23, server 0x10).
 

@@ -18,8 +18,8 @@ describe('field notes in the field-map editor', () => {
   it('lets an analyst add a note on a field of a copied map, and a viewer read it there', async () => {
     const shot = stepShots('field-notes');
     const text = unique('The record number counts from 0 on this rig');
-    let mapUrl = '';
-    let fieldPath = '';
+    let mapUrl!: string;
+    let fieldPath!: string;
 
     const analyst = await newPage(browser);
     try {

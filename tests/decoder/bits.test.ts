@@ -1,7 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { BitRecovery } from '../../shared/decoder/bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import type { BitRecoveryOptions, Transitions } from '../../shared/decoder/types';
+import { BitRecovery, type BitRecoveryOptions, type Transitions } from '../../shared/decoder';
+import { renderWaveform } from '../../shared/decoder/encode';
 import { randomBits, recoverFromWaveform, recoverySink, stuffed } from './support/signals';
 
 /** builds Transitions from [channel, sample, value] rows */

@@ -1,10 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { applyFieldMap, attributeList, decodeCpmName, decodeFrameCall } from '../../shared/decoder/calls/apply';
-import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { parseFieldMap } from '../../shared/decoder/calls/field-map';
-import { checkFrame } from '../../shared/decoder/check';
-import { bootRequestExtra, cpmName, requestInfo, responseInfo, sequentialPosition } from '../../shared/decoder/encode/calls';
-import { encodeLineBits, seededRng } from '../../shared/decoder/encode/line-bits';
+import { applyFieldMap, attributeList, decodeCpmName, decodeFrameCall, BDOS, CPM_ENVELOPE, parseFieldMap } from '../../shared/decoder/calls';
+import { checkFrame } from '../../shared/decoder';
+import { bootRequestExtra, cpmName, requestInfo, responseInfo, sequentialPosition, encodeLineBits, seededRng } from '../../shared/decoder/encode';
 
 describe('CP/M file names', () => {
   // CP/M 2.2 manual 5.2, Table 5-2: f1–f8 and t1–t3 upper-case ASCII; t1' = 1 read-only file,

@@ -1,8 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import type { DecodedCall } from '../../shared/decoder/calls/apply';
-import { compareExchanges, pairExchanges, type Exchange } from '../../shared/decoder/calls/exchanges';
-import { directoryCalls, encodeSession, readFileCalls, requestInfo, responseInfo, Tags, type ScriptCall } from '../../shared/decoder/encode/calls';
+import { BDOS, CPM_ENVELOPE, type DecodedCall, compareExchanges, pairExchanges, type Exchange } from '../../shared/decoder/calls';
+import { directoryCalls, encodeSession, readFileCalls, requestInfo, responseInfo, Tags, type ScriptCall } from '../../shared/decoder/encode';
 import { BIT_RATE, framesOfSession } from './calls-helpers';
 
 const hymns = new TextEncoder().encode('04 DEC ADVENT 2: 23, 118, 407\r\n'.repeat(6));

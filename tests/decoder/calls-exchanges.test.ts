@@ -1,10 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import type { DecodedCall } from '../../shared/decoder/calls/apply';
-import { BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
-import { callLayerRoles, ExchangeTracker, pairExchanges, type CallFrame, type Exchange } from '../../shared/decoder/calls/exchanges';
+import { type DecodedCall, BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT, callLayerRoles, ExchangeTracker, pairExchanges, type CallFrame, type Exchange, parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls';
 import { handshakeRoleSchema, linkRoleSchema } from '../../shared/schemas/captures';
-import { parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls/field-map';
-import { bootCalls, directoryCalls, readFileCalls, readRandomCalls, requestInfo, responseInfo, Tags, type SessionScript } from '../../shared/decoder/encode/calls';
+import { bootCalls, directoryCalls, readFileCalls, readRandomCalls, requestInfo, Tags, type SessionScript } from '../../shared/decoder/encode';
 import { BIT_RATE, decodeScript, framesOfSession, pairDecoded, type DecodedSession } from './calls-helpers';
 
 const BIT = 1 / BIT_RATE;

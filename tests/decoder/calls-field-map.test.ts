@@ -1,8 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { applyFieldMap } from '../../shared/decoder/calls/apply';
-import { BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT, FCB } from '../../shared/decoder/calls/cpm-envelope';
-import { fieldMapToMarkdown, validateFieldMap, type FieldMapInput } from '../../shared/decoder/calls/field-map';
-import { requestInfo } from '../../shared/decoder/encode/calls';
+import { applyFieldMap, BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT, FCB, fieldMapToMarkdown, validateFieldMap, type FieldMapInput } from '../../shared/decoder/calls';
+import { requestInfo } from '../../shared/decoder/encode';
 
 const clone = (): FieldMapInput => JSON.parse(JSON.stringify(CPM_ENVELOPE_DOCUMENT));
 

@@ -1,28 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { pairExchanges } from '../../shared/decoder/calls/exchanges';
-import type { DecodedCall } from '../../shared/decoder/calls/apply';
-import type { Exchange } from '../../shared/decoder/calls/exchanges';
-import { directoryListing, missingRanges, recoverFiles } from '../../shared/decoder/calls/files';
-import {
-  bootCalls,
-  computeSizeCalls,
-  cpmName,
-  directoryCalls,
-  readFileCalls,
-  readRandomCalls,
-  requestInfo,
-  responseInfo,
-  Tags,
-  toRecords,
-  updateRecordCalls,
-  writeFileCalls,
-  type ScriptCall,
-  type SessionScript,
-} from '../../shared/decoder/encode/calls';
-import { seededRng } from '../../shared/decoder/encode/line-bits';
+import { BDOS, CPM_ENVELOPE, pairExchanges, type DecodedCall, type Exchange, directoryListing, missingRanges, recoverFiles } from '../../shared/decoder/calls';
+import { bootCalls, computeSizeCalls, cpmName, directoryCalls, readFileCalls, readRandomCalls, requestInfo, responseInfo, Tags, toRecords, updateRecordCalls, writeFileCalls, type ScriptCall, type SessionScript, seededRng, encodeSession } from '../../shared/decoder/encode';
 import { BIT_RATE, decodeScript, framesOfSession, pairDecoded } from './calls-helpers';
-import { encodeSession } from '../../shared/decoder/encode/calls';
 
 const randomBytes = (n: number, seed: number) => {
   const rng = seededRng(seed);

@@ -1,14 +1,7 @@
 // Shared by the call-layer tests: encode a session script, render it, decode it back.
-import { CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { pairExchanges, type LinkRole } from '../../shared/decoder/calls/exchanges';
-import { encodeSession, type EncodedSession, type SessionScript } from '../../shared/decoder/encode/calls';
-import { renderWaveform, type WaveformFaults } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { checkFrame } from '../../shared/decoder/check';
-import { encodeLineBits } from '../../shared/decoder/encode/line-bits';
-import { createDecoder } from '../../shared/decoder/pipeline';
-import type { DecodedFrame, LineEvent, RawFrame } from '../../shared/decoder/types';
+import { CPM_ENVELOPE, pairExchanges, type LinkRole } from '../../shared/decoder/calls';
+import { encodeSession, type EncodedSession, type SessionScript, renderWaveform, type WaveformFaults, collect, rawChunks, encodeLineBits } from '../../shared/decoder/encode';
+import { checkFrame, createDecoder, type DecodedFrame, type LineEvent, type RawFrame } from '../../shared/decoder';
 
 export const BIT_RATE = 800_000;
 

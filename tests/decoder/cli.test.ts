@@ -3,10 +3,8 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
+import { collect, frameLogChunks, rawChunks, vcdChunks } from '../../shared/decoder/encode';
+import { decodeCli } from './cli-command';
 import { clockedWaveform, encodeLineBits, traffic } from './pipeline-helpers';
 
 let dir: string;
@@ -14,10 +12,10 @@ const file = (name: string) => join(dir, name);
 
 function run(args: string[], shellPipe?: string): Promise<{ code: number | null; stdout: string; stderr: string }> {
   return new Promise((resolve) => {
-    const cmd = ['node_modules/.bin/tsx', 'server/cli/decode.ts', ...args].map((a) => `'${a}'`).join(' ');
+    const cmd = [process.execPath, decodeCli, ...args].map((a) => `'${a}'`).join(' ');
     const child = shellPipe
       ? spawn('bash', ['-c', `set -o pipefail; ${cmd} ${shellPipe}`])
-      : spawn('node_modules/.bin/tsx', ['server/cli/decode.ts', ...args]);
+      : spawn(process.execPath, [decodeCli, ...args]);
     let stdout = '';
     let stderr = '';
     child.stdout.on('data', (d) => (stdout += d));

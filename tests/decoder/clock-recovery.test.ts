@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { BitRecovery } from '../../shared/decoder/bits';
-import { renderWaveform, type WaveformOptions } from '../../shared/decoder/encode/waveform';
+import { BitRecovery } from '../../shared/decoder';
+import { renderWaveform, type WaveformOptions } from '../../shared/decoder/encode';
 import { randomBits, recoverFromWaveform, recoverySink, stuffed } from './support/signals';
 
 /** bits a receiver without a clock can know: from the first transition on */

@@ -1,9 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { csvChunks, type CsvWriterOptions } from '../../shared/decoder/encode/writers/csv';
-import { CsvReader } from '../../shared/decoder/readers/csv';
-import type { ReaderOptions } from '../../shared/decoder/types';
+import { renderWaveform, collect, csvChunks, type CsvWriterOptions } from '../../shared/decoder/encode';
+import { CsvReader } from '../../shared/decoder/readers';
+import type { ReaderOptions } from '../../shared/decoder';
 import { feed, randomBits, randomSplit, recordingSink, waveformList } from './support/signals';
 
 const text = (s: string) => new TextEncoder().encode(s);

@@ -1,5 +1,4 @@
-import { Deframer } from '../../shared/decoder/deframe';
-import type { LineEvent, RawFrame } from '../../shared/decoder/types';
+import { Deframer, type LineEvent, type RawFrame } from '../../shared/decoder';
 
 /** Runs line bits through a Deframer in the given chunk sizes (cycled); sample index = bit index. */
 export function deframeBits(bits: Uint8Array, chunkSizes: number[] = [bits.length || 1], minOctets?: number) {

@@ -1,7 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode/line-bits';
-import { Deframer } from '../../shared/decoder/deframe';
-import type { RawFrame } from '../../shared/decoder/types';
+import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode';
+import { Deframer, type RawFrame } from '../../shared/decoder';
 import { bitsOf, deframeBits } from './deframe-helpers';
 
 const FLAG = '01111110';

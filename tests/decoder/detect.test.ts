@@ -1,14 +1,8 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { HEAD_BYTES, readHead } from '../../server/services/captures/upload';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { csvChunks } from '../../shared/decoder/encode/writers/csv';
-import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
-import { octetsFromLineBits } from '../../shared/decoder/encode/writers/octets';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
-import { checkHead, detectFormat, inspectHead } from '../../shared/decoder/readers/detect';
+import { renderWaveform, collect, csvChunks, frameLogChunks, octetsFromLineBits, rawChunks, vcdChunks } from '../../shared/decoder/encode';
+import { checkHead, detectFormat, inspectHead } from '../../shared/decoder/readers';
 import { randomBits, stuffed } from './support/signals';
 
 const text = (s: string) => new TextEncoder().encode(s);

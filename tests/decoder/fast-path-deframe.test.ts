@@ -2,9 +2,8 @@
 // random line bits whose patterns are those of ISO/IEC 13239:2002 (flag 01111110, zero-bit
 // insertion after five 1s, abort on seven 1s, idle on fifteen; from memory).
 import { describe, expect, it } from 'vitest';
-import { Deframer, type DeframerOptions } from '../../shared/decoder/deframe';
-import { seededRng } from '../../shared/decoder/encode/line-bits';
-import type { BitChunk, LineEvent, RawFrame } from '../../shared/decoder/types';
+import { Deframer, type DeframerOptions, type BitChunk, type LineEvent, type RawFrame } from '../../shared/decoder';
+import { seededRng } from '../../shared/decoder/encode';
 import { jitteredSamples, mixedLine } from './fast-path-helpers';
 
 function pack(bits: Uint8Array): Uint8Array {

@@ -1,6 +1,6 @@
 // Inputs shared by the fast-path tests: seeded random line bits with every kind of event, and
 // irregular sample indices.
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
+import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode';
 
 /** Line bits with every kind of event: frames (some stuffed heavily), shared flags and zeros, aborts, idle, noise. */
 export function mixedLine(seed: number, items: number): Uint8Array {

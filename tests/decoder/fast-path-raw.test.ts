@@ -3,18 +3,10 @@
 // checked in fast-path-deframe.test.ts). The bit patterns are those of ISO/IEC 13239:2002 (flag
 // 01111110, zero-bit insertion after five 1s, abort on seven 1s, idle on fifteen; from memory).
 import { describe, expect, it } from 'vitest';
-import { AnomalyTap, type AnomalySink, type LineAnomaly } from '../../shared/decoder/faults/anomalies';
-import type { ClockSpread } from '../../shared/decoder/timing/clock-spread';
-import { randomFrame, seededRng } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { csvChunks } from '../../shared/decoder/encode/writers/csv';
-import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
-import { octetsFromLineBits } from '../../shared/decoder/encode/writers/octets';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
-import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
-import type { Transitions } from '../../shared/decoder/types';
+import { AnomalyTap, type AnomalySink, type LineAnomaly } from '../../shared/decoder/faults';
+import type { ClockSpread } from '../../shared/decoder/timing';
+import { randomFrame, seededRng, renderWaveform, collect, csvChunks, frameLogChunks, octetsFromLineBits, rawChunks, vcdChunks } from '../../shared/decoder/encode';
+import { createDecoder, type DecoderOptions, type Transitions } from '../../shared/decoder';
 import { mixedLine } from './fast-path-helpers';
 import { runDecoder } from './pipeline-helpers';
 

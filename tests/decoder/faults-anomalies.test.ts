@@ -1,15 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode/line-bits';
-import {
-  AnomalyTap,
-  attachAnomalies,
-  damageCause,
-  destuffedToLineBit,
-  suspectBit,
-  type AnomalyTapOptions,
-  type LineAnomaly,
-} from '../../shared/decoder/faults';
-import type { Transitions } from '../../shared/decoder/types';
+import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode';
+import { AnomalyTap, attachAnomalies, damageCause, destuffedToLineBit, suspectBit, type AnomalyTapOptions, type LineAnomaly } from '../../shared/decoder/faults';
+import type { Transitions } from '../../shared/decoder';
 
 /** [channel, sample, value] lists → one Transitions batch per call */
 function run(options: AnomalyTapOptions, list: [number, number, number][], batch = 5): LineAnomaly[] {

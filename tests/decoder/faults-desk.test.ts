@@ -1,19 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { BitRecovery } from '../../shared/decoder/bits';
-import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { checkFrame } from '../../shared/decoder/check';
-import { Deframer } from '../../shared/decoder/deframe';
-import { fcs16Good } from '../../shared/decoder/fcs';
-import { readFileCalls, requestInfo, Tags, type SessionScript } from '../../shared/decoder/encode/calls';
-import { encodeLineBits, type FrameFaults, type LineItem } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform, type Glitch } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { vcdBytes } from '../../shared/decoder/encode/writers/vcd';
+import { BitRecovery, checkFrame, Deframer, fcs16Good, createDecoder, type BitRecoveryOptions, type ChannelInfo, type RawFrame, type Transitions } from '../../shared/decoder';
+import { BDOS, CPM_ENVELOPE } from '../../shared/decoder/calls';
+import { readFileCalls, requestInfo, Tags, type SessionScript, encodeLineBits, type FrameFaults, type LineItem, renderWaveform, type Glitch, collect, rawChunks, vcdBytes } from '../../shared/decoder/encode';
 import { AnomalyTap, callKeyFromFieldMap, FaultDesk, type FaultReport, type FaultRow } from '../../shared/decoder/faults';
-import { createDecoder } from '../../shared/decoder/pipeline';
 import { createReader } from '../../shared/decoder/readers';
-import type { BitRecoveryOptions, ChannelInfo, RawFrame, Transitions } from '../../shared/decoder/types';
 import { decodeScript } from './calls-helpers';
 import { randomSplit } from './support/signals';
 

@@ -1,14 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import {
-  fcs16,
-  fcs16Good,
-  fcs16Package,
-  fcs16Register,
-  fcs32,
-  locateSingleBitError16,
-  locateSingleBitError32,
-} from '../../shared/decoder/fcs';
-import { seededRng } from '../../shared/decoder/encode/line-bits';
+import { fcs16, fcs16Good, fcs16Package, fcs16Register, fcs32, locateSingleBitError16, locateSingleBitError32 } from '../../shared/decoder';
+import { seededRng } from '../../shared/decoder/encode';
 
 const ascii = (s: string) => new TextEncoder().encode(s);
 

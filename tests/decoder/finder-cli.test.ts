@@ -4,13 +4,12 @@ import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { rawBytes } from '../../shared/decoder/encode/writers/raw';
+import { encodeLineBits, randomFrame, seededRng, renderWaveform, rawBytes } from '../../shared/decoder/encode';
+import { decodeCli } from './cli-command';
 
 function run(args: string[]): Promise<{ code: number | null; stdout: string; stderr: string }> {
   return new Promise((resolve) => {
-    const child = spawn('node_modules/.bin/tsx', ['server/cli/decode.ts', ...args]);
+    const child = spawn(process.execPath, [decodeCli, ...args]);
     let stdout = '';
     let stderr = '';
     child.stdout.on('data', (d) => (stdout += d));

@@ -1,11 +1,9 @@
 // Link directions and the station roster, inferred from scripted sessions our encoder made.
 import { describe, expect, it } from 'vitest';
-import { CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { encodeSession, readFileCalls, sessionFrameLog, Tags, type SessionScript } from '../../shared/decoder/encode/calls';
-import { frameLogBytes } from '../../shared/decoder/encode/writers/framelog';
+import { CPM_ENVELOPE } from '../../shared/decoder/calls';
+import { encodeSession, readFileCalls, sessionFrameLog, Tags, type SessionScript, frameLogBytes } from '../../shared/decoder/encode';
 import { directionConflicts, inferDirections, stationRoster } from '../../shared/decoder/finder';
-import { createDecoder } from '../../shared/decoder/pipeline';
-import type { DecodedFrame } from '../../shared/decoder/types';
+import { createDecoder, type DecodedFrame } from '../../shared/decoder';
 
 const text = (n: number) => new TextEncoder().encode('Bell ringers meet on Thursday. '.repeat(n));
 

@@ -1,8 +1,6 @@
 // Captures for the settings finder's tests: random frames on two links, encoded under a chosen
 // line setting by our own encoder, with a share of damaged frames.
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { rawBytes } from '../../shared/decoder/encode/writers/raw';
+import { encodeLineBits, randomFrame, seededRng, type LineItem, renderWaveform, rawBytes } from '../../shared/decoder/encode';
 import type { CaptureSource } from '../../shared/decoder/finder';
 
 export interface LineSetting {

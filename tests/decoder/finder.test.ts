@@ -2,11 +2,9 @@
 // must be the setting that was used.
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { rawBytes } from '../../shared/decoder/encode/writers/raw';
+import { encodeLineBits, randomFrame, seededRng, renderWaveform, rawBytes } from '../../shared/decoder/encode';
 import { bytesSource, estimateBitTime, findSettings, type FinderCandidate } from '../../shared/decoder/finder';
-import { fcs16, fcs32 } from '../../shared/decoder/fcs';
+import { fcs16, fcs32 } from '../../shared/decoder';
 import { choppySource, rawCapture, type LineSetting } from './finder-helpers';
 
 /** Bit rates of the period's controllers; 4 MHz ÷ 5 = 800 kbit/s is common practice. */

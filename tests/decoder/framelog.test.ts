@@ -1,8 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { frameLogChunks, type LoggedFrame } from '../../shared/decoder/encode/writers/framelog';
-import { FrameLogReader } from '../../shared/decoder/readers/framelog';
-import type { ChannelInfo, ReaderOptions } from '../../shared/decoder/types';
+import { collect, frameLogChunks, type LoggedFrame } from '../../shared/decoder/encode';
+import { FrameLogReader } from '../../shared/decoder/readers';
+import type { ChannelInfo, ReaderOptions } from '../../shared/decoder';
 import { randomSplit } from './support/signals';
 
 const text = (s: string) => new TextEncoder().encode(s);

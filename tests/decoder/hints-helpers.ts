@@ -1,8 +1,7 @@
 // Demo captures decoded for the field-hints tests, from samples/manifest.json.
 import { readFileSync } from 'node:fs';
-import type { LinkRole } from '../../shared/decoder/calls/exchanges';
-import { createDecoder } from '../../shared/decoder/pipeline';
-import type { DecodedFrame } from '../../shared/decoder/types';
+import type { LinkRole } from '../../shared/decoder/calls';
+import { createDecoder, type DecodedFrame } from '../../shared/decoder';
 import type { CaptureSettingsInput } from '../../shared/schemas/captures';
 
 export interface SampleEntry {

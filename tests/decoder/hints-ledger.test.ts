@@ -4,17 +4,11 @@
 import { readFileSync } from 'node:fs';
 import { createHash } from 'node:crypto';
 import { describe, expect, it } from 'vitest';
-import { applyFieldMap } from '../../shared/decoder/calls/apply';
-import { CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { pairExchanges } from '../../shared/decoder/calls/exchanges';
-import { parseFieldMap, validateFieldMap } from '../../shared/decoder/calls/field-map';
-import { CPM_FILE_CALL_SET, fileCallsOf, missingRanges, recoverFiles } from '../../shared/decoder/calls/files';
-import { LEDGER_MAP_DOCUMENT, LEDGER_OP, ledgerRequest, ledgerResponse } from '../../shared/decoder/encode/ledger-envelope';
-import { bytesSource, discover, framesUnder, type Discovery } from '../../shared/decoder/finder';
-import { findSettings } from '../../shared/decoder/finder';
+import { applyFieldMap, CPM_ENVELOPE, pairExchanges, parseFieldMap, validateFieldMap, CPM_FILE_CALL_SET, fileCallsOf, missingRanges, recoverFiles } from '../../shared/decoder/calls';
+import { LEDGER_MAP_DOCUMENT, LEDGER_OP, ledgerRequest, ledgerResponse } from '../../shared/decoder/encode';
+import { bytesSource, discover, framesUnder, type Discovery, findSettings } from '../../shared/decoder/finder';
 import { draftFieldMap, fieldHints, type HintReport } from '../../shared/decoder/hints';
-import { createDecoder } from '../../shared/decoder/pipeline';
-import type { DecodedFrame } from '../../shared/decoder/types';
+import { createDecoder, type DecodedFrame } from '../../shared/decoder';
 import { CREW, FARES, TICKETS, TIDE_DAYS, tideRecord } from '../../server/cli/samples-saltmarsh';
 import { decodeSample, manifest } from './hints-helpers';
 

@@ -1,6 +1,6 @@
 // Field hints on the built-in envelope's demo capture, and on frames made to show each shape.
 import { describe, expect, it } from 'vitest';
-import { validateFieldMap } from '../../shared/decoder/calls/field-map';
+import { validateFieldMap } from '../../shared/decoder/calls';
 import { draftFieldMap, FieldHints, fieldHints, type FieldHint, type HintFrame, type HintReport } from '../../shared/decoder/hints';
 import { decodeSample, sampleEntry } from './hints-helpers';
 

@@ -1,7 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { checkFrame } from '../../shared/decoder/check';
-import { fcs16 } from '../../shared/decoder/fcs';
-import { encodeLineBits, packLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
+import { checkFrame, fcs16 } from '../../shared/decoder';
+import { encodeLineBits, packLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode';
 import { deframeBits } from './deframe-helpers';
 
 describe('encodeLineBits', () => {

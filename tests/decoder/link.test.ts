@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { decodeLink } from '../../shared/decoder/link';
+import { decodeLink } from '../../shared/decoder';
 
 const frame = (...b: number[]) => new Uint8Array(b);
 

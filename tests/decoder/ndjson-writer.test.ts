@@ -3,10 +3,8 @@
 // buffer size (the buffer is flushed and grown as it fills).
 import { describe, expect, it } from 'vitest';
 import { NdjsonWriter, eventRecord, frameRecord } from '../../server/cli/ndjson-writer';
-import { checkFrame } from '../../shared/decoder/check';
-import { Deframer } from '../../shared/decoder/deframe';
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
-import type { DecodedFrame, LineEvent, RawFrame } from '../../shared/decoder/types';
+import { checkFrame, Deframer, type DecodedFrame, type LineEvent, type RawFrame } from '../../shared/decoder';
+import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode';
 
 /** Random frames of every status on one line, deframed and checked as the decoder does. */
 function framesOfEveryStatus(seed: number, fcs: 16 | 32, link: string): DecodedFrame[] {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { octetsFromLineBits } from '../../shared/decoder/encode/writers/octets';
-import { OctetReader } from '../../shared/decoder/readers/octets';
-import type { ChannelInfo, ReaderOptions } from '../../shared/decoder/types';
+import { octetsFromLineBits } from '../../shared/decoder/encode';
+import { OctetReader } from '../../shared/decoder/readers';
+import type { ChannelInfo, ReaderOptions } from '../../shared/decoder';
 import { randomBits, randomSplit } from './support/signals';
 
 function read(chunks: Uint8Array[], opts: ReaderOptions = {}) {

@@ -1,7 +1,5 @@
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform, type Waveform, type WaveformOptions } from '../../shared/decoder/encode/waveform';
-import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
-import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
+import { encodeLineBits, randomFrame, seededRng, type LineItem, renderWaveform, type Waveform, type WaveformOptions } from '../../shared/decoder/encode';
+import { createDecoder, type DecoderOptions, type DecodedFrame, type LineEvent } from '../../shared/decoder';
 
 /** Random traffic for one link: frames (some damaged) with fill flags between. */
 export function traffic(seed: number, count: number, damaged = true): { items: LineItem[]; sent: Uint8Array[] } {

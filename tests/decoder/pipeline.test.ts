@@ -1,12 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { seededRng } from '../../shared/decoder/encode/line-bits';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { csvChunks } from '../../shared/decoder/encode/writers/csv';
-import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
-import { octetsFromLineBits } from '../../shared/decoder/encode/writers/octets';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
-import { fcs16 } from '../../shared/decoder/fcs';
+import { seededRng, collect, csvChunks, frameLogChunks, octetsFromLineBits, rawChunks, vcdChunks } from '../../shared/decoder/encode';
+import { fcs16 } from '../../shared/decoder';
 import { clockedWaveform, encodeLineBits, runDecoder, traffic } from './pipeline-helpers';
 
 const twoLinks = () => {

@@ -1,9 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { RawReader } from '../../shared/decoder/readers/raw';
-import type { ReaderOptions } from '../../shared/decoder/types';
+import { renderWaveform, collect, rawChunks } from '../../shared/decoder/encode';
+import { RawReader } from '../../shared/decoder/readers';
+import type { ReaderOptions } from '../../shared/decoder';
 import { feed, randomBits, randomSplit, recordingSink, waveformList } from './support/signals';
 
 function read(input: Uint8Array | Uint8Array[], opts: ReaderOptions) {

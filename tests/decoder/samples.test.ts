@@ -4,14 +4,12 @@ import { execFileSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { CallLayer, callLayerRoles, type Exchange } from '../../shared/decoder/calls/exchanges';
+import { CPM_ENVELOPE, CallLayer, callLayerRoles, type Exchange, missingRanges, recoverFiles } from '../../shared/decoder/calls';
 import { callKeyFromFieldMap, callShapeFromFieldMap, FaultDesk, type OctetTimingDetail, type UnderrunDetail } from '../../shared/decoder/faults';
 import { TimingTap } from '../../shared/decoder/timing';
-import { missingRanges, recoverFiles } from '../../shared/decoder/calls/files';
-import { createDecoder, type DecoderOptions } from '../../shared/decoder/pipeline';
-import type { DecodedFrame } from '../../shared/decoder/types';
+import { createDecoder, type DecoderOptions, type DecodedFrame } from '../../shared/decoder';
 import { captureSettingsSchema, type CaptureSettingsInput } from '../../shared/schemas/captures';
+import { decodeCli } from './cli-command';
 
 interface ExpectedFile {
   key: string;
@@ -206,7 +204,7 @@ describe('demo samples', () => {
   it('decodes every sample with the CLI as samples/README.md tells', () => {
     for (const entry of manifest.captures) {
       const args = entry.cli.replace(/^npm run --silent decode -- /, '').split(' ');
-      const out = execFileSync('npx', ['tsx', 'server/cli/decode.ts', ...args], { encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
+      const out = execFileSync(process.execPath, [decodeCli, ...args], { encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
       const lines = out.trim().split('\n').map((l) => JSON.parse(l) as { link: string; status: string });
       const total = Object.values(entry.expected.frames).reduce((n, c) => n + c.ok + c['bad-fcs'], 0);
       expect(lines, entry.file).toHaveLength(total);

@@ -1,6 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { TimeOrder } from '../../shared/decoder/time-order';
-import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
+import { TimeOrder, type DecodedFrame, type LineEvent } from '../../shared/decoder';
 
 const frame = (link: string, firstSample: number) => ({ link, firstSample }) as DecodedFrame;
 

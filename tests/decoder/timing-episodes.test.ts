@@ -1,10 +1,8 @@
 // The episode encoder: frames where it says they are, races injected as asked, and what the call
 // layer must pair; the line-bit and waveform faults it builds on.
 import { describe, expect, it } from 'vitest';
-import { BitRecovery } from '../../shared/decoder/bits';
-import { encodeEpisode, planEpisode, type EpisodeScript } from '../../shared/decoder/encode/episodes';
-import { encodeLineBits, frameLineLength, randomFrame, seededRng, type FrameFaults } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
+import { BitRecovery } from '../../shared/decoder';
+import { encodeEpisode, planEpisode, type EpisodeScript, encodeLineBits, frameLineLength, randomFrame, seededRng, type FrameFaults, renderWaveform } from '../../shared/decoder/encode';
 import { decodeEpisode, RATE, THREE_STATIONS } from './timing-helpers';
 
 describe('line bits for episodes', () => {

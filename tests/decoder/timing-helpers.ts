@@ -1,16 +1,10 @@
 // Shared by the timing tests: encode an episode, render it, decode it back through the whole
 // chain (decoder with the anomaly tap, call layer, line timing, fault desk with the field map).
-import { CPM_ENVELOPE } from '../../shared/decoder/calls/cpm-envelope';
-import { CallLayer, type Exchange, type LinkRole } from '../../shared/decoder/calls/exchanges';
-import { requestInfo, responseInfo, Tags, toRecords } from '../../shared/decoder/encode/calls';
-import { encodeEpisode, type EncodedEpisode, type EpisodeCall, type EpisodeScript } from '../../shared/decoder/encode/episodes';
-import { renderWaveform, type WaveformFaults } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
+import { CPM_ENVELOPE, CallLayer, type Exchange, type LinkRole } from '../../shared/decoder/calls';
+import { requestInfo, responseInfo, Tags, toRecords, encodeEpisode, type EncodedEpisode, type EpisodeCall, type EpisodeScript, renderWaveform, type WaveformFaults, collect, rawChunks } from '../../shared/decoder/encode';
 import { callKeyFromFieldMap, callShapeFromFieldMap, FaultDesk, type FaultReport } from '../../shared/decoder/faults';
-import { createDecoder } from '../../shared/decoder/pipeline';
+import { createDecoder, type DecodedFrame } from '../../shared/decoder';
 import { TimingTap, type Schedule, type ServiceReport } from '../../shared/decoder/timing';
-import type { DecodedFrame } from '../../shared/decoder/types';
 import { randomSplit } from './support/signals';
 
 export const RATE = 800_000;

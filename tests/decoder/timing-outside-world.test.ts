@@ -1,13 +1,10 @@
 // The timing figures checked against published sources and plain arithmetic, each named beside
 // its check.
 import { describe, expect, it } from 'vitest';
-import { checkFrame } from '../../shared/decoder/check';
-import { Deframer } from '../../shared/decoder/deframe';
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
-import { fcs16 } from '../../shared/decoder/fcs';
+import { checkFrame, Deframer, fcs16, type DecodedFrame, type LineEvent } from '../../shared/decoder';
+import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode';
 import { FaultDesk, type UnderrunDetail } from '../../shared/decoder/faults';
 import { octetBudget } from '../../shared/decoder/timing';
-import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
 
 function deframe(items: LineItem[]): { frames: DecodedFrame[]; events: LineEvent[] } {
   const { bits } = encodeLineBits(items);

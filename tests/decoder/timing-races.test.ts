@@ -2,13 +2,10 @@
 // abort-ended, with and without the fragment that follows), receiver over-run symptoms, octet
 // timing from a stretched clock, and the budget line.
 import { describe, expect, it } from 'vitest';
-import { checkFrame } from '../../shared/decoder/check';
-import { Deframer } from '../../shared/decoder/deframe';
-import type { Exchange } from '../../shared/decoder/calls/exchanges';
-import type { EpisodeScript, Underrun } from '../../shared/decoder/encode/episodes';
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
+import { checkFrame, Deframer, type DecodedFrame } from '../../shared/decoder';
+import type { Exchange } from '../../shared/decoder/calls';
+import { type EpisodeScript, type Underrun, encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode';
 import { describeRace, FaultDesk, findOverruns, type FaultRow, type OverrunDetail, type UnderrunDetail } from '../../shared/decoder/faults';
-import type { DecodedFrame } from '../../shared/decoder/types';
 import { decodeEpisode, RATE, THREE_STATIONS, writeCalls } from './timing-helpers';
 
 const cutRows = (rows: FaultRow[]) => rows.filter((r) => r.cause === 'tx-underrun');

@@ -1,9 +1,8 @@
 // The schedule view's data: one lane per station (request line, frames both ways, exchanges,
 // waits) and the server's visits, and the level of detail that keeps 100 000 spans drawable.
 import { describe, expect, it } from 'vitest';
-import { seededRng } from '../../shared/decoder/encode/line-bits';
-import { LineTiming, scheduleWindow, windowRow, type SpanColumns } from '../../shared/decoder/timing';
-import { SpanBuilder } from '../../shared/decoder/timing/span-columns';
+import { seededRng } from '../../shared/decoder/encode';
+import { LineTiming, scheduleWindow, windowRow, type SpanColumns, SpanBuilder } from '../../shared/decoder/timing';
 import { bitTime, decodeEpisode, RATE, THREE_STATIONS } from './timing-helpers';
 
 describe('schedule lanes of an encoded episode', () => {

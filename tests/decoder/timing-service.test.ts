@@ -1,9 +1,7 @@
 // Service statistics and the server's schedule, held to what the episode encoder put on the wire:
 // visits, rounds, waits (service delays), skipped visits and starvation, per-port and multidrop.
 import { describe, expect, it } from 'vitest';
-import { Tags } from '../../shared/decoder/encode/calls';
-import type { EpisodeScript } from '../../shared/decoder/encode/episodes';
-import { seededRng } from '../../shared/decoder/encode/line-bits';
+import { Tags, type EpisodeScript, seededRng } from '../../shared/decoder/encode';
 import { LineTiming, type TimingFrame } from '../../shared/decoder/timing';
 import { bitTime, decodeEpisode, RATE, readCalls, THREE_STATIONS, writeCalls } from './timing-helpers';
 

@@ -1,8 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { renderWaveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
-import { VcdReader } from '../../shared/decoder/readers/vcd';
+import { renderWaveform, collect, vcdChunks } from '../../shared/decoder/encode';
+import { VcdReader } from '../../shared/decoder/readers';
 import { feed, randomBits, randomSplit, recordingSink, waveformList } from './support/signals';
 
 const text = (s: string) => new TextEncoder().encode(s);

@@ -1,16 +1,7 @@
 import { describe, expect, it } from 'vitest';
-import { BitRecovery } from '../../shared/decoder/bits';
-import { Deframer } from '../../shared/decoder/deframe';
-import { encodeLineBits, randomFrame, seededRng, type LineItem } from '../../shared/decoder/encode/line-bits';
-import { renderWaveform, type Waveform } from '../../shared/decoder/encode/waveform';
-import { collect } from '../../shared/decoder/encode/writers/collect';
-import { csvChunks } from '../../shared/decoder/encode/writers/csv';
-import { frameLogChunks } from '../../shared/decoder/encode/writers/framelog';
-import { octetsFromLineBits } from '../../shared/decoder/encode/writers/octets';
-import { rawChunks } from '../../shared/decoder/encode/writers/raw';
-import { vcdChunks } from '../../shared/decoder/encode/writers/vcd';
+import { BitRecovery, Deframer, type BitChunk, type BitRecoveryOptions, type CaptureFormat, type RawFrame, type ReaderOptions, type Transitions } from '../../shared/decoder';
+import { encodeLineBits, randomFrame, seededRng, type LineItem, renderWaveform, type Waveform, collect, csvChunks, frameLogChunks, octetsFromLineBits, rawChunks, vcdChunks } from '../../shared/decoder/encode';
 import { createReader } from '../../shared/decoder/readers';
-import type { BitChunk, BitRecoveryOptions, CaptureFormat, RawFrame, ReaderOptions, Transitions } from '../../shared/decoder/types';
 import { randomBits, randomSplit, recoverySink } from './support/signals';
 
 type SampleFormat = 'vcd' | 'csv' | 'raw';

@@ -1,6 +1,5 @@
 // Two captures of one rig side by side at exchange level, through the engine's compareExchanges.
-import type { DecodedCall } from '../../../shared/decoder/calls/apply';
-import { compareExchanges, type Exchange } from '../../../shared/decoder/calls/exchanges';
+import { type DecodedCall, compareExchanges, type Exchange } from '../../../shared/decoder/calls';
 import type { ComparedExchange, CompareResult, ComparisonKindName } from '../../../shared/schemas';
 import { HttpError } from '../../http/errors';
 import { findCapture } from '../captures/rows';

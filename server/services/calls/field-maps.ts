@@ -1,6 +1,6 @@
 // A rig's field maps: list, read a version, create (new or copy), save a new version with an
 // optimistic check of the version the editor opened, Markdown export.
-import { fieldMapToMarkdown, parseFieldMap, validateFieldMap } from '../../../shared/decoder/calls/field-map';
+import { fieldMapToMarkdown, parseFieldMap, validateFieldMap } from '../../../shared/decoder/calls';
 import type { FieldMapCreate, FieldMapDetail, FieldMapSave, FieldMapSummary } from '../../../shared/schemas';
 import { ensureBuiltInMap } from '../../jobs/call-stage';
 import { badRequest, conflict, notFound } from '../../http/errors';

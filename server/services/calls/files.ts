@@ -1,5 +1,5 @@
 // Recovered files of a capture's visible call run.
-import { missingRanges, type RecordCoverage } from '../../../shared/decoder/calls/files';
+import { missingRanges, type RecordCoverage } from '../../../shared/decoder/calls';
 import type { RecoveredFileDetail, RecoveredFileSummary } from '../../../shared/schemas';
 import { notFound } from '../../http/errors';
 import { visibleRun } from './capture-layer';

@@ -1,6 +1,5 @@
 // The call decode of one frame for the inspector, with field spans counted from the frame's first octet.
-import { decodeFrameCall } from '../../../shared/decoder/calls/apply';
-import { callLayerRoles } from '../../../shared/decoder/calls/exchanges';
+import { decodeFrameCall, callLayerRoles } from '../../../shared/decoder/calls';
 import type { FrameCall } from '../../../shared/schemas';
 import { captureSettingsSchema } from '../../../shared/schemas';
 import { chosenMap, FRAME_COLUMNS, frameFromRow, loadMapVersion } from '../../jobs/call-stage';

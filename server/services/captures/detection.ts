@@ -1,5 +1,5 @@
-import { detectFormat, inspectHead } from '../../../shared/decoder/readers/detect';
-import type { CaptureFormat } from '../../../shared/decoder/types';
+import { detectFormat, inspectHead } from '../../../shared/decoder/readers';
+import type { CaptureFormat } from '../../../shared/decoder';
 import type { CaptureSettingsInput, DetectedChannel, Detection } from '../../../shared/schemas';
 import { rigs } from '../../db/schema';
 import { eq } from 'drizzle-orm';

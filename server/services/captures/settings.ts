@@ -1,5 +1,5 @@
 import { eq } from 'drizzle-orm';
-import { inspectHead } from '../../../shared/decoder/readers/detect';
+import { inspectHead } from '../../../shared/decoder/readers';
 import type { CaptureSettings, CaptureSummaryRow } from '../../../shared/schemas';
 import { captures } from '../../db/schema';
 import { HttpError } from '../../http/errors';

@@ -1,5 +1,5 @@
 import fs from 'node:fs';
-import { checkHead, detectFormat } from '../../../shared/decoder/readers/detect';
+import { checkHead, detectFormat } from '../../../shared/decoder/readers';
 import type { CaptureSummaryRow } from '../../../shared/schemas';
 import { captures } from '../../db/schema';
 import { HttpError } from '../../http/errors';

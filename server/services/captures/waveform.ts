@@ -1,6 +1,6 @@
 import fs from 'node:fs';
 import { createReader } from '../../../shared/decoder/readers';
-import type { ChannelInfo, Transitions } from '../../../shared/decoder/types';
+import type { ChannelInfo, Transitions } from '../../../shared/decoder';
 import type { CaptureSettings, WaveformWindow } from '../../../shared/schemas';
 import { HttpError } from '../../http/errors';
 import type { CaptureDeps } from './deps';

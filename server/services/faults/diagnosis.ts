@@ -1,4 +1,4 @@
-import { RACE_CAUSE_WORDS } from '../../../shared/decoder/faults/race-words';
+import { RACE_CAUSE_WORDS } from '../../../shared/decoder/faults';
 import type { DamageCauseName, FaultAnomaly, FaultFrameRow } from '../../../shared/schemas';
 
 // One sentence per fault row, in the words the fault desk shows.

@@ -94,7 +94,10 @@ export function inferDirections(frames: readonly DecodedFrame[], options: Direct
   for (const lf of facts.values()) {
     let best = -1;
     let n = 0;
-    for (const [a, c] of lf.addresses) if (c > n) (best = a), (n = c);
+    for (const [a, c] of lf.addresses) if (c > n) {
+      best = a;
+      n = c;
+    }
     lf.station = lf.good > 0 && n >= lf.good * 0.9 ? best : null;
   }
   const verdicts = new Map<string, DirectionVerdict>();
@@ -243,7 +246,10 @@ function echoes(a: LinkFacts, b: LinkFacts, verdicts: Map<string, DirectionVerdi
   let at = -1;
   for (let k = 0; k < ECHO_SPAN * ECHO_SPAN; k++) {
     const d = counts[0][k] / totals[0] - counts[1][k] / totals[1];
-    if (Math.abs(d) > Math.abs(best)) (best = d), (at = k);
+    if (Math.abs(d) > Math.abs(best)) {
+      best = d;
+      at = k;
+    }
   }
   if (Math.abs(best) < 0.5) return;
   const ia = Math.floor(at / ECHO_SPAN);

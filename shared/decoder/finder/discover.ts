@@ -151,7 +151,10 @@ function nearestLink(channel: string, links: string[]): string | null {
   for (const l of links) {
     let k = 0;
     while (k < l.length && k < channel.length && l[k] === channel[k]) k++;
-    if (k > len) (best = l), (len = k);
+    if (k > len) {
+      best = l;
+      len = k;
+    }
   }
   return len > 0 ? best : null;
 }

@@ -372,7 +372,10 @@ export function binaryDoubt(head: Uint8Array, detected: 'raw' | 'octets'): Captu
     // samples take few distinct values (a handful of channels)
     const seen = new Uint8Array(256);
     let distinct = 0;
-    for (const b of head) if (!seen[b]) (seen[b] = 1), distinct++;
+    for (const b of head) if (!seen[b]) {
+      seen[b] = 1;
+      distinct++;
+    }
     return distinct <= 64 ? ['raw'] : [];
   }
   // samples repeat from one to the next (at one or two bytes' distance); line bits do so only in

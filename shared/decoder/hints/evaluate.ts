@@ -216,7 +216,10 @@ export function evaluateGroup(g: GroupContext): FieldHint[] {
       for (let i = 0; i < ECHO_SPAN; i++) {
         const c = e.count(i, j);
         // ties go to the same offset, then the lower one
-        if (c > bc || (c === bc && c > 0 && i === j)) (bc = c), (bi = i);
+        if (c > bc || (c === bc && c > 0 && i === j)) {
+          bc = c;
+          bi = i;
+        }
       }
       if (bi < 0 || bc < e.pairs * 0.9) continue;
       // an echo of an octet that never changes says nothing; the selector repeated is the call code

@@ -5,7 +5,7 @@ import type { DecodedFrame } from '../types';
 import type { LinkRole } from '../calls/exchanges';
 import { EchoStats } from './echo-stats';
 import { evaluateGroup } from './evaluate';
-import { GroupStats, SPAN } from './group-stats';
+import { GroupStats } from './group-stats';
 import { fileKey, nameOffsets, printableTail } from './shapes';
 import type { CallHint, FieldHint, HintDirection, HintFrame, HintGroup, HintReport } from './types';
 

@@ -220,7 +220,10 @@ export class GroupStats {
     const base = (t * SPAN + k) * DIFF_BINS;
     for (let d = 0; d < DIFF_BINS; d++) {
       const c = this.lenDiff[base + d];
-      if (c > best) (best = c), (at = d);
+      if (c > best) {
+        best = c;
+        at = d;
+      }
     }
     return { add: at - DIFF, count: best };
   }

@@ -383,7 +383,7 @@ export function inspectHead(head: Uint8Array, format: CaptureFormat, opts: Reade
     },
   };
   let reader: VcdReader | CsvReader | RawReader;
-  let input = head;
+  let input: Uint8Array;
   if (format === 'vcd') {
     reader = new VcdReader(opts, sink);
     input = wholeLines(head);

@@ -5,9 +5,10 @@ import { OctetReader } from './octets';
 import { RawReader } from './raw';
 import { VcdReader } from './vcd';
 
-export { detectFormat, inspectHead } from './detect';
+export { checkHead, detectFormat, inspectHead } from './detect';
 export type { HeadChannel, HeadInspection } from './detect';
 export { CsvReader, FrameLogReader, OctetReader, RawReader, VcdReader };
+export { SAMPLE_COLUMN, TIME_COLUMN } from './csv';
 
 /**
  * The reader for a format. vcd/csv/raw report to a TransitionSink, 'octets' to a LineBitSink,

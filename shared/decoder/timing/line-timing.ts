@@ -456,7 +456,6 @@ class Finisher {
   /** passes over each waiting station, and the skipped visits they make */
   private resolveWaits(pos: Int32Array, m: number, rounds: { of: Int32Array; starts: Float64Array }): { waits: Wait[]; skipped: SkippedVisit[] } {
     const vs = this.vStation.data;
-    const vStart = this.vStart.data;
     const vEnd = this.vEnd.data;
     const skipped: SkippedVisit[] = [];
     const periods = new Float64Array(Math.max(0, rounds.starts.length - 1));

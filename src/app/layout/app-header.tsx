@@ -2,7 +2,7 @@ import { Link, NavLink, useMatch, useNavigate } from 'react-router';
 import { Button } from '../../components/button';
 import { LogoMark } from '../../components/logo-mark';
 import { useRigsIfLoaded } from '../../features/rigs/api/get-rigs';
-import { useSession } from '../../features/session/api/get-session';
+import { useSession } from '../../lib/session';
 import { useSignOut } from '../../features/session/api/sign-out';
 import { ErrorNotice } from '../../components/notice';
 

@@ -21,6 +21,7 @@ import { ExchangeTable } from '../../features/round-trips/components/exchange-ta
 import { RoundTripsView } from '../../features/round-trips/components/round-trips-view';
 import { queryClient } from '../query-client';
 import { whenSignedIn } from './session-loaders';
+import { captureScope } from '../../lib/scope';
 
 // The call-layer views of a capture (round trips, recovered files, compare), mounted under the
 // capture route by router.tsx. Their view state (station, order, open file, B capture) lives in
@@ -64,7 +65,7 @@ function CallLayerGate({ children }: { children: ReactNode }) {
     if (seen.current !== null && runId !== null && seen.current !== runId) {
       void queryClient.invalidateQueries({ queryKey: exchangeKeys.capture(rigId, captureId) });
       void queryClient.invalidateQueries({ queryKey: recoveredFileKeys.capture(rigId, captureId) });
-      void queryClient.invalidateQueries({ queryKey: comparisonKeys.all });
+      void queryClient.invalidateQueries({ queryKey: comparisonKeys.rig(rigId) });
     }
     seen.current = runId;
   }, [runId, rigId, captureId]);
@@ -74,7 +75,7 @@ function CallLayerGate({ children }: { children: ReactNode }) {
       <Card>
         <CardTitle>Not decoded yet</CardTitle>
         <p className="mb-4 text-sm text-muted">Exchanges and files come from the decoded frames. Set this capture's channel roles and decode it first.</p>
-        <ButtonLink to={`/rigs/${rigId}/captures/${captureId}/setup`}>Channel roles and decode</ButtonLink>
+        <ButtonLink to={`${captureScope(rigId, captureId).page}/setup`}>Channel roles and decode</ButtonLink>
       </Card>
     );
   }
@@ -110,7 +111,7 @@ function RoundTripsRoute() {
 
 function FileExchanges({ rigId, captureId, fileId }: { rigId: number; captureId: number; fileId: number }) {
   const list = useExchanges(rigId, captureId, { file: fileId });
-  const base = `/rigs/${rigId}/captures/${captureId}`;
+  const base = `${captureScope(rigId, captureId).page}`;
   if (list.error) return <ErrorNotice error={list.error} />;
   if (!list.data) return <p className="text-sm text-muted">Loading exchanges…</p>;
   return (

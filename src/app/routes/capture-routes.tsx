@@ -26,6 +26,7 @@ import { frameCallQueryOptions } from '../../features/inspector/api/get-frame-ca
 import { waveformQueryOptions } from '../../features/inspector/api/get-waveform';
 import { queryClient } from '../query-client';
 import { whenSignedIn } from './session-loaders';
+import { captureScope } from '../../lib/scope';
 
 function idFrom(value: string | undefined, what: string): number {
   const parsed = idParam.safeParse(value);
@@ -151,7 +152,7 @@ function NotDecodedYet({ rigId, captureId }: { rigId: number; captureId: number 
     <Card>
       <CardTitle>Not decoded yet</CardTitle>
       <p className="mb-4 text-sm text-muted">This capture has no frames yet. Set its channel roles and decode it first.</p>
-      <ButtonLink to={`/rigs/${rigId}/captures/${captureId}/setup`}>Channel roles and decode</ButtonLink>
+      <ButtonLink to={`${captureScope(rigId, captureId).page}/setup`}>Channel roles and decode</ButtonLink>
     </Card>
   );
 }
@@ -181,7 +182,7 @@ export function FrameRoute() {
   const capture = useCapture(rigId, captureId);
   const location = useLocation();
   const fromTimeline = (location.state as { timelineSearch?: string } | null)?.timelineSearch;
-  const backTo = `/rigs/${rigId}/captures/${captureId}/timeline${fromTimeline ?? `?sel=${frameId}`}`;
+  const backTo = `${captureScope(rigId, captureId).page}/timeline${fromTimeline ?? `?sel=${frameId}`}`;
   const octetCount = useFrame(rigId, captureId, frameId).frame.hexAll.length / 2;
   return (
     <div className="space-y-4">

@@ -8,6 +8,7 @@ import { faultsQueryOptions, useFaults } from '../../features/fault-desk/api/get
 import { FaultDeskView } from '../../features/fault-desk/components/fault-desk-view';
 import { queryClient } from '../query-client';
 import { whenSignedIn } from './session-loaders';
+import { captureScope } from '../../lib/scope';
 
 // The fault desk of a capture (…/faults?cause=&offset=), mounted under the capture route by router.tsx.
 // The chosen group and page live in the search params.
@@ -39,7 +40,7 @@ function FaultDeskRoute() {
   const { cause, offset } = viewState(search);
   const capture = useCapture(rigId, captureId);
   const desk = useFaults(rigId, captureId, cause, offset);
-  const base = `/rigs/${rigId}/captures/${captureId}`;
+  const base = `${captureScope(rigId, captureId).page}`;
   if (capture.status !== 'decoded') {
     return (
       <Card>

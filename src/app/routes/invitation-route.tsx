@@ -1,7 +1,7 @@
 import { useQueryClient } from '@tanstack/react-query';
 import { useNavigate } from 'react-router';
 import { AcceptInvitationPage } from '../../features/invitations/components/accept-invitation-page';
-import { replaceSession } from '../../features/session/api/get-session';
+import { replaceSession } from '../../lib/session';
 
 /** Accepting signs the invitee in: the session feature takes the new user, then we open the rig. */
 export function InvitationRoute() {

@@ -1,6 +1,6 @@
 import { data, Outlet, useParams, type LoaderFunctionArgs } from 'react-router';
 import { idParam } from '../../../shared/schemas';
-import { useSession } from '../../features/session/api/get-session';
+import { useSession } from '../../lib/session';
 import { rigsQueryOptions } from '../../features/rigs/api/get-rigs';
 import { rigQueryOptions } from '../../features/rigs/api/get-rig';
 import { membersQueryOptions } from '../../features/rigs/api/members';

@@ -1,5 +1,5 @@
 import { redirect, type LoaderFunctionArgs } from 'react-router';
-import { sessionQueryOptions } from '../../features/session/api/get-session';
+import { sessionQueryOptions } from '../../lib/session';
 import { safeNext } from '../../lib/safe-next';
 import { queryClient } from '../query-client';
 

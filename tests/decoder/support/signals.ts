@@ -1,14 +1,5 @@
-import { BitRecovery } from '../../../shared/decoder/bits';
-import type { Waveform } from '../../../shared/decoder/encode/waveform';
-import { seededRandom } from '../../../shared/decoder/encode/waveform';
-import type {
-  BitRecoveryOptions,
-  CaptureReader,
-  ChannelInfo,
-  LineEvent,
-  Transitions,
-  TransitionSink,
-} from '../../../shared/decoder/types';
+import { BitRecovery, type BitRecoveryOptions, type CaptureReader, type ChannelInfo, type LineEvent, type Transitions, type TransitionSink } from '../../../shared/decoder';
+import { type Waveform, seededRandom } from '../../../shared/decoder/encode';
 
 export interface Recorded {
   channels: ChannelInfo[];

@@ -1,10 +1,11 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { DecodeJob } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { captureKeys, capturePath } from './capture-keys';
+import { captureKeys } from './capture-keys';
+import { captureScope } from '../../../lib/scope';
 
 export function fetchJob(rigId: number, captureId: number): Promise<DecodeJob> {
-  return api(`${capturePath(rigId, captureId)}/job`);
+  return api(`${captureScope(rigId, captureId).path}/job`);
 }
 
 export function isJobActive(job: DecodeJob | null | undefined): boolean {
@@ -40,9 +41,9 @@ function useJobMutation(rigId: number, captureId: number, send: () => Promise<De
 }
 
 export function useStartDecode(rigId: number, captureId: number) {
-  return useJobMutation(rigId, captureId, () => api(`${capturePath(rigId, captureId)}/decode`, { method: 'POST' }));
+  return useJobMutation(rigId, captureId, () => api(`${captureScope(rigId, captureId).path}/decode`, { method: 'POST' }));
 }
 
 export function useCancelDecode(rigId: number, captureId: number) {
-  return useJobMutation(rigId, captureId, () => api(`${capturePath(rigId, captureId)}/job/cancel`, { method: 'POST' }));
+  return useJobMutation(rigId, captureId, () => api(`${captureScope(rigId, captureId).path}/job/cancel`, { method: 'POST' }));
 }

@@ -1,7 +1,8 @@
 import { queryOptions, useQuery, useSuspenseQuery } from '@tanstack/react-query';
 import type { CaptureSummaryRow } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { captureKeys, capturePath } from './capture-keys';
+import { captureKeys } from './capture-keys';
+import { captureScope } from '../../../lib/scope';
 
 export function fetchCaptures(rigId: number): Promise<CaptureSummaryRow[]> {
   return api(`/api/rigs/${rigId}/captures`);
@@ -17,7 +18,7 @@ export function useCaptures(rigId: number) {
 }
 
 export function fetchCapture(rigId: number, captureId: number): Promise<CaptureSummaryRow> {
-  return api(capturePath(rigId, captureId));
+  return api(captureScope(rigId, captureId).path);
 }
 
 export function captureQueryOptions(rigId: number, captureId: number) {

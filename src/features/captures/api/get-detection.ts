@@ -1,10 +1,11 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
 import type { Detection } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { captureKeys, capturePath } from './capture-keys';
+import { captureKeys } from './capture-keys';
+import { captureScope } from '../../../lib/scope';
 
 export function fetchDetection(rigId: number, captureId: number): Promise<Detection> {
-  return api(`${capturePath(rigId, captureId)}/detection`);
+  return api(`${captureScope(rigId, captureId).path}/detection`);
 }
 
 export function detectionQueryOptions(rigId: number, captureId: number) {

@@ -1,10 +1,11 @@
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import type { CaptureSettingsInput, CaptureSummaryRow } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { captureKeys, capturePath } from './capture-keys';
+import { captureKeys } from './capture-keys';
+import { captureScope } from '../../../lib/scope';
 
 export function saveSettings(rigId: number, captureId: number, settings: CaptureSettingsInput): Promise<CaptureSummaryRow> {
-  return api(`${capturePath(rigId, captureId)}/settings`, { method: 'PUT', body: settings });
+  return api(`${captureScope(rigId, captureId).path}/settings`, { method: 'PUT', body: settings });
 }
 
 export function useSaveSettings(rigId: number, captureId: number) {

@@ -1,7 +1,7 @@
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import { useState } from 'react';
-import { apiErrorSchema, type CaptureSummaryRow, type SessionInfo } from '../../../../shared/schemas';
-import { api, ApiError } from '../../../lib/api';
+import { apiErrorSchema, type CaptureSummaryRow } from '../../../../shared/schemas';
+import { ApiError, withCsrfToken } from '../../../lib/api';
 import { captureKeys } from './capture-keys';
 
 export interface UploadProgress {
@@ -21,14 +21,14 @@ const uploadMessages: Record<number, string> = {
 export function uploadCapture(
   rigId: number,
   file: File,
-  csrfToken: string,
+  csrfToken: string | undefined,
   onProgress: (p: UploadProgress) => void,
   signal?: AbortSignal,
 ): Promise<CaptureSummaryRow> {
   return new Promise((resolve, reject) => {
     const xhr = new XMLHttpRequest();
     xhr.open('POST', `/api/rigs/${rigId}/captures`);
-    xhr.setRequestHeader('x-csrf-token', csrfToken);
+    if (csrfToken) xhr.setRequestHeader('x-csrf-token', csrfToken);
     xhr.setRequestHeader('accept', 'application/json');
     xhr.withCredentials = true;
     xhr.upload.onprogress = (e) => onProgress({ loaded: e.loaded, total: e.lengthComputable ? e.total : file.size });
@@ -53,27 +53,13 @@ export function uploadCapture(
   });
 }
 
-async function freshCsrfToken(): Promise<string> {
-  return (await api<SessionInfo>('/api/session')).csrfToken;
-}
-
-function isCsrfRejection(error: unknown): boolean {
-  return error instanceof ApiError && error.status === 403 && /csrf/i.test(error.message);
-}
-
 export function useUploadCapture(rigId: number) {
   const queryClient = useQueryClient();
   const [progress, setProgress] = useState<UploadProgress | null>(null);
   const mutation = useMutation({
     mutationFn: async (file: File) => {
       setProgress({ loaded: 0, total: file.size });
-      try {
-        return await uploadCapture(rigId, file, await freshCsrfToken(), setProgress);
-      } catch (error) {
-        // a token goes stale when the session is renewed; fetch a fresh one and try once more
-        if (!isCsrfRejection(error)) throw error;
-        return uploadCapture(rigId, file, await freshCsrfToken(), setProgress);
-      }
+      return withCsrfToken((token) => uploadCapture(rigId, file, token, setProgress));
     },
     onSuccess: (row) => {
       queryClient.setQueryData(captureKeys.detail(rigId, row.id), row);

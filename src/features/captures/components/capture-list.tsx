@@ -8,6 +8,7 @@ import { formatDateTime } from '../../../lib/format';
 import { useCaptures } from '../api/get-captures';
 import { DeleteCaptureButton } from './delete-capture-button';
 import { canCapture } from './permissions';
+import { captureScope } from '../../../lib/scope';
 
 const statusWords: Record<CaptureSummaryRow['status'], string> = {
   uploaded: 'needs channel roles',
@@ -20,7 +21,7 @@ const statusWords: Record<CaptureSummaryRow['status'], string> = {
 };
 
 function captureHref(rigId: number, c: CaptureSummaryRow): string {
-  return c.status === 'decoded' ? `/rigs/${rigId}/captures/${c.id}` : `/rigs/${rigId}/captures/${c.id}/setup`;
+  return c.status === 'decoded' ? `${captureScope(rigId, c.id).page}` : `${captureScope(rigId, c.id).page}/setup`;
 }
 
 export function CaptureList({ rig }: { rig: RigDetail }) {

@@ -1,9 +1,10 @@
 import { Link, NavLink } from 'react-router';
 import type { CaptureSummaryRow } from '../../../../shared/schemas';
+import { captureScope } from '../../../lib/scope';
 
 /** The capture's title bar and its views. */
 export function CaptureNav({ rigId, capture }: { rigId: number; capture: CaptureSummaryRow }) {
-  const base = `/rigs/${rigId}/captures/${capture.id}`;
+  const base = `${captureScope(rigId, capture.id).page}`;
   const tab = ({ isActive }: { isActive: boolean }) =>
     `-mb-px border-b-2 px-3 py-1.5 text-sm font-medium ${isActive ? 'border-flare-500 text-text' : 'border-transparent text-muted hover:text-text'}`;
   return (

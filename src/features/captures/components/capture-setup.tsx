@@ -16,6 +16,7 @@ import { DeleteCaptureButton } from './delete-capture-button';
 import { DecodeProgress } from './decode-progress';
 import { canCapture } from './permissions';
 import { SafetyPanel } from '../../../components/safety-panel';
+import { clearDecodedViews, captureScope } from '../../../lib/scope';
 
 const formatNames: Record<string, string> = {
   vcd: 'value change dump',
@@ -40,25 +41,26 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
   const current = job.data ?? capture.job;
   const active = isJobActive(current);
 
+  const state = current?.state;
   if (active) watched.current = true;
   useEffect(() => {
-    if (!current || active || !watched.current) return;
+    if (!state || active || !watched.current) return;
     let timer: number | undefined;
     let live = true;
     // the job we watched has an outcome: the capture's status and frame count changed with it
     void (async () => {
       await queryClient.fetchQuery({ ...captureQueryOptions(rig.id, captureId), staleTime: 0 });
       await queryClient.invalidateQueries({ queryKey: captureKeys.list(rig.id) });
-      // views of the decoded capture (overview, timeline, frames) key on [view, rigId, captureId, …]; a new decode replaces them all
-      queryClient.removeQueries({ predicate: (q) => q.queryKey[0] !== captureKeys.all[0] && q.queryKey[1] === rig.id && q.queryKey[2] === captureId });
+      // a new decode replaces every view of the decoded capture (and comparisons with it)
+      clearDecodedViews(queryClient, rig.id, captureId);
       // land on the overview, after the full bar has been seen for a moment
-      if (live && current.state === 'done') timer = window.setTimeout(() => navigate(`/rigs/${rig.id}/captures/${captureId}`), 700);
+      if (live && state === 'done') timer = window.setTimeout(() => navigate(`${captureScope(rig.id, captureId).page}`), 700);
     })();
     return () => {
       live = false;
       window.clearTimeout(timer);
     };
-  }, [current?.state, active, navigate, queryClient, rig.id, captureId]);
+  }, [state, active, navigate, queryClient, rig.id, captureId]);
 
   return (
     <div className="grid items-start gap-5 lg:grid-cols-[1fr_22rem]">
@@ -109,7 +111,7 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
           </ErrorNotice>
         ) : null}
         {current?.state === 'done' ? (
-          <ButtonLink to={`/rigs/${rig.id}/captures/${captureId}`}>Open the overview</ButtonLink>
+          <ButtonLink to={`${captureScope(rig.id, captureId).page}`}>Open the overview</ButtonLink>
         ) : null}
         {canCapture.remove(rig.myRole) ? (
           <Card className="border-danger/40">

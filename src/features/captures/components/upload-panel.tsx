@@ -8,6 +8,7 @@ import { isApiError } from '../../../lib/api';
 import { useUploadCapture } from '../api/upload-capture';
 import { DropZone } from './drop-zone';
 import { SafetyPanel } from '../../../components/safety-panel';
+import { captureScope } from '../../../lib/scope';
 
 /** The server's message as a sentence: one full stop at the end, whatever it came with. */
 function sentence(text: string): string {
@@ -23,7 +24,7 @@ export function UploadPanel({ rigId }: { rigId: number }) {
 
   function send(file: File) {
     if (file.size === 0) return;
-    upload.mutate(file, { onSuccess: (row) => navigate(`/rigs/${rigId}/captures/${row.id}/setup`) });
+    upload.mutate(file, { onSuccess: (row) => navigate(`${captureScope(rigId, row.id).page}/setup`) });
   }
 
   return (

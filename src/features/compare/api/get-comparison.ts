@@ -1,10 +1,11 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
 import type { CompareResult } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
+import { capturePairsKey } from '../../../lib/scope';
 
+/** Under the rig's capture pairs (lib/scope), so a finished decode of either capture clears the comparison. */
 export const comparisonKeys = {
-  all: ['comparisons'] as const,
-  rig: (rigId: number) => [...comparisonKeys.all, rigId] as const,
+  rig: (rigId: number) => [...capturePairsKey(rigId), 'comparison'] as const,
   pair: (rigId: number, a: number, b: number) => [...comparisonKeys.rig(rigId), a, b] as const,
 };
 

@@ -7,6 +7,7 @@ import { formatDelta, formatDuration, formatSeconds } from '../../../components/
 import { formatAddress } from '../../../lib/format';
 import { useComparison } from '../api/get-comparison';
 import { kindText, sortRows } from './compare-words';
+import { captureScope } from '../../../lib/scope';
 
 interface CompareViewProps {
   rig: RigDetail;
@@ -60,7 +61,7 @@ export function CompareView({ rig, capture, captures }: CompareViewProps) {
             </select>
           </label>
           {b !== null ? (
-            <Button variant="secondary" onClick={() => navigate(`/rigs/${rig.id}/captures/${b}/compare?with=${capture.id}`)}>
+            <Button variant="secondary" onClick={() => navigate(`${captureScope(rig.id, b).page}/compare?with=${capture.id}`)}>
               Swap A and B
             </Button>
           ) : null}
@@ -165,10 +166,10 @@ function CompareTableRow({ row, rig, result }: { row: CompareRow; rig: RigDetail
         <p className="text-xs text-muted">{station}</p>
       </td>
       <td className="py-2 pr-3">
-        <Side ex={row.a} href={row.a ? `/rigs/${rig.id}/captures/${result.a.captureId}/round-trips?station=${row.station.address}&ex=${row.a.id}` : null} differs={row.kind === 'answered-differently'} />
+        <Side ex={row.a} href={row.a ? `${captureScope(rig.id, result.a.captureId).page}/round-trips?station=${row.station.address}&ex=${row.a.id}` : null} differs={row.kind === 'answered-differently'} />
       </td>
       <td className="py-2 pr-3">
-        <Side ex={row.b} href={row.b ? `/rigs/${rig.id}/captures/${result.b.captureId}/round-trips?station=${row.station.address}&ex=${row.b.id}` : null} differs={row.kind === 'answered-differently'} />
+        <Side ex={row.b} href={row.b ? `${captureScope(rig.id, result.b.captureId).page}/round-trips?station=${row.station.address}&ex=${row.b.id}` : null} differs={row.kind === 'answered-differently'} />
       </td>
       <td className="py-2 text-xs">
         <p className="font-medium">{kindText(row)}</p>

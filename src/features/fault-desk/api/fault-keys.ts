@@ -1,9 +1,9 @@
 import type { DamageCauseName } from '../../../../shared/schemas';
+import { captureScope } from '../../../lib/scope';
 
-/** The fault desk of one capture; keys start [view, rigId, captureId] so a finished decode can clear them together. */
+/** The fault desk of one capture, under its decoded views (captureScope) so a finished decode clears it. */
 export const faultKeys = {
-  all: ['fault-desk'] as const,
-  capture: (rigId: number, captureId: number) => [...faultKeys.all, rigId, captureId] as const,
+  capture: (rigId: number, captureId: number) => [...captureScope(rigId, captureId).decoded, 'fault-desk'] as const,
   page: (rigId: number, captureId: number, cause: DamageCauseName | null, offset: number) => [...faultKeys.capture(rigId, captureId), cause, offset] as const,
 };
 

@@ -2,11 +2,12 @@ import { keepPreviousData, queryOptions, useQuery } from '@tanstack/react-query'
 import type { DamageCauseName, FaultDeskView } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
 import { FAULT_PAGE, faultKeys } from './fault-keys';
+import { captureScope } from '../../../lib/scope';
 
 export function fetchFaults(rigId: number, captureId: number, cause: DamageCauseName | null, offset: number): Promise<FaultDeskView> {
   const params = new URLSearchParams({ limit: String(FAULT_PAGE), offset: String(offset) });
   if (cause) params.set('cause', cause);
-  return api(`/api/rigs/${rigId}/captures/${captureId}/faults?${params}`);
+  return api(`${captureScope(rigId, captureId).path}/faults?${params}`);
 }
 
 export function faultsQueryOptions(rigId: number, captureId: number, cause: DamageCauseName | null, offset: number) {

@@ -1,13 +1,15 @@
-/** Field maps of one rig; the preview's capture lists and frames are keyed under the same rig. */
+import { captureListKey, captureScope } from '../../../lib/scope';
+/** Field maps of one rig, and the preview's capture lists and frames. */
 export const fieldMapKeys = {
   all: ['field-maps'] as const,
   rig: (rigId: number) => [...fieldMapKeys.all, rigId] as const,
   list: (rigId: number) => [...fieldMapKeys.rig(rigId), 'list'] as const,
   detail: (rigId: number, mapId: number) => [...fieldMapKeys.rig(rigId), 'map', mapId] as const,
   version: (rigId: number, mapId: number, version: number | 'latest') => [...fieldMapKeys.detail(rigId, mapId), version] as const,
-  previewCaptures: (rigId: number) => [...fieldMapKeys.rig(rigId), 'preview-captures'] as const,
-  previewFrames: (rigId: number, captureId: number) => [...fieldMapKeys.rig(rigId), 'preview-frames', captureId] as const,
-  previewFrame: (rigId: number, captureId: number, frameId: number) => [...fieldMapKeys.rig(rigId), 'preview-frame', captureId, frameId] as const,
+  // the preview reads captures: its keys sit under the rig's capture lists and the capture's decoded views (lib/scope)
+  previewCaptures: (rigId: number) => [...captureListKey(rigId), 'field-map-preview'] as const,
+  previewFrames: (rigId: number, captureId: number) => [...captureScope(rigId, captureId).decoded, 'field-map-preview', 'frames'] as const,
+  previewFrame: (rigId: number, captureId: number, frameId: number) => [...captureScope(rigId, captureId).decoded, 'field-map-preview', 'frame', frameId] as const,
 };
 
 export function fieldMapsPath(rigId: number): string {

@@ -2,6 +2,7 @@ import { queryOptions, useQuery, type QueryClient } from '@tanstack/react-query'
 import type { CaptureSummaryRow, FrameDetail, TimelineFrame, TimelinePage } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
 import { fieldMapKeys } from './field-map-keys';
+import { captureScope } from '../../../lib/scope';
 
 // The preview reads frames through the capture and timeline APIs: the rig's captures, the first
 // I frames of one, and the chosen frame's octets.
@@ -26,7 +27,7 @@ export function previewFramesQueryOptions(rigId: number, captureId: number | nul
   return queryOptions({
     queryKey: fieldMapKeys.previewFrames(rigId, captureId ?? 0),
     queryFn: async () => {
-      const page = await api<TimelinePage>(`/api/rigs/${rigId}/captures/${captureId}/timeline?kind=I&status=ok&limit=20&events=0`);
+      const page = await api<TimelinePage>(`${captureScope(rigId, captureId ?? 0).path}/timeline?kind=I&status=ok&limit=20&events=0`);
       return page.rows.filter((r): r is TimelineFrame => r.type === 'frame' && r.infoLength > 0);
     },
   });
@@ -52,7 +53,7 @@ export function hexToBytes(hex: string): Uint8Array {
 }
 
 export async function fetchPreviewFrame(rigId: number, captureId: number, frameId: number): Promise<PreviewFrame> {
-  const detail = await api<FrameDetail>(`/api/rigs/${rigId}/captures/${captureId}/frames/${frameId}`);
+  const detail = await api<FrameDetail>(`${captureScope(rigId, captureId).path}/frames/${frameId}`);
   const bytes = hexToBytes(detail.frame.hexAll);
   // frame.hex is address..information without the FCS, so the information field is its tail
   const payload = detail.frame.hex.length >> 1;

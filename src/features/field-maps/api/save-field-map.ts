@@ -1,6 +1,6 @@
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import type { FieldMapDetail } from '../../../../shared/schemas';
-import type { FieldMapInput } from '../../../../shared/decoder/calls/field-map';
+import type { FieldMapInput } from '../../../../shared/decoder/calls';
 import { api } from '../../../lib/api';
 import { fieldMapKeys, fieldMapsPath } from './field-map-keys';
 

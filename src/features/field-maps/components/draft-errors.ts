@@ -1,4 +1,4 @@
-import type { FieldMapError } from '../../../../shared/decoder/calls/field-map';
+import type { FieldMapError } from '../../../../shared/decoder/calls';
 
 /** Messages keyed by document path ("layouts[2].fields[3].length"). */
 export type ErrorsByPath = Record<string, string>;

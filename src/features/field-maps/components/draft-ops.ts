@@ -1,4 +1,4 @@
-import type { FieldMapInput } from '../../../../shared/decoder/calls/field-map';
+import type { FieldMapInput } from '../../../../shared/decoder/calls';
 
 // Immutable edits of the draft document; the editor keeps the whole document in one state value
 // so validation and the preview always see what the user sees.

@@ -1,4 +1,4 @@
-import type { FieldMapInput } from '../../../../shared/decoder/calls/field-map';
+import type { FieldMapInput } from '../../../../shared/decoder/calls';
 
 type LayoutIn = FieldMapInput['layouts'][number];
 type FieldIn = LayoutIn['fields'][number];

@@ -1,6 +1,5 @@
 import { useEffect, useMemo, useRef, useState, type ReactNode } from 'react';
-import type { FieldMapInput, FieldMap } from '../../../../shared/decoder/calls/field-map';
-import { validateFieldMap } from '../../../../shared/decoder/calls/field-map';
+import { type FieldMapInput, type FieldMap, validateFieldMap } from '../../../../shared/decoder/calls';
 import type { RigDetail } from '../../../../shared/schemas';
 import { Button, ButtonLink } from '../../../components/button';
 import { Card, CardTitle } from '../../../components/card';

@@ -1,5 +1,5 @@
 import { useState, type ReactNode } from 'react';
-import { FIELD_ROLES, FIELD_TYPES, FIXED_SIZE } from '../../../../shared/decoder/calls/field-map';
+import { FIELD_ROLES, FIELD_TYPES, FIXED_SIZE } from '../../../../shared/decoder/calls';
 import { Button } from '../../../components/button';
 import { errorAt, errorsUnder, type ErrorsByPath } from './draft-errors';
 import type { FieldIn } from './draft-ops';

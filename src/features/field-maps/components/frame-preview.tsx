@@ -1,6 +1,5 @@
 import { useMemo, useState } from 'react';
-import { applyFieldMap, type CallDirection } from '../../../../shared/decoder/calls/apply';
-import type { FieldMap } from '../../../../shared/decoder/calls/field-map';
+import { applyFieldMap, type CallDirection, type FieldMap } from '../../../../shared/decoder/calls';
 import { ErrorNotice } from '../../../components/notice';
 import { decodedNewestFirst, usePreviewCaptures, usePreviewFrame, usePreviewFrames } from '../api/get-preview-frame';
 import { swatch } from './field-colours';

@@ -1,5 +1,5 @@
 import type { ReactNode } from 'react';
-import type { FieldMapInput } from '../../../../shared/decoder/calls/field-map';
+import type { FieldMapInput } from '../../../../shared/decoder/calls';
 import { Button } from '../../../components/button';
 import { errorAt, type ErrorsByPath } from './draft-errors';
 import { addField, moveField, removeField, updateField, updateLayout, type LayoutIn } from './draft-ops';

@@ -1,5 +1,5 @@
 import { Fragment, type ReactNode } from 'react';
-import type { FieldMapInput } from '../../../../shared/decoder/calls/field-map';
+import type { FieldMapInput } from '../../../../shared/decoder/calls';
 import { describeValue } from './field-map-diff';
 import { swatch } from './field-colours';
 import { valueNamesToText } from './value-names-text';

@@ -1,4 +1,4 @@
-import type { FieldMapInput } from '../../../../shared/decoder/calls/field-map';
+import type { FieldMapInput } from '../../../../shared/decoder/calls';
 import { errorAt, type ErrorsByPath } from './draft-errors';
 
 type CallCode = NonNullable<FieldMapInput['callCode']>;

@@ -16,6 +16,7 @@ import { lineBits, linePositionOf, octetsOf } from './frame-bits';
 import { HexView, type HexSpan } from './hex-view';
 import { LinkDecode } from './link-decode';
 import { WaveformView } from './waveform-view';
+import { captureScope } from '../../../lib/scope';
 
 /** context bits either side of the frame in the waveform: enough to show both flags (the loader prefetches the same) */
 export const WAVEFORM_CONTEXT_BITS = 24;
@@ -49,7 +50,7 @@ export function FrameInspector({ rigId, captureId, frameId, backTo, hasSamples }
   const octets = octetsOf(frame.hexAll);
   const bits = lineBits(frame);
   const suspectLine = frame.flippedBit === null ? null : linePositionOf(bits, frame.flippedBit);
-  const base = `/rigs/${rigId}/captures/${captureId}`;
+  const base = `${captureScope(rigId, captureId).page}`;
   const spacedHex = octets.map((o) => o.toString(16).padStart(2, '0')).join(' ');
 
   async function copyText(label: string, text: string) {

@@ -102,12 +102,11 @@ export function WaveformView({ window: w, frame, bits, suspect }: Props) {
           const high = top + 4;
           const low = top + LANE - 14;
           let d = '';
-          let level = ch.changes[0]?.[1] ?? 0;
+          const level = ch.changes[0]?.[1] ?? 0;
           d += `M${x(w.fromSample)},${level ? high : low}`;
           for (const [s, v] of ch.changes) {
             const px = x(Math.max(w.fromSample, Math.min(w.toSample, s)));
             d += `H${px}V${v ? high : low}`;
-            level = v;
           }
           d += `H${x(w.toSample)}`;
           return (

@@ -3,7 +3,7 @@ import { Card } from '../../../components/card';
 import { ErrorNotice } from '../../../components/notice';
 import { isApiError } from '../../../lib/api';
 import { formatDateTime } from '../../../lib/format';
-import { useSession } from '../../session/api/get-session';
+import { useSession } from '../../../lib/session';
 import { useMailbox } from '../api/get-mailbox';
 import { LinkifiedText } from './linkified-text';
 

@@ -9,6 +9,7 @@ import { formatDateTime } from '../../../lib/format';
 import { serverFieldErrors } from '../../../lib/form';
 import { useDeleteNote } from '../api/delete-note';
 import { useUpdateNote } from '../api/update-note';
+import { captureScope } from '../../../lib/scope';
 
 /** "bytes 2–3 of frame 14 on rx", "frame 14 on rx", "the capture" */
 export function pinLabel(note: Note): string {
@@ -120,7 +121,7 @@ export function NoteCard({
 export function NoteItem({ rigId, captureId, note, linkFrame = false }: { rigId: number; captureId: number; note: Note; linkFrame?: boolean }) {
   const update = useUpdateNote(rigId, captureId);
   const remove = useDeleteNote(rigId, captureId);
-  const frameLink = linkFrame && note.target.frameId !== null ? `/rigs/${rigId}/captures/${captureId}/frames/${note.target.frameId}` : null;
+  const frameLink = linkFrame && note.target.frameId !== null ? `${captureScope(rigId, captureId).page}/frames/${note.target.frameId}` : null;
   const pin = (
     <>
       <span>·</span>

@@ -1,14 +1,14 @@
 import { queryOptions, useSuspenseQuery } from '@tanstack/react-query';
 import type { CaptureOverview } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
+import { captureScope } from '../../../lib/scope';
 
 export const overviewKeys = {
-  all: ['overview'] as const,
-  capture: (rigId: number, captureId: number) => [...overviewKeys.all, rigId, captureId] as const,
+  capture: (rigId: number, captureId: number) => [...captureScope(rigId, captureId).decoded, 'overview'] as const,
 };
 
 export function fetchOverview(rigId: number, captureId: number): Promise<CaptureOverview> {
-  return api(`/api/rigs/${rigId}/captures/${captureId}/overview`);
+  return api(`${captureScope(rigId, captureId).path}/overview`);
 }
 
 export function overviewQueryOptions(rigId: number, captureId: number) {

@@ -2,6 +2,7 @@ import { queryOptions, useQueries, useQuery } from '@tanstack/react-query';
 import type { ExchangeStats } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
 import { overviewKeys } from './get-overview';
+import { captureScope } from '../../../lib/scope';
 
 /** Bins per turnaround histogram: fine enough to see a second hump, coarse enough for a small card. */
 const BINS = 20;
@@ -15,7 +16,7 @@ export const turnaroundKeys = {
 export function fetchTurnaround(rigId: number, captureId: number, station: number | null): Promise<ExchangeStats> {
   const params = new URLSearchParams({ bins: String(BINS) });
   if (station !== null) params.set('station', String(station));
-  return api(`/api/rigs/${rigId}/captures/${captureId}/exchanges/stats?${params}`);
+  return api(`${captureScope(rigId, captureId).path}/exchanges/stats?${params}`);
 }
 
 export function turnaroundQueryOptions(rigId: number, captureId: number, station: number | null) {

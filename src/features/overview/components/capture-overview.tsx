@@ -9,6 +9,7 @@ import { BarList } from './bar-list';
 import { FramesOverTimeChart } from './frames-over-time-chart';
 import { GapHistogram } from './gap-histogram';
 import { TurnaroundHistograms } from './turnaround-histograms';
+import { captureScope } from '../../../lib/scope';
 
 const statuses = ['ok', 'bad-fcs', 'abort', 'short', 'residue'] as const;
 const directionWords = { 'to-server': 'station → server', 'from-server': 'server → station', unknown: 'direction not set' } as const;
@@ -28,7 +29,7 @@ export function CaptureOverview({ rigId, captureId }: { rigId: number; captureId
   const o: Overview = useOverview(rigId, captureId);
   const total = statuses.reduce((n, s) => n + (o.byStatus[s] ?? 0), 0);
   const damaged = total - (o.byStatus.ok ?? 0);
-  const timeline = `/rigs/${rigId}/captures/${captureId}/timeline`;
+  const timeline = `${captureScope(rigId, captureId).page}/timeline`;
   return (
     <div className="space-y-5">
       <div className="grid gap-3 sm:grid-cols-2 lg:grid-cols-5" data-testid="overview-stats">
@@ -124,7 +125,7 @@ export function CaptureOverview({ rigId, captureId }: { rigId: number; captureId
       </Card>
       <Card>
         <CardTitle>Turnaround per station</CardTitle>
-        <TurnaroundHistograms rigId={rigId} captureId={captureId} roundTripsHref={`/rigs/${rigId}/captures/${captureId}/round-trips`} />
+        <TurnaroundHistograms rigId={rigId} captureId={captureId} roundTripsHref={`${captureScope(rigId, captureId).page}/round-trips`} />
       </Card>
     </div>
   );

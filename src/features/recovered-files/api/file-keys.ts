@@ -1,12 +1,12 @@
+import { captureScope } from '../../../lib/scope';
 export const recoveredFileKeys = {
-  all: ['recovered-files'] as const,
-  capture: (rigId: number, captureId: number) => [...recoveredFileKeys.all, rigId, captureId] as const,
+  capture: (rigId: number, captureId: number) => [...captureScope(rigId, captureId).decoded, 'recovered-files'] as const,
   list: (rigId: number, captureId: number) => [...recoveredFileKeys.capture(rigId, captureId), 'list'] as const,
   detail: (rigId: number, captureId: number, fileId: number) => [...recoveredFileKeys.capture(rigId, captureId), 'detail', fileId] as const,
 };
 
 export function filesPath(rigId: number, captureId: number): string {
-  return `/api/rigs/${rigId}/captures/${captureId}/files`;
+  return `${captureScope(rigId, captureId).path}/files`;
 }
 
 /** The API answers the file's bytes as an attachment; a plain link downloads it. */

@@ -1,16 +1,15 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
 import type { CaptureCallLayer } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { callsPath } from './exchange-keys';
+import { captureScope } from '../../../lib/scope';
 
 /** The capture's call layer: chosen field map, visible run, pending run. */
 export const callLayerKeys = {
-  all: ['call-layer'] as const,
-  capture: (rigId: number, captureId: number) => [...callLayerKeys.all, rigId, captureId] as const,
+  capture: (rigId: number, captureId: number) => [...captureScope(rigId, captureId).decoded, 'call-layer'] as const,
 };
 
 export function fetchCallLayer(rigId: number, captureId: number): Promise<CaptureCallLayer> {
-  return api(`${callsPath(rigId, captureId)}/field-map`);
+  return api(`${captureScope(rigId, captureId).path}/field-map`);
 }
 
 export function callLayerQueryOptions(rigId: number, captureId: number) {

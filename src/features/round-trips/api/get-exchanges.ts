@@ -1,7 +1,8 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
 import type { ExchangePage, ExchangeRow } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { callsPath, exchangeKeys, type ExchangeListQuery } from './exchange-keys';
+import { exchangeKeys, type ExchangeListQuery } from './exchange-keys';
+import { captureScope } from '../../../lib/scope';
 
 /** Enough for any session a person reads as a ladder; past it the view says how many it left out. */
 export const EXCHANGE_READ_LIMIT = 20_000;
@@ -15,13 +16,13 @@ export interface ExchangeList {
 export async function fetchExchanges(rigId: number, captureId: number, query: ExchangeListQuery, signal?: AbortSignal): Promise<ExchangeList> {
   const rows: ExchangeRow[] = [];
   let cursor: string | null = null;
-  let total = 0;
+  let total: number;
   do {
     const params = new URLSearchParams({ limit: '1000', sort: 'time' });
     if (query.station?.length) params.set('station', query.station.join(','));
     if (query.file !== undefined) params.set('file', String(query.file));
     if (cursor) params.set('cursor', cursor);
-    const page: ExchangePage = await api(`${callsPath(rigId, captureId)}/exchanges?${params}`, { signal });
+    const page: ExchangePage = await api(`${captureScope(rigId, captureId).path}/exchanges?${params}`, { signal });
     rows.push(...page.rows);
     total = page.total;
     cursor = page.nextCursor;
@@ -46,5 +47,5 @@ export function exchangeExportUrl(rigId: number, captureId: number, query: Excha
   if (query.station?.length) params.set('station', query.station.join(','));
   if (query.file !== undefined) params.set('file', String(query.file));
   const q = params.toString();
-  return `${callsPath(rigId, captureId)}/exchanges/export.${format}${q ? `?${q}` : ''}`;
+  return `${captureScope(rigId, captureId).path}/exchanges/export.${format}${q ? `?${q}` : ''}`;
 }

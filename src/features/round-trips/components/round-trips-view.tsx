@@ -14,6 +14,7 @@ import { exchangeOrderLabels, exchangeOrders, orderExchanges, parseExchangeOrder
 import { ExchangeTable } from './exchange-table';
 import { RttHistogram } from './rtt-histogram';
 import { RttStats } from './rtt-stats';
+import { captureScope } from '../../../lib/scope';
 
 /** exchanges drawn in one ladder page: enough to follow a boot, small enough to read */
 const LADDER_PAGE = 24;
@@ -39,7 +40,7 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
   // the exchange to bring into view once its ladder page is drawn: the one in the link at first, later the one asked for
   const [reveal, setReveal] = useState<number | null>(selectedId);
 
-  const base = `/rigs/${rig.id}/captures/${captureId}`;
+  const base = `${captureScope(rig.id, captureId).page}`;
   const frameHref = (id: number) => `${base}/frames/${id}`;
   const timelineHref = (row: ExchangeRow) => `${base}/timeline${timelineSearchFor(row)}`;
 
@@ -58,6 +59,7 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
   }
 
   const drawn = exchanges.data !== undefined;
+  // eslint-disable-next-line react-hooks/exhaustive-deps -- after every render on purpose: the band may be drawn a render or two after the data arrives
   useEffect(() => {
     if (reveal === null || !drawn) return;
     const band = document.querySelector(`[data-exchange="${reveal}"]`);

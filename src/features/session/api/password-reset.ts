@@ -1,8 +1,8 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
 import type { NewPasswordInput, PasswordResetPreview, ResetRequestInput, SignInResult } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { replaceSession } from './get-session';
-import { sessionKeys } from './session-keys';
+import { replaceSession } from '../../../lib/session';
+import { sessionKeys } from '../../../lib/session-keys';
 
 export function requestPasswordReset(input: ResetRequestInput): Promise<void> {
   return api('/api/password-resets', { method: 'POST', body: input });

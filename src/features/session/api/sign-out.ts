@@ -1,7 +1,7 @@
 import { useMutation, useQueryClient } from '@tanstack/react-query';
 import type { SignOutResult } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { replaceSession } from './get-session';
+import { replaceSession } from '../../../lib/session';
 
 export function signOut(): Promise<SignOutResult> {
   return api('/api/session', { method: 'DELETE' });

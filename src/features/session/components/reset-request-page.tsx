@@ -6,7 +6,7 @@ import { CenteredPage } from '../../../components/centered-page';
 import { TextField } from '../../../components/field';
 import { ErrorNotice, SuccessNotice } from '../../../components/notice';
 import { parseWith, readForm, serverFieldErrors, type FieldErrors } from '../../../lib/form';
-import { useSession } from '../api/get-session';
+import { useSession } from '../../../lib/session';
 import { useRequestPasswordReset } from '../api/password-reset';
 
 export function ResetRequestPage() {

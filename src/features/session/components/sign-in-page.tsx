@@ -8,7 +8,7 @@ import { ErrorNotice } from '../../../components/notice';
 import { RoleBadge } from '../../../components/role-badge';
 import { isApiError } from '../../../lib/api';
 import { parseWith, serverFieldErrors, type FieldErrors } from '../../../lib/form';
-import { useSession } from '../api/get-session';
+import { useSession } from '../../../lib/session';
 import { useSignIn } from '../api/sign-in';
 import { safeNext } from '../../../lib/safe-next';
 

@@ -2,7 +2,8 @@ import { useInfiniteQuery } from '@tanstack/react-query';
 import { useEffect, useMemo } from 'react';
 import type { ExchangePage, ExchangeRow } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { timelineBase, timelineKeys } from './timeline-keys';
+import { timelineKeys } from './timeline-keys';
+import { captureScope } from '../../../lib/scope';
 
 const PAGE = 1000;
 /**
@@ -43,7 +44,7 @@ function fetchExchangePage(rigId: number, captureId: number, stations: number[],
   const params = new URLSearchParams({ limit: String(PAGE), sort: 'time' });
   if (stations.length) params.set('station', stations.join(','));
   if (cursor) params.set('cursor', cursor);
-  return api(`${timelineBase(rigId, captureId)}/exchanges?${params}`, { signal });
+  return api(`${captureScope(rigId, captureId).path}/exchanges?${params}`, { signal });
 }
 
 /**

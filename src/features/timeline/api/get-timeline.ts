@@ -2,7 +2,8 @@ import { infiniteQueryOptions, keepPreviousData, queryOptions, useInfiniteQuery,
 import type { TimelinePage, TimelineRow } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
 import { filterSearch, type TimelineFilters } from './timeline-filters';
-import { timelineBase, timelineKeys } from './timeline-keys';
+import { timelineKeys } from './timeline-keys';
+import { captureScope } from '../../../lib/scope';
 
 export const PAGE_ROWS = 1000;
 /** the first page only fills the window and a little more, so the list paints at once; later pages are full */
@@ -32,7 +33,7 @@ export async function fetchTimelinePage(
   q.set('limit', String(param.limit ?? PAGE_ROWS));
   q.set('direction', param.direction);
   if (param.cursor) q.set('cursor', param.cursor);
-  const page = await api<TimelinePage>(`${timelineBase(rigId, captureId)}/timeline?${q}`, { signal });
+  const page = await api<TimelinePage>(`${captureScope(rigId, captureId).path}/timeline?${q}`, { signal });
   // rows are shown in time order whichever way the page was read
   const rows = isDescending(page.rows) ? [...page.rows].reverse() : page.rows;
   return { ...page, rows, direction: param.direction };
@@ -73,7 +74,7 @@ export function useTimelineRows(rigId: number, captureId: number, filters: Timel
 }
 
 export function fetchTimelineCount(rigId: number, captureId: number, filters: TimelineFilters): Promise<{ count: number }> {
-  return api(`${timelineBase(rigId, captureId)}/timeline/count?${filterSearch(filters)}`);
+  return api(`${captureScope(rigId, captureId).path}/timeline/count?${filterSearch(filters)}`);
 }
 
 export function timelineCountQueryOptions(rigId: number, captureId: number, filters: TimelineFilters) {
@@ -87,7 +88,7 @@ export function useTimelineCount(rigId: number, captureId: number, filters: Time
 export function fetchCursorAt(rigId: number, captureId: number, filters: TimelineFilters, t: number): Promise<{ cursor: string | null }> {
   const q = filterSearch(filters);
   q.set('t', String(t));
-  return api(`${timelineBase(rigId, captureId)}/timeline/at?${q}`);
+  return api(`${captureScope(rigId, captureId).path}/timeline/at?${q}`);
 }
 
 export function cursorAtQueryOptions(rigId: number, captureId: number, filters: TimelineFilters, t: number) {
@@ -106,5 +107,5 @@ export function useCursorAt(rigId: number, captureId: number, filters: TimelineF
 /** The frames the filters select, as a file (the server streams it; time order, no paging). */
 export function timelineExportUrl(rigId: number, captureId: number, filters: TimelineFilters, format: 'csv' | 'json'): string {
   const q = filterSearch(filters).toString();
-  return `${timelineBase(rigId, captureId)}/export.${format}${q ? `?${q}` : ''}`;
+  return `${captureScope(rigId, captureId).path}/export.${format}${q ? `?${q}` : ''}`;
 }

@@ -7,6 +7,7 @@ import { useFrameExchanges, type FrameExchange } from '../api/get-frame-exchange
 import { useTimelineRows } from '../api/get-timeline';
 import type { TimelineFilters } from '../api/timeline-filters';
 import { gridTemplate, timelineColumns, type TimelineMeta } from './timeline-columns';
+import { captureScope } from '../../../lib/scope';
 
 export const ROW_HEIGHT = 30;
 /** rows from either end of what is loaded at which the next page is asked for */
@@ -42,7 +43,7 @@ export function TimelineTable({ rigId, captureId, filters, start, selectedId, re
   const selectedT = useMemo(() => rows.find((r) => r.type === 'frame' && r.id === selectedId)?.t ?? null, [rows, selectedId]);
   const calls = useFrameExchanges(rigId, captureId, filters.station ?? [], rows.at(-1)?.t ?? 0);
   const callHref = useCallback(
-    (e: FrameExchange) => `/rigs/${rigId}/captures/${captureId}/round-trips?${new URLSearchParams({ station: String(e.station), ex: String(e.exchangeId) })}`,
+    (e: FrameExchange) => `${captureScope(rigId, captureId).page}/round-trips?${new URLSearchParams({ station: String(e.station), ex: String(e.exchangeId) })}`,
     [rigId, captureId],
   );
 

@@ -10,6 +10,7 @@ import type { TimelineFilters } from '../api/timeline-filters';
 import { TimelineFilterBar } from './timeline-filter-bar';
 import { TimelineTable } from './timeline-table';
 import { useTimelineUrl } from './use-timeline-url';
+import { captureScope } from '../../../lib/scope';
 
 /** Screen 5: every frame and line event in time order, filtered, searchable, driven from the keyboard. */
 export function TimelineView({ rig, capture }: { rig: RigDetail; capture: CaptureSummaryRow }) {
@@ -34,7 +35,7 @@ export function TimelineView({ rig, capture }: { rig: RigDetail; capture: Captur
     selected.current = id;
     url.setView({ sel: id });
   };
-  const base = `/rigs/${rig.id}/captures/${capture.id}`;
+  const base = `${captureScope(rig.id, capture.id).page}`;
   const waitingForCursor = jump.t !== null && jump.t > 0 && !cursorAt.isSuccess;
   const start = jump.t !== null && jump.t > 0 ? (cursorAt.data?.cursor ?? null) : null;
   const links = capture.settings?.links ?? [];

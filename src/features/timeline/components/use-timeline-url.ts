@@ -30,6 +30,8 @@ function currentAt(): number | null {
 export function useTimelineUrl() {
   const [params, setParams] = useSearchParams();
   const key = filterParamNames.map((k) => params.get(k) ?? '').join('|');
+  // keyed on the filter parameters only: moving the cursor (at, sel) keeps the same filters object
+  // eslint-disable-next-line react-hooks/exhaustive-deps
   const { filters, problems } = useMemo(() => filtersFromParams(params), [key]);
   const at = params.get('at') === null ? null : Number(params.get('at'));
   const sel = params.get('sel') === null ? null : Number(params.get('sel'));

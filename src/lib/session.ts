@@ -1,6 +1,6 @@
 import { queryOptions, useSuspenseQuery, type QueryClient } from '@tanstack/react-query';
-import type { SessionInfo, User } from '../../../../shared/schemas';
-import { api } from '../../../lib/api';
+import type { SessionInfo, User } from '../../shared/schemas';
+import { api } from './api';
 import { sessionKeys } from './session-keys';
 
 export function fetchSession(): Promise<SessionInfo> {
