@@ -1,7 +1,7 @@
 // `npm run bench:load`: the server under concurrent readers, end to end over HTTP.
 //   npm run bench:load                                   76 800 frames, 20 clients × 200 requests, idle and during a 400 MB decode
 //   npm run bench:load -- --frames 20000 --clients 5 --requests 50 --decode-mb 50   a quick run
-// Makes a capture with our own encoder, starts the real server (`server/cli/start.ts`) in a child
+// Makes a capture with our own encoder, starts the real server (compiled, as `npm start` runs it) in a child
 // process on a fresh database, uploads and decodes the capture through the API, then lets N
 // signed-in clients each send M requests back to back: timeline pages (first, at a time,
 // backward), filters (status, station and kind, command in a time range), searches (text, hex)
@@ -151,7 +151,8 @@ async function prepareDatabase(dbPath: string): Promise<number> {
 }
 
 function startServer(dir: string, dbPath: string): Promise<{ child: ChildProcess; url: string }> {
-  const child = spawn(process.execPath, ['--import', 'tsx', path.join(repoRoot, 'server/cli/start.ts')], {
+  // the server as `npm start` runs it: the compiled build (made first when stale)
+  const child = spawn(process.execPath, [path.join(repoRoot, 'bin/flagline.mjs')], {
     cwd: repoRoot,
     env: {
       ...process.env,
