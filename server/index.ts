@@ -16,6 +16,7 @@ import { securityHeaders } from './http/security';
 import { chooseMailMode, createMailer } from './mail/mailer';
 import { captureRoutes } from './routes/captures';
 import { compareRoutes } from './routes/compare';
+import { discoveryRoutes } from './routes/discovery';
 import { exchangeRoutes } from './routes/exchanges';
 import { faultRoutes } from './routes/faults';
 import { fieldMapRoutes } from './routes/field-maps';
@@ -145,6 +146,7 @@ export async function createApp(opts: AppOptions = {}) {
   api.use(memberRoutes(ctx, guard));
   api.use(mailboxRoutes(ctx, guard));
   api.use(captureRoutes(captureModule, guard));
+  api.use(discoveryRoutes(captureModule, guard));
   api.use(fieldMapRoutes(callsModule, guard));
   api.use(exchangeRoutes(callsModule, guard));
   api.use(fileRoutes(callsModule, guard));
