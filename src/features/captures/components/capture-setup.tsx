@@ -1,7 +1,7 @@
-import { useEffect, useRef } from 'react';
+import { useEffect, useRef, useState } from 'react';
 import { useQueryClient } from '@tanstack/react-query';
 import { useNavigate } from 'react-router';
-import type { RigDetail } from '../../../../shared/schemas';
+import type { DiscoveryCandidate, RigDetail } from '../../../../shared/schemas';
 import { ButtonLink } from '../../../components/button';
 import { Card, CardTitle } from '../../../components/card';
 import { ErrorNotice } from '../../../components/notice';
@@ -16,6 +16,9 @@ import { DeleteCaptureButton } from './delete-capture-button';
 import { DecodeProgress } from './decode-progress';
 import { canCapture } from './permissions';
 import { SafetyPanel } from '../../../components/safety-panel';
+import { useDiscovery } from '../../discovery/api/get-discovery';
+import { FinderPanel } from '../../discovery/components/finder-panel';
+import { directionWords } from '../../discovery/components/direction-words';
 
 const formatNames: Record<string, string> = {
   vcd: 'value change dump',
@@ -39,6 +42,22 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
   const mayDecode = canCapture.decode(rig.myRole);
   const current = job.data ?? capture.job;
   const active = isJobActive(current);
+  const discovery = useDiscovery(rig.id, captureId);
+  const found = discovery.data;
+  const finderBusy = !discovery.error && (!found || found.state === 'running');
+  // a candidate the analyst picked; else, before anything is saved, the finder's best
+  const [picked, setPicked] = useState<DiscoveryCandidate | null>(null);
+  const candidate = picked ?? (!capture.settings && found?.state === 'done' && found.found ? found.candidates[0] : null);
+  // a fresh capture waits for the finder (it reads at most 16 MB) so the form opens with its answer
+  const waitForFinder = !capture.settings && finderBusy;
+  const directionNotes = Object.fromEntries(
+    (found?.directions ?? []).map((v) => [
+      v.link,
+      v.direction === 'unknown'
+        ? `Direction not inferred: ${v.reasons.join(' ') || 'no good frames on this link.'}`
+        : `Inferred ${directionWords[v.direction]} (${Math.round(v.confidence * 100)} %): ${v.reasons[0] ?? ''}`,
+    ]),
+  );
 
   if (active) watched.current = true;
   useEffect(() => {
@@ -82,15 +101,21 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
                   </>
                 )}
               </p>
+              <FinderPanel discovery={found} error={discovery.error} shownKey={candidate?.key ?? null} disabled={!mayDecode || active} onUse={setPicked} />
+              {waitForFinder ? null : (
               <ChannelRoleForm
+                key={candidate?.key ?? 'saved'}
                 rig={rig}
-                capture={capture}
-                detection={detection.data}
+                capture={candidate ? { ...capture, settings: null } : capture}
+                detection={candidate ? { ...detection.data, format: candidate.settings.format, suggested: candidate.settings } : detection.data}
+                directionNotes={directionNotes}
+                seenStations={(found?.roster ?? []).map((st) => st.address)}
                 busy={save.isPending || start.isPending}
                 error={save.error ?? start.error}
                 disabled={!mayDecode || active}
                 onSubmit={(settings) => save.mutate(settings, { onSuccess: () => start.mutate() })}
               />
+              )}
               {!mayDecode ? <p className="text-sm text-muted">Viewers cannot change channel roles or decode; an analyst or the owner can.</p> : null}
             </div>
           ) : null}
