@@ -16,6 +16,9 @@ import { canCapture } from '../../features/captures/components/permissions';
 import { UploadPanel } from '../../features/captures/components/upload-panel';
 import { overviewQueryOptions } from '../../features/overview/api/get-overview';
 import { CaptureOverview } from '../../features/overview/components/capture-overview';
+import { discoveryQueryOptions } from '../../features/discovery/api/get-discovery';
+import { DecodeDiagnosis } from '../../features/discovery/components/decode-diagnosis';
+import { CaptureMapChoice } from '../../features/field-maps/components/capture-map-choice';
 import { cursorAtQueryOptions, timelineCountQueryOptions, timelineRowsQueryOptions } from '../../features/timeline/api/get-timeline';
 import { filtersFromParams } from '../../features/timeline/api/timeline-filters';
 import { TimelineView } from '../../features/timeline/components/timeline-view';
@@ -60,6 +63,8 @@ export const setupLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) =
   const rigId = idFrom(params.rigId, 'rig');
   const captureId = idFrom(params.captureId, 'capture');
   const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
+  // the settings finder starts at once; the page shows its progress
+  void queryClient.prefetchQuery(discoveryQueryOptions(rigId, captureId));
   await Promise.all([
     queryClient.prefetchQuery(detectionQueryOptions(rigId, captureId)),
     capture.job !== null ? queryClient.prefetchQuery(jobQueryOptions(rigId, captureId)) : null,
@@ -159,8 +164,15 @@ function NotDecodedYet({ rigId, captureId }: { rigId: number; captureId: number 
 export function OverviewRoute() {
   const { rigId, captureId } = useIds();
   const capture = useCapture(rigId, captureId);
+  const rig = useRig(rigId);
   if (capture.status !== 'decoded') return <NotDecodedYet rigId={rigId} captureId={captureId} />;
-  return <CaptureOverview rigId={rigId} captureId={captureId} />;
+  return (
+    <div className="space-y-5">
+      <DecodeDiagnosis rig={rig} capture={capture} />
+      <CaptureOverview rigId={rigId} captureId={captureId} />
+      <CaptureMapChoice rig={rig} captureId={captureId} />
+    </div>
+  );
 }
 
 export function TimelineRoute() {

@@ -18,6 +18,7 @@ import { canCapture } from './permissions';
 import { SafetyPanel } from '../../../components/safety-panel';
 import { useDiscovery } from '../../discovery/api/get-discovery';
 import { FinderPanel } from '../../discovery/components/finder-panel';
+import { DecodeDiagnosis } from '../../discovery/components/decode-diagnosis';
 import { directionWords } from '../../discovery/components/direction-words';
 
 const formatNames: Record<string, string> = {
@@ -133,6 +134,7 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
             </p>
           </ErrorNotice>
         ) : null}
+        {current?.state === 'done' ? <DecodeDiagnosis rig={rig} capture={capture} onRedecode={() => undefined} /> : null}
         {current?.state === 'done' ? (
           <ButtonLink to={`/rigs/${rig.id}/captures/${captureId}`}>Open the overview</ButtonLink>
         ) : null}
