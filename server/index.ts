@@ -30,7 +30,7 @@ import { rigRoutes } from './routes/rigs';
 import { sessionRoutes } from './routes/session';
 import { stationRoutes } from './routes/stations';
 import { seedDemo } from './seed/demo';
-import { seedDemoCaptures } from './seed/demo-captures';
+import { seedDemoCaptures, seedOtherDemoCaptures } from './seed/demo-captures';
 import { deleteRigCaptures } from './services/captures/delete';
 import { createCaptureModule } from './services/captures/module';
 import { createCallsModule } from './services/calls/module';
@@ -102,7 +102,9 @@ export async function createApp(opts: AppOptions = {}) {
   const captureModule = createCaptureModule({ db: handle.db, sqlite: handle.sqlite, dbPath: handle.path, dataDir: opts.dataDir, maxUploadBytes: opts.maxUploadBytes });
   // decode workers open the database by path, so an in-memory database cannot take the demo captures
   if (seeded && (opts.demoCaptures ?? handle.path !== ':memory:')) {
+    // the main rig's captures first: the one decode queue takes them in order
     await seedDemoCaptures(captureModule, seeded.rigId, seeded.ownerId);
+    for (const other of seeded.otherRigs) await seedOtherDemoCaptures(captureModule, other.key, other.rigId, seeded.ownerId);
   }
 
   const callsModule = createCallsModule(captureModule);
