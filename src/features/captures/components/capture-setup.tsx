@@ -108,7 +108,16 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
                 key={candidate?.key ?? 'saved'}
                 rig={rig}
                 capture={candidate ? { ...capture, settings: null } : capture}
-                detection={candidate ? { ...detection.data, format: candidate.settings.format, suggested: candidate.settings } : detection.data}
+                detection={
+                  candidate
+                    ? {
+                        ...detection.data,
+                        format: candidate.settings.format,
+                        // handshake lines the finder did not tie to a link keep the detection's guess
+                        suggested: { ...candidate.settings, handshake: candidate.settings.handshake?.length ? candidate.settings.handshake : (detection.data.suggested?.handshake ?? []) },
+                      }
+                    : detection.data
+                }
                 directionNotes={directionNotes}
                 seenStations={(found?.roster ?? []).map((st) => st.address)}
                 busy={save.isPending || start.isPending}
