@@ -9,7 +9,7 @@ import type Database from 'better-sqlite3';
 import { callLayerRoles, CallLayer, type Exchange } from '../../shared/decoder/calls/exchanges';
 import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls/cpm-envelope';
 import { parseFieldMap, type FieldMap } from '../../shared/decoder/calls/field-map';
-import { recoverFiles } from '../../shared/decoder/calls/files';
+import { fileCallsOf, recoverFiles } from '../../shared/decoder/calls/files';
 import type { DecodedFrame, FrameStatus, LineEvent } from '../../shared/decoder/types';
 import type { CaptureSettings } from '../../shared/schemas';
 import { payloadLength } from './run-rows';
@@ -274,7 +274,8 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
   layer.finish();
   if (pending.length) writePending.immediate();
 
-  const files = recoverFiles(fileExchanges).filter((f) => f.recordCount > 0);
+  // the map's own file calls (a map that names none gets the CP/M ones)
+  const files = recoverFiles(fileExchanges, fileCallsOf(input.map)).filter((f) => f.recordCount > 0);
   const insertFile = db.prepare(
     `insert into recovered_files (run_id, capture_id, key, name, kind, user, stations, record_count, end_known, bytes, sha256, coverage, conflicts, exchange_ids)
      values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,

@@ -67,7 +67,7 @@ describe('demo mode on a database file', () => {
         const url = `/api/rigs/${rig.id}/captures/${c.id}`;
         const job = await waitForJob(viewer, url, undefined, 120_000);
         expect(job.state, `${entry.file}: ${job.error}`).toBe('done');
-        let layer = (await viewer.get(`${url}/field-map`).expect(200)).body as { mapName: string; current: { exchanges: number } | null };
+        let layer = (await viewer.get(`${url}/field-map`).expect(200)).body as { mapName: string; current: { exchanges: number; files: number } | null };
         for (let i = 0; i < 200 && !layer.current; i++) {
           await new Promise((r) => setTimeout(r, 100));
           layer = (await viewer.get(`${url}/field-map`).expect(200)).body;
@@ -75,6 +75,8 @@ describe('demo mode on a database file', () => {
         expect(layer.mapName).toBe('Saltmarsh ledger envelope');
         // the encoder's count of exchanges (manifest) is what the reference map must find
         expect(layer.current?.exchanges, entry.file).toBe(entry.expected.exchanges.total);
+        // its files come from the map's own file calls, not the CP/M ones
+        expect(layer.current?.files, entry.file).toBe((entry.expected as unknown as { files: unknown[] }).files.length);
       }
     }
   }, 120_000);

@@ -134,7 +134,9 @@ describe('zero-configuration decoding in the browser', () => {
       await page.getByRole('button', { name: 'Start a field map from these hints' }).click();
       await page.waitForURL(/\/field-maps\/\d+/);
       const mapId = Number(new URL(page.url()).pathname.split('/')[4]);
-      await page.getByRole('heading', { name: /Ferry envelope, from hints/ }).first().waitFor();
+      await expect.poll(() => page.getByLabel('Map name').inputValue()).toBe('Ferry envelope, from hints');
+      // the draft has a layout per call and direction, with the hinted roles
+      await page.getByText('call 0x31 (request)').first().waitFor();
       await shot(page, 'draft-map-in-editor');
 
       await page.goto(`${baseUrl}/rigs/${rigId}/captures/${captureId}`);
