@@ -119,7 +119,7 @@ function HintReportView({ rig, capture, data, selector }: { rig: RigDetail; capt
   );
 }
 
-function GroupCard({ g, frameLink }: { g: HintGroup; frameLink: (ref: { link: string; seq: number }) => string | null }) {
+export function GroupCard({ g, frameLink }: { g: HintGroup; frameLink: (ref: { link: string; seq: number }) => string | null }) {
   const title = `${g.direction === 'request' ? 'Requests' : 'Answers'}${g.selector === null ? ', every frame' : `, selector ${hex(g.selector)}`}`;
   return (
     <Card>

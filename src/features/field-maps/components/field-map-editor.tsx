@@ -14,6 +14,8 @@ import { addLayout, looksLikeFieldMap, moveLayout, removeLayout } from './draft-
 import { FramePreview } from './frame-preview';
 import { LayoutEditor } from './layout-editor';
 import { LayoutTable } from './layout-table';
+import { CallsEditor } from './calls-editor';
+import { FieldHintsPanel } from '../../discovery/components/field-hints-panel';
 import { MapSettings } from './map-settings';
 import { VersionDiff } from './version-diff';
 
@@ -251,6 +253,16 @@ export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: P
       <Card>
         <CardTitle>The map</CardTitle>
         <MapSettings key={generation} doc={draft} errors={errors} editable={editable} onChange={(doc) => edit(doc)} />
+      </Card>
+
+      <Card>
+        <CardTitle>Field hints</CardTitle>
+        <FieldHintsPanel rig={rig} captureId={view.captureId} />
+      </Card>
+
+      <Card>
+        <CardTitle>Calls</CardTitle>
+        <CallsEditor doc={draft} errors={errors} editable={editable} onChange={(doc) => edit(doc)} />
       </Card>
 
       <Card>
