@@ -152,6 +152,59 @@ describe('zero-configuration decoding in the browser', () => {
     }
   }, 240_000);
 
+  it('a wrong encoding and then swapped directions: the overview says what is wrong and one click decodes again right', async () => {
+    const shot = stepShots('discovery-diagnosis');
+    const e = entry('wrenfield-choir-print.csv');
+    const { context, page } = await newPage(browser);
+    try {
+      await signInAsDemo(page, baseUrl, 'analyst@demo.test');
+      const rigId = await newRigWithWrongSettings(page, unique('Wrong rig'));
+      await page.goto(`${baseUrl}/rigs/${rigId}/captures/new`);
+      await page.getByLabel('Capture file').setInputFiles(join(samples, e.file));
+      const found = page.getByTestId('finder-result');
+      await found.waitFor({ timeout: 30_000 });
+      // the analyst overrides the finder with a ranked alternative: NRZ, which gives no good frame here
+      await found.getByText(/Other settings tried/).click();
+      await found.getByRole('button', { name: /^Use NRZ, no clock, .*not inverted, FCS-16$/ }).click();
+      const form = page.getByRole('form', { name: 'Channel roles' });
+      expect(await form.getByLabel('Encoding').inputValue()).toBe('nrz');
+      await form.getByRole('button', { name: 'Save roles and decode' }).click();
+      const diagnosis = page.getByTestId('decode-diagnosis');
+      await diagnosis.waitFor({ timeout: 120_000 });
+      await expect.poll(() => diagnosis.innerText()).toMatch(/line settings look wrong/);
+      expect(await diagnosis.innerText()).toContain('NRZI');
+      await shot(page, 'wrong-encoding');
+      await diagnosis.getByRole('button', { name: /^Decode again with NRZI/ }).click();
+      // the decode page shows the progress, then the overview opens again
+      await page.waitForURL(/\/setup$/);
+      await page.waitForURL(/\/captures\/\d+$/, { timeout: 120_000 });
+      await page.getByText('Frames over time').waitFor({ timeout: 30_000 });
+      await expect.poll(() => page.getByTestId('overview-stats').innerText(), { timeout: 30_000 }).toContain(String(frameTotal(e)));
+      await shot(page, 'decoded-again');
+
+      // now the directions the wrong way round
+      await page.getByRole('link', { name: 'Channel roles', exact: true }).click();
+      const roles = page.getByRole('form', { name: 'Channel roles' });
+      for (const l of e.settings.links) await roles.getByLabel(`Direction of ${l.channel}`).selectOption(l.direction === 'to-server' ? 'from-server' : 'to-server');
+      await roles.getByRole('button', { name: 'Save roles and decode' }).click();
+      await page.waitForURL(/\/captures\/\d+$/, { timeout: 120_000 });
+      await page.getByText('Frames over time').waitFor({ timeout: 30_000 });
+      const swapped = page.getByTestId('decode-diagnosis');
+      await expect.poll(() => swapped.innerText(), { timeout: 30_000 }).toMatch(/directions look swapped/);
+      await shot(page, 'swapped-directions');
+      await swapped.getByRole('button', { name: 'Use the inferred directions and decode again' }).click();
+      await page.waitForURL(/\/setup$/);
+      await page.waitForURL(/\/captures\/\d+$/, { timeout: 120_000 });
+      await page.getByText('Frames over time').waitFor({ timeout: 30_000 });
+      await expect.poll(() => page.getByTestId('decode-diagnosis').count(), { timeout: 30_000 }).toBe(0);
+      await page.getByRole('link', { name: 'Round trips', exact: true }).click();
+      await page.getByRole('group', { name: /^Ladder of \d+ exchanges$/ }).waitFor({ timeout: 30_000 });
+      await shot(page, 'round-trips-after-fix');
+    } finally {
+      await context.close();
+    }
+  }, 360_000);
+
   it('a capture with no frame under any setting: says what was tried and what to check, and the decode page says it too', async () => {
     const shot = stepShots('discovery-bad-input');
     const dir = mkdtempSync(join(tmpdir(), 'flagline-discovery-'));
