@@ -120,6 +120,7 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
                 }
                 directionNotes={directionNotes}
                 seenStations={(found?.roster ?? []).map((st) => st.address)}
+                samplesPerBit={candidate && candidate.settings.format === 'raw' && !candidate.settings.sampleRate && !candidate.clock ? candidate.samplesPerBit : null}
                 busy={save.isPending || start.isPending}
                 error={save.error ?? start.error}
                 disabled={!mayDecode || active}

@@ -39,11 +39,13 @@ interface Props {
   directionNotes?: Record<string, string>;
   /** stations seen in the capture that the rig does not list yet */
   seenStations?: number[];
+  /** samples per bit the settings finder measured (raw samples without a sample rate): the bit rate follows from a sample rate */
+  samplesPerBit?: number | null;
   onSubmit: (settings: ReturnType<typeof settingsFromForm>) => void;
 }
 
 /** The channel-role form: what each channel carries, and how the line is coded. */
-export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled, directionNotes = {}, seenStations = [], onSubmit }: Props) {
+export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled, directionNotes = {}, seenStations = [], samplesPerBit = null, onSubmit }: Props) {
   const [form, setForm] = useState<RoleFormState>(() => initialRoleForm(detection, capture, rig.lineSettings));
   // what the form held when it was opened or last saved: leaving with anything else asks first
   const [baseline, setBaseline] = useState(form);
@@ -109,7 +111,15 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
               label="Sample rate (samples/s)"
               inputMode="decimal"
               value={form.sampleRate}
-              onChange={(e) => set('sampleRate', e.target.value)}
+              onChange={(e) => {
+                const rate = Number(e.target.value);
+                // the finder measured samples per bit: with the sample rate, the bit rate follows
+                setForm((f) => ({
+                  ...f,
+                  sampleRate: e.target.value,
+                  ...(samplesPerBit && rate > 0 && f.clock === '' ? { bitRate: String(Math.round(rate / samplesPerBit)) } : {}),
+                }));
+              }}
               error={errors.sampleRate}
               placeholder={csvTimeStep !== null ? 'from the time column' : undefined}
               hint={
