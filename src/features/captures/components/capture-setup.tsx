@@ -51,6 +51,15 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
   const candidate = picked ?? (!capture.settings && found?.state === 'done' && found.found ? found.candidates[0] : null);
   // a fresh capture waits for the finder (it reads at most 16 MB) so the form opens with its answer
   const waitForFinder = !capture.settings && finderBusy;
+  // the form starts from the chosen candidate; handshake lines it did not tie to a link keep the detection's guess
+  const formDetection =
+    detection.data && candidate
+      ? {
+          ...detection.data,
+          format: candidate.settings.format,
+          suggested: { ...candidate.settings, handshake: candidate.settings.handshake?.length ? candidate.settings.handshake : (detection.data.suggested?.handshake ?? []) },
+        }
+      : detection.data;
   const directionNotes = Object.fromEntries(
     (found?.directions ?? []).map((v) => [
       v.link,
@@ -103,29 +112,20 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
                 )}
               </p>
               <FinderPanel discovery={found} error={discovery.error} shownKey={candidate?.key ?? null} disabled={!mayDecode || active} onUse={setPicked} />
-              {waitForFinder ? null : (
-              <ChannelRoleForm
-                key={candidate?.key ?? 'saved'}
-                rig={rig}
-                capture={candidate ? { ...capture, settings: null } : capture}
-                detection={
-                  candidate
-                    ? {
-                        ...detection.data,
-                        format: candidate.settings.format,
-                        // handshake lines the finder did not tie to a link keep the detection's guess
-                        suggested: { ...candidate.settings, handshake: candidate.settings.handshake?.length ? candidate.settings.handshake : (detection.data.suggested?.handshake ?? []) },
-                      }
-                    : detection.data
-                }
-                directionNotes={directionNotes}
-                seenStations={(found?.roster ?? []).map((st) => st.address)}
-                samplesPerBit={candidate && candidate.settings.format === 'raw' && !candidate.settings.sampleRate && !candidate.clock ? candidate.samplesPerBit : null}
-                busy={save.isPending || start.isPending}
-                error={save.error ?? start.error}
-                disabled={!mayDecode || active}
-                onSubmit={(settings) => save.mutate(settings, { onSuccess: () => start.mutate() })}
-              />
+              {waitForFinder || !formDetection ? null : (
+                <ChannelRoleForm
+                  key={candidate?.key ?? 'saved'}
+                  rig={rig}
+                  capture={candidate ? { ...capture, settings: null } : capture}
+                  detection={formDetection}
+                  directionNotes={directionNotes}
+                  seenStations={(found?.roster ?? []).map((st) => st.address)}
+                  samplesPerBit={candidate && candidate.settings.format === 'raw' && !candidate.settings.sampleRate && !candidate.clock ? candidate.samplesPerBit : null}
+                  busy={save.isPending || start.isPending}
+                  error={save.error ?? start.error}
+                  disabled={!mayDecode || active}
+                  onSubmit={(settings) => save.mutate(settings, { onSuccess: () => start.mutate() })}
+                />
               )}
               {!mayDecode ? <p className="text-sm text-muted">Viewers cannot change channel roles or decode; an analyst or the owner can.</p> : null}
             </div>
