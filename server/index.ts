@@ -16,6 +16,7 @@ import { securityHeaders } from './http/security';
 import { chooseMailMode, createMailer } from './mail/mailer';
 import { captureRoutes } from './routes/captures';
 import { compareRoutes } from './routes/compare';
+import { discoveryRoutes } from './routes/discovery';
 import { exchangeRoutes } from './routes/exchanges';
 import { faultRoutes } from './routes/faults';
 import { fieldMapRoutes } from './routes/field-maps';
@@ -29,7 +30,7 @@ import { rigRoutes } from './routes/rigs';
 import { sessionRoutes } from './routes/session';
 import { stationRoutes } from './routes/stations';
 import { seedDemo } from './seed/demo';
-import { seedDemoCaptures } from './seed/demo-captures';
+import { seedDemoCaptures, seedOtherDemoCaptures } from './seed/demo-captures';
 import { deleteRigCaptures } from './services/captures/delete';
 import { createCaptureModule } from './services/captures/module';
 import { createCallsModule } from './services/calls/module';
@@ -101,7 +102,9 @@ export async function createApp(opts: AppOptions = {}) {
   const captureModule = createCaptureModule({ db: handle.db, sqlite: handle.sqlite, dbPath: handle.path, dataDir: opts.dataDir, maxUploadBytes: opts.maxUploadBytes });
   // decode workers open the database by path, so an in-memory database cannot take the demo captures
   if (seeded && (opts.demoCaptures ?? handle.path !== ':memory:')) {
+    // the main rig's captures first: the one decode queue takes them in order
     await seedDemoCaptures(captureModule, seeded.rigId, seeded.ownerId);
+    for (const other of seeded.otherRigs) await seedOtherDemoCaptures(captureModule, other.key, other.rigId, seeded.ownerId);
   }
 
   const callsModule = createCallsModule(captureModule);
@@ -145,6 +148,7 @@ export async function createApp(opts: AppOptions = {}) {
   api.use(memberRoutes(ctx, guard));
   api.use(mailboxRoutes(ctx, guard));
   api.use(captureRoutes(captureModule, guard));
+  api.use(discoveryRoutes(captureModule, guard));
   api.use(fieldMapRoutes(callsModule, guard));
   api.use(exchangeRoutes(callsModule, guard));
   api.use(fileRoutes(callsModule, guard));

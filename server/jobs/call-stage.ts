@@ -6,7 +6,7 @@
 // Raw better-sqlite3 throughout: the worker has no Drizzle handle.
 import { createHash } from 'node:crypto';
 import type Database from 'better-sqlite3';
-import { callLayerRoles, CallLayer, type Exchange, CPM_ENVELOPE_DOCUMENT, parseFieldMap, type FieldMap, recoverFiles } from '../../shared/decoder/calls';
+import { callLayerRoles, CallLayer, type Exchange, CPM_ENVELOPE_DOCUMENT, fileCallsOf, parseFieldMap, type FieldMap, recoverFiles } from '../../shared/decoder/calls';
 import type { DecodedFrame, FrameStatus, LineEvent } from '../../shared/decoder';
 import type { CaptureSettings } from '../../shared/schemas';
 import { payloadLength } from './run-rows';
@@ -271,7 +271,8 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
   layer.finish();
   if (pending.length) writePending.immediate();
 
-  const files = recoverFiles(fileExchanges).filter((f) => f.recordCount > 0);
+  // the map's own file calls (a map that names none gets the CP/M ones)
+  const files = recoverFiles(fileExchanges, fileCallsOf(input.map)).filter((f) => f.recordCount > 0);
   const insertFile = db.prepare(
     `insert into recovered_files (run_id, capture_id, key, name, kind, user, stations, record_count, end_known, bytes, sha256, coverage, conflicts, exchange_ids)
      values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,

@@ -15,5 +15,6 @@ export function decoderOptions(s: CaptureSettings): DecoderOptions {
     encoding: s.encoding,
     invert: s.invert,
     bitRate: s.bitRate ?? undefined,
+    fcs: s.fcs,
   };
 }

@@ -27,9 +27,31 @@ export const DEMO_RIG = {
   ] as const,
 };
 
+/**
+ * The second demo scenario, the Saltmarsh Ferry Company: its file service is not the built-in
+ * envelope, so a newcomer learns it with field hints. Its captures and reference field map come
+ * from samples/manifest.json (otherRigs, key "saltmarsh").
+ */
+export const SALTMARSH_RIG = {
+  key: 'saltmarsh',
+  name: 'Saltmarsh Ferry Company, 1984',
+  description:
+    'The ferry company’s office network: a depot file server and two office stations on their own synchronous ports. ' +
+    'Its file service uses its own envelope; learn it with field hints.',
+  lineSettings: { bitRate: 500_000, encoding: 'nrz', clockEdge: 'rising', bitOrder: 'lsb-first' } as const,
+  stations: [
+    { address: 0x50, name: 'Depot file server', role: 'server' },
+    { address: 0x61, name: 'Ticket office', role: 'station' },
+    { address: 0x62, name: 'Harbour office', role: 'station' },
+  ] as const,
+};
+
 export interface SeededDemo {
+  /** the main demo rig (first in the newest-first rig list) */
   rigId: number;
   ownerId: number;
+  /** the other demo scenarios' rigs, by manifest key */
+  otherRigs: { key: string; rigId: number }[];
 }
 
 /** Seeds the demo on an empty database (no users yet); returns the demo rig, or null when it did not seed. */
@@ -42,6 +64,14 @@ export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<SeededDe
     const ids = DEMO_ACCOUNTS.map(
       (a, i) => tx.insert(users).values({ email: a.email, name: a.name, passwordHash: hashes[i] }).returning().get().id,
     );
+    // seeded before the main rig, so the main rig stays first in the newest-first list
+    const other = tx
+      .insert(rigs)
+      .values({ name: SALTMARSH_RIG.name, description: SALTMARSH_RIG.description, ...SALTMARSH_RIG.lineSettings, createdBy: ids[0] })
+      .returning()
+      .get();
+    for (const s of SALTMARSH_RIG.stations) tx.insert(stations).values({ rigId: other.id, ...s }).run();
+    DEMO_ACCOUNTS.forEach((a, i) => tx.insert(memberships).values({ rigId: other.id, userId: ids[i], role: a.role }).run());
     const rig = tx
       .insert(rigs)
       .values({
@@ -54,6 +84,6 @@ export async function seedDemo(db: Db, hasher: PasswordHasher): Promise<SeededDe
       .get();
     for (const s of DEMO_RIG.stations) tx.insert(stations).values({ rigId: rig.id, ...s }).run();
     DEMO_ACCOUNTS.forEach((a, i) => tx.insert(memberships).values({ rigId: rig.id, userId: ids[i], role: a.role }).run());
-    return { rigId: rig.id, ownerId: ids[0] };
+    return { rigId: rig.id, ownerId: ids[0], otherRigs: [{ key: SALTMARSH_RIG.key, rigId: other.id }] };
   });
 }

@@ -52,6 +52,8 @@ export const captureSettingsSchema = z
     encoding: encodingSchema,
     edge: clockEdgeSchema,
     invert: z.boolean().default(false),
+    /** frame check sequence width: 16 (CRC-16/IBM-SDLC) or 32 (CRC-32/ISO-HDLC) */
+    fcs: z.union([z.literal(16), z.literal(32)]).default(16),
   })
   .superRefine((s, ctx) => {
     if (s.clock === null && s.bitRate === null && s.format !== 'framelog' && s.format !== 'octets') {

@@ -42,6 +42,7 @@ import {
   timelineLoader,
   uploadLoader,
 } from './routes/capture-routes';
+import { discoveryRoutes } from './routes/discovery-routes';
 import { callRoutes } from './routes/call-routes';
 import { faultRoutes } from './routes/fault-routes';
 import { noteRoutes } from './routes/note-routes';
@@ -96,6 +97,7 @@ export const router = createBrowserRouter([
                   ...callRoutes,
                   ...faultRoutes,
                   ...noteRoutes,
+                  ...discoveryRoutes,
                 ],
               },
               { path: 'probing-safety', element: <SafetyRoute /> },

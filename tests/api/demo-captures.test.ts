@@ -14,6 +14,7 @@ interface Expected {
 }
 const manifest = JSON.parse(fs.readFileSync(path.join(samplesDir(), 'manifest.json'), 'utf8')) as {
   captures: { file: string; expected: Expected }[];
+  otherRigs: { name: string; captures: { file: string; expected: Expected & { exchanges: { total: number } } }[] }[];
 };
 
 describe('demo mode on a database file', () => {
@@ -53,4 +54,30 @@ describe('demo mode on a database file', () => {
     }
     // every sample is decoded in turn by the one decode queue: allow each its own wait
   }, 60_000 * manifest.captures.length);
+
+  it('seeds the second scenario as its own rig, decoded with its reference field map', async () => {
+    const rigsSeen = (await viewer.get('/api/rigs').expect(200)).body as { id: number; name: string }[];
+    for (const scenario of manifest.otherRigs) {
+      const rig = rigsSeen.find((r) => r.name === scenario.name)!;
+      expect(rig, scenario.name).toBeDefined();
+      const list = (await viewer.get(`/api/rigs/${rig.id}/captures`).expect(200)).body as CaptureSummaryRow[];
+      expect(list.map((c) => c.name).sort()).toEqual(scenario.captures.map((c) => c.file).sort());
+      for (const entry of scenario.captures) {
+        const c = list.find((x) => x.name === entry.file)!;
+        const url = `/api/rigs/${rig.id}/captures/${c.id}`;
+        const job = await waitForJob(viewer, url, undefined, 120_000);
+        expect(job.state, `${entry.file}: ${job.error}`).toBe('done');
+        let layer = (await viewer.get(`${url}/field-map`).expect(200)).body as { mapName: string; current: { exchanges: number; files: number } | null };
+        for (let i = 0; i < 200 && !layer.current; i++) {
+          await new Promise((r) => setTimeout(r, 100));
+          layer = (await viewer.get(`${url}/field-map`).expect(200)).body;
+        }
+        expect(layer.mapName).toBe('Saltmarsh ledger envelope');
+        // the encoder's count of exchanges (manifest) is what the reference map must find
+        expect(layer.current?.exchanges, entry.file).toBe(entry.expected.exchanges.total);
+        // its files come from the map's own file calls, not the CP/M ones
+        expect(layer.current?.files, entry.file).toBe((entry.expected as unknown as { files: unknown[] }).files.length);
+      }
+    }
+  }, 120_000);
 });

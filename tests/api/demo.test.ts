@@ -37,6 +37,10 @@ describe('demo mode', () => {
       [0x23, 'Choir office', 'station'],
     ]);
     await viewer.patch(`/api/rigs/${rig.id}`, { name: 'Mine' }).expect(403);
+    // the second scenario: its own rig, after the main one in the newest-first list
+    const all = (await viewer.get('/api/rigs').expect(200)).body as { name: string; stationCount: number }[];
+    expect(all.map((r) => r.name)).toEqual(['Wrenfield Parish Office, 1983', 'Saltmarsh Ferry Company, 1984']);
+    expect(all[1].stationCount).toBe(3);
     app.close();
   });
 
@@ -44,7 +48,8 @@ describe('demo mode', () => {
     handle = openDb(':memory:');
     (await createApp({ db: handle, demo: true, bcryptCost: TEST_BCRYPT_COST, smtpUrl: '' })).close();
     (await createApp({ db: handle, demo: true, bcryptCost: TEST_BCRYPT_COST, smtpUrl: '' })).close();
-    expect((handle.sqlite.prepare('select count(*) as n from rigs').get() as { n: number }).n).toBe(1);
+    // the parish office and the Saltmarsh ferry company
+    expect((handle.sqlite.prepare('select count(*) as n from rigs').get() as { n: number }).n).toBe(2);
     expect((handle.sqlite.prepare('select count(*) as n from users').get() as { n: number }).n).toBe(3);
   });
 

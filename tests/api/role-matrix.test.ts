@@ -56,6 +56,8 @@ const MATRIX: Record<string, Row> = {
   'GET /api/rigs/:rigId/captures/:captureId': MEMBER(200),
   'DELETE /api/rigs/:rigId/captures/:captureId': OWNER(204),
   'GET /api/rigs/:rigId/captures/:captureId/detection': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/discovery': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/field-hints': MEMBER(200),
   'PUT /api/rigs/:rigId/captures/:captureId/settings': ANALYST(200),
   'POST /api/rigs/:rigId/captures/:captureId/decode': ANALYST(202),
   'GET /api/rigs/:rigId/captures/:captureId/job': MEMBER(200),

@@ -12,7 +12,7 @@ import { recoveredFileKeys } from '../../features/recovered-files/api/file-keys'
 import { recoveredFilesQueryOptions } from '../../features/recovered-files/api/get-files';
 import { RecoveredFileList } from '../../features/recovered-files/components/recovered-file-list';
 import { exchangeKeys } from '../../features/round-trips/api/exchange-keys';
-import { callLayerQueryOptions, useCallLayer } from '../../features/round-trips/api/get-call-layer';
+import { callLayerQueryOptions, useCallLayer } from '../../lib/call-layer';
 import { exchangeStatsQueryOptions } from '../../features/round-trips/api/get-exchange-stats';
 import { exchangeExportUrl, exchangesQueryOptions, useExchanges } from '../../features/round-trips/api/get-exchanges';
 import { ExportLinks } from '../../components/export-links';

@@ -8,14 +8,17 @@ import { errorText } from '../../lib/error-text';
 import { rigQueryOptions, useRig } from '../../features/rigs/api/get-rig';
 import { captureQueryOptions, capturesQueryOptions, useCapture } from '../../features/captures/api/get-captures';
 import { CaptureList } from '../../features/captures/components/capture-list';
-import { jobQueryOptions } from '../../features/captures/api/decode-job';
+import { jobQueryOptions } from '../../lib/decode-job';
 import { detectionQueryOptions } from '../../features/captures/api/get-detection';
 import { CaptureNav } from '../../features/captures/components/capture-nav';
 import { CaptureSetup } from '../../features/captures/components/capture-setup';
-import { canCapture } from '../../features/captures/components/permissions';
+import { canCapture } from '../../lib/permissions';
 import { UploadPanel } from '../../features/captures/components/upload-panel';
-import { overviewQueryOptions } from '../../features/overview/api/get-overview';
+import { overviewQueryOptions } from '../../lib/overview';
 import { CaptureOverview } from '../../features/overview/components/capture-overview';
+import { discoveryQueryOptions } from '../../components/discovery/get-discovery';
+import { DecodeDiagnosis } from '../../components/discovery/decode-diagnosis';
+import { CaptureMapChoice } from '../../features/field-maps/components/capture-map-choice';
 import { cursorAtQueryOptions, timelineCountQueryOptions, timelineRowsQueryOptions } from '../../features/timeline/api/get-timeline';
 import { filtersFromParams } from '../../features/timeline/api/timeline-filters';
 import { TimelineView } from '../../features/timeline/components/timeline-view';
@@ -61,6 +64,8 @@ export const setupLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) =
   const rigId = idFrom(params.rigId, 'rig');
   const captureId = idFrom(params.captureId, 'capture');
   const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
+  // the settings finder starts at once; the page shows its progress
+  void queryClient.prefetchQuery(discoveryQueryOptions(rigId, captureId));
   await Promise.all([
     queryClient.prefetchQuery(detectionQueryOptions(rigId, captureId)),
     capture.job !== null ? queryClient.prefetchQuery(jobQueryOptions(rigId, captureId)) : null,
@@ -160,8 +165,15 @@ function NotDecodedYet({ rigId, captureId }: { rigId: number; captureId: number 
 export function OverviewRoute() {
   const { rigId, captureId } = useIds();
   const capture = useCapture(rigId, captureId);
+  const rig = useRig(rigId);
   if (capture.status !== 'decoded') return <NotDecodedYet rigId={rigId} captureId={captureId} />;
-  return <CaptureOverview rigId={rigId} captureId={captureId} />;
+  return (
+    <div className="space-y-5">
+      <DecodeDiagnosis rig={rig} capture={capture} />
+      <CaptureOverview rigId={rigId} captureId={captureId} />
+      <CaptureMapChoice rig={rig} captureId={captureId} />
+    </div>
+  );
 }
 
 export function TimelineRoute() {

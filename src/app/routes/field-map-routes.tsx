@@ -5,7 +5,7 @@ import { fieldMapQueryOptions } from '../../features/field-maps/api/get-field-ma
 import { fieldMapsQueryOptions } from '../../features/field-maps/api/get-field-maps';
 import { FieldMapEditor, type EditorViewState } from '../../features/field-maps/components/field-map-editor';
 import { FieldMapList } from '../../features/field-maps/components/field-map-list';
-import { prefetchDefaultPreview } from '../../features/field-maps/api/get-preview-frame';
+import { prefetchDefaultPreview } from '../../lib/preview-frame';
 import { fieldNotesQueryOptions } from '../../features/notes/api/field-notes';
 import { FieldNotes } from '../../features/notes/components/field-notes';
 import { queryClient } from '../query-client';

@@ -7,7 +7,7 @@ import { formatBytes, formatCount } from '../../../components/units';
 import { formatDateTime } from '../../../lib/format';
 import { useCaptures } from '../api/get-captures';
 import { DeleteCaptureButton } from './delete-capture-button';
-import { canCapture } from './permissions';
+import { canCapture } from '../../../lib/permissions';
 import { captureScope } from '../../../lib/scope';
 
 const statusWords: Record<CaptureSummaryRow['status'], string> = {

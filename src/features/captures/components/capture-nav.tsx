@@ -35,6 +35,9 @@ export function CaptureNav({ rigId, capture }: { rigId: number; capture: Capture
         <NavLink to={`${base}/compare`} className={tab}>
           Compare
         </NavLink>
+        <NavLink to={`${base}/field-hints`} className={tab}>
+          Field hints
+        </NavLink>
         <NavLink to={`${base}/notes`} className={tab}>
           Notes
         </NavLink>

@@ -1,22 +1,26 @@
-import { useEffect, useRef } from 'react';
+import { useEffect, useRef, useState } from 'react';
 import { useQueryClient } from '@tanstack/react-query';
 import { useNavigate } from 'react-router';
-import type { RigDetail } from '../../../../shared/schemas';
+import type { DiscoveryCandidate, RigDetail } from '../../../../shared/schemas';
 import { ButtonLink } from '../../../components/button';
 import { Card, CardTitle } from '../../../components/card';
 import { ErrorNotice } from '../../../components/notice';
 import { formatBytes } from '../../../components/units';
-import { isJobActive, useCancelDecode, useJob, useStartDecode } from '../api/decode-job';
+import { isJobActive, useCancelDecode, useJob, useStartDecode } from '../../../lib/decode-job';
 import { captureKeys } from '../api/capture-keys';
 import { captureQueryOptions, useCapture } from '../api/get-captures';
 import { useDetection } from '../api/get-detection';
-import { useSaveSettings } from '../api/save-settings';
+import { useSaveSettings } from '../../../lib/save-settings';
 import { ChannelRoleForm } from './channel-role-form';
 import { DeleteCaptureButton } from './delete-capture-button';
 import { DecodeProgress } from './decode-progress';
-import { canCapture } from './permissions';
+import { canCapture } from '../../../lib/permissions';
 import { SafetyPanel } from '../../../components/safety-panel';
 import { clearDecodedViews, captureScope } from '../../../lib/scope';
+import { useDiscovery } from '../../../components/discovery/get-discovery';
+import { FinderPanel } from '../../../components/discovery/finder-panel';
+import { DecodeDiagnosis } from '../../../components/discovery/decode-diagnosis';
+import { directionWords } from '../../../components/discovery/direction-words';
 
 const formatNames: Record<string, string> = {
   vcd: 'value change dump',
@@ -40,6 +44,31 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
   const mayDecode = canCapture.decode(rig.myRole);
   const current = job.data ?? capture.job;
   const active = isJobActive(current);
+  const discovery = useDiscovery(rig.id, captureId);
+  const found = discovery.data;
+  const finderBusy = !discovery.error && (!found || found.state === 'running');
+  // a candidate the analyst picked; else, before anything is saved, the finder's best
+  const [picked, setPicked] = useState<DiscoveryCandidate | null>(null);
+  const candidate = picked ?? (!capture.settings && found?.state === 'done' && found.found ? found.candidates[0] : null);
+  // a fresh capture waits for the finder (it reads at most 16 MB) so the form opens with its answer
+  const waitForFinder = !capture.settings && finderBusy;
+  // the form starts from the chosen candidate; handshake lines it did not tie to a link keep the detection's guess
+  const formDetection =
+    detection.data && candidate
+      ? {
+          ...detection.data,
+          format: candidate.settings.format,
+          suggested: { ...candidate.settings, handshake: candidate.settings.handshake?.length ? candidate.settings.handshake : (detection.data.suggested?.handshake ?? []) },
+        }
+      : detection.data;
+  const directionNotes = Object.fromEntries(
+    (found?.directions ?? []).map((v) => [
+      v.link,
+      v.direction === 'unknown'
+        ? `Direction not inferred: ${v.reasons.join(' ') || 'no good frames on this link.'}`
+        : `Inferred ${directionWords[v.direction]} (${Math.round(v.confidence * 100)} %): ${v.reasons[0] ?? ''}`,
+    ]),
+  );
 
   const state = current?.state;
   if (active) watched.current = true;
@@ -84,15 +113,22 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
                   </>
                 )}
               </p>
-              <ChannelRoleForm
-                rig={rig}
-                capture={capture}
-                detection={detection.data}
-                busy={save.isPending || start.isPending}
-                error={save.error ?? start.error}
-                disabled={!mayDecode || active}
-                onSubmit={(settings) => save.mutate(settings, { onSuccess: () => start.mutate() })}
-              />
+              <FinderPanel discovery={found} error={discovery.error} shownKey={candidate?.key ?? null} disabled={!mayDecode || active} onUse={setPicked} />
+              {waitForFinder || !formDetection ? null : (
+                <ChannelRoleForm
+                  key={candidate?.key ?? 'saved'}
+                  rig={rig}
+                  capture={candidate ? { ...capture, settings: null } : capture}
+                  detection={formDetection}
+                  directionNotes={directionNotes}
+                  seenStations={(found?.roster ?? []).map((st) => st.address)}
+                  samplesPerBit={candidate && candidate.settings.format === 'raw' && !candidate.settings.sampleRate && !candidate.clock ? candidate.samplesPerBit : null}
+                  busy={save.isPending || start.isPending}
+                  error={save.error ?? start.error}
+                  disabled={!mayDecode || active}
+                  onSubmit={(settings) => save.mutate(settings, { onSuccess: () => start.mutate() })}
+                />
+              )}
               {!mayDecode ? <p className="text-sm text-muted">Viewers cannot change channel roles or decode; an analyst or the owner can.</p> : null}
             </div>
           ) : null}
@@ -110,6 +146,7 @@ export function CaptureSetup({ rig, captureId }: { rig: RigDetail; captureId: nu
             </p>
           </ErrorNotice>
         ) : null}
+        {current?.state === 'done' ? <DecodeDiagnosis rig={rig} capture={capture} onRedecode={() => undefined} /> : null}
         {current?.state === 'done' ? (
           <ButtonLink to={`${captureScope(rig.id, captureId).page}`}>Open the overview</ButtonLink>
         ) : null}

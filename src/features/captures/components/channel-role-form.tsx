@@ -35,11 +35,17 @@ interface Props {
   /** the save or decode error from the server, shown in place */
   error: unknown;
   disabled?: boolean;
+  /** per data channel: what the settings finder said about its direction */
+  directionNotes?: Record<string, string>;
+  /** stations seen in the capture that the rig does not list yet */
+  seenStations?: number[];
+  /** samples per bit the settings finder measured (raw samples without a sample rate): the bit rate follows from a sample rate */
+  samplesPerBit?: number | null;
   onSubmit: (settings: ReturnType<typeof settingsFromForm>) => void;
 }
 
 /** The channel-role form: what each channel carries, and how the line is coded. */
-export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled, onSubmit }: Props) {
+export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled, directionNotes = {}, seenStations = [], samplesPerBit = null, onSubmit }: Props) {
   const [form, setForm] = useState<RoleFormState>(() => initialRoleForm(detection, capture, rig.lineSettings));
   // what the form held when it was opened or last saved: leaving with anything else asks first
   const [baseline, setBaseline] = useState(form);
@@ -63,6 +69,9 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
   const stationOptions = [
     { value: '', label: 'Station not known' },
     ...[...rig.stations].sort((a, b) => a.address - b.address).map((s) => ({ value: String(s.address), label: `${formatAddress(s.address)} ${s.name}` })),
+    ...seenStations
+      .filter((a) => !rig.stations.some((s) => s.address === a))
+      .map((a) => ({ value: String(a), label: `${formatAddress(a)} (seen in the capture)` })),
   ];
 
   function submit(event: FormEvent<HTMLFormElement>) {
@@ -102,7 +111,15 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
               label="Sample rate (samples/s)"
               inputMode="decimal"
               value={form.sampleRate}
-              onChange={(e) => set('sampleRate', e.target.value)}
+              onChange={(e) => {
+                const rate = Number(e.target.value);
+                // the finder measured samples per bit: with the sample rate, the bit rate follows
+                setForm((f) => ({
+                  ...f,
+                  sampleRate: e.target.value,
+                  ...(samplesPerBit && rate > 0 && f.clock === '' ? { bitRate: String(Math.round(rate / samplesPerBit)) } : {}),
+                }));
+              }}
               error={errors.sampleRate}
               placeholder={csvTimeStep !== null ? 'from the time column' : undefined}
               hint={
@@ -127,6 +144,19 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
               error={errors.rawWidth}
             />
           ) : null}
+        </div>
+        <div className="grid gap-4 sm:grid-cols-3">
+          <SelectField
+            label="Frame check sequence"
+            value={form.fcs}
+            onChange={(e) => set('fcs', e.target.value as '16' | '32')}
+            options={[
+              { value: '16', label: 'FCS-16 (CRC-16/IBM-SDLC)' },
+              { value: '32', label: 'FCS-32 (CRC-32/ISO-HDLC)' },
+            ]}
+            error={errors.fcs}
+            hint="Most controllers of the period send the 16-bit FCS"
+          />
         </div>
         {form.format === 'raw' ? (
           <TextField
@@ -242,6 +272,7 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
                         onChange={(e) => setRow(row.name, { label: e.target.value })}
                         error={rowError(row, 'label')}
                       />
+                      {directionNotes[row.name] ? <p className="text-xs text-muted sm:col-span-3">{directionNotes[row.name]}</p> : null}
                     </div>
                   ) : null}
                   {details && row.use === 'handshake' ? (

@@ -27,6 +27,7 @@ export interface RoleFormState {
   encoding: 'nrz' | 'nrzi';
   edge: 'rising' | 'falling';
   invert: boolean;
+  fcs: '16' | '32';
 }
 
 const handshakeName = /^(rts|cts|dcd|dtr|dsr|ri|cd)/i;
@@ -65,6 +66,7 @@ export function initialRoleForm(detection: Detection, capture: CaptureSummaryRow
     encoding: s?.encoding ?? line.encoding,
     edge: s?.edge ?? line.clockEdge,
     invert: s?.invert ?? false,
+    fcs: s?.fcs === 32 ? '32' : '16',
   };
 }
 
@@ -88,6 +90,7 @@ export function settingsFromForm(f: RoleFormState): CaptureSettingsInput {
     encoding: f.encoding,
     edge: f.edge,
     invert: f.invert,
+    fcs: f.fcs === '32' ? 32 : 16,
   };
 }
 

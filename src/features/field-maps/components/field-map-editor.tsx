@@ -13,6 +13,8 @@ import { addLayout, looksLikeFieldMap, moveLayout, removeLayout } from './draft-
 import { FramePreview } from './frame-preview';
 import { LayoutEditor } from './layout-editor';
 import { LayoutTable } from './layout-table';
+import { CallsEditor } from './calls-editor';
+import { FieldHintsPanel } from '../../../components/discovery/field-hints-panel';
 import { MapSettings } from './map-settings';
 import { VersionDiff } from './version-diff';
 
@@ -250,6 +252,16 @@ export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: P
       <Card>
         <CardTitle>The map</CardTitle>
         <MapSettings key={generation} doc={draft} errors={errors} editable={editable} onChange={(doc) => edit(doc)} />
+      </Card>
+
+      <Card>
+        <CardTitle>Field hints</CardTitle>
+        <FieldHintsPanel rig={rig} captureId={view.captureId} />
+      </Card>
+
+      <Card>
+        <CardTitle>Calls</CardTitle>
+        <CallsEditor doc={draft} errors={errors} editable={editable} onChange={(doc) => edit(doc)} />
       </Card>
 
       <Card>

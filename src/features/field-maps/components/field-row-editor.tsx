@@ -155,6 +155,23 @@ export function FieldRowEditor({ field, index, count, earlier, path, errors, onC
           </label>
         </td>
       </tr>
+      {field.role === 'length' || field.lengthAdd !== undefined ? (
+        <tr>
+          <td />
+          <td colSpan={7} className="px-1 pb-2">
+            <label className="inline-block text-xs text-muted">
+              The length value counts the octets after {field.id || 'this field'} plus
+              <input
+                aria-label={`Field ${n} length add`}
+                type="number"
+                className={`${input} ${border(err('lengthAdd'))} ml-2 inline-block w-24 font-mono`}
+                value={field.lengthAdd ?? 0}
+                onChange={(e) => onChange({ lengthAdd: Number(e.target.value) ? Number(e.target.value) : undefined })}
+              />
+            </label>
+          </td>
+        </tr>
+      ) : null}
       {field.type === 'bits' || field.bits ? (
         <tr>
           <td />

@@ -1,7 +1,7 @@
 import { useMemo, useState } from 'react';
 import { applyFieldMap, type CallDirection, type FieldMap } from '../../../../shared/decoder/calls';
 import { ErrorNotice } from '../../../components/notice';
-import { decodedNewestFirst, usePreviewCaptures, usePreviewFrame, usePreviewFrames } from '../api/get-preview-frame';
+import { decodedNewestFirst, usePreviewCaptures, usePreviewFrame, usePreviewFrames } from '../../../lib/preview-frame';
 import { swatch } from './field-colours';
 
 interface Props {

@@ -1,7 +1,7 @@
 import { queryOptions, useQueries, useQuery } from '@tanstack/react-query';
 import type { ExchangeStats } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
-import { overviewKeys } from './get-overview';
+import { overviewKeys } from '../../../lib/overview';
 import { captureScope } from '../../../lib/scope';
 
 /** Bins per turnaround histogram: fine enough to see a second hump, coarse enough for a small card. */

@@ -4,7 +4,7 @@ import { Card, CardTitle } from '../../../components/card';
 import { frameStatusColours, frameStatusHelp, frameStatusLabels } from '../../../components/status-chip';
 import { formatCount, formatDuration } from '../../../components/units';
 import { formatAddress } from '../../../lib/format';
-import { useOverview } from '../api/get-overview';
+import { useOverview } from '../../../lib/overview';
 import { BarList } from './bar-list';
 import { FramesOverTimeChart } from './frames-over-time-chart';
 import { GapHistogram } from './gap-histogram';

@@ -1,8 +1,8 @@
 import { queryOptions, useQuery, type QueryClient } from '@tanstack/react-query';
-import type { CaptureSummaryRow, FrameDetail, TimelineFrame, TimelinePage } from '../../../../shared/schemas';
-import { api } from '../../../lib/api';
-import { fieldMapKeys } from './field-map-keys';
-import { captureScope } from '../../../lib/scope';
+import type { CaptureSummaryRow, FrameDetail, TimelineFrame, TimelinePage } from '../../shared/schemas';
+import { api } from './api';
+import { fieldMapKeys } from '../features/field-maps/api/field-map-keys';
+import { captureScope } from './scope';
 
 // The preview reads frames through the capture and timeline APIs: the rig's captures, the first
 // I frames of one, and the chosen frame's octets.

@@ -1,8 +1,8 @@
 import { useMutation, useQueryClient } from '@tanstack/react-query';
-import type { CaptureSettingsInput, CaptureSummaryRow } from '../../../../shared/schemas';
-import { api } from '../../../lib/api';
-import { captureKeys } from './capture-keys';
-import { captureScope } from '../../../lib/scope';
+import type { CaptureSettingsInput, CaptureSummaryRow } from '../../shared/schemas';
+import { api } from './api';
+import { captureKeys } from '../features/captures/api/capture-keys';
+import { captureScope } from './scope';
 
 export function saveSettings(rigId: number, captureId: number, settings: CaptureSettingsInput): Promise<CaptureSummaryRow> {
   return api(`${captureScope(rigId, captureId).path}/settings`, { method: 'PUT', body: settings });

@@ -1,4 +1,4 @@
-import type { Role } from '../../../../shared/schemas';
+import type { Role } from '../../shared/schemas';
 
 /** What the capture screens offer per role; the server refuses the same things on its own. */
 export const canCapture = {

@@ -1,8 +1,8 @@
 import { queryOptions, useMutation, useQuery, useQueryClient } from '@tanstack/react-query';
-import type { DecodeJob } from '../../../../shared/schemas';
-import { api } from '../../../lib/api';
-import { captureKeys } from './capture-keys';
-import { captureScope } from '../../../lib/scope';
+import type { DecodeJob } from '../../shared/schemas';
+import { api } from './api';
+import { captureKeys } from '../features/captures/api/capture-keys';
+import { captureScope } from './scope';
 
 export function fetchJob(rigId: number, captureId: number): Promise<DecodeJob> {
   return api(`${captureScope(rigId, captureId).path}/job`);

@@ -1,7 +1,7 @@
 import { queryOptions, useQuery } from '@tanstack/react-query';
-import type { CaptureCallLayer } from '../../../../shared/schemas';
-import { api } from '../../../lib/api';
-import { captureScope } from '../../../lib/scope';
+import type { CaptureCallLayer } from '../../shared/schemas';
+import { api } from './api';
+import { captureScope } from './scope';
 
 /** The capture's call layer: chosen field map, visible run, pending run. */
 export const callLayerKeys = {

@@ -1,7 +1,7 @@
 import { queryOptions, useSuspenseQuery } from '@tanstack/react-query';
-import type { CaptureOverview } from '../../../../shared/schemas';
-import { api } from '../../../lib/api';
-import { captureScope } from '../../../lib/scope';
+import type { CaptureOverview } from '../../shared/schemas';
+import { api } from './api';
+import { captureScope } from './scope';
 
 export const overviewKeys = {
   capture: (rigId: number, captureId: number) => [...captureScope(rigId, captureId).decoded, 'overview'] as const,

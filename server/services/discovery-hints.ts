@@ -1,0 +1,59 @@
+// Field hints over a decoded capture: its good information frames, told request or answer by the
+// link directions of the decode's settings, through the hints engine (shared/decoder/hints).
+import type Database from 'better-sqlite3';
+import { callLayerRoles } from '../../shared/decoder/calls';
+import { FieldHints, hintFrameOf } from '../../shared/decoder/hints';
+import type { CaptureFieldHints, FieldHintsQuery } from '../../shared/schemas';
+import { FRAME_COLUMNS, frameFromRow } from '../jobs/call-stage';
+
+type FrameRow = Parameters<typeof frameFromRow>[0];
+import { conflict } from '../http/errors';
+import type { CaptureRow } from './captures/rows';
+import { parseSettings } from './captures/rows';
+
+/** Frames the statistics take at most: beyond this the request thread would wait too long. */
+export const HINT_FRAME_LIMIT = 200_000;
+
+
+export function captureFieldHints(sqlite: Database.Database, c: CaptureRow, q: FieldHintsQuery): CaptureFieldHints {
+  const job = c.currentJobId === null ? undefined : (sqlite.prepare('select id, state, settings from decode_jobs where id = ?').get(c.currentJobId) as { id: number; state: string; settings: string } | undefined);
+  if (!job || job.state !== 'done') throw conflict('The capture has no finished decode yet: decode it first, then its field hints can be counted');
+  const settings = parseSettings(job.settings);
+  if (!settings) throw conflict('The decode has no channel roles');
+  const { links } = callLayerRoles(settings);
+  const roles = new Map(links.map((l) => [l.link, l]));
+  const skippedLinks = settings.links
+    .filter((l) => l.direction === 'unknown')
+    .map((l) => ({ link: l.channel, why: 'its direction is not known, so its frames are neither requests nor answers; set it in the channel roles' }));
+  const engine = new FieldHints({ selectorOffset: q.selector === 'none' ? null : q.selector });
+  const ids = new Map<string, number>();
+  let read = 0;
+  let limited = false;
+  const rows = sqlite
+    .prepare(`select ${FRAME_COLUMNS} from frames where job_id = ? and status = 'ok' and info_length > 0 order by first_sample, id`)
+    .iterate(job.id) as Iterable<FrameRow & { id: number }>;
+  for (const r of rows) {
+    if (read >= HINT_FRAME_LIMIT) {
+      limited = true;
+      break;
+    }
+    const f = frameFromRow(r);
+    const h = hintFrameOf(f, roles.get(f.link));
+    if (!h) continue;
+    read++;
+    ids.set(`${f.link}:${f.seq}`, r.id);
+    engine.push(h);
+  }
+  const report = engine.finish();
+  const frameIds: Record<string, number> = {};
+  for (const g of report.groups) {
+    for (const h of g.hints) {
+      for (const ref of [...h.supporting, ...h.contradicting]) {
+        const k = `${ref.link}:${ref.seq}`;
+        const id = ids.get(k);
+        if (id !== undefined) frameIds[k] = id;
+      }
+    }
+  }
+  return { report, frameIds, skippedLinks, limited, frameLimit: HINT_FRAME_LIMIT };
+}
