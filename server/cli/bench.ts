@@ -11,6 +11,7 @@
 //                                     and the decoder with the fault desk's anomaly tap
 //   npm run bench -- --cli-mb 1024    the same with the memory target: 1 GB raw under 300 MB RSS
 //   npm run bench -- --cli-mb 400 --cli-only   only the rows on the file
+//   npm run bench -- --readers        only each reader alone: MB/s of input per capture format
 //   npm run bench -- --timing         only the service statistics (1 M frames) and schedule window rows
 import { spawn, spawnSync } from 'node:child_process';
 import { closeSync, existsSync, mkdtempSync, openSync, readFileSync, readSync, rmSync, writeSync } from 'node:fs';
@@ -21,6 +22,7 @@ import { parseArgs } from 'node:util';
 import { checkFrame, Deframer, createDecoder, ClockedRawBits } from '../../shared/decoder';
 import { requestInfo, responseInfo, planEpisode, type EpisodeStation, encodeLineBits, randomFrame, seededRng, type LineItem, renderWaveform, type Waveform, collect, rawChunks, vcdChunks } from '../../shared/decoder/encode';
 import { RawReader } from '../../shared/decoder/readers';
+import { benchReaders } from './bench-readers';
 import { LineTiming, scheduleWindow, type TimingExchange, type TimingFrame } from '../../shared/decoder/timing';
 import { benchDiscovery } from './bench-discovery';
 import { benchStartup } from './bench-startup';
@@ -535,12 +537,24 @@ function runMeasured(cmd: string, args: string[], stderr: 'inherit' | 'ignore' =
 
 async function main(): Promise<void> {
   const { values } = parseArgs({
-    options: { 'cli-mb': { type: 'string' }, 'cli-only': { type: 'boolean' }, general: { type: 'boolean' }, timing: { type: 'boolean' }, stage: { type: 'string' }, file: { type: 'string' } },
+    options: {
+      'cli-mb': { type: 'string' },
+      'cli-only': { type: 'boolean' },
+      general: { type: 'boolean' },
+      timing: { type: 'boolean' },
+      readers: { type: 'boolean' },
+      stage: { type: 'string' },
+      file: { type: 'string' },
+    },
     strict: true,
   });
   if (values.stage !== undefined) {
     if (!(STAGES as readonly string[]).includes(values.stage) || !values.file) throw new Error(`--stage takes one of ${STAGES.join(', ')} and --file`);
     runStage(values.stage as Stage, values.file, DENSE);
+    return;
+  }
+  if (values.readers) {
+    benchReaders((line) => process.stdout.write(line + '\n'));
     return;
   }
   process.stdout.write(`Flagline decoder benchmarks (node ${process.version}; load average ${loadavg().map((l) => l.toFixed(1)).join(' ')}; ${cpus().length} CPUs)\n`);
