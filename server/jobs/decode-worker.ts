@@ -23,6 +23,14 @@ export interface DecodeWorkerData {
 }
 
 export type DecodeWorkerMessage = { type: 'done'; frames: number; events: number } | { type: 'failed'; error: string };
+/** sent at least every PROGRESS_MS while the worker moves on: the runner's watchdog listens */
+export interface DecodeWorkerProgress {
+  type: 'progress';
+  bytesRead: number;
+  bytesTotal: number;
+  /** time into the capture of the latest frame or event, once the time base is known */
+  seconds: number | null;
+}
 
 const PROGRESS_MS = 250;
 const CHUNK = 1 << 20;
@@ -67,8 +75,17 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
           ? new CsvSeekTracker({ sampleRate: data.settings.sampleRate ?? undefined }, addPoint)
           : null;
     const progress = db.prepare("update decode_jobs set bytes_read = ?, frames = ?, events = ?, stage = ? where id = ? and state = 'running'");
-    db.prepare("update decode_jobs set stage = 'decoding', bytes_total = ? where id = ?").run(fs.statSync(data.filePath).size, data.jobId);
+    const bytesTotal = fs.statSync(data.filePath).size;
+    db.prepare("update decode_jobs set stage = 'decoding', bytes_total = ? where id = ?").run(bytesTotal, data.jobId);
     let bytes = 0;
+    const heartbeat = () =>
+      parentPort?.postMessage({
+        type: 'progress',
+        bytesRead: bytes,
+        bytesTotal,
+        seconds: period > 0 ? writer.lastSample * period : null,
+      } satisfies DecodeWorkerProgress);
+    heartbeat();
     let lastReport = Date.now();
     for await (const chunk of fs.createReadStream(data.filePath, { highWaterMark: CHUNK })) {
       const bytesIn = new Uint8Array((chunk as Buffer).buffer, (chunk as Buffer).byteOffset, (chunk as Buffer).length);
@@ -81,6 +98,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       if (now - lastReport >= PROGRESS_MS) {
         writer.flush();
         progress.run(bytes, writer.frames, writer.events, 'decoding', data.jobId);
+        heartbeat();
         lastReport = now;
       }
     }
@@ -90,9 +108,10 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     if (fatal) return { type: 'failed', error: describeIssue(fatal) };
     writer.flush();
     progress.run(bytes, writer.frames, writer.events, 'indexing', data.jobId);
+    heartbeat();
     storeFaultReport(db, data.jobId, data.captureId, period, faults.report(writer.lastSample));
-    indexSearch(db, data.jobId);
-    const calls = await callStage(db, data, period);
+    indexSearch(db, data.jobId, undefined, heartbeat);
+    const calls = await callStage(db, data, period, heartbeat);
     const issues = decoder.issues.slice(0, 20).map(describeIssue);
     const committed = db.transaction(() => {
       const done = db
@@ -119,13 +138,13 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
  * The call-layer stage over the run's frames with the capture's chosen map. A failure here (a
  * stored map that no longer parses, say) fails the call run, not the decode.
  */
-async function callStage(db: Database.Database, data: DecodeWorkerData, period: number) {
+async function callStage(db: Database.Database, data: DecodeWorkerData, period: number, heartbeat: () => void) {
   let runId: number | null = null;
   try {
     db.prepare("update decode_jobs set stage = 'calls' where id = ? and state = 'running'").run(data.jobId);
     const m = chosenMap(db, data.captureId);
     runId = createCallRun(db, data.captureId, data.jobId, m, 'running');
-    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map: m.map, settings: data.settings, samplePeriod: period });
+    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map: m.map, settings: data.settings, samplePeriod: period, pause: async () => heartbeat() });
     return { runId, counts };
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);

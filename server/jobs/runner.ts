@@ -2,14 +2,19 @@ import { Worker } from 'node:worker_threads';
 import type Database from 'better-sqlite3';
 import type { CaptureSettings } from '../../shared/schemas';
 import type { CaptureStore } from '../storage/capture-store';
-import type { DecodeWorkerData, DecodeWorkerMessage } from './decode-worker';
+import type { DecodeWorkerData, DecodeWorkerMessage, DecodeWorkerProgress } from './decode-worker';
 import { clearCallRunRows, recoverCallRuns, staleCallRuns } from './call-stage';
 import { clearRunRows } from './run-rows';
+
+const START_UP_ALLOWANCE_MS = 30_000;
 
 interface Active {
   jobId: number;
   captureId: number;
   worker: Worker;
+  /** the last position the worker reported, for the watchdog's message */
+  position: { bytesRead: number; bytesTotal: number; seconds: number | null };
+  lastProgressAt: number;
   /** set by killForTest: the exit is left unrecorded, as after a crash */
   killed: boolean;
   done: Promise<void>;
@@ -26,12 +31,16 @@ export class JobRunner {
   private closed = false;
   private sweeping = false;
   private readonly idleWaiters: (() => void)[] = [];
+  private readonly stallMs: number;
 
   constructor(
     private readonly sqlite: Database.Database,
     private readonly dbPath: string,
     private readonly store: CaptureStore,
-  ) {}
+    opts: { stallSeconds?: number } = {},
+  ) {
+    this.stallMs = (opts.stallSeconds ?? decodeStallSeconds()) * 1000;
+  }
 
   /** Adds a queued run for the capture and starts it when the queue is free. */
   enqueue(captureId: number, settings: CaptureSettings, bytesTotal: number): number {
@@ -136,15 +145,39 @@ export class JobRunner {
       filePath: this.store.pathOf(job.sha256),
       settings: JSON.parse(job.settings) as CaptureSettings,
     };
-    // a JavaScript entry that registers tsx: runs the TypeScript worker under `tsx` and inside vitest alike
-    const worker = new Worker(new URL('./decode-worker-entry.mjs', import.meta.url), { workerData: data });
+    const worker = new Worker(workerModule(), { workerData: data });
     let outcome: DecodeWorkerMessage | null = null;
     let resolveDone!: () => void;
-    const active: Active = { jobId, captureId: job.captureId, worker, killed: false, done: new Promise((r) => (resolveDone = r)) };
+    const active: Active = {
+      jobId,
+      captureId: job.captureId,
+      worker,
+      position: { bytesRead: 0, bytesTotal: 0, seconds: null },
+      lastProgressAt: Date.now(),
+      killed: false,
+      done: new Promise((r) => (resolveDone = r)),
+    };
     this.active = active;
-    worker.on('message', (m: DecodeWorkerMessage) => (outcome = m));
+    // The watchdog: a worker that reports no progress for stallMs is stuck (a decoder walking a
+    // huge gap, say); it is stopped so the queue moves on, and the run fails naming where it was.
+    // Until its first report the worker is still loading its code, which on a busy machine
+    // can take a while; that gets a start-up allowance on top.
+    let reported = false;
+    const watchdog = setInterval(() => {
+      if (Date.now() - active.lastProgressAt < this.stallMs + (reported ? 0 : START_UP_ALLOWANCE_MS)) return;
+      clearInterval(watchdog);
+      outcome = { type: 'failed', error: stallMessage(this.stallMs / 1000, active.position) };
+      void worker.terminate();
+    }, Math.min(1000, Math.max(50, this.stallMs / 4)));
+    worker.on('message', (m: DecodeWorkerMessage | DecodeWorkerProgress) => {
+      active.lastProgressAt = Date.now();
+      reported = true;
+      if (m.type === 'progress') active.position = { bytesRead: m.bytesRead, bytesTotal: m.bytesTotal, seconds: m.seconds };
+      else outcome ??= m;
+    });
     worker.on('error', (err) => (outcome ??= { type: 'failed', error: `The decoder stopped: ${err.message}` }));
     worker.on('exit', () => {
+      clearInterval(watchdog);
       this.active = null;
       if (!active.killed && !this.closed) {
         const o = outcome as DecodeWorkerMessage | null;
@@ -210,4 +243,28 @@ export class JobRunner {
     recoverCallRuns(this.sqlite);
     for (const id of this.staleRuns()) clearRunRows(this.sqlite, id);
   }
+}
+
+/** Seconds without progress after which a decode is stopped: FLAGLINE_DECODE_STALL_S, default 60. */
+export function decodeStallSeconds(): number {
+  const raw = Number(process.env.FLAGLINE_DECODE_STALL_S);
+  return Number.isFinite(raw) && raw > 0 ? raw : 60;
+}
+
+export function stallMessage(seconds: number, at: { bytesRead: number; bytesTotal: number; seconds: number | null }): string {
+  const where =
+    `byte ${at.bytesRead.toLocaleString('en-US')} of ${at.bytesTotal.toLocaleString('en-US')}` +
+    (at.seconds !== null ? `, ${at.seconds.toPrecision(6)} s into the capture` : '');
+  return `The decoder made no progress for ${seconds} s and was stopped at ${where}. The capture may have a huge time gap or settings that do not fit it; check the channel roles and rates, then decode again.`;
+}
+
+/**
+ * The worker module: the real one, or under vitest one named by FLAGLINE_TEST_DECODE_WORKER
+ * (tests of the watchdog need a worker that stalls on purpose).
+ */
+function workerModule(): URL {
+  const testModule = process.env.VITEST ? process.env.FLAGLINE_TEST_DECODE_WORKER : undefined;
+  if (testModule) return new URL(`file://${testModule}`);
+  // a JavaScript entry that registers tsx: runs the TypeScript worker under `tsx` and inside vitest alike
+  return new URL('./decode-worker-entry.mjs', import.meta.url);
 }
