@@ -6,20 +6,23 @@ import { parentPort, workerData } from 'node:worker_threads';
 import Database from 'better-sqlite3';
 import { createDecoder, type Decoder } from '../../shared/decoder/pipeline';
 import type { DecodeIssue } from '../../shared/decoder/types';
-import type { CaptureSettings } from '../../shared/schemas';
-import { chosenMap, createCallRun, runCallStage, switchToCallRun } from './call-stage';
-import { decoderOptions } from './decoder-options';
-import { FaultRecorder, faultCallKey, storeFaultReport } from './fault-rows';
-import { indexSearch, RunWriter } from './run-rows';
-import { CsvSeekTracker } from './csv-seek';
-import { type SeekPoint, VcdSeekTracker } from './vcd-seek';
+import { createCallRun, switchToCallRun } from '../runs/call-runs';
+import { runCallStage } from '../runs/call-stage';
+import { decoderOptions } from '../runs/decoder-options';
+import { FaultRecorder, faultCallKey, storeFaultReport } from '../runs/fault-rows';
+import { loadMapVersion, type RunInputs } from '../runs/inputs';
+import { RunWriter } from '../runs/run-writer';
+import { indexSearch } from '../runs/search-index';
+import { CsvSeekTracker } from '../runs/seek/csv-seek';
+import { type SeekPoint, VcdSeekTracker } from '../runs/seek/vcd-seek';
 
 export interface DecodeWorkerData {
   dbPath: string;
   jobId: number;
   captureId: number;
   filePath: string;
-  settings: CaptureSettings;
+  /** the run's inputs snapshot (decode_jobs.inputs) */
+  inputs: RunInputs;
 }
 
 export type DecodeWorkerMessage = { type: 'done'; frames: number; events: number } | { type: 'failed'; error: string };
@@ -52,9 +55,9 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     // Frames reach the writer during push(), as soon as the reader's header has set the time base,
     // so the writer asks the decoder itself rather than a copy taken between pushes.
     const writer = new RunWriter(db, data.jobId, data.captureId, () => decoder.samplePeriodSeconds ?? period);
-    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.captureId, data.settings));
+    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.inputs));
     const decoder: Decoder = createDecoder(
-      { ...decoderOptions(data.settings), anomalies: faults },
+      { ...decoderOptions(data.inputs.capture), anomalies: faults },
       {
         frame: (f) => {
           writer.frame(f);
@@ -69,10 +72,10 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     const addSeek = db.prepare('insert into seek_points (job_id, byte_offset, sample, levels) values (?, ?, ?, ?)');
     const addPoint = (p: SeekPoint) => addSeek.run(data.jobId, p.byteOffset, p.sample, JSON.stringify(p.levels));
     const seek =
-      data.settings.format === 'vcd'
+      data.inputs.capture.format === 'vcd'
         ? new VcdSeekTracker(addPoint)
-        : data.settings.format === 'csv'
-          ? new CsvSeekTracker({ sampleRate: data.settings.sampleRate ?? undefined }, addPoint)
+        : data.inputs.capture.format === 'csv'
+          ? new CsvSeekTracker({ sampleRate: data.inputs.capture.sampleRate ?? undefined }, addPoint)
           : null;
     const progress = db.prepare("update decode_jobs set bytes_read = ?, frames = ?, events = ?, stage = ? where id = ? and state = 'running'");
     const bytesTotal = fs.statSync(data.filePath).size;
@@ -135,16 +138,16 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
 }
 
 /**
- * The call-layer stage over the run's frames with the capture's chosen map. A failure here (a
+ * The call-layer stage over the run's frames with the run's map and answer timeout. A failure here (a
  * stored map that no longer parses, say) fails the call run, not the decode.
  */
 async function callStage(db: Database.Database, data: DecodeWorkerData, period: number, heartbeat: () => void) {
   let runId: number | null = null;
   try {
     db.prepare("update decode_jobs set stage = 'calls' where id = ? and state = 'running'").run(data.jobId);
-    const m = chosenMap(db, data.captureId);
-    runId = createCallRun(db, data.captureId, data.jobId, m, 'running');
-    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map: m.map, settings: data.settings, samplePeriod: period, pause: async () => heartbeat() });
+    runId = createCallRun(db, data.captureId, data.jobId, data.inputs, 'running');
+    const { map } = loadMapVersion(db, data.inputs.fieldMap.mapId, data.inputs.fieldMap.version);
+    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map, inputs: data.inputs, samplePeriod: period, pause: async () => heartbeat() });
     return { runId, counts };
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);

@@ -2,7 +2,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { encodeLineBits } from '../../shared/decoder/encode/line-bits';
 import { renderWaveform } from '../../shared/decoder/encode/waveform';
 import { csvChunks, type CsvWriterOptions } from '../../shared/decoder/encode/writers/csv';
-import { SEEK_SPACING } from '../../server/jobs/vcd-seek';
+import { SEEK_SPACING } from '../../server/runs/seek/vcd-seek';
 import { buildWorld, closeWorld, linkTraffic, put, upload, waitForJob, type World } from './captures-helpers';
 
 /** A clocked capture ("clk", "tx", "rx") written as a CSV sample table of several megabytes. */

@@ -99,6 +99,10 @@ export interface ExchangeSink {
   serviceDelay?(d: ServiceDelay): void;
 }
 
+/**
+ * The answer timeout unless the rig sets one (common practice for polled file servers: half a
+ * second before a station gives up on an answer); the rig schema and table default read it here.
+ */
 export const DEFAULT_TIMEOUT_SECONDS = 0.5;
 
 interface Open {

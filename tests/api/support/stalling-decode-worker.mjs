@@ -3,7 +3,7 @@
 // bit by bit would; any other run is handed to the real worker.
 import { parentPort, workerData } from 'node:worker_threads';
 
-if (workerData.settings.channelNames.includes('stall')) {
+if (workerData.inputs.capture.channelNames.includes('stall')) {
   parentPort.postMessage({ type: 'progress', bytesRead: 4096, bytesTotal: 8192, seconds: 0.25 });
   for (;;) {
     // busy: no event loop turn, no message, as a stuck decoder

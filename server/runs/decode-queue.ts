@@ -1,10 +1,9 @@
 import { Worker } from 'node:worker_threads';
 import type Database from 'better-sqlite3';
-import type { CaptureSettings } from '../../shared/schemas';
 import type { CaptureStore } from '../storage/capture-store';
-import type { DecodeWorkerData, DecodeWorkerMessage, DecodeWorkerProgress } from './decode-worker';
-import { clearCallRunRows, recoverCallRuns, staleCallRuns } from './call-stage';
-import { clearRunRows } from './run-rows';
+import type { DecodeWorkerData, DecodeWorkerMessage, DecodeWorkerProgress } from '../jobs/decode-worker';
+import type { RunInputs } from './inputs';
+import { clearCallRunRows, clearRunRows, recoverCallRuns, staleCallRuns, staleRuns } from './sweep';
 
 const START_UP_ALLOWANCE_MS = 30_000;
 
@@ -22,10 +21,11 @@ interface Active {
 
 /**
  * The server's decode queue: one run at a time (the machine's cores are shared with the API),
- * each in a worker thread with its own database connection. Runs are rows in decode_jobs; this
- * object only holds the queue order and the live worker.
+ * each in a worker thread (server/jobs/decode-worker.ts) with its own database connection, under
+ * a watchdog. Runs are rows in decode_jobs, created here with their inputs snapshot; this object
+ * only holds the queue order and the live worker, and sweeps the rows of replaced runs.
  */
-export class JobRunner {
+export class DecodeQueue {
   private readonly queue: number[] = [];
   private active: Active | null = null;
   private closed = false;
@@ -42,12 +42,15 @@ export class JobRunner {
     this.stallMs = (opts.stallSeconds ?? decodeStallSeconds()) * 1000;
   }
 
-  /** Adds a queued run for the capture and starts it when the queue is free. */
-  enqueue(captureId: number, settings: CaptureSettings, bytesTotal: number): number {
+  /** called after a run became its capture's visible one (the call queue checks for a map chosen meanwhile) */
+  onVisible: ((captureId: number, jobId: number) => void) | null = null;
+
+  /** Adds a queued run for the capture with its inputs snapshot and starts it when the queue is free. */
+  enqueue(captureId: number, inputs: RunInputs, bytesTotal: number): number {
     const jobId = Number(
       this.sqlite
-        .prepare("insert into decode_jobs (capture_id, state, stage, bytes_total, settings, created_at) values (?, 'queued', 'queued', ?, ?, ?)")
-        .run(captureId, bytesTotal, JSON.stringify(settings), Date.now()).lastInsertRowid,
+        .prepare("insert into decode_jobs (capture_id, state, stage, bytes_total, settings, inputs, created_at) values (?, 'queued', 'queued', ?, ?, ?, ?)")
+        .run(captureId, bytesTotal, JSON.stringify(inputs.capture), JSON.stringify(inputs), Date.now()).lastInsertRowid,
     );
     this.queue.push(jobId);
     queueMicrotask(() => this.next());
@@ -129,8 +132,8 @@ export class JobRunner {
       return;
     }
     const job = this.sqlite
-      .prepare('select j.id, j.capture_id as captureId, j.state, j.settings, c.sha256 from decode_jobs j join captures c on c.id = j.capture_id where j.id = ?')
-      .get(jobId) as { id: number; captureId: number; state: string; settings: string; sha256: string } | undefined;
+      .prepare('select j.id, j.capture_id as captureId, j.state, j.inputs, c.sha256 from decode_jobs j join captures c on c.id = j.capture_id where j.id = ?')
+      .get(jobId) as { id: number; captureId: number; state: string; inputs: string; sha256: string } | undefined;
     if (!job || job.state !== 'queued') return this.next();
     if (this.dbPath === ':memory:') {
       // a worker cannot reach an in-memory database
@@ -143,7 +146,7 @@ export class JobRunner {
       jobId,
       captureId: job.captureId,
       filePath: this.store.pathOf(job.sha256),
-      settings: JSON.parse(job.settings) as CaptureSettings,
+      inputs: JSON.parse(job.inputs) as RunInputs,
     };
     const worker = new Worker(workerModule(), { workerData: data });
     let outcome: DecodeWorkerMessage | null = null;
@@ -183,6 +186,7 @@ export class JobRunner {
         const o = outcome as DecodeWorkerMessage | null;
         if (!o) this.finish(jobId, 'failed', 'The decode worker stopped unexpectedly.');
         else if (o.type === 'failed') this.finish(jobId, 'failed', o.error);
+        else this.onVisible?.(active.captureId, jobId);
         this.sweep();
       }
       resolveDone();
@@ -194,17 +198,6 @@ export class JobRunner {
     this.sqlite
       .prepare("update decode_jobs set state = ?, stage = ?, error = ?, finished_at = ? where id = ? and state in ('queued', 'running')")
       .run(state, state, error, Date.now(), jobId);
-  }
-
-  /** runs whose rows are not needed: finished, not cleared, and not the visible run of their capture */
-  private staleRuns(): number[] {
-    return this.sqlite
-      .prepare(
-        `select j.id from decode_jobs j left join captures c on c.current_job_id = j.id
-         where j.state not in ('queued', 'running') and j.rows_cleared = 0 and c.id is null order by j.id`,
-      )
-      .pluck()
-      .all() as number[];
   }
 
   /** Clears stale runs a few batches at a time, yielding to requests in between. */
@@ -222,7 +215,7 @@ export class JobRunner {
         setImmediate(step);
         return;
       }
-      const stale = this.staleRuns();
+      const stale = staleRuns(this.sqlite);
       if (stale.length === 0) {
         this.sweeping = false;
         if (!this.active && this.queue.length === 0) this.idleWaiters.splice(0).forEach((r) => r());
@@ -241,7 +234,7 @@ export class JobRunner {
 
   private sweepNow(): void {
     recoverCallRuns(this.sqlite);
-    for (const id of this.staleRuns()) clearRunRows(this.sqlite, id);
+    for (const id of staleRuns(this.sqlite)) clearRunRows(this.sqlite, id);
   }
 }
 
@@ -266,5 +259,5 @@ function workerModule(): URL {
   const testModule = process.env.VITEST ? process.env.FLAGLINE_TEST_DECODE_WORKER : undefined;
   if (testModule) return new URL(`file://${testModule}`);
   // a JavaScript entry that registers tsx: runs the TypeScript worker under `tsx` and inside vitest alike
-  return new URL('./decode-worker-entry.mjs', import.meta.url);
+  return new URL('../jobs/decode-worker-entry.mjs', import.meta.url);
 }

@@ -1,8 +1,7 @@
 import type Database from 'better-sqlite3';
 import { callKeyFromFieldMap, FaultDesk, type CallKeyLookup, type FaultReport, type LineAnomaly } from '../../shared/decoder/faults';
 import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
-import type { CaptureSettings } from '../../shared/schemas';
-import { chosenMap } from './call-stage';
+import { loadMapVersion, type RunInputs } from './inputs';
 
 // The fault desk of one decode run, fed beside the row writer, and its report stored with the
 // run's job id (fault_rows, fault_summaries) so it becomes visible together with the frames.
@@ -45,14 +44,14 @@ export class FaultRecorder {
 }
 
 /**
- * The call-layer identity of frames under the capture's chosen map, so a repeated call counts as
+ * The call-layer identity of frames under the run's field map, so a repeated call counts as
  * the retransmission even when the link layer numbers it anew. Links of unknown direction have none;
  * a map that cannot be loaded leaves only N(S) matching (the call stage reports the map's failure).
  */
-export function faultCallKey(db: Database.Database, captureId: number, settings: CaptureSettings): CallKeyLookup | undefined {
+export function faultCallKey(db: Database.Database, inputs: RunInputs): CallKeyLookup | undefined {
   try {
-    const { map } = chosenMap(db, captureId);
-    const direction = new Map(settings.links.map((l) => [l.channel, l.direction]));
+    const { map } = loadMapVersion(db, inputs.fieldMap.mapId, inputs.fieldMap.version);
+    const direction = new Map(inputs.capture.links.map((l) => [l.channel, l.direction]));
     const byMap = callKeyFromFieldMap(map, (link) => (direction.get(link) === 'from-server' ? 'response' : 'request'));
     return (frame) => {
       const d = direction.get(frame.link);

@@ -1,9 +1,9 @@
 import type Database from 'better-sqlite3';
 import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
 
-// Rows of one decode run (frames + their search entries, line events, seek points), written in
-// batched transactions with prepared statements and removed the same way. Used by the worker
-// (its own connection) and by the runner's cleanup (the server's connection).
+// Rows of one decode run (frames, line events), written by the worker on its own connection in
+// batched transactions with prepared statements. The search index is search-index.ts, the
+// removal of replaced runs sweep.ts.
 
 const PRINTABLE = Array.from({ length: 256 }, (_, b) => (b >= 32 && b < 127 ? String.fromCharCode(b) : '.'));
 
@@ -132,65 +132,4 @@ export class RunWriter {
   flush(): void {
     if (this.frameRows.length > 0 || this.eventRows.length > 0) this.flushTx.immediate();
   }
-}
-
-/**
- * Adds a finished run's frames to the trigram search index, in chunks of ids (each a short
- * transaction that also records how far the index reaches), so the cleanup of a run stopped
- * half way removes exactly the entries that exist. FTS5 builds much faster from whole chunks
- * than row by row during the decode.
- */
-export function indexSearch(db: Database.Database, jobId: number, chunk = 20_000, onChunk?: () => void): void {
-  const range = db.prepare('select min(id) as lo, max(id) as hi from frames where job_id = ?').get(jobId) as { lo: number | null; hi: number | null };
-  if (range.lo === null || range.hi === null) return;
-  const add = db.prepare('insert into frame_search (rowid, hex, text) select id, hex, text from frames where job_id = ? and id between ? and ?');
-  const mark = db.prepare('update decode_jobs set search_indexed_to = ? where id = ?');
-  const step = db.transaction((from: number, to: number) => {
-    add.run(jobId, from, to);
-    mark.run(to, jobId);
-  });
-  for (let from = range.lo; from <= range.hi; from += chunk) {
-    step.immediate(from, Math.min(range.hi, from + chunk - 1));
-    onChunk?.();
-  }
-}
-
-/**
- * Deletes a run's rows in batches (each its own short transaction, so readers and the worker
- * are not held up long), then marks the run as cleared. Returns false while rows remain when
- * `maxBatches` ran out, so a caller can yield between calls.
- */
-export function clearRunRows(db: Database.Database, jobId: number, maxBatches = Infinity, batch = 5000): boolean {
-  const ids = db.prepare('select id from frames where job_id = ? order by id limit ?').pluck();
-  // only entries that were added may be deleted: a 'delete' of an absent entry corrupts an FTS5 index
-  const indexedTo = (db.prepare('select search_indexed_to from decode_jobs where id = ?').pluck().get(jobId) as number | undefined) ?? 0;
-  const dropSearch = db.prepare(
-    "insert into frame_search (frame_search, rowid, hex, text) select 'delete', id, hex, text from frames where job_id = ? and id between ? and min(?, ?)",
-  );
-  const dropFrames = db.prepare('delete from frames where job_id = ? and id between ? and ?');
-  const step = db.transaction((from: number, to: number) => {
-    if (from <= indexedTo) dropSearch.run(jobId, from, to, indexedTo);
-    dropFrames.run(jobId, from, to);
-  });
-  for (let k = 0; k < maxBatches; k++) {
-    const found = ids.all(jobId, batch) as number[];
-    if (found.length === 0) {
-      db.transaction(() => {
-        db.prepare('delete from line_events where job_id = ?').run(jobId);
-        db.prepare('delete from seek_points where job_id = ?').run(jobId);
-        db.prepare('delete from fault_rows where job_id = ?').run(jobId);
-        db.prepare('delete from fault_summaries where job_id = ?').run(jobId);
-        // the call layer's rows over these frames go with them
-        const callRuns = 'select id from call_runs where decode_job_id = ?';
-        db.prepare(`delete from exchange_frames where run_id in (${callRuns})`).run(jobId);
-        db.prepare(`delete from exchanges where run_id in (${callRuns})`).run(jobId);
-        db.prepare(`delete from recovered_files where run_id in (${callRuns})`).run(jobId);
-        db.prepare('update call_runs set rows_cleared = 1 where decode_job_id = ?').run(jobId);
-        db.prepare('update decode_jobs set rows_cleared = 1 where id = ?').run(jobId);
-      }).immediate();
-      return true;
-    }
-    step.immediate(found[0], found[found.length - 1]);
-  }
-  return false;
 }
