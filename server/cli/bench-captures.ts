@@ -118,6 +118,11 @@ async function main() {
     m.jobs.enqueue(1, decodeRunInputs(sqlite, 1, settings), size);
     await m.jobs.idle();
     const ingest = (performance.now() - t0) / 1000;
+    const phases = m.jobs.lastTimings;
+    if (phases) {
+      const total = Object.values(phases).reduce((a, b) => a + b, 0);
+      line('ingest phases (worker, wall)', Object.entries(phases).map(([k, v]) => `${k} ${(v / 1000).toFixed(1)} s`).join(', '), `sum ${(total / 1000).toFixed(1)} s`);
+    }
     const cpu = process.cpuUsage(cpu0);
     const cpuSeconds = (cpu.user + cpu.system) / 1e6;
     const job = sqlite.prepare('select state, frames, events, error from decode_jobs where id = 1').get() as { state: string; frames: number; events: number; error: string | null };

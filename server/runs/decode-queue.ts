@@ -1,7 +1,7 @@
 import { Worker } from 'node:worker_threads';
 import type Database from 'better-sqlite3';
 import type { CaptureStore } from '../storage/capture-store';
-import type { DecodeWorkerData, DecodeWorkerMessage, DecodeWorkerProgress } from '../jobs/decode-worker';
+import type { DecodeWorkerData, DecodeWorkerMessage, DecodeWorkerProgress, IngestTimings } from '../jobs/decode-worker';
 import type { RunInputs } from './inputs';
 import { clearCallRunRows, clearRunRows, recoverCallRuns, staleCallRuns, staleRuns } from './sweep';
 
@@ -41,6 +41,9 @@ export class DecodeQueue {
   ) {
     this.stallMs = (opts.stallSeconds ?? decodeStallSeconds()) * 1000;
   }
+
+  /** phase times of the last finished run (the ingest benchmark prints them) */
+  lastTimings: IngestTimings | null = null;
 
   /** called after a run became its capture's visible one (the call queue checks for a map chosen meanwhile) */
   onVisible: ((captureId: number, jobId: number) => void) | null = null;
@@ -186,7 +189,10 @@ export class DecodeQueue {
         const o = outcome as DecodeWorkerMessage | null;
         if (!o) this.finish(jobId, 'failed', 'The decode worker stopped unexpectedly.');
         else if (o.type === 'failed') this.finish(jobId, 'failed', o.error);
-        else this.onVisible?.(active.captureId, jobId);
+        else {
+          this.lastTimings = o.timings;
+          this.onVisible?.(active.captureId, jobId);
+        }
         this.sweep();
       }
       resolveDone();

@@ -8,7 +8,7 @@ import type Database from 'better-sqlite3';
  * half way removes exactly the entries that exist. FTS5 builds much faster from whole chunks
  * than row by row during the decode.
  */
-export function indexSearch(db: Database.Database, jobId: number, chunk = 20_000, onChunk?: () => void): void {
+export function indexSearch(db: Database.Database, jobId: number, chunk = 200_000, onChunk?: () => void): void {
   const range = db.prepare('select min(id) as lo, max(id) as hi from frames where job_id = ?').get(jobId) as { lo: number | null; hi: number | null };
   if (range.lo === null || range.hi === null) return;
   const add = db.prepare('insert into frame_search (rowid, hex, text) select id, hex, text from frames where job_id = ? and id between ? and ?');
