@@ -276,7 +276,10 @@ export const faultRows = sqliteTable(
     /** the frame's row of the same run (null only if it could not be matched) */
     frameId: integer('frame_id'),
     firstSample: real('first_sample').notNull(),
-    cause: text('cause', { enum: ['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'line-anomaly'] }).notNull(),
+    // every cause the fault desk gives (the column holds text; the list types it)
+    cause: text('cause', {
+      enum: ['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'line-anomaly', 'tx-underrun', 'underrun-fragment', 'rx-overrun', 'octet-timing'],
+    }).notNull(),
     station: integer('station'),
     corrected: integer('corrected', { mode: 'boolean' }).notNull().default(false),
     flippedBit: integer('flipped_bit'),

@@ -124,6 +124,8 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       period = decoder.samplePeriodSeconds ?? period;
       const now = Date.now();
       if (now - lastReport >= PROGRESS_MS) {
+        // the rows reported are the rows stored: a run stopped here leaves exactly these to clear
+        writer.flush();
         progress.run(bytes, writer.frames, writer.events, 'decoding', data.jobId);
         heartbeat();
         lastReport = now;

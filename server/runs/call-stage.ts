@@ -11,9 +11,15 @@ import type { FieldMap } from '../../shared/decoder/calls/field-map';
 import { recoverFiles } from '../../shared/decoder/calls/files';
 import type { LineEvent } from '../../shared/decoder/types';
 import type { RunInputs } from './inputs';
-import { FRAME_COLUMNS, frameFromRow, type StoredFrameRow } from './stored-frame';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
+import { and, eq, inArray } from 'drizzle-orm';
+import { placeholders } from '../db/placeholders';
+import * as schema from '../db/schema';
+import { exchangeFrames, exchanges, lineEvents, recoveredFiles } from '../db/schema';
+import { frameFromRow, storedFramePages } from './stored-frame';
 
 const PAGE = 5000;
+type ExchangeInsert = Omit<typeof exchanges.$inferInsert, 'id'>;
 
 /** The response's fields without the tag: what "answered the same" compares. */
 export function answerSignature(e: Exchange): string | null {
@@ -42,12 +48,9 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
   const period = input.samplePeriod;
   const frameIds = new Map<string, number>();
   const refKey = (link: string, seq: number) => `${link}\u0000${seq}`;
-  const insertExchange = db.prepare(
-    `insert into exchanges (run_id, capture_id, station, call_code, call_name, tag, file_name, record_number, status, status_meaning,
-       request_frame_id, retry_frame_ids, response_frame_ids, t_request, t_request_end, t_response, rtt, outcome, retries, service_delay, user, answer)
-     values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-  );
-  const insertLink = db.prepare('insert into exchange_frames (run_id, frame_id, exchange_id) values (?, ?, ?)');
+  const d = drizzle(db, { schema });
+  const insertExchange = d.insert(exchanges).values(placeholders(exchanges)).returning({ id: exchanges.id }).prepare();
+  const insertLink = d.insert(exchangeFrames).values(placeholders(exchangeFrames)).prepare();
   // exchanges about files keep what recoverFiles needs (record data), the rest only their row
   const fileExchanges: Exchange[] = [];
   const exchangeIdOfRequest = new Map<string, number>();
@@ -59,33 +62,32 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
       const requestId = id(e.request);
       const retryIds = e.retries.map(id).filter((x): x is number => x !== null);
       const responseIds = e.responses.map(id).filter((x): x is number => x !== null);
-      const exchangeId = Number(
-        insertExchange.run(
-          input.runId,
-          input.captureId,
-          e.station,
-          e.callCode,
-          e.callName,
-          e.tag,
-          e.fileName,
-          e.recordNumber,
-          e.status,
-          e.statusMeaning,
-          requestId,
-          JSON.stringify(retryIds),
-          JSON.stringify(responseIds),
-          e.firstSample * period,
-          e.answeredSendLastSample * period,
-          e.responseFirstSample === null ? null : e.responseFirstSample * period,
-          e.rttSeconds,
-          e.outcome,
-          e.retries.length,
-          e.serviceDelaySeconds,
-          e.requestCall.user,
-          answerSignature(e),
-        ).lastInsertRowid,
-      );
-      for (const f of [requestId, ...retryIds, ...responseIds]) if (f !== null) insertLink.run(input.runId, f, exchangeId);
+      const row: ExchangeInsert = {
+        runId: input.runId,
+        captureId: input.captureId,
+        station: e.station,
+        callCode: e.callCode,
+        callName: e.callName,
+        tag: e.tag,
+        fileName: e.fileName,
+        recordNumber: e.recordNumber,
+        status: e.status,
+        statusMeaning: e.statusMeaning,
+        requestFrameId: requestId,
+        retryFrameIds: JSON.stringify(retryIds),
+        responseFrameIds: JSON.stringify(responseIds),
+        tRequest: e.firstSample * period,
+        tRequestEnd: e.answeredSendLastSample * period,
+        tResponse: e.responseFirstSample === null ? null : e.responseFirstSample * period,
+        rtt: e.rttSeconds,
+        outcome: e.outcome,
+        retries: e.retries.length,
+        serviceDelay: e.serviceDelaySeconds,
+        user: e.requestCall.user,
+        answer: answerSignature(e),
+      };
+      const exchangeId = insertExchange.get(row)!.id;
+      for (const f of [requestId, ...retryIds, ...responseIds]) if (f !== null) insertLink.run({ runId: input.runId, frameId: f, exchangeId });
       if (e.fileName) {
         exchangeIdOfRequest.set(refKey(e.request.link, e.request.seq), exchangeId);
         fileExchanges.push(slim(e));
@@ -107,20 +109,19 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
   // RTS rises are few: read them first, then merge them into the frame pages by sample
   const rtsChannels = rts.map((r) => r.channel);
   const rises: LineEvent[] = rtsChannels.length
-    ? (
-        db
-          .prepare(`select link, channel, kind, sample from line_events where job_id = ? and kind = 'rise' and channel in (${rtsChannels.map(() => '?').join(', ')}) order by sample, id`)
-          .all(input.decodeJobId, ...rtsChannels) as LineEvent[]
-      )
+    ? d
+        .select({ link: lineEvents.link, channel: lineEvents.channel, kind: lineEvents.kind, sample: lineEvents.sample })
+        .from(lineEvents)
+        .where(and(eq(lineEvents.jobId, input.decodeJobId), eq(lineEvents.kind, 'rise'), inArray(lineEvents.channel, rtsChannels)))
+        .orderBy(lineEvents.sample, lineEvents.id)
+        .all()
     : [];
   let nextRise = 0;
-  const page = db.prepare(
-    `select ${FRAME_COLUMNS} from frames where job_id = ? and (t > ? or (t = ? and id > ?)) order by t, id limit ${PAGE}`,
-  );
+  const page = storedFramePages(d, PAGE);
   let lastT = -Infinity;
   let lastId = 0;
   for (;;) {
-    const rows = page.all(input.decodeJobId, lastT, lastT, lastId) as StoredFrameRow[];
+    const rows = page.all({ jobId: input.decodeJobId, t: lastT, id: lastId });
     if (rows.length === 0) break;
     for (const r of rows) {
       while (nextRise < rises.length && rises[nextRise].sample <= r.firstSample) layer.event(rises[nextRise++]);
@@ -138,30 +139,27 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
   if (pending.length) writePending.immediate();
 
   const files = recoverFiles(fileExchanges).filter((f) => f.recordCount > 0);
-  const insertFile = db.prepare(
-    `insert into recovered_files (run_id, capture_id, key, name, kind, user, stations, record_count, end_known, bytes, sha256, coverage, conflicts, exchange_ids)
-     values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-  );
+  const insertFile = d.insert(recoveredFiles).values(placeholders(recoveredFiles)).prepare();
   const exId = (ref: { link: string; seq: number }) => exchangeIdOfRequest.get(refKey(ref.link, ref.seq)) ?? null;
   db.transaction(() => {
     for (const f of files) {
       const bytes = Buffer.from(f.bytes.buffer, f.bytes.byteOffset, f.bytes.length);
-      insertFile.run(
-        input.runId,
-        input.captureId,
-        f.key,
-        f.name,
-        f.kind,
-        f.user,
-        JSON.stringify(f.stations),
-        f.recordCount,
-        f.endKnown ? 1 : 0,
+      insertFile.run({
+        runId: input.runId,
+        captureId: input.captureId,
+        key: f.key,
+        name: f.name,
+        kind: f.kind,
+        user: f.user,
+        stations: JSON.stringify(f.stations),
+        recordCount: f.recordCount,
+        endKnown: f.endKnown,
         bytes,
-        createHash('sha256').update(bytes).digest('hex'),
-        f.coverage.map((c) => (c === 'seen' ? 's' : c === 'missing' ? 'm' : 'c')).join(''),
-        JSON.stringify(f.conflicts.map((c) => ({ record: c.record, exchangeIds: c.requests.map(exId).filter((x) => x !== null) }))),
-        JSON.stringify(f.exchanges.map(exId).filter((x) => x !== null)),
-      );
+        sha256: createHash('sha256').update(bytes).digest('hex'),
+        coverage: f.coverage.map((c) => (c === 'seen' ? 's' : c === 'missing' ? 'm' : 'c')).join(''),
+        conflicts: JSON.stringify(f.conflicts.map((c) => ({ record: c.record, exchangeIds: c.requests.map(exId).filter((x) => x !== null) }))),
+        exchangeIds: JSON.stringify(f.exchanges.map(exId).filter((x) => x !== null)),
+      } satisfies Omit<typeof recoveredFiles.$inferInsert, 'id'>);
     }
   }).immediate();
   return { exchanges: count, files: files.length };

@@ -1,5 +1,9 @@
 import { Worker } from 'node:worker_threads';
 import type Database from 'better-sqlite3';
+import { and, desc, eq, inArray } from 'drizzle-orm';
+import { drizzle, type BetterSQLite3Database } from 'drizzle-orm/better-sqlite3';
+import * as schema from '../db/schema';
+import { captures, decodeJobs } from '../db/schema';
 import type { CaptureStore } from '../storage/capture-store';
 import type { DecodeWorkerData, DecodeWorkerMessage, DecodeWorkerProgress, IngestTimings } from '../jobs/decode-worker';
 import type { RunInputs } from './inputs';
@@ -32,6 +36,7 @@ export class DecodeQueue {
   private sweeping = false;
   private readonly idleWaiters: (() => void)[] = [];
   private readonly stallMs: number;
+  private readonly db: BetterSQLite3Database<typeof schema>;
 
   constructor(
     private readonly sqlite: Database.Database,
@@ -40,6 +45,7 @@ export class DecodeQueue {
     opts: { stallSeconds?: number } = {},
   ) {
     this.stallMs = (opts.stallSeconds ?? decodeStallSeconds()) * 1000;
+    this.db = drizzle(sqlite, { schema });
   }
 
   /** phase times of the last finished run (the ingest benchmark prints them) */
@@ -50,31 +56,40 @@ export class DecodeQueue {
 
   /** Adds a queued run for the capture with its inputs snapshot and starts it when the queue is free. */
   enqueue(captureId: number, inputs: RunInputs, bytesTotal: number): number {
-    const jobId = Number(
-      this.sqlite
-        .prepare("insert into decode_jobs (capture_id, state, stage, bytes_total, settings, inputs, created_at) values (?, 'queued', 'queued', ?, ?, ?, ?)")
-        .run(captureId, bytesTotal, JSON.stringify(inputs.capture), JSON.stringify(inputs), Date.now()).lastInsertRowid,
-    );
+    const jobId = this.db
+      .insert(decodeJobs)
+      .values({ captureId, state: 'queued', stage: 'queued', bytesTotal, settings: JSON.stringify(inputs.capture), inputs: JSON.stringify(inputs) })
+      .returning({ id: decodeJobs.id })
+      .get().id;
     this.queue.push(jobId);
     queueMicrotask(() => this.next());
     return jobId;
   }
 
   isBusy(captureId: number): boolean {
-    return (
-      this.sqlite.prepare("select 1 from decode_jobs where capture_id = ? and state in ('queued', 'running') limit 1").get(captureId) !== undefined
-    );
+    return this.liveRun(captureId) !== undefined;
+  }
+
+  /** the capture's queued or running run, if any */
+  private liveRun(captureId: number): { id: number } | undefined {
+    return this.db
+      .select({ id: decodeJobs.id })
+      .from(decodeJobs)
+      .where(and(eq(decodeJobs.captureId, captureId), inArray(decodeJobs.state, ['queued', 'running'])))
+      .orderBy(desc(decodeJobs.id))
+      .limit(1)
+      .get();
   }
 
   /** Stops the capture's queued or running run; its rows are cleared. */
   cancel(captureId: number): void {
-    const job = this.sqlite
-      .prepare("select id, state from decode_jobs where capture_id = ? and state in ('queued', 'running') order by id desc limit 1")
-      .get(captureId) as { id: number; state: string } | undefined;
+    const job = this.liveRun(captureId);
     if (!job) return;
-    this.sqlite
-      .prepare("update decode_jobs set state = 'cancelled', stage = 'cancelled', finished_at = ? where id = ? and state in ('queued', 'running')")
-      .run(Date.now(), job.id);
+    this.db
+      .update(decodeJobs)
+      .set({ state: 'cancelled', stage: 'cancelled', finishedAt: new Date() })
+      .where(and(eq(decodeJobs.id, job.id), inArray(decodeJobs.state, ['queued', 'running'])))
+      .run();
     const at = this.queue.indexOf(job.id);
     if (at >= 0) this.queue.splice(at, 1);
     if (this.active?.jobId === job.id) void this.active.worker.terminate();
@@ -93,11 +108,11 @@ export class DecodeQueue {
    * and rows of every run that is not some capture's visible one are cleared.
    */
   recover(): void {
-    this.sqlite
-      .prepare(
-        "update decode_jobs set state = 'interrupted', stage = 'interrupted', error = 'The server stopped during this run; decode again.', finished_at = ? where state in ('queued', 'running')",
-      )
-      .run(Date.now());
+    this.db
+      .update(decodeJobs)
+      .set({ state: 'interrupted', stage: 'interrupted', error: 'The server stopped during this run; decode again.', finishedAt: new Date() })
+      .where(inArray(decodeJobs.state, ['queued', 'running']))
+      .run();
     this.queue.length = 0;
     this.sweepNow();
   }
@@ -134,16 +149,19 @@ export class DecodeQueue {
       if (!this.sweeping) this.idleWaiters.splice(0).forEach((r) => r());
       return;
     }
-    const job = this.sqlite
-      .prepare('select j.id, j.capture_id as captureId, j.state, j.inputs, c.sha256 from decode_jobs j join captures c on c.id = j.capture_id where j.id = ?')
-      .get(jobId) as { id: number; captureId: number; state: string; inputs: string; sha256: string } | undefined;
-    if (!job || job.state !== 'queued') return this.next();
+    const job = this.db
+      .select({ captureId: decodeJobs.captureId, state: decodeJobs.state, inputs: decodeJobs.inputs, sha256: captures.sha256 })
+      .from(decodeJobs)
+      .innerJoin(captures, eq(captures.id, decodeJobs.captureId))
+      .where(eq(decodeJobs.id, jobId))
+      .get();
+    if (!job || job.state !== 'queued' || job.inputs === null) return this.next();
     if (this.dbPath === ':memory:') {
       // a worker cannot reach an in-memory database
       this.finish(jobId, 'failed', 'Decoding needs the database in a file (FLAGLINE_DB); this server runs on an in-memory database.');
       return this.next();
     }
-    this.sqlite.prepare("update decode_jobs set state = 'running', stage = 'starting', started_at = ? where id = ?").run(Date.now(), jobId);
+    this.db.update(decodeJobs).set({ state: 'running', stage: 'starting', startedAt: new Date() }).where(eq(decodeJobs.id, jobId)).run();
     const data: DecodeWorkerData = {
       dbPath: this.dbPath,
       jobId,
@@ -201,9 +219,11 @@ export class DecodeQueue {
   }
 
   private finish(jobId: number, state: 'failed', error: string): void {
-    this.sqlite
-      .prepare("update decode_jobs set state = ?, stage = ?, error = ?, finished_at = ? where id = ? and state in ('queued', 'running')")
-      .run(state, state, error, Date.now(), jobId);
+    this.db
+      .update(decodeJobs)
+      .set({ state, stage: state, error, finishedAt: new Date() })
+      .where(and(eq(decodeJobs.id, jobId), inArray(decodeJobs.state, ['queued', 'running'])))
+      .run();
   }
 
   /** Clears stale runs a few batches at a time, yielding to requests in between. */

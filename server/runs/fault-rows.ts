@@ -1,4 +1,9 @@
 import type Database from 'better-sqlite3';
+import { and, between, eq, sql } from 'drizzle-orm';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
+import { placeholders } from '../db/placeholders';
+import * as schema from '../db/schema';
+import { faultRows, faultSummaries, frames } from '../db/schema';
 import { callKeyFromFieldMap, FaultDesk, type CallKeyLookup, type FaultReport, type LineAnomaly } from '../../shared/decoder/faults';
 import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
 import { loadMapVersion, type RunInputs } from './inputs';
@@ -62,62 +67,73 @@ export function faultCallKey(db: Database.Database, inputs: RunInputs): CallKeyL
   }
 }
 
+type FaultRowInsert = typeof faultRows.$inferInsert;
+
 /**
  * Writes the report's rows with the ids of their frames (and of the follower and retransmission)
  * in the run's frames table; call after the frames are flushed.
  */
-export function storeFaultReport(db: Database.Database, jobId: number, captureId: number, period: number, report: FaultReport | null): void {
-  const frameAt = db.prepare('select id from frames where job_id = ? and link = ? and t between ? and ? and seq = ? limit 1');
+export function storeFaultReport(sqlite: Database.Database, jobId: number, captureId: number, period: number, report: FaultReport | null): void {
+  const db = drizzle(sqlite, { schema });
+  const frameAt = db
+    .select({ id: frames.id })
+    .from(frames)
+    .where(
+      and(
+        eq(frames.jobId, sql.placeholder('jobId')),
+        eq(frames.link, sql.placeholder('link')),
+        between(frames.t, sql.placeholder('from'), sql.placeholder('to')),
+        eq(frames.seq, sql.placeholder('seq')),
+      ),
+    )
+    .limit(1)
+    .prepare();
   const idOf = (link: string, seq: number, firstSample: number): number | null => {
     const t = firstSample * period;
     const slack = Math.abs(t) * 1e-9 + 1e-12;
-    const row = frameAt.get(jobId, link, t - slack, t + slack, seq) as { id: number } | undefined;
-    return row ? row.id : null;
+    return frameAt.get({ jobId, link, from: t - slack, to: t + slack, seq })?.id ?? null;
   };
-  const insert = db.prepare(
-    `insert into fault_rows (job_id, link, seq, frame_id, first_sample, cause, station, corrected, flipped_bit, suspect_line_bit, suspect_sample,
-       suspect_exact, focus_sample, anomalies, next_seq, next_frame_id, retransmission_seq, retransmission_frame_id, retransmission_by, retransmission_search)
-     values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
-  );
+  const insert = db.insert(faultRows).values(placeholders(faultRows)).prepare();
   const rows = report?.rows ?? [];
-  const writeBatch = db.transaction((from: number) => {
+  const writeBatch = sqlite.transaction((from: number) => {
     for (const r of rows.slice(from, from + BATCH)) {
-      insert.run(
+      const row: Omit<FaultRowInsert, 'id'> = {
         jobId,
-        r.link,
-        r.seq,
-        idOf(r.link, r.seq, r.firstSample),
-        r.firstSample,
-        r.cause,
-        r.station,
-        r.corrected ? 1 : 0,
-        r.flippedBit,
-        r.suspect ? r.suspect.lineBit : null,
-        r.suspect ? r.suspect.sample : null,
-        r.suspect ? (r.suspect.exact ? 1 : 0) : null,
-        r.focusSample,
-        JSON.stringify(r.anomalies),
-        r.next ? r.next.seq : null,
-        r.next ? idOf(r.next.link, r.next.seq, r.next.firstSample) : null,
-        r.retransmission ? r.retransmission.seq : null,
-        r.retransmission ? idOf(r.retransmission.link, r.retransmission.seq, r.retransmission.firstSample) : null,
-        r.retransmission ? r.retransmission.by : null,
-        r.retransmissionSearch,
-      );
+        link: r.link,
+        seq: r.seq,
+        frameId: idOf(r.link, r.seq, r.firstSample),
+        firstSample: r.firstSample,
+        cause: r.cause,
+        station: r.station,
+        corrected: r.corrected,
+        flippedBit: r.flippedBit,
+        suspectLineBit: r.suspect ? r.suspect.lineBit : null,
+        suspectSample: r.suspect ? r.suspect.sample : null,
+        suspectExact: r.suspect ? r.suspect.exact : null,
+        focusSample: r.focusSample,
+        anomalies: JSON.stringify(r.anomalies),
+        nextSeq: r.next ? r.next.seq : null,
+        nextFrameId: r.next ? idOf(r.next.link, r.next.seq, r.next.firstSample) : null,
+        retransmissionSeq: r.retransmission ? r.retransmission.seq : null,
+        retransmissionFrameId: r.retransmission ? idOf(r.retransmission.link, r.retransmission.seq, r.retransmission.firstSample) : null,
+        retransmissionBy: r.retransmission ? r.retransmission.by : null,
+        retransmissionSearch: r.retransmissionSearch,
+      };
+      insert.run(row);
     }
   });
   for (let i = 0; i < rows.length; i += BATCH) writeBatch.immediate(i);
-  db.prepare(
-    `insert or replace into fault_summaries (job_id, groups, anomaly_groups, outside, outside_total, bins, frames_seen, anomalies_dropped)
-     values (?, ?, ?, ?, ?, ?, ?, ?)`,
-  ).run(
-    jobId,
-    JSON.stringify((report?.groups ?? []).map((g) => ({ cause: g.cause, count: g.count }))),
-    JSON.stringify((report?.anomalyGroups ?? []).map((g) => ({ kind: g.kind, inFrames: g.inFrames, outside: g.outside, rows: g.rows.length }))),
-    JSON.stringify((report?.outside ?? []).slice(0, OUTSIDE_KEPT)),
-    report?.outside.length ?? 0,
-    JSON.stringify(report?.bins ?? null),
-    report?.framesSeen ?? 0,
-    report?.anomaliesDropped ?? 0,
-  );
+  const summary = {
+    groups: JSON.stringify((report?.groups ?? []).map((g) => ({ cause: g.cause, count: g.count }))),
+    anomalyGroups: JSON.stringify((report?.anomalyGroups ?? []).map((g) => ({ kind: g.kind, inFrames: g.inFrames, outside: g.outside, rows: g.rows.length }))),
+    outside: JSON.stringify((report?.outside ?? []).slice(0, OUTSIDE_KEPT)),
+    outsideTotal: report?.outside.length ?? 0,
+    bins: JSON.stringify(report?.bins ?? null),
+    framesSeen: report?.framesSeen ?? 0,
+    anomaliesDropped: report?.anomaliesDropped ?? 0,
+  };
+  db.insert(faultSummaries)
+    .values({ jobId, ...summary })
+    .onConflictDoUpdate({ target: faultSummaries.jobId, set: summary })
+    .run();
 }

@@ -3,6 +3,10 @@
 // chosen field map do not change what an existing run's rows mean, and a run re-read after a
 // restart behaves as it did when it was queued.
 import type Database from 'better-sqlite3';
+import { and, eq } from 'drizzle-orm';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
+import * as schema from '../db/schema';
+import { fieldMaps, fieldMapVersions } from '../db/schema';
 import { parseFieldMap, type FieldMap } from '../../shared/decoder/calls/field-map';
 import { DEFAULT_TIMEOUT_SECONDS } from '../../shared/decoder/calls/exchanges';
 import { captureSettingsSchema, type CaptureSettings } from '../../shared/schemas';
@@ -26,12 +30,17 @@ export interface ResolvedMap extends MapRef {
 }
 
 /** A stored map version, parsed; `version` null means the map's latest. */
-export function loadMapVersion(db: Database.Database, mapId: number, version: number | null): ResolvedMap {
-  const v = version ?? (db.prepare('select latest_version from field_maps where id = ?').pluck().get(mapId) as number | undefined);
+export function loadMapVersion(sqlite: Database.Database, mapId: number, version: number | null): ResolvedMap {
+  const db = drizzle(sqlite, { schema });
+  const v = version ?? db.select({ v: fieldMaps.latestVersion }).from(fieldMaps).where(eq(fieldMaps.id, mapId)).get()?.v;
   if (v === undefined) throw new Error(`field map ${mapId} no longer exists`);
-  const doc = db.prepare('select document from field_map_versions where map_id = ? and version = ?').pluck().get(mapId, v) as string | undefined;
-  if (doc === undefined) throw new Error(`field map ${mapId} has no version ${v}`);
-  return { mapId, version: v, map: parseFieldMap(JSON.parse(doc)) };
+  const row = db
+    .select({ document: fieldMapVersions.document })
+    .from(fieldMapVersions)
+    .where(and(eq(fieldMapVersions.mapId, mapId), eq(fieldMapVersions.version, v)))
+    .get();
+  if (row === undefined) throw new Error(`field map ${mapId} has no version ${v}`);
+  return { mapId, version: v, map: parseFieldMap(JSON.parse(row.document)) };
 }
 
 /**

@@ -23,3 +23,12 @@ export function indexSearch(db: Database.Database, jobId: number, chunk = 200_00
   }
 }
 
+
+/** Removes the search entries of a run's frames with ids from..to (all of them indexed). */
+export function dropSearchEntries(db: Database.Database, jobId: number, from: number, to: number): void {
+  db.prepare("insert into frame_search (frame_search, rowid, hex, text) select 'delete', id, hex, text from frames where job_id = ? and id between ? and ?").run(
+    jobId,
+    from,
+    to,
+  );
+}

@@ -1,29 +1,35 @@
-// Frames as stored (frames table) rebuilt into what the call layer reads: the link decode comes
-// back from its columns, the octets from the blob.
-import type { DecodedFrame, FrameStatus } from '../../shared/decoder/types';
+// Frames as stored (frames table) rebuilt into what the call layer reads (CallLayerFrame): the
+// link decode comes back from its columns, the octets from the blob. No cast: the decoder's
+// call functions take the narrow frame they read.
+import { and, eq, gt, or, sql } from 'drizzle-orm';
+import type { CallLayerFrame } from '../../shared/decoder/calls/exchanges';
+import type { Db } from '../db/client';
+import { frames } from '../db/schema';
 import { payloadLength } from './run-writer';
 
-export interface StoredFrameRow {
-  id: number;
-  link: string;
-  seq: number;
-  firstSample: number;
-  lastSample: number;
-  t: number;
-  status: FrameStatus;
-  address: number | null;
-  control: number | null;
-  kind: 'I' | 'S' | 'U' | null;
-  command: string | null;
-  ns: number | null;
-  nr: number | null;
-  pf: number | null;
-  infoLength: number;
-  bytes: Buffer;
-}
+/** the frames columns the call layer needs */
+export const storedFrameColumns = {
+  id: frames.id,
+  link: frames.link,
+  seq: frames.seq,
+  firstSample: frames.firstSample,
+  lastSample: frames.lastSample,
+  t: frames.t,
+  status: frames.status,
+  address: frames.address,
+  control: frames.control,
+  kind: frames.kind,
+  command: frames.command,
+  ns: frames.ns,
+  nr: frames.nr,
+  pf: frames.pf,
+  infoLength: frames.infoLength,
+  bytes: frames.bytes,
+};
+export type StoredFrameRow = Pick<typeof frames.$inferSelect, keyof typeof storedFrameColumns>;
 
 /** A stored frame as the call layer reads it (the link decode rebuilt from its columns). */
-export function frameFromRow(r: StoredFrameRow): DecodedFrame {
+export function frameFromRow(r: StoredFrameRow): CallLayerFrame {
   const bytes = new Uint8Array(r.bytes.buffer, r.bytes.byteOffset, r.bytes.length);
   const payload = payloadLength({ bytes, status: r.status });
   return {
@@ -43,13 +49,30 @@ export function frameFromRow(r: StoredFrameRow): DecodedFrame {
             command: r.command ?? '?',
             ns: r.ns,
             nr: r.nr,
-            pf: r.pf === 1,
+            pf: r.pf === true,
             infoOffset: Math.max(0, payload - r.infoLength),
             infoLength: r.infoLength,
           },
-  } as unknown as DecodedFrame;
+  };
 }
 
-export const FRAME_COLUMNS = `id, link, seq, first_sample as firstSample, last_sample as lastSample, t, status, address, control, kind, command, ns, nr, pf,
-  info_length as infoLength, bytes`;
+/** One frame of a decode run by id (the inspector's call decode). */
+export function storedFrame(db: Db, jobId: number, frameId: number): StoredFrameRow | undefined {
+  return db
+    .select(storedFrameColumns)
+    .from(frames)
+    .where(and(eq(frames.id, frameId), eq(frames.jobId, jobId)))
+    .get();
+}
 
+/** A prepared page of a run's frames in (t, id) order after a keyset position. */
+export function storedFramePages(db: Db, pageSize: number) {
+  const after = { jobId: sql.placeholder('jobId'), t: sql.placeholder('t'), id: sql.placeholder('id') };
+  return db
+    .select(storedFrameColumns)
+    .from(frames)
+    .where(and(eq(frames.jobId, after.jobId), or(gt(frames.t, after.t), and(eq(frames.t, after.t), gt(frames.id, after.id)))))
+    .orderBy(frames.t, frames.id)
+    .limit(pageSize)
+    .prepare();
+}

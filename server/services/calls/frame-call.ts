@@ -3,7 +3,7 @@ import { decodeFrameCall } from '../../../shared/decoder/calls/apply';
 import { callLayerRoles } from '../../../shared/decoder/calls/exchanges';
 import type { FrameCall } from '../../../shared/schemas';
 import { captureSettingsSchema } from '../../../shared/schemas';
-import { FRAME_COLUMNS, frameFromRow } from '../../runs/stored-frame';
+import { frameFromRow, storedFrame } from '../../runs/stored-frame';
 import { chosenMap, loadMapVersion } from './field-map-store';
 import { notFound } from '../../http/errors';
 import type { CaptureRow } from '../captures/rows';
@@ -13,9 +13,9 @@ import type { CallsModule } from './module';
 
 export function frameCall(m: CallsModule, capture: CaptureRow, frameId: number): FrameCall {
   const jobId = capture.currentJobId;
-  const row = jobId === null ? undefined : m.sqlite.prepare(`select ${FRAME_COLUMNS} from frames where id = ? and job_id = ?`).get(frameId, jobId);
+  const row = jobId === null ? undefined : storedFrame(m.db, jobId, frameId);
   if (!row || jobId === null) throw notFound(`No frame with id ${frameId} in this capture's decoded frames`);
-  const frame = frameFromRow(row as Parameters<typeof frameFromRow>[0]);
+  const frame = frameFromRow(row);
   const run = visibleRun(m, capture.id);
   // the map of the visible results, so the inspector agrees with the exchange list
   const resolved = run ? loadMapVersion(m.sqlite, run.mapId, run.mapVersion) : chosenMap(m.sqlite, capture.id);
