@@ -43,7 +43,7 @@ function frame(k: number): DecodedFrame {
     flippedBit: null,
     stuffed: [],
     decode: { address: bytes[0], control: bytes[1], kind: 'I', command: 'I', ns: k & 7, nr: 0, pf: false, infoOffset: 2, infoLength: bytes.length - 4 },
-  } as unknown as DecodedFrame;
+  };
 }
 
 const frames = Array.from({ length: N }, (_, k) => frame(k));
