@@ -1,5 +1,5 @@
 import { sql } from 'drizzle-orm';
-import { DEFAULT_TIMEOUT_SECONDS } from '../../shared/decoder/calls/exchanges';
+import { DEFAULT_TIMEOUT_SECONDS } from '../../shared/decoder/calls';
 import { blob, check, index, integer, real, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
 
 // Timestamps are integer milliseconds (Drizzle maps them to Date); the API sends ISO strings.

@@ -8,7 +8,7 @@ import { drizzle } from 'drizzle-orm/better-sqlite3';
 import * as schema from '../db/schema';
 import { fieldMaps, fieldMapVersions } from '../db/schema';
 import { parseFieldMap, type FieldMap } from '../../shared/decoder/calls/field-map';
-import { DEFAULT_TIMEOUT_SECONDS } from '../../shared/decoder/calls/exchanges';
+import { DEFAULT_TIMEOUT_SECONDS } from '../../shared/decoder/calls';
 import { captureSettingsSchema, type CaptureSettings } from '../../shared/schemas';
 
 export interface MapRef {

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { DEFAULT_TIMEOUT_SECONDS } from '../decoder/calls/exchanges';
+import { DEFAULT_TIMEOUT_SECONDS } from '../decoder/calls';
 import { roleSchema } from './common';
 
 export const encodingSchema = z.enum(['nrz', 'nrzi']);
