@@ -3,7 +3,7 @@
 // `npm start` and the decode CLI need no TypeScript loader at run time.
 //   node server/cli/server-build.mjs          builds (npm run build:server)
 // All outputs sit flat in dist/server/, two levels below the repository like their sources:
-// server/db/client.ts finds the repository from its own file's URL, and the job runner starts
+// server/db/client.ts finds the repository from its own file's URL, and the decode queue (server/runs/decode-queue.ts) starts
 // `./decode-worker-entry.mjs` beside itself — in the build that is the bundled worker.
 import fs from 'node:fs';
 import path from 'node:path';

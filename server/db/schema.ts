@@ -1,4 +1,5 @@
 import { sql } from 'drizzle-orm';
+import { DEFAULT_TIMEOUT_SECONDS } from '../../shared/decoder/calls';
 import { blob, check, index, integer, real, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
 
 // Timestamps are integer milliseconds (Drizzle maps them to Date); the API sends ISO strings.
@@ -35,7 +36,7 @@ export const rigs = sqliteTable('rigs', {
   clockEdge: text('clock_edge', { enum: ['rising', 'falling'] }).notNull(),
   bitOrder: text('bit_order', { enum: ['lsb-first', 'msb-first'] }).notNull(),
   /** a request with no answer within this many milliseconds counts as unanswered */
-  responseTimeoutMs: integer('response_timeout_ms').notNull().default(500),
+  responseTimeoutMs: integer('response_timeout_ms').notNull().default(DEFAULT_TIMEOUT_SECONDS * 1000),
   createdAt: createdAt(),
   createdBy: integer('created_by').references(() => users.id, { onDelete: 'set null' }),
 });
@@ -162,6 +163,8 @@ export const decodeJobs = sqliteTable(
     error: text('error'),
     /** the settings the run used (JSON), so a later edit does not change what its rows mean */
     settings: text('settings').notNull(),
+    /** everything the run is made from (RunInputs of server/runs/inputs.ts, JSON), fixed when it is queued */
+    inputs: text('inputs'),
     samplePeriod: real('sample_period'),
     /** links as the decoder named them (JSON array) */
     links: text('links'),
@@ -273,7 +276,10 @@ export const faultRows = sqliteTable(
     /** the frame's row of the same run (null only if it could not be matched) */
     frameId: integer('frame_id'),
     firstSample: real('first_sample').notNull(),
-    cause: text('cause', { enum: ['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'line-anomaly'] }).notNull(),
+    // every cause the fault desk gives (the column holds text; the list types it)
+    cause: text('cause', {
+      enum: ['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'line-anomaly', 'tx-underrun', 'underrun-fragment', 'rx-overrun', 'octet-timing'],
+    }).notNull(),
     station: integer('station'),
     corrected: integer('corrected', { mode: 'boolean' }).notNull().default(false),
     flippedBit: integer('flipped_bit'),
@@ -367,6 +373,8 @@ export const callRuns = sqliteTable(
     decodeJobId: integer('decode_job_id').notNull(),
     mapId: integer('map_id').notNull(),
     mapVersion: integer('map_version').notNull(),
+    /** the call run's own inputs snapshot (RunInputs, JSON): map version, answer timeout, roles */
+    inputs: text('inputs'),
     state: text('state', { enum: ['queued', 'running', 'done', 'failed'] }).notNull(),
     error: text('error'),
     exchanges: integer('exchanges').notNull().default(0),

@@ -4,24 +4,49 @@
 import fs from 'node:fs';
 import { parentPort, workerData } from 'node:worker_threads';
 import Database from 'better-sqlite3';
-import { createDecoder, type Decoder, type DecodeIssue } from '../../shared/decoder';
-import type { CaptureSettings } from '../../shared/schemas';
-import { chosenMap, createCallRun, runCallStage, switchToCallRun } from './call-stage';
-import { decoderOptions } from './decoder-options';
-import { FaultRecorder, faultCallKey, storeFaultReport } from './fault-rows';
-import { indexSearch, RunWriter } from './run-rows';
-import { CsvSeekTracker } from './csv-seek';
-import { type SeekPoint, VcdSeekTracker } from './vcd-seek';
+import { createDecoder, type Decoder } from '../../shared/decoder';
+import type { DecodeIssue } from '../../shared/decoder';
+import { createCallRun, switchToCallRun } from '../runs/call-runs';
+import { runCallStage } from '../runs/call-stage';
+import { decoderOptions } from '../runs/decoder-options';
+import { FaultRecorder, faultCallKey, storeFaultReport } from '../runs/fault-rows';
+import { loadMapVersion, type RunInputs } from '../runs/inputs';
+import { RunWriter } from '../runs/run-writer';
+import { indexSearch } from '../runs/search-index';
+import { CsvSeekTracker } from '../runs/seek/csv-seek';
+import { type SeekPoint, VcdSeekTracker } from '../runs/seek/vcd-seek';
 
 export interface DecodeWorkerData {
   dbPath: string;
   jobId: number;
   captureId: number;
   filePath: string;
-  settings: CaptureSettings;
+  /** the run's inputs snapshot (decode_jobs.inputs) */
+  inputs: RunInputs;
 }
 
-export type DecodeWorkerMessage = { type: 'done'; frames: number; events: number } | { type: 'failed'; error: string };
+/** milliseconds per phase of a finished run, for the ingest benchmark */
+export interface IngestTimings {
+  /** reading and decoding, without the row writer and fault desk */
+  decode: number;
+  /** building frame and event rows */
+  rows: number;
+  /** batched inserts of frames and events */
+  inserts: number;
+  faults: number;
+  searchIndex: number;
+  calls: number;
+  commit: number;
+}
+export type DecodeWorkerMessage = { type: 'done'; frames: number; events: number; timings: IngestTimings } | { type: 'failed'; error: string };
+/** sent at least every PROGRESS_MS while the worker moves on: the runner's watchdog listens */
+export interface DecodeWorkerProgress {
+  type: 'progress';
+  bytesRead: number;
+  bytesTotal: number;
+  /** time into the capture of the latest frame or event, once the time base is known */
+  seconds: number | null;
+}
 
 const PROGRESS_MS = 250;
 const CHUNK = 1 << 20;
@@ -37,19 +62,27 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
   db.pragma('busy_timeout = 10000');
   // WAL with NORMAL sync stays consistent after a crash; a larger page cache keeps the index inserts in memory
   db.pragma('synchronous = NORMAL');
-  db.pragma('cache_size = -65536');
+  db.pragma('cache_size = -131072');
+  // bulk load: sort spills of the index build stay in memory; the WAL is checkpointed in larger
+  // steps. Durability is unchanged: the run becomes visible only in its final transaction.
+  db.pragma('temp_store = MEMORY');
+  db.pragma('wal_autocheckpoint = 4096');
   try {
     let period = 0;
     // Frames reach the writer during push(), as soon as the reader's header has set the time base,
     // so the writer asks the decoder itself rather than a copy taken between pushes.
     const writer = new RunWriter(db, data.jobId, data.captureId, () => decoder.samplePeriodSeconds ?? period);
-    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.captureId, data.settings));
+    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.inputs));
     const decoder: Decoder = createDecoder(
-      { ...decoderOptions(data.settings), anomalies: faults },
+      { ...decoderOptions(data.inputs.capture), anomalies: faults },
       {
         frame: (f) => {
+          const t = performance.now();
           writer.frame(f);
+          const u = performance.now();
           faults.frame(f);
+          sinkRows += u - t;
+          sinkFaults += performance.now() - u;
         },
         event: (e) => {
           writer.event(e);
@@ -57,17 +90,30 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
         },
       },
     );
+    // time spent inside the decoder's sink: subtracted from the decode phase
+    let sinkRows = 0;
+    let sinkFaults = 0;
+    const started = performance.now();
     const addSeek = db.prepare('insert into seek_points (job_id, byte_offset, sample, levels) values (?, ?, ?, ?)');
     const addPoint = (p: SeekPoint) => addSeek.run(data.jobId, p.byteOffset, p.sample, JSON.stringify(p.levels));
     const seek =
-      data.settings.format === 'vcd'
+      data.inputs.capture.format === 'vcd'
         ? new VcdSeekTracker(addPoint)
-        : data.settings.format === 'csv'
-          ? new CsvSeekTracker({ sampleRate: data.settings.sampleRate ?? undefined }, addPoint)
+        : data.inputs.capture.format === 'csv'
+          ? new CsvSeekTracker({ sampleRate: data.inputs.capture.sampleRate ?? undefined }, addPoint)
           : null;
     const progress = db.prepare("update decode_jobs set bytes_read = ?, frames = ?, events = ?, stage = ? where id = ? and state = 'running'");
-    db.prepare("update decode_jobs set stage = 'decoding', bytes_total = ? where id = ?").run(fs.statSync(data.filePath).size, data.jobId);
+    const bytesTotal = fs.statSync(data.filePath).size;
+    db.prepare("update decode_jobs set stage = 'decoding', bytes_total = ? where id = ?").run(bytesTotal, data.jobId);
     let bytes = 0;
+    const heartbeat = () =>
+      parentPort?.postMessage({
+        type: 'progress',
+        bytesRead: bytes,
+        bytesTotal,
+        seconds: period > 0 ? writer.lastSample * period : null,
+      } satisfies DecodeWorkerProgress);
+    heartbeat();
     let lastReport = Date.now();
     for await (const chunk of fs.createReadStream(data.filePath, { highWaterMark: CHUNK })) {
       const bytesIn = new Uint8Array((chunk as Buffer).buffer, (chunk as Buffer).byteOffset, (chunk as Buffer).length);
@@ -78,8 +124,10 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       period = decoder.samplePeriodSeconds ?? period;
       const now = Date.now();
       if (now - lastReport >= PROGRESS_MS) {
+        // the rows reported are the rows stored: a run stopped here leaves exactly these to clear
         writer.flush();
         progress.run(bytes, writer.frames, writer.events, 'decoding', data.jobId);
+        heartbeat();
         lastReport = now;
       }
     }
@@ -88,10 +136,15 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     const fatal = decoder.fatal();
     if (fatal) return { type: 'failed', error: describeIssue(fatal) };
     writer.flush();
+    const decoded = performance.now();
     progress.run(bytes, writer.frames, writer.events, 'indexing', data.jobId);
+    heartbeat();
     storeFaultReport(db, data.jobId, data.captureId, period, faults.report(writer.lastSample));
-    indexSearch(db, data.jobId);
-    const calls = await callStage(db, data, period);
+    const faulted = performance.now();
+    indexSearch(db, data.jobId, undefined, heartbeat);
+    const indexed = performance.now();
+    const calls = await callStage(db, data, period, heartbeat);
+    const called = performance.now();
     const issues = decoder.issues.slice(0, 20).map(describeIssue);
     const committed = db.transaction(() => {
       const done = db
@@ -108,23 +161,34 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       return true;
     }).immediate();
     if (!committed) return { type: 'failed', error: 'The run was cancelled.' };
-    return { type: 'done', frames: writer.frames, events: writer.events };
+    // row building time includes the inserts of the batches it filled
+    const rows = sinkRows - writer.insertMs;
+    const timings: IngestTimings = {
+      decode: decoded - started - sinkRows - sinkFaults,
+      rows,
+      inserts: writer.insertMs,
+      faults: sinkFaults + (faulted - decoded),
+      searchIndex: indexed - faulted,
+      calls: called - indexed,
+      commit: performance.now() - called,
+    };
+    return { type: 'done', frames: writer.frames, events: writer.events, timings };
   } finally {
     db.close();
   }
 }
 
 /**
- * The call-layer stage over the run's frames with the capture's chosen map. A failure here (a
+ * The call-layer stage over the run's frames with the run's map and answer timeout. A failure here (a
  * stored map that no longer parses, say) fails the call run, not the decode.
  */
-async function callStage(db: Database.Database, data: DecodeWorkerData, period: number) {
+async function callStage(db: Database.Database, data: DecodeWorkerData, period: number, heartbeat: () => void) {
   let runId: number | null = null;
   try {
     db.prepare("update decode_jobs set stage = 'calls' where id = ? and state = 'running'").run(data.jobId);
-    const m = chosenMap(db, data.captureId);
-    runId = createCallRun(db, data.captureId, data.jobId, m, 'running');
-    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map: m.map, settings: data.settings, samplePeriod: period });
+    runId = createCallRun(db, data.captureId, data.jobId, data.inputs, 'running');
+    const { map } = loadMapVersion(db, data.inputs.fieldMap.mapId, data.inputs.fieldMap.version);
+    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map, inputs: data.inputs, samplePeriod: period, pause: async () => heartbeat() });
     return { runId, counts };
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);

@@ -1,12 +1,14 @@
 // Field hints over a decoded capture: its good information frames, told request or answer by the
 // link directions of the decode's settings, through the hints engine (shared/decoder/hints).
 import type Database from 'better-sqlite3';
+import { and, eq, gt } from 'drizzle-orm';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
 import { callLayerRoles } from '../../shared/decoder/calls';
 import { FieldHints, hintFrameOf } from '../../shared/decoder/hints';
 import type { CaptureFieldHints, FieldHintsQuery } from '../../shared/schemas';
-import { FRAME_COLUMNS, frameFromRow } from '../jobs/call-stage';
-
-type FrameRow = Parameters<typeof frameFromRow>[0];
+import * as schema from '../db/schema';
+import { decodeJobs, frames } from '../db/schema';
+import { frameFromRow, storedFrameColumns } from '../runs/stored-frame';
 import { conflict } from '../http/errors';
 import type { CaptureRow } from './captures/rows';
 import { parseSettings } from './captures/rows';
@@ -16,7 +18,11 @@ export const HINT_FRAME_LIMIT = 200_000;
 
 
 export function captureFieldHints(sqlite: Database.Database, c: CaptureRow, q: FieldHintsQuery): CaptureFieldHints {
-  const job = c.currentJobId === null ? undefined : (sqlite.prepare('select id, state, settings from decode_jobs where id = ?').get(c.currentJobId) as { id: number; state: string; settings: string } | undefined);
+  const db = drizzle(sqlite, { schema });
+  const job =
+    c.currentJobId === null
+      ? undefined
+      : db.select({ id: decodeJobs.id, state: decodeJobs.state, settings: decodeJobs.settings }).from(decodeJobs).where(eq(decodeJobs.id, c.currentJobId)).get();
   if (!job || job.state !== 'done') throw conflict('The capture has no finished decode yet: decode it first, then its field hints can be counted');
   const settings = parseSettings(job.settings);
   if (!settings) throw conflict('The decode has no channel roles');
@@ -29,9 +35,13 @@ export function captureFieldHints(sqlite: Database.Database, c: CaptureRow, q: F
   const ids = new Map<string, number>();
   let read = 0;
   let limited = false;
-  const rows = sqlite
-    .prepare(`select ${FRAME_COLUMNS} from frames where job_id = ? and status = 'ok' and info_length > 0 order by first_sample, id`)
-    .iterate(job.id) as Iterable<FrameRow & { id: number }>;
+  const rows = db
+    .select(storedFrameColumns)
+    .from(frames)
+    .where(and(eq(frames.jobId, job.id), eq(frames.status, 'ok'), gt(frames.infoLength, 0)))
+    .orderBy(frames.firstSample, frames.id)
+    .limit(HINT_FRAME_LIMIT + 1)
+    .all();
   for (const r of rows) {
     if (read >= HINT_FRAME_LIMIT) {
       limited = true;

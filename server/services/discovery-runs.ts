@@ -5,7 +5,7 @@ import type Database from 'better-sqlite3';
 import type { FieldMap } from '../../shared/decoder/calls';
 import { suggestedSettings, type Discovery } from '../../shared/decoder/finder';
 import type { CaptureDiscovery, CaptureSettingsInput, DiscoveryCandidate } from '../../shared/schemas';
-import { chosenMap } from '../jobs/call-stage';
+import { chosenMap } from './calls/field-map-store';
 import type { CaptureStore } from '../storage/capture-store';
 import type { CaptureRow } from './captures/rows';
 import { parseSettings } from './captures/rows';

@@ -5,7 +5,7 @@ import { parseFieldMap, type FieldMap } from '../../shared/decoder/calls';
 import type { FieldNoteInput, FieldNoteQuery, Note, NotePatch } from '../../shared/schemas';
 import { notes, users } from '../db/schema';
 import { badRequest, forbidden, notFound } from '../http/errors';
-import { ensureBuiltInMap } from '../jobs/call-stage';
+import { ensureBuiltInMap } from './calls/field-map-store';
 import type { CaptureDeps } from './captures/deps';
 import type { NoteCaller } from './notes';
 

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import type { ExchangeOutcomeName } from './calls';
 import { clockEdgeSchema, encodingSchema } from './rigs';
 
 export const captureFormatSchema = z.enum(['vcd', 'csv', 'raw', 'octets', 'framelog']);
@@ -179,6 +180,19 @@ export interface TimelineFrame {
   summary: string;
   /** timeline rows only: how many notes are pinned to this frame (by link + seq); absent when none */
   notes?: number;
+  /** timeline rows only: the frame's part in an exchange of the visible call run; absent when none */
+  call?: TimelineCallMarker;
+}
+
+/** A frame's part in an exchange, as the timeline marks it. */
+export interface TimelineCallMarker {
+  exchangeId: number;
+  role: 'request' | 'retry' | 'response';
+  station: number;
+  /** the call's name, or "call <code>" when the map names none */
+  callName: string;
+  rttSeconds: number | null;
+  outcome: ExchangeOutcomeName;
 }
 
 export interface TimelineEvent {

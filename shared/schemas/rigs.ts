@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import { DEFAULT_TIMEOUT_SECONDS } from '../decoder/calls';
 import { roleSchema } from './common';
 
 export const encodingSchema = z.enum(['nrz', 'nrzi']);
@@ -31,8 +32,7 @@ const rigFields = {
 export const rigInputSchema = z.object({
   ...rigFields,
   description: rigFields.description.default(''),
-  // common practice for polled file servers: half a second before a station gives up on an answer
-  responseTimeoutMs: rigFields.responseTimeoutMs.default(500),
+  responseTimeoutMs: rigFields.responseTimeoutMs.default(DEFAULT_TIMEOUT_SECONDS * 1000),
 });
 export type RigInput = z.input<typeof rigInputSchema>;
 

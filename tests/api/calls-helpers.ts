@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto';
 import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls';
 import type { FlaglineApp } from '../../server/index';
-import { ensureBuiltInMap } from '../../server/jobs/call-stage';
+import { ensureBuiltInMap } from '../../server/services/calls/field-map-store';
 
 /**
  * Call-layer scenery for a capture seeded without a worker: the rig's built-in map, a user map

@@ -17,6 +17,8 @@ import type {
   FrameCall,
   RecoveredFileDetail,
   RecoveredFileSummary,
+  TimelineFrame,
+  TimelinePage,
 } from '../../shared/schemas';
 import { openDb, type DbHandle } from '../../server/db/client';
 import { createApp } from '../../server/index';
@@ -149,6 +151,28 @@ describe('call layer over the demo captures', () => {
     expect(unanswered.rows[0].tResponse).toBeNull();
     const res = await viewer.get(`${url(file)}/exchanges?cursor=not-a-cursor`);
     expect(res.status).toBe(400);
+  });
+
+  it('marks timeline frames with their exchange: id, call, role and round trip, as the exchange list has them', async () => {
+    const file = 'wrenfield-session-clocked.raw';
+    const exchanges = ((await viewer.get(`${url(file)}/exchanges?limit=1000`).expect(200)).body as ExchangePage).rows;
+    const expected = new Map<number, { exchangeId: number; role: string; callName: string | null; rttSeconds: number | null }>();
+    for (const e of exchanges) {
+      const base = { exchangeId: e.id, callName: e.call.name, rttSeconds: e.rttSeconds };
+      if (e.requestFrameId !== null) expected.set(e.requestFrameId, { ...base, role: 'request' });
+      for (const id of e.retryFrameIds) expected.set(id, { ...base, role: 'retry' });
+      for (const id of e.responseFrameIds) expected.set(id, { ...base, role: 'response' });
+    }
+    const page = (await viewer.get(`${url(file)}/timeline?limit=1000&events=0`).expect(200)).body as TimelinePage;
+    const frames = page.rows.filter((r): r is TimelineFrame => r.type === 'frame');
+    const marked = frames.filter((f) => f.call);
+    expect(marked.length).toBeGreaterThan(10);
+    expect(marked.some((f) => f.call!.role === 'response')).toBe(true);
+    for (const f of frames) {
+      const want = expected.get(f.id);
+      if (!want) expect(f.call).toBeUndefined();
+      else expect(f.call).toMatchObject(want);
+    }
   });
 
   it('exports the filtered exchanges as CSV and JSON, every row in time order', async () => {
@@ -295,6 +319,14 @@ describe('call layer over the demo captures', () => {
     expect(rows[0].id).not.toBe(oldRows[0].id);
     const files = (await viewer.get(`${url(file)}/files`).expect(200)).body as RecoveredFileSummary[];
     expect(files.map((f) => f.name)).toEqual(['WRENBOOT.SYS']);
+    // the call run has its own snapshot: the chosen map's version and the rig's timeout when it was created
+    const inputs = JSON.parse(app.db.sqlite.prepare('select inputs from call_runs where id = ?').pluck().get(after.current!.runId) as string);
+    expect(inputs).toMatchObject({ fieldMap: { mapId: map.id, version: 1 }, answerTimeoutSeconds: 0.5 });
+    expect(inputs.capture.links.length).toBeGreaterThan(0);
+    const timeline = (await viewer.get(`${url(file)}/timeline?limit=1000&events=0`).expect(200)).body as TimelinePage;
+    const bootMarks = timeline.rows.filter((r): r is TimelineFrame => r.type === 'frame' && r.call?.callName === 'Load image record');
+    expect(bootMarks.length).toBeGreaterThan(0);
+    expect(bootMarks.every((f) => rows.some((r) => r.id === f.call!.exchangeId))).toBe(true);
     await app.jobs.idle();
     const leftovers = app.db.sqlite.prepare('select count(*) from exchanges where run_id = ?').pluck().get(before.current!.runId);
     expect(leftovers).toBe(0);

@@ -1,6 +1,8 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { encodeLineBits, renderWaveform, csvChunks, type CsvWriterOptions } from '../../shared/decoder/encode';
-import { SEEK_SPACING } from '../../server/jobs/vcd-seek';
+import { encodeLineBits } from '../../shared/decoder/encode';
+import { renderWaveform } from '../../shared/decoder/encode';
+import { csvChunks, type CsvWriterOptions } from '../../shared/decoder/encode';
+import { SEEK_SPACING } from '../../server/runs/seek/vcd-seek';
 import { buildWorld, closeWorld, linkTraffic, put, upload, waitForJob, type World } from './captures-helpers';
 
 /** A clocked capture ("clk", "tx", "rx") written as a CSV sample table of several megabytes. */

@@ -1,6 +1,9 @@
 // A capture's call layer: which map it uses, which call run is visible, and choosing a new map.
 import type { CaptureCallLayer, CaptureFieldMapInput, CallRunState } from '../../../shared/schemas';
-import { chosenMap, createCallRun, loadMapVersion } from '../../jobs/call-stage';
+import { createCallRun } from '../../runs/call-runs';
+import { parseRunInputs, type RunInputs } from '../../runs/inputs';
+import { chosenMap, loadMapVersion } from './field-map-store';
+import { callRunInputs } from './run-inputs';
 import { notFound } from '../../http/errors';
 import type { CaptureRow } from '../captures/rows';
 import { findMap } from './field-maps';
@@ -78,8 +81,27 @@ export function chooseCaptureMap(m: CallsModule, rigId: number, capture: Capture
     .pluck()
     .get(capture.id) as number | undefined;
   if (decoded !== undefined && !m.jobs.isBusy(capture.id)) {
-    const runId = createCallRun(m.sqlite, capture.id, decoded, loadMapVersion(m.sqlite, body.mapId, body.version ?? null), 'queued');
-    m.calls.enqueue(runId);
+    const v = loadMapVersion(m.sqlite, body.mapId, body.version ?? null);
+    queueCallRun(m, capture.id, decoded, { mapId: v.mapId, version: v.version });
   }
   return captureCallLayer(m, capture);
+}
+
+/** A call-only re-run over a decode run's frames, with its own snapshot. */
+function queueCallRun(m: CallsModule, captureId: number, decodeJobId: number, fieldMap: { mapId: number; version: number }): void {
+  const row = m.sqlite.prepare('select inputs, settings from decode_jobs where id = ?').get(decodeJobId) as { inputs: string | null; settings: string };
+  const decodeInputs = parseRunInputs(row.inputs, { settings: row.settings, fieldMap });
+  m.calls.enqueue(createCallRun(m.sqlite, captureId, decodeJobId, callRunInputs(m.sqlite, captureId, decodeInputs, fieldMap), 'queued'));
+}
+
+/**
+ * A decode run took its map when it was queued; a map chosen while it was queued or running is
+ * applied by a call-only re-run as soon as the decode is visible.
+ */
+export function applyMapChosenDuringDecode(m: CallsModule, captureId: number, decodeJobId: number): void {
+  const row = m.sqlite.prepare('select inputs from decode_jobs where id = ?').pluck().get(decodeJobId) as string | null | undefined;
+  if (!row) return;
+  const used = (JSON.parse(row) as RunInputs).fieldMap;
+  const now = chosenMap(m.sqlite, captureId);
+  if (now.mapId !== used.mapId || now.version !== used.version) queueCallRun(m, captureId, decodeJobId, { mapId: now.mapId, version: now.version });
 }

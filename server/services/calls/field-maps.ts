@@ -2,7 +2,7 @@
 // optimistic check of the version the editor opened, Markdown export.
 import { fieldMapToMarkdown, parseFieldMap, validateFieldMap } from '../../../shared/decoder/calls';
 import type { FieldMapCreate, FieldMapDetail, FieldMapSave, FieldMapSummary } from '../../../shared/schemas';
-import { ensureBuiltInMap } from '../../jobs/call-stage';
+import { ensureBuiltInMap } from './field-map-store';
 import { badRequest, conflict, notFound } from '../../http/errors';
 import type { CallsModule } from './module';
 import { markdownWithFieldNotes } from '../field-notes';

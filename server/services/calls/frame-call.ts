@@ -2,7 +2,8 @@
 import { decodeFrameCall, callLayerRoles } from '../../../shared/decoder/calls';
 import type { FrameCall } from '../../../shared/schemas';
 import { captureSettingsSchema } from '../../../shared/schemas';
-import { chosenMap, FRAME_COLUMNS, frameFromRow, loadMapVersion } from '../../jobs/call-stage';
+import { frameFromRow, storedFrame } from '../../runs/stored-frame';
+import { chosenMap, loadMapVersion } from './field-map-store';
 import { notFound } from '../../http/errors';
 import type { CaptureRow } from '../captures/rows';
 import { visibleRun } from './capture-layer';
@@ -11,9 +12,9 @@ import type { CallsModule } from './module';
 
 export function frameCall(m: CallsModule, capture: CaptureRow, frameId: number): FrameCall {
   const jobId = capture.currentJobId;
-  const row = jobId === null ? undefined : m.sqlite.prepare(`select ${FRAME_COLUMNS} from frames where id = ? and job_id = ?`).get(frameId, jobId);
+  const row = jobId === null ? undefined : storedFrame(m.db, jobId, frameId);
   if (!row || jobId === null) throw notFound(`No frame with id ${frameId} in this capture's decoded frames`);
-  const frame = frameFromRow(row as Parameters<typeof frameFromRow>[0]);
+  const frame = frameFromRow(row);
   const run = visibleRun(m, capture.id);
   // the map of the visible results, so the inspector agrees with the exchange list
   const resolved = run ? loadMapVersion(m.sqlite, run.mapId, run.mapVersion) : chosenMap(m.sqlite, capture.id);

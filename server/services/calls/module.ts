@@ -1,11 +1,14 @@
+import { CallQueue } from '../../runs/call-queue';
 import type { CaptureModule } from '../captures/module';
-import { CallRunner } from './call-runner';
+import { applyMapChosenDuringDecode } from './capture-layer';
 
 /** The call-layer services: the capture services plus the queue of call-only re-runs. */
 export interface CallsModule extends CaptureModule {
-  calls: CallRunner;
+  calls: CallQueue;
 }
 
 export function createCallsModule(captures: CaptureModule): CallsModule {
-  return { ...captures, calls: new CallRunner(captures.sqlite, captures.jobs) };
+  const m: CallsModule = { ...captures, calls: new CallQueue(captures.sqlite, captures.jobs) };
+  captures.jobs.onVisible = (captureId, jobId) => applyMapChosenDuringDecode(m, captureId, jobId);
+  return m;
 }

@@ -1,6 +1,6 @@
 import { eq } from 'drizzle-orm';
 import { captures } from '../../db/schema';
-import { clearRunRows } from '../../jobs/run-rows';
+import { clearRunRows } from '../../runs/sweep';
 import type { CaptureDeps } from './deps';
 import type { CaptureRow } from './rows';
 

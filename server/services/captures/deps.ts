@@ -1,6 +1,6 @@
 import type Database from 'better-sqlite3';
 import type { Db } from '../../db/client';
-import type { JobRunner } from '../../jobs/runner';
+import type { DecodeQueue } from '../../runs/decode-queue';
 import type { CaptureStore } from '../../storage/capture-store';
 
 /** What the capture services need: the database (Drizzle and the raw handle for hot queries), the file store, the decode queue. */
@@ -8,6 +8,6 @@ export interface CaptureDeps {
   db: Db;
   sqlite: Database.Database;
   store: CaptureStore;
-  jobs: JobRunner;
+  jobs: DecodeQueue;
   maxUploadBytes: number;
 }

@@ -1,6 +1,6 @@
 import type { FrameDetail } from '../../../shared/schemas';
 import { notFound } from '../../http/errors';
-import { payloadLength } from '../../jobs/run-rows';
+import { payloadLength } from '../../runs/run-writer';
 import type { CaptureDeps } from './deps';
 import type { TimelineReader } from './timeline';
 

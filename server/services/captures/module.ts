@@ -1,6 +1,6 @@
 import type Database from 'better-sqlite3';
 import type { Db } from '../../db/client';
-import { JobRunner } from '../../jobs/runner';
+import { DecodeQueue } from '../../runs/decode-queue';
 import { createCaptureStore } from '../../storage/capture-store';
 import type { CaptureDeps } from './deps';
 import { hexMatches } from './hex-pattern';
@@ -23,7 +23,7 @@ export function createCaptureModule(opts: { db: Db; sqlite: Database.Database; d
   opts.sqlite.function('hex_match', { deterministic: true }, (hex: unknown, pattern: unknown) =>
     typeof hex === 'string' && typeof pattern === 'string' && hexMatches(hex, pattern) ? 1 : 0,
   );
-  const jobs = new JobRunner(opts.sqlite, opts.dbPath, store);
+  const jobs = new DecodeQueue(opts.sqlite, opts.dbPath, store);
   jobs.recover();
   const deps: CaptureDeps = { db: opts.db, sqlite: opts.sqlite, store, jobs, maxUploadBytes: opts.maxUploadBytes ?? defaultMaxUploadBytes() };
   return { ...deps, timeline: new TimelineReader(deps) };

@@ -1,4 +1,4 @@
-import type { TimelineEvent, TimelineFrame, TimelinePage, TimelineQuery, TimelineRow } from '../../../shared/schemas';
+import type { TimelineCallMarker, TimelineEvent, TimelineFrame, TimelinePage, TimelineQuery, TimelineRow } from '../../../shared/schemas';
 import { badRequest } from '../../http/errors';
 import type { CaptureDeps } from './deps';
 import { hexTokens, longestLiteral } from './hex-pattern';
@@ -136,9 +136,21 @@ function keyset(alias: string, k: number, c: Cursor | null, forward: boolean): S
 
 const noteKey = (link: string, seq: number) => `${link}\u0000${seq}`;
 
-function withNotes(f: TimelineFrame, counts: Map<string, number>): TimelineFrame {
+function withNotesAndCall(f: TimelineFrame, counts: Map<string, number>, calls: Map<number, TimelineCallMarker>): TimelineFrame {
   const n = counts.get(noteKey(f.link, f.seq));
-  return n ? { ...f, notes: n } : f;
+  const call = calls.get(f.id);
+  return n || call ? { ...f, ...(n ? { notes: n } : {}), ...(call ? { call } : {}) } : f;
+}
+
+interface CallMarkerDbRow {
+  frameId: number;
+  exchangeId: number;
+  role: TimelineCallMarker['role'];
+  station: number;
+  callName: string | null;
+  callCode: number | null;
+  rtt: number | null;
+  outcome: TimelineCallMarker['outcome'];
 }
 
 const FRAME_COLUMNS = `f.id, f.link, f.seq, f.t, f.t_end as tEnd, f.status, f.address, f.kind, f.command, f.ns, f.nr, f.pf,
@@ -218,6 +230,40 @@ export class TimelineReader {
     return new Map(rows.map((r) => [noteKey(r.link, r.seq), r.n]));
   }
 
+  /**
+   * The call markers of the page's frames: each frame's exchange in the capture's visible call
+   * run (the one over this decode run), found through exchange_frames by (run, frame).
+   */
+  private callMarkers(jobId: number, frameIds: number[]): Map<number, TimelineCallMarker> {
+    const markers = new Map<number, TimelineCallMarker>();
+    if (frameIds.length === 0) return markers;
+    const rows = this.stmt(
+      `select ef.frame_id as frameId, e.id as exchangeId, e.station, e.call_name as callName, e.call_code as callCode, e.rtt, e.outcome,
+         case when e.request_frame_id = ef.frame_id then 'request'
+              when exists (select 1 from json_each(e.response_frame_ids) r where r.value = ef.frame_id) then 'response'
+              else 'retry' end as role
+       from decode_jobs j join capture_call_layers l on l.capture_id = j.capture_id
+       join call_runs cr on cr.id = l.current_run_id and cr.decode_job_id = j.id and cr.state = 'done'
+       join json_each(?) ids
+       join exchange_frames ef on ef.run_id = cr.id and ef.frame_id = ids.value
+       join exchanges e on e.id = ef.exchange_id
+       where j.id = ?
+       order by ef.frame_id, e.id`,
+    ).all(JSON.stringify(frameIds), jobId) as CallMarkerDbRow[];
+    // a frame in several exchanges (a repeated answer, say) is marked with the latest one
+    for (const r of rows) {
+      markers.set(r.frameId, {
+        exchangeId: r.exchangeId,
+        role: r.role,
+        station: r.station,
+        callName: r.callName ?? (r.callCode === null ? 'call' : `call ${r.callCode}`),
+        rttSeconds: r.rtt,
+        outcome: r.outcome,
+      });
+    }
+    return markers;
+  }
+
   toFrame(r: FrameDbRow, names: Map<number, string>): TimelineFrame {
     const stationName = r.address === null ? null : (names.get(r.address) ?? null);
     return {
@@ -277,9 +323,10 @@ export class TimelineReader {
     if (!forward) taken.reverse();
     const names = this.stationNames(rigId);
     const noteCounts = this.noteCounts(jobId);
+    const calls = this.callMarkers(jobId, taken.filter((x) => x.k === 0).map((x) => x.r.id));
     const rows: TimelineRow[] = taken.map(({ k, r }) =>
       k === 0
-        ? withNotes(this.toFrame(r as FrameDbRow, names), noteCounts)
+        ? withNotesAndCall(this.toFrame(r as FrameDbRow, names), noteCounts, calls)
         : ({ type: 'event', ...(r as EventDbRow), summary: eventSummary(r as EventDbRow) } satisfies TimelineEvent),
     );
     const keyOf = (x: { k: number; r: { t: number; id: number } }, d: 'f' | 'b'): Cursor => ({ t: x.r.t, k: x.k, id: x.r.id, d });

@@ -5,8 +5,8 @@ import type { CaptureSettings, WaveformWindow } from '../../../shared/schemas';
 import { HttpError } from '../../http/errors';
 import type { CaptureDeps } from './deps';
 import type { FrameRecord } from './frame-detail';
-import { csvHeadEnd } from '../../jobs/csv-seek';
-import { headerEnd, headerIds, resumeText } from '../../jobs/vcd-seek';
+import { csvHeadEnd } from '../../runs/seek/csv-seek';
+import { headerEnd, headerIds, resumeText } from '../../runs/seek/vcd-seek';
 import { thinChanges } from './waveform-thin';
 
 /**

@@ -378,7 +378,10 @@ export function attributeList(a: CpmAttributes): string[] {
  * control; the FCS is not part of it. `badFcs: true` also reads a bad-FCS frame: its values may
  * be damaged, so they serve only to guess which exchange it belonged to.
  */
-export function decodeFrameCall(map: FieldMap, frame: DecodedFrame, direction: CallDirection, badFcs = false): DecodedCall | null {
+/** What the call decode reads of a frame (a stored frame rebuilt from its row has just this much). */
+export type CallDecodeFrame = Pick<DecodedFrame, 'status' | 'bytes' | 'decode'>;
+
+export function decodeFrameCall(map: FieldMap, frame: CallDecodeFrame, direction: CallDirection, badFcs = false): DecodedCall | null {
   const d = frame.decode;
   const readable = frame.status === 'ok' || (badFcs && frame.status === 'bad-fcs');
   if (!readable || !d || (d.kind !== 'I' && d.command !== 'UI') || d.infoLength === 0) return null;

@@ -19,6 +19,9 @@
 // several wait; with one waiting it is that one's.
 // compareExchanges (below) sets two captures of the same rig side by side at exchange level.
 import type { DecodedFrame, LineEvent } from '../types';
+
+/** What the call layer reads of a frame: a stored frame rebuilt from its row is enough. */
+export type CallLayerFrame = Pick<DecodedFrame, 'link' | 'seq' | 'firstSample' | 'lastSample' | 'status' | 'bytes' | 'decode'>;
 import { decodeFrameCall, type DecodedCall } from './apply';
 import type { FieldMap } from './field-map';
 
@@ -99,6 +102,10 @@ export interface ExchangeSink {
   serviceDelay?(d: ServiceDelay): void;
 }
 
+/**
+ * The answer timeout unless the rig sets one (common practice for polled file servers: half a
+ * second before a station gives up on an answer); the rig schema and table default read it here.
+ */
 export const DEFAULT_TIMEOUT_SECONDS = 0.5;
 
 interface Open {
@@ -321,7 +328,7 @@ export interface CallLayerOptions {
 
 export interface CallLayerSink extends ExchangeSink {
   /** every frame on a known link with its call decode (null call for frames without one) */
-  call?(f: CallFrame, frame: DecodedFrame): void;
+  call?(f: CallFrame, frame: CallLayerFrame): void;
 }
 
 /**
@@ -343,7 +350,7 @@ export class CallLayer {
     this.rts = new Map((options.rts ?? []).map((r) => [r.channel, r.station]));
   }
 
-  frame(frame: DecodedFrame): void {
+  frame(frame: CallLayerFrame): void {
     const role = this.roles.get(frame.link);
     if (!role) return;
     const station = role.station ?? frame.decode?.address;

@@ -206,7 +206,10 @@ function callHints(groups: HintGroup[], mask: number, selectorOffset: number | n
  * The frames field hints look at: good information frames (I, and UI for datagrams) on links of
  * known direction, with the information field after address and control.
  */
-export function hintFrameOf(frame: DecodedFrame, role: LinkRole | undefined): HintFrame | null {
+/** What hints read of a frame: stored frames rebuilt from rows fit it without a cast. */
+export type HintSourceFrame = Pick<DecodedFrame, 'link' | 'seq' | 'firstSample' | 'status' | 'bytes' | 'decode'>;
+
+export function hintFrameOf(frame: HintSourceFrame, role: LinkRole | undefined): HintFrame | null {
   const d = frame.decode;
   if (!role || frame.status !== 'ok' || !d || (d.kind !== 'I' && d.command !== 'UI') || d.infoLength === 0) return null;
   return {

@@ -16,6 +16,7 @@ import { callLayerQueryOptions, useCallLayer } from '../../lib/call-layer';
 import { exchangeStatsQueryOptions } from '../../features/round-trips/api/get-exchange-stats';
 import { exchangeExportUrl, exchangesQueryOptions, useExchanges } from '../../features/round-trips/api/get-exchanges';
 import { ExportLinks } from '../../components/export-links';
+import { timelineKeys } from '../../features/timeline/api/timeline-keys';
 import { timelineSearchFor } from '../../features/round-trips/components/exchange-order';
 import { ExchangeTable } from '../../features/round-trips/components/exchange-table';
 import { RoundTripsView } from '../../features/round-trips/components/round-trips-view';
@@ -66,6 +67,8 @@ function CallLayerGate({ children }: { children: ReactNode }) {
       void queryClient.invalidateQueries({ queryKey: exchangeKeys.capture(rigId, captureId) });
       void queryClient.invalidateQueries({ queryKey: recoveredFileKeys.capture(rigId, captureId) });
       void queryClient.invalidateQueries({ queryKey: comparisonKeys.rig(rigId) });
+      // timeline rows carry their frames' call markers
+      void queryClient.invalidateQueries({ queryKey: timelineKeys.capture(rigId, captureId) });
     }
     seen.current = runId;
   }, [runId, rigId, captureId]);

@@ -1,20 +1,20 @@
 import { Link } from 'react-router';
 import { formatDuration } from '../../../components/units';
-import type { FrameExchange } from '../api/get-frame-exchanges';
+import type { TimelineCallMarker } from '../../../../shared/schemas';
 
-const roleMarks: Record<FrameExchange['role'], { mark: string; word: string }> = {
+const roleMarks: Record<TimelineCallMarker['role'], { mark: string; word: string }> = {
   request: { mark: '→', word: 'request' },
   retry: { mark: '↻', word: 'retry' },
   response: { mark: '←', word: 'answer' },
 };
 
-function timing(e: FrameExchange): string {
+function timing(e: TimelineCallMarker): string {
   if (e.rttSeconds !== null) return formatDuration(e.rttSeconds);
   return e.outcome === 'unanswered' ? 'no answer' : '—';
 }
 
 /** The frame's part in an exchange: call name and round trip, linking to the exchange in Round trips. */
-export function CallMarker({ exchange, href }: { exchange: FrameExchange; href: string }) {
+export function CallMarker({ exchange, href }: { exchange: TimelineCallMarker; href: string }) {
   const role = roleMarks[exchange.role];
   const text = `${exchange.callName} · ${timing(exchange)}`;
   return (

@@ -1,9 +1,8 @@
 import { createColumnHelper } from '@tanstack/react-table';
-import type { TimelineFrame, TimelineRow } from '../../../../shared/schemas';
+import type { TimelineCallMarker, TimelineFrame, TimelineRow } from '../../../../shared/schemas';
 import { StatusChip } from '../../../components/status-chip';
 import { formatDelta, formatSeconds } from '../../../components/units';
 import { formatAddress } from '../../../lib/format';
-import type { FrameExchange } from '../api/get-frame-exchanges';
 import { CallMarker } from './call-marker';
 
 export interface TimelineMeta {
@@ -11,8 +10,7 @@ export interface TimelineMeta {
   selectedT: number | null;
   linkLabels: Record<string, string>;
   /** frame id → its exchange (call layer), for the loaded exchanges */
-  calls?: ReadonlyMap<number, FrameExchange>;
-  callHref?: (e: FrameExchange) => string;
+  callHref?: (e: TimelineCallMarker) => string;
 }
 
 const col = createColumnHelper<TimelineRow>();
@@ -122,7 +120,7 @@ export const timelineColumns = [
       // a frame's part in an exchange leads its summary (a column of its own would push the summary off narrow screens)
       const meta = c.table.options.meta as TimelineMeta;
       const row = c.row.original;
-      const e = row.type === 'frame' ? meta.calls?.get(row.id) : undefined;
+      const e = row.type === 'frame' ? row.call : undefined;
       // the cell is as wide as the page allows; what does not fit ends in an ellipsis and is whole on hover and in the inspector
       return (
         <>

@@ -1,9 +1,8 @@
 import { flexRender, getCoreRowModel, useReactTable } from '@tanstack/react-table';
 import { useVirtualizer } from '@tanstack/react-virtual';
 import { useCallback, useEffect, useLayoutEffect, useMemo, useRef, type KeyboardEvent } from 'react';
-import type { TimelineFrame, TimelineRow } from '../../../../shared/schemas';
+import type { TimelineCallMarker, TimelineFrame, TimelineRow } from '../../../../shared/schemas';
 import { ErrorNotice } from '../../../components/notice';
-import { useFrameExchanges, type FrameExchange } from '../api/get-frame-exchanges';
 import { useTimelineRows } from '../api/get-timeline';
 import type { TimelineFilters } from '../api/timeline-filters';
 import { gridTemplate, timelineColumns, type TimelineMeta } from './timeline-columns';
@@ -41,9 +40,8 @@ export function TimelineTable({ rigId, captureId, filters, start, selectedId, re
   const scrollRef = useRef<HTMLDivElement>(null);
   const anchor = useRef<{ key: string; index: number; delta: number } | null>(null);
   const selectedT = useMemo(() => rows.find((r) => r.type === 'frame' && r.id === selectedId)?.t ?? null, [rows, selectedId]);
-  const calls = useFrameExchanges(rigId, captureId, filters.station ?? [], rows.at(-1)?.t ?? 0);
   const callHref = useCallback(
-    (e: FrameExchange) => `${captureScope(rigId, captureId).page}/round-trips?${new URLSearchParams({ station: String(e.station), ex: String(e.exchangeId) })}`,
+    (e: TimelineCallMarker) => `${captureScope(rigId, captureId).page}/round-trips?${new URLSearchParams({ station: String(e.station), ex: String(e.exchangeId) })}`,
     [rigId, captureId],
   );
 
@@ -52,7 +50,7 @@ export function TimelineTable({ rigId, captureId, filters, start, selectedId, re
     columns: timelineColumns,
     getCoreRowModel: getCoreRowModel(),
     getRowId: rowKey,
-    meta: { rows, selectedT, linkLabels, calls: calls.map, callHref } satisfies TimelineMeta,
+    meta: { rows, selectedT, linkLabels, callHref } satisfies TimelineMeta,
   });
   const tableRows = table.getRowModel().rows;
 
@@ -222,9 +220,6 @@ export function TimelineTable({ rigId, captureId, filters, start, selectedId, re
         <span data-testid="loaded-range">
           {rows.length > 0 ? `showing ${rows[Math.max(0, viewTop)]?.t.toFixed(6)} s – ${rows[Math.max(0, viewBottom)]?.t.toFixed(6)} s` : ''}
         </span>
-        {calls.capped && calls.coveredUntil !== null && rows.length > 0 && rows[rows.length - 1].t > calls.coveredUntil ? (
-          <span>call markers stop at {calls.coveredUntil.toFixed(6)} s (too many exchanges to read further)</span>
-        ) : null}
         <span>{query.isFetchingNextPage || query.isFetchingPreviousPage ? 'loading more…' : `${rows.length.toLocaleString('en-GB')} rows in memory`}</span>
       </div>
     </div>

@@ -4,8 +4,8 @@
 // first rows). A resumed reader is therefore fed the file's own head (header plus those first
 // rows, byte for byte) and then the rows from the seek offset: it chooses the same base and
 // resolution as the full decode did. Each point's sample is worked out by that same reader.
-import { CsvReader, SAMPLE_COLUMN, TIME_COLUMN } from '../../shared/decoder/readers';
-import type { ReaderOptions, Transitions } from '../../shared/decoder';
+import { CsvReader, SAMPLE_COLUMN, TIME_COLUMN } from '../../../shared/decoder/readers';
+import type { ReaderOptions, Transitions } from '../../../shared/decoder';
 import { SEEK_SPACING, type SeekPoint } from './vcd-seek';
 
 /** data rows the CSV reader looks at to choose its time base (its HEAD_ROWS) */

@@ -3,7 +3,7 @@
 // body's time and levels; every ~256 KB, at the start of a "#time" token, it records the byte
 // offset, the time before it and the levels there. A window is read later by feeding a fresh
 // reader the header, one synthetic "#time" with those levels, and the file from that offset.
-import { VcdReader } from '../../shared/decoder/readers';
+import { VcdReader } from '../../../shared/decoder/readers';
 
 export const SEEK_SPACING = 256 << 10;
 

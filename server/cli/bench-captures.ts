@@ -1,4 +1,4 @@
-// Capture ingest and timeline benchmarks: `npx tsx server/jobs/bench-captures.ts [--frames 1000000]`.
+// Capture ingest and timeline benchmarks: `npx tsx server/cli/bench-captures.ts [--frames 1000000]`.
 // Generates a line-bit capture with our own encoder, decodes it through the real job runner and
 // worker into a fresh database, then times timeline pages, counts, frame detail and waveform
 // windows server-side (service calls, no HTTP). Targets are printed beside the figures, not asserted.
@@ -9,6 +9,7 @@ import { parseArgs } from 'node:util';
 import { encodeLineBits, type LineItem, renderWaveform, octetsFromLineBits, vcdChunks } from '../../shared/decoder/encode';
 import { captureSettingsSchema, timelineQuerySchema, type TimelineQuery } from '../../shared/schemas';
 import { openDb } from '../db/client';
+import { decodeRunInputs } from '../services/calls/run-inputs';
 import { findFrame, frameDetail } from '../services/captures/frame-detail';
 import { createCaptureModule } from '../services/captures/module';
 import { findCapture, parseSettings } from '../services/captures/rows';
@@ -111,9 +112,14 @@ async function main() {
     t0 = performance.now();
     // worker threads count in process.cpuUsage: CPU seconds show the cost on a shared machine
     const cpu0 = process.cpuUsage();
-    m.jobs.enqueue(1, settings, size);
+    m.jobs.enqueue(1, decodeRunInputs(sqlite, 1, settings), size);
     await m.jobs.idle();
     const ingest = (performance.now() - t0) / 1000;
+    const phases = m.jobs.lastTimings;
+    if (phases) {
+      const total = Object.values(phases).reduce((a, b) => a + b, 0);
+      line('ingest phases (worker, wall)', Object.entries(phases).map(([k, v]) => `${k} ${(v / 1000).toFixed(1)} s`).join(', '), `sum ${(total / 1000).toFixed(1)} s`);
+    }
     const cpu = process.cpuUsage(cpu0);
     const cpuSeconds = (cpu.user + cpu.system) / 1e6;
     const job = sqlite.prepare('select state, frames, events, error from decode_jobs where id = 1').get() as { state: string; frames: number; events: number; error: string | null };
@@ -186,7 +192,7 @@ async function main() {
         .prepare("insert into captures (id, rig_id, name, size, sha256, format, settings, uploaded_by, created_at) values (2, 1, 'bench.vcd', ?, ?, 'vcd', ?, 1, 0)")
         .run(vcd.length, stored.sha256, JSON.stringify(vcdSettings));
       t0 = performance.now();
-      m.jobs.enqueue(2, vcdSettings, vcd.length);
+      m.jobs.enqueue(2, decodeRunInputs(sqlite, 2, vcdSettings), vcd.length);
       await m.jobs.idle();
       line(`ingest of a ${(vcd.length / 1e6).toFixed(0)} MB clocked VCD (${vcdFrames} frames)`, `${((performance.now() - t0) / 1000).toFixed(1)} s`, '');
       const vcdJob = findCapture(m, 1, 2).currentJobId!;

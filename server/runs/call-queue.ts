@@ -1,12 +1,14 @@
 // Call-only re-runs (a capture's map changed): one at a time, in the server process, reading the
-// visible decode run's frames a page at a time and yielding to requests between pages. The
-// previous call run stays visible until the new one switches over in one transaction.
+// visible decode run's frames a page at a time and yielding to requests between pages. Each run
+// has its own inputs snapshot (call_runs.inputs). The previous call run stays visible until the
+// new one switches over in one transaction.
 import type Database from 'better-sqlite3';
-import { captureSettingsSchema } from '../../../shared/schemas';
-import { loadMapVersion, runCallStage, switchToCallRun } from '../../jobs/call-stage';
-import type { JobRunner } from '../../jobs/runner';
+import { switchToCallRun } from './call-runs';
+import { runCallStage } from './call-stage';
+import type { DecodeQueue } from './decode-queue';
+import { loadMapVersion, parseRunInputs } from './inputs';
 
-export class CallRunner {
+export class CallQueue {
   private readonly queue: number[] = [];
   private running = false;
   private closed = false;
@@ -14,7 +16,7 @@ export class CallRunner {
 
   constructor(
     private readonly sqlite: Database.Database,
-    private readonly jobs: JobRunner,
+    private readonly jobs: DecodeQueue,
   ) {}
 
   enqueue(runId: number): void {
@@ -60,25 +62,25 @@ export class CallRunner {
     const run = this.sqlite
       .prepare(
         `select r.id, r.capture_id as captureId, r.decode_job_id as decodeJobId, r.map_id as mapId, r.map_version as mapVersion, r.state,
-                j.settings, j.sample_period as samplePeriod
+                r.inputs, j.settings, j.sample_period as samplePeriod
          from call_runs r join decode_jobs j on j.id = r.decode_job_id where r.id = ?`,
       )
       .get(runId) as
-      | { id: number; captureId: number; decodeJobId: number; mapId: number; mapVersion: number; state: string; settings: string; samplePeriod: number | null }
+      | { id: number; captureId: number; decodeJobId: number; mapId: number; mapVersion: number; state: string; inputs: string | null; settings: string; samplePeriod: number | null }
       | undefined;
     if (!run || run.state !== 'queued') return;
     // a later choice for the same capture replaces this one before it starts
     const newer = this.sqlite.prepare("select 1 from call_runs where capture_id = ? and id > ? and state = 'queued'").get(run.captureId, run.id);
     if (newer) return this.fail(runId, 'A later map choice replaced this run before it started.');
     this.sqlite.prepare("update call_runs set state = 'running' where id = ?").run(runId);
-    const settings = captureSettingsSchema.parse(JSON.parse(run.settings));
-    const m = loadMapVersion(this.sqlite, run.mapId, run.mapVersion);
+    const inputs = parseRunInputs(run.inputs, { settings: run.settings, fieldMap: { mapId: run.mapId, version: run.mapVersion } });
+    const m = loadMapVersion(this.sqlite, inputs.fieldMap.mapId, inputs.fieldMap.version);
     const counts = await runCallStage(this.sqlite, {
       captureId: run.captureId,
       decodeJobId: run.decodeJobId,
       runId,
       map: m.map,
-      settings,
+      inputs,
       samplePeriod: run.samplePeriod ?? 0,
       pause: () => new Promise((r) => setImmediate(r)),
     });

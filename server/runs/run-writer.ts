@@ -1,0 +1,152 @@
+import type Database from 'better-sqlite3';
+import type { DecodedFrame, LineEvent } from '../../shared/decoder';
+import { bulkInsert } from '../db/bulk-insert';
+import { frames, lineEvents } from '../db/schema';
+
+// Rows of one decode run (frames, line events), written by the worker on its own connection in
+// batched transactions with prepared statements. The search index is search-index.ts, the
+// removal of replaced runs sweep.ts.
+
+const PRINTABLE = Array.from({ length: 256 }, (_, b) => (b >= 32 && b < 127 ? String.fromCharCode(b) : '.'));
+
+/** Octets of address..info: an aborted frame has no FCS; a frame too short for one keeps all it has. */
+export function payloadLength(f: { bytes: Uint8Array; status: string }): number {
+  const total = f.bytes.length;
+  if (f.status === 'abort') return total;
+  return total - 2 >= 2 ? total - 2 : total;
+}
+
+export function asciiOf(bytes: Uint8Array, from: number, to: number): string {
+  let s = '';
+  for (let i = from; i < to; i++) s += PRINTABLE[bytes[i]];
+  return s;
+}
+
+/** rows per transaction: larger batches write each hot index page to the WAL fewer times */
+/** rows per transaction: larger batches write each hot index page to the WAL fewer times */
+const BATCH = 20_000;
+const ROWS_PER_INSERT = 40;
+/**
+ * Fill between frames shorter than this many flags is ordinary inter-frame fill: it is not
+ * stored as a line event (it would double the rows of a busy capture and say nothing).
+ */
+export const MIN_FLAG_STRETCH = 8;
+
+/** the frames columns the writer fills, in the table's order (bulkInsert checks it) */
+const FRAME_COLUMNS = [
+  'jobId', 'captureId', 'link', 'seq', 'firstSample', 'lastSample', 't', 'tEnd', 'status', 'address', 'control', 'kind', 'command',
+  'ns', 'nr', 'pf', 'infoLength', 'bitLength', 'bytes', 'fcsReceived', 'fcsComputed', 'flippedBit', 'stuffed', 'hex', 'text',
+] as const satisfies readonly (keyof typeof frames.$inferInsert)[];
+const EVENT_COLUMNS = ['jobId', 'captureId', 'link', 'channel', 'kind', 'sample', 'endSample', 'count', 't', 'tEnd'] as const satisfies readonly (keyof typeof lineEvents.$inferInsert)[];
+
+/**
+ * Rows are kept as one flat array of driver values per table (no array per row: at a million
+ * frames the garbage collector's share of the ingest was larger than SQLite's), then written in
+ * one transaction per batch with a prepared ROWS_PER_INSERT-row statement.
+ */
+export class RunWriter {
+  private frameValues: unknown[] = [];
+  private eventValues: unknown[] = [];
+  private readonly insertFrame: Database.Statement;
+  /** one statement for ROWS_PER_INSERT rows: far fewer statement steps in the bulk insert */
+  private readonly insertFrames: Database.Statement;
+  private readonly insertEvent: Database.Statement;
+  private readonly flushTx: { immediate: () => void };
+  frames = 0;
+  events = 0;
+  /** milliseconds spent in batched inserts (the ingest benchmark splits the time by phase) */
+  insertMs = 0;
+  lastSample = 0;
+
+  constructor(
+    private readonly db: Database.Database,
+    private readonly jobId: number,
+    private readonly captureId: number,
+    private readonly period: () => number,
+  ) {
+    this.insertFrame = bulkInsert(db, frames, FRAME_COLUMNS, 1);
+    this.insertFrames = bulkInsert(db, frames, FRAME_COLUMNS, ROWS_PER_INSERT);
+    this.insertEvent = bulkInsert(db, lineEvents, EVENT_COLUMNS, 1);
+    this.flushTx = db.transaction(() => {
+      const v = this.frameValues;
+      const n = FRAME_COLUMNS.length;
+      const many = n * ROWS_PER_INSERT;
+      let i = 0;
+      for (; i + many <= v.length; i += many) this.insertFrames.run(v.slice(i, i + many));
+      for (; i < v.length; i += n) this.insertFrame.run(v.slice(i, i + n));
+      const e = this.eventValues;
+      for (let j = 0; j < e.length; j += EVENT_COLUMNS.length) this.insertEvent.run(e.slice(j, j + EVENT_COLUMNS.length));
+      this.frameValues = [];
+      this.eventValues = [];
+    });
+  }
+
+  frame(f: DecodedFrame): void {
+    const p = this.period();
+    const d = f.decode;
+    const payload = payloadLength(f);
+    const infoFrom = d ? d.infoOffset : payload;
+    const infoTo = d ? Math.min(payload, d.infoOffset + d.infoLength) : payload;
+    const buf = Buffer.from(f.bytes.buffer, f.bytes.byteOffset, f.bytes.length);
+    // FRAME_COLUMNS' order
+    this.frameValues.push(
+      this.jobId,
+      this.captureId,
+      f.link,
+      f.seq,
+      f.firstSample,
+      f.lastSample,
+      f.firstSample * p,
+      f.lastSample * p,
+      f.status,
+      d ? d.address : null,
+      d ? d.control : null,
+      d ? d.kind : null,
+      d ? d.command : null,
+      d ? d.ns : null,
+      d ? d.nr : null,
+      d ? (d.pf ? 1 : 0) : null,
+      d ? d.infoLength : 0,
+      f.bitLength,
+      Buffer.from(buf),
+      f.fcsReceived,
+      f.fcsComputed,
+      f.flippedBit,
+      JSON.stringify(f.stuffed),
+      buf.toString('hex', 0, payload),
+      asciiOf(f.bytes, infoFrom, infoTo),
+    );
+    this.frames++;
+    if (f.lastSample > this.lastSample) this.lastSample = f.lastSample;
+    if (this.frameValues.length >= BATCH * FRAME_COLUMNS.length) this.flush();
+  }
+
+  event(e: LineEvent): void {
+    if (e.kind === 'flags' && (e.count ?? 0) < MIN_FLAG_STRETCH) return;
+    const p = this.period();
+    // EVENT_COLUMNS' order
+    this.eventValues.push(
+      this.jobId,
+      this.captureId,
+      e.link,
+      e.channel,
+      e.kind,
+      e.sample,
+      e.endSample ?? null,
+      e.count ?? null,
+      e.sample * p,
+      e.endSample !== undefined ? e.endSample * p : null,
+    );
+    this.events++;
+    const end = e.endSample ?? e.sample;
+    if (end > this.lastSample) this.lastSample = end;
+    if (this.eventValues.length >= BATCH * EVENT_COLUMNS.length) this.flush();
+  }
+
+  flush(): void {
+    if (this.frameValues.length === 0 && this.eventValues.length === 0) return;
+    const t = performance.now();
+    this.flushTx.immediate();
+    this.insertMs += performance.now() - t;
+  }
+}

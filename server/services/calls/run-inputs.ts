@@ -1,0 +1,32 @@
+// The inputs snapshot of a new run (server/runs/inputs.ts), read from the capture, its chosen
+// field map and its rig at the moment the run is created.
+import type Database from 'better-sqlite3';
+import { eq } from 'drizzle-orm';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
+import * as schema from '../../db/schema';
+import { captures, rigs } from '../../db/schema';
+import type { CaptureSettings } from '../../../shared/schemas';
+import type { MapRef, RunInputs } from '../../runs/inputs';
+import { chosenMap } from './field-map-store';
+
+/** The capture's rig decides how long a request may wait before it counts as unanswered. */
+function rigAnswerTimeoutSeconds(sqlite: Database.Database, captureId: number): number {
+  const row = drizzle(sqlite, { schema })
+    .select({ ms: rigs.responseTimeoutMs })
+    .from(captures)
+    .innerJoin(rigs, eq(rigs.id, captures.rigId))
+    .where(eq(captures.id, captureId))
+    .get()!;
+  return row.ms / 1000;
+}
+
+/** A decode run: the capture's roles as given, its chosen map's version now, the rig's timeout now. */
+export function decodeRunInputs(db: Database.Database, captureId: number, capture: CaptureSettings): RunInputs {
+  const m = chosenMap(db, captureId);
+  return { capture, fieldMap: { mapId: m.mapId, version: m.version }, answerTimeoutSeconds: rigAnswerTimeoutSeconds(db, captureId) };
+}
+
+/** A call-only re-run over a decode run's frames: that run's roles, the newly chosen map, the rig's timeout now. */
+export function callRunInputs(db: Database.Database, captureId: number, decodeRun: RunInputs, fieldMap: MapRef): RunInputs {
+  return { capture: decodeRun.capture, fieldMap, answerTimeoutSeconds: rigAnswerTimeoutSeconds(db, captureId) };
+}
