@@ -10,6 +10,7 @@ import { callLayerRoles, CallLayer, type Exchange } from '../../shared/decoder/c
 import type { FieldMap } from '../../shared/decoder/calls/field-map';
 import { recoverFiles } from '../../shared/decoder/calls/files';
 import type { LineEvent } from '../../shared/decoder/types';
+import { FileResultsWriter, storeDamagedAnswers } from '../services/calls/call-results';
 import type { RunInputs } from './inputs';
 import { FRAME_COLUMNS, frameFromRow, type StoredFrameRow } from './stored-frame';
 
@@ -86,6 +87,7 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
         ).lastInsertRowid,
       );
       for (const f of [requestId, ...retryIds, ...responseIds]) if (f !== null) insertLink.run(input.runId, f, exchangeId);
+      storeDamagedAnswers(db, input.runId, exchangeId, e.damagedResponses.map(id).filter((x): x is number => x !== null));
       if (e.fileName) {
         exchangeIdOfRequest.set(refKey(e.request.link, e.request.seq), exchangeId);
         fileExchanges.push(slim(e));
@@ -99,7 +101,8 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
     {
       exchange: (e) => pending.push(e),
       call: (cf) => {
-        if (cf.call) frameIds.set(refKey(cf.ref.link, cf.ref.seq), currentFrameId);
+        // damaged I frames too: an exchange lists its damaged answers by frame id
+        if (cf.call || cf.damagedCall !== undefined) frameIds.set(refKey(cf.ref.link, cf.ref.seq), currentFrameId);
       },
     },
   );
@@ -143,10 +146,11 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
      values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
   );
   const exId = (ref: { link: string; seq: number }) => exchangeIdOfRequest.get(refKey(ref.link, ref.seq)) ?? null;
+  const results = new FileResultsWriter(db, exId);
   db.transaction(() => {
     for (const f of files) {
       const bytes = Buffer.from(f.bytes.buffer, f.bytes.byteOffset, f.bytes.length);
-      insertFile.run(
+      const stored = insertFile.run(
         input.runId,
         input.captureId,
         f.key,
@@ -162,7 +166,9 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
         JSON.stringify(f.conflicts.map((c) => ({ record: c.record, exchangeIds: c.requests.map(exId).filter((x) => x !== null) }))),
         JSON.stringify(f.exchanges.map(exId).filter((x) => x !== null)),
       );
+      results.file(Number(stored.lastInsertRowid), f);
     }
+    results.finish();
   }).immediate();
   return { exchanges: count, files: files.length };
 }
