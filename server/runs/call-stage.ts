@@ -140,7 +140,8 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
   layer.finish();
   if (pending.length) writePending.immediate();
 
-  const files = recoverFiles(fileExchanges).filter((f) => f.recordCount > 0);
+  // a file only locked (no record moved) is kept for its lock conflicts
+  const files = recoverFiles(fileExchanges).filter((f) => f.recordCount > 0 || f.lockConflicts.length > 0);
   const insertFile = db.prepare(
     `insert into recovered_files (run_id, capture_id, key, name, kind, user, stations, record_count, end_known, bytes, sha256, coverage, conflicts, exchange_ids)
      values (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
