@@ -55,7 +55,7 @@ describe('call results in the browser', () => {
       await form.getByRole('button', { name: 'Save roles and decode' }).click();
       const base = `/api/rigs/${rigId}/captures/${captureId}`;
       await expect
-        .poll(async () => (await getJson<{ current: unknown }>(page, `${base}/field-map`)).current !== null, { timeout: 60_000, intervals: [500] })
+        .poll(async () => (await getJson<{ current: unknown }>(page, `${base}/field-map`)).current !== null, { timeout: 60_000, interval: 500 })
         .toBe(true);
       const rows = (await getJson<ExchangePage>(page, `${base}/exchanges?limit=1000`)).rows;
       const retried = rows.find((r) => (r.damagedResponseFrameIds ?? []).length > 0)!;
