@@ -53,9 +53,10 @@ describe('call results in the browser', () => {
         await form.getByLabel(`Station on ${channel}`).selectOption(station);
       }
       await form.getByRole('button', { name: 'Save roles and decode' }).click();
+      await shot(page, 'roles-saved');
       const base = `/api/rigs/${rigId}/captures/${captureId}`;
       await expect
-        .poll(async () => (await getJson<{ current: unknown }>(page, `${base}/field-map`)).current !== null, { timeout: 60_000, interval: 500 })
+        .poll(async () => (await getJson<{ current: unknown }>(page, `${base}/field-map`)).current !== null, { timeout: 200_000, interval: 1000 })
         .toBe(true);
       const rows = (await getJson<ExchangePage>(page, `${base}/exchanges?limit=1000`)).rows;
       const retried = rows.find((r) => (r.damagedResponseFrameIds ?? []).length > 0)!;
@@ -101,5 +102,6 @@ describe('call results in the browser', () => {
     } finally {
       await context.close();
     }
-  });
+    // the decode queues behind the demo captures the server decodes at start
+  }, 300_000);
 });
