@@ -415,6 +415,10 @@ export const exchanges = sqliteTable(
     user: integer('user'),
     /** the response's fields without the tag ("id=display | …"), for compare */
     answer: text('answer'),
+    /** JSON array of frame ids: bad-FCS answers the station answered with a retry (why it was retried) */
+    damagedResponseFrameIds: text('damaged_response_frame_ids').notNull().default('[]'),
+    /** JSON StoredLockConflict[] (services/calls/lock-conflicts.ts): lock conflicts this exchange is part of */
+    lockConflicts: text('lock_conflicts').notNull().default('[]'),
   },
   (t) => [
     index('exchanges_run_t_idx').on(t.runId, t.tRequest, t.id),
@@ -456,6 +460,12 @@ export const recoveredFiles = sqliteTable(
     conflicts: text('conflicts').notNull(),
     /** JSON array of exchange ids, in time order */
     exchangeIds: text('exchange_ids').notNull(),
+    /** where record_count came from (FileSizeSource); null on rows written before it was stored */
+    sizeSource: text('size_source', { enum: ['end-of-file', 'compute-file-size', 'open', 'written', 'records-seen'] }),
+    /** the exchange whose answer gave the size */
+    sizeExchangeId: integer('size_exchange_id'),
+    /** JSON StoredFileLockConflict[] (services/calls/lock-conflicts.ts); null on rows written before it was stored */
+    lockConflicts: text('lock_conflicts'),
   },
   (t) => [index('recovered_files_run_idx').on(t.runId, t.name)],
 );

@@ -10,6 +10,7 @@ import { callLayerRoles, CallLayer, type Exchange } from '../../shared/decoder/c
 import type { FieldMap } from '../../shared/decoder/calls';
 import { fileCallsOf, recoverFiles } from '../../shared/decoder/calls';
 import type { LineEvent } from '../../shared/decoder';
+import { FileResultsWriter, storeDamagedAnswers } from '../services/calls/call-results';
 import type { RunInputs } from './inputs';
 import { drizzle } from 'drizzle-orm/better-sqlite3';
 import { and, eq, inArray } from 'drizzle-orm';
@@ -88,6 +89,7 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
       };
       const exchangeId = insertExchange.get(row)!.id;
       for (const f of [requestId, ...retryIds, ...responseIds]) if (f !== null) insertLink.run({ runId: input.runId, frameId: f, exchangeId });
+      storeDamagedAnswers(db, input.runId, exchangeId, e.damagedResponses.map(id).filter((x): x is number => x !== null));
       if (e.fileName) {
         exchangeIdOfRequest.set(refKey(e.request.link, e.request.seq), exchangeId);
         fileExchanges.push(slim(e));
@@ -101,7 +103,8 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
     {
       exchange: (e) => pending.push(e),
       call: (cf) => {
-        if (cf.call) frameIds.set(refKey(cf.ref.link, cf.ref.seq), currentFrameId);
+        // damaged I frames too: an exchange lists its damaged answers by frame id
+        if (cf.call || cf.damagedCall !== undefined) frameIds.set(refKey(cf.ref.link, cf.ref.seq), currentFrameId);
       },
     },
   );
@@ -138,14 +141,15 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
   layer.finish();
   if (pending.length) writePending.immediate();
 
-  // the map's own file calls (a map that names none gets the CP/M ones)
-  const files = recoverFiles(fileExchanges, fileCallsOf(input.map)).filter((f) => f.recordCount > 0);
-  const insertFile = d.insert(recoveredFiles).values(placeholders(recoveredFiles)).prepare();
+  // the map's own file calls; a file only locked (no record moved) is kept for its lock conflicts
+  const files = recoverFiles(fileExchanges, fileCallsOf(input.map)).filter((f) => f.recordCount > 0 || f.lockConflicts.length > 0);
+  const insertFile = d.insert(recoveredFiles).values(placeholders(recoveredFiles)).returning({ id: recoveredFiles.id }).prepare();
   const exId = (ref: { link: string; seq: number }) => exchangeIdOfRequest.get(refKey(ref.link, ref.seq)) ?? null;
+  const results = new FileResultsWriter(db, exId);
   db.transaction(() => {
     for (const f of files) {
       const bytes = Buffer.from(f.bytes.buffer, f.bytes.byteOffset, f.bytes.length);
-      insertFile.run({
+      const stored = insertFile.get({
         runId: input.runId,
         captureId: input.captureId,
         key: f.key,
@@ -160,8 +164,10 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
         coverage: f.coverage.map((c) => (c === 'seen' ? 's' : c === 'missing' ? 'm' : 'c')).join(''),
         conflicts: JSON.stringify(f.conflicts.map((c) => ({ record: c.record, exchangeIds: c.requests.map(exId).filter((x) => x !== null) }))),
         exchangeIds: JSON.stringify(f.exchanges.map(exId).filter((x) => x !== null)),
-      } satisfies Omit<typeof recoveredFiles.$inferInsert, 'id'>);
+      } satisfies Omit<typeof recoveredFiles.$inferInsert, 'id'>)!;
+      results.file(stored.id, f);
     }
+    results.finish();
   }).immediate();
   return { exchanges: count, files: files.length };
 }

@@ -147,10 +147,11 @@ export interface ExchangeRow {
   serviceDelaySeconds: number | null;
   /**
    * frame ids of bad-FCS answers the station answered with a retry: why the exchange was
-   * retried (decoder: Exchange.damagedResponses). Absent until the server stores them.
+   * retried (decoder: Exchange.damagedResponses); each also has a timeline call marker of role
+   * damaged-response. Empty on runs stored before the server kept them.
    */
   damagedResponseFrameIds?: number[];
-  /** lock conflicts this exchange is part of (decoder: RecoveredFile.lockConflicts). Absent until the server stores them. */
+  /** lock conflicts this exchange is part of (decoder: RecoveredFile.lockConflicts); empty on runs stored before the server kept them */
   lockConflicts?: ExchangeLockConflict[];
 }
 
@@ -231,11 +232,11 @@ export interface RecoveredFileSummary {
   recordCount: number;
   /** an answer fixed the record count (sizeSource says which) */
   endKnown: boolean;
-  /** where the record count came from; absent until the server stores it */
+  /** where the record count came from; absent on runs stored before the server kept it (run the call layer again) */
   sizeSource?: FileSizeSourceName;
-  /** the exchange whose answer gave the size (null for records-seen); absent until the server stores it */
+  /** the exchange whose answer (or, for written, whose write) gave the size; null for records-seen; absent with sizeSource */
   sizeExchangeId?: number | null;
-  /** how many lock conflicts the file saw; absent until the server stores them */
+  /** how many lock conflicts the file saw; absent on runs stored before the server kept them */
   lockConflicts?: number;
   /** [first, last] record ranges nobody transferred */
   missing: [number, number][];
@@ -251,7 +252,7 @@ export interface RecoveredFileDetail extends RecoveredFileSummary {
   /** per record */
   coverage: RecordCoverageName[];
   conflictDetail: { record: number; exchangeIds: number[] }[];
-  /** two stations holding or asking for a lock on the same record; absent until the server stores them */
+  /** two stations holding or asking for a lock on the same record; absent on runs stored before the server kept them */
   lockConflictDetail?: {
     record: number;
     holder: { address: number; name: string | null; exchangeId: number | null };

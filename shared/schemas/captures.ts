@@ -187,7 +187,8 @@ export interface TimelineFrame {
 /** A frame's part in an exchange, as the timeline marks it. */
 export interface TimelineCallMarker {
   exchangeId: number;
-  role: 'request' | 'retry' | 'response';
+  /** damaged-response: a bad-FCS answer the station answered with a retry (ExchangeRow.damagedResponseFrameIds) */
+  role: 'request' | 'retry' | 'response' | 'damaged-response';
   station: number;
   /** the call's name, or "call <code>" when the map names none */
   callName: string;

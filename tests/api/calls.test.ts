@@ -162,6 +162,8 @@ describe('call layer over the demo captures', () => {
       if (e.requestFrameId !== null) expected.set(e.requestFrameId, { ...base, role: 'request' });
       for (const id of e.retryFrameIds) expected.set(id, { ...base, role: 'retry' });
       for (const id of e.responseFrameIds) expected.set(id, { ...base, role: 'response' });
+      // a damaged answer the station answered with a retry is marked as that exchange's
+      for (const id of e.damagedResponseFrameIds ?? []) expected.set(id, { ...base, role: 'damaged-response' });
     }
     const page = (await viewer.get(`${url(file)}/timeline?limit=1000&events=0`).expect(200)).body as TimelinePage;
     const frames = page.rows.filter((r): r is TimelineFrame => r.type === 'frame');

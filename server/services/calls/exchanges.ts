@@ -1,6 +1,7 @@
 // Exchanges of a capture's visible call run: filtered pages and round-trip statistics.
 import type { ExchangePage, ExchangeQuery, ExchangeRow, ExchangeStats, RttSummary, StationExchangeStats } from '../../../shared/schemas';
 import { badRequest } from '../../http/errors';
+import { exchangeLockConflicts } from './call-results';
 import { visibleRun } from './capture-layer';
 import type { CallsModule } from './module';
 
@@ -24,11 +25,14 @@ export interface Row {
   outcome: ExchangeRow['outcome'];
   retries: number;
   serviceDelay: number | null;
+  damagedResponseFrameIds: string;
+  lockConflicts: string;
 }
 
 export const EXCHANGE_COLUMNS = `id, station, call_code as callCode, call_name as callName, tag, file_name as fileName, record_number as recordNumber,
   status, status_meaning as statusMeaning, request_frame_id as requestFrameId, retry_frame_ids as retryFrameIds, response_frame_ids as responseFrameIds,
-  t_request as tRequest, t_request_end as tRequestEnd, t_response as tResponse, rtt, outcome, retries, service_delay as serviceDelay`;
+  t_request as tRequest, t_request_end as tRequestEnd, t_response as tResponse, rtt, outcome, retries, service_delay as serviceDelay,
+  damaged_response_frame_ids as damagedResponseFrameIds, lock_conflicts as lockConflicts`;
 
 /** Station names of the capture's rig by address. */
 export function stationNames(m: CallsModule, captureId: number): Map<number, string> {
@@ -58,6 +62,8 @@ export function toExchangeRow(r: Row, names: Map<number, string>): ExchangeRow {
     outcome: r.outcome,
     retries: r.retries,
     serviceDelaySeconds: r.serviceDelay,
+    damagedResponseFrameIds: JSON.parse(r.damagedResponseFrameIds),
+    lockConflicts: exchangeLockConflicts(r.lockConflicts, names),
   };
 }
 

@@ -28,6 +28,7 @@ const CSV_COLUMNS = [
   'requestFrameId',
   'retryFrameIds',
   'responseFrameIds',
+  'damagedResponseFrameIds',
 ] as const;
 
 export async function exportExchanges(
@@ -61,6 +62,7 @@ export async function exportExchanges(
             stationName: x.station.name,
             callCode: x.call.code,
             callName: x.call.name,
+            damagedResponseFrameIds: x.damagedResponseFrameIds ?? [],
           };
           buffer += CSV_COLUMNS.map((c) => csvCell(values[c])).join(',') + '\n';
         } else buffer += (first ? '' : ',\n') + JSON.stringify(x);

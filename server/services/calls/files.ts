@@ -2,7 +2,9 @@
 import { missingRanges, type RecordCoverage } from '../../../shared/decoder/calls';
 import type { RecoveredFileDetail, RecoveredFileSummary } from '../../../shared/schemas';
 import { notFound } from '../../http/errors';
+import { fileLockConflictDetail } from './call-results';
 import { visibleRun } from './capture-layer';
+import { stationNames } from './exchanges';
 import type { CallsModule } from './module';
 
 interface Row {
@@ -17,9 +19,13 @@ interface Row {
   coverage: string;
   conflicts: string;
   exchangeIds: string;
+  sizeSource: RecoveredFileSummary['sizeSource'] | null;
+  sizeExchangeId: number | null;
+  lockConflicts: string | null;
 }
 
-const COLUMNS = `id, name, kind, user, stations, record_count as recordCount, end_known as endKnown, sha256, coverage, conflicts, exchange_ids as exchangeIds`;
+const COLUMNS = `id, name, kind, user, stations, record_count as recordCount, end_known as endKnown, sha256, coverage, conflicts, exchange_ids as exchangeIds,
+  size_source as sizeSource, size_exchange_id as sizeExchangeId, lock_conflicts as lockConflicts`;
 const COVERAGE: Record<string, RecordCoverage> = { s: 'seen', m: 'missing', c: 'conflict' };
 
 function coverageOf(r: Row): RecordCoverage[] {
@@ -45,6 +51,9 @@ function toSummary(r: Row): RecoveredFileSummary {
     complete: r.endKnown === 1 && missing.length === 0 && conflicts.length === 0,
     sha256: r.sha256,
     exchangeCount: exchangeIds.length,
+    // rows of runs stored before these columns leave them out rather than guess
+    ...(r.sizeSource === null ? {} : { sizeSource: r.sizeSource, sizeExchangeId: r.sizeExchangeId }),
+    ...(r.lockConflicts === null ? {} : { lockConflicts: (JSON.parse(r.lockConflicts) as unknown[]).length }),
   };
 }
 
@@ -64,7 +73,13 @@ function findFile(m: CallsModule, captureId: number, fileId: number): Row {
 
 export function fileDetail(m: CallsModule, captureId: number, fileId: number): RecoveredFileDetail {
   const r = findFile(m, captureId, fileId);
-  return { ...toSummary(r), coverage: coverageOf(r), conflictDetail: JSON.parse(r.conflicts), exchangeIds: JSON.parse(r.exchangeIds) };
+  return {
+    ...toSummary(r),
+    coverage: coverageOf(r),
+    conflictDetail: JSON.parse(r.conflicts),
+    ...(r.lockConflicts === null ? {} : { lockConflictDetail: fileLockConflictDetail(r.lockConflicts, stationNames(m, captureId)) }),
+    exchangeIds: JSON.parse(r.exchangeIds),
+  };
 }
 
 /** The bytes and a download name safe in a Content-Disposition header and on any file system. */

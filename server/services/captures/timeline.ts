@@ -241,6 +241,7 @@ export class TimelineReader {
       `select ef.frame_id as frameId, e.id as exchangeId, e.station, e.call_name as callName, e.call_code as callCode, e.rtt, e.outcome,
          case when e.request_frame_id = ef.frame_id then 'request'
               when exists (select 1 from json_each(e.response_frame_ids) r where r.value = ef.frame_id) then 'response'
+              when exists (select 1 from json_each(e.damaged_response_frame_ids) r where r.value = ef.frame_id) then 'damaged-response'
               else 'retry' end as role
        from decode_jobs j join capture_call_layers l on l.capture_id = j.capture_id
        join call_runs cr on cr.id = l.current_run_id and cr.decode_job_id = j.id and cr.state = 'done'

@@ -18,6 +18,7 @@ import { exchangeExportUrl, exchangesQueryOptions, useExchanges } from '../../fe
 import { ExportLinks } from '../../components/export-links';
 import { timelineKeys } from '../../features/timeline/api/timeline-keys';
 import { timelineSearchFor } from '../../features/round-trips/components/exchange-order';
+import { exchangeHref } from '../../components/exchange-results';
 import { ExchangeTable } from '../../features/round-trips/components/exchange-table';
 import { RoundTripsView } from '../../features/round-trips/components/round-trips-view';
 import { queryClient } from '../query-client';
@@ -124,6 +125,7 @@ function FileExchanges({ rigId, captureId, fileId }: { rigId: number; captureId:
         rows={list.data.rows}
         frameHref={(id) => `${base}/frames/${id}`}
         timelineHref={(row) => `${base}/timeline${timelineSearchFor(row)}`}
+        exchangeHref={(id) => exchangeHref(base, id)}
         caption="Exchanges about this file"
       />
     </div>

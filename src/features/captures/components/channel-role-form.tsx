@@ -74,6 +74,13 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
       .map((a) => ({ value: String(a), label: `${formatAddress(a)} (seen in the capture)` })),
   ];
 
+  // a multidrop line shares its data wires, so each station's request line names the station itself
+  const handshakeStationOptions = (current: string) => [
+    { value: '', label: 'Station of its link' },
+    ...(current !== '' && !rig.stations.some((s) => String(s.address) === current) ? [{ value: current, label: `Station ${formatAddress(Number(current))}` }] : []),
+    ...[...rig.stations].sort((a, b) => a.address - b.address).map((s) => ({ value: String(s.address), label: `Station ${formatAddress(s.address)} ${s.name}` })),
+  ];
+
   function submit(event: FormEvent<HTMLFormElement>) {
     event.preventDefault();
     const settings = settingsFromForm(form);
@@ -212,7 +219,7 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
 
         <div>
           <h3 className="mb-1 text-sm font-semibold">Channels</h3>
-          <p className="mb-3 text-xs text-muted">Each data channel is one link: one direction of one serial line. Handshake lines show up as line events.</p>
+          <p className="mb-3 text-xs text-muted">Each data channel is one link: one direction of one serial line. Handshake lines show up as line events; a station's RTS line measures its service delay. On a multidrop line (data wires shared by several stations) leave the data links' station unknown and give each RTS line its station.</p>
           {errors.links ? <p className="mb-2 text-sm text-danger">{errors.links}</p> : null}
           <ul className="divide-y divide-line/60 border-y border-line/60" aria-label="Channels">
             {form.rows.map((row) => {
@@ -276,7 +283,7 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
                     </div>
                   ) : null}
                   {details && row.use === 'handshake' ? (
-                    <div className="grid gap-2 sm:grid-cols-[minmax(9rem,1fr)_minmax(14rem,2fr)]">
+                    <div className="grid gap-2 sm:grid-cols-[minmax(9rem,1fr)_minmax(12rem,1.5fr)_minmax(12rem,1.5fr)]">
                       <TextField
                         label={`Line name of ${row.name}`}
                         wrapperClassName="[&>label]:sr-only"
@@ -291,6 +298,14 @@ export function ChannelRoleForm({ rig, capture, detection, busy, error, disabled
                         value={row.lineLink}
                         onChange={(e) => setRow(row.name, { lineLink: e.target.value })}
                         options={[{ value: '', label: 'Not tied to a link' }, ...dataLinks.map((l) => ({ value: l.name, label: `Belongs to ${l.name}` }))]}
+                      />
+                      <SelectField
+                        label={`Station of ${row.name}`}
+                        wrapperClassName="[&>label]:sr-only"
+                        value={row.lineStation}
+                        onChange={(e) => setRow(row.name, { lineStation: e.target.value })}
+                        options={handshakeStationOptions(row.lineStation)}
+                        error={rowError(row, 'stationAddress')}
                       />
                     </div>
                   ) : null}

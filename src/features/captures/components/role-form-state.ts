@@ -13,6 +13,11 @@ export interface ChannelRow {
   lineName: string;
   /** the link (data channel name) a handshake line belongs to, '' for none */
   lineLink: string;
+  /**
+   * the station a handshake line belongs to, as a string ('' = the link's station, if any). On a
+   * multidrop line the data wires are shared and each station has its own request line.
+   */
+  lineStation: string;
 }
 
 export interface RoleFormState {
@@ -50,6 +55,7 @@ export function initialRoleForm(detection: Detection, capture: CaptureSummaryRow
       label: link?.label ?? '',
       lineName: hs?.name ?? (handshakeName.exec(name)?.[1]?.toUpperCase() ?? name.slice(0, 20)),
       lineLink: hs?.link ?? '',
+      lineStation: hs?.stationAddress === null || hs?.stationAddress === undefined ? '' : String(hs.stationAddress),
     };
   });
   const suggestedClock = detection.channels.find((c) => c.suggested === 'clock')?.name ?? '';
@@ -85,7 +91,7 @@ export function settingsFromForm(f: RoleFormState): CaptureSettingsInput {
       .map((r) => ({ channel: r.name, direction: r.direction, stationAddress: r.station === '' ? null : Number(r.station), label: r.label })),
     handshake: rows
       .filter((r) => r.use === 'handshake')
-      .map((r) => ({ channel: r.name, name: r.lineName, link: r.lineLink === '' ? null : r.lineLink })),
+      .map((r) => ({ channel: r.name, name: r.lineName, link: r.lineLink === '' ? null : r.lineLink, stationAddress: r.lineStation === '' ? null : Number(r.lineStation) })),
     bitRate: numberOrNull(f.bitRate),
     encoding: f.encoding,
     edge: f.edge,

@@ -2,6 +2,7 @@ import { Link } from 'react-router';
 import type { ExchangeRow } from '../../../../shared/schemas';
 import { formatDuration, formatSeconds } from '../../../components/units';
 import { formatAddress } from '../../../lib/format';
+import { ExchangeResults } from '../../../components/exchange-results';
 
 const outcomeWords: Record<ExchangeRow['outcome'], string> = {
   answered: 'answered',
@@ -14,14 +15,17 @@ interface Props {
   frameId: number;
   frameHref: (id: number) => string;
   roundTripsHref: string;
+  /** Round trips with another exchange chosen (the other side of a lock conflict) */
+  exchangeHref: (exchangeId: number) => string;
 }
 
 /** The exchange a frame belongs to: what it was, how it went, and every frame of it (this one marked). */
-export function ExchangeFrames({ exchange: ex, frameId, frameHref, roundTripsHref }: Props) {
+export function ExchangeFrames({ exchange: ex, frameId, frameHref, roundTripsHref, exchangeHref }: Props) {
   const frames: { id: number; role: string }[] = [
     ...(ex.requestFrameId === null ? [] : [{ id: ex.requestFrameId, role: 'request' }]),
     ...ex.retryFrameIds.map((id, i) => ({ id, role: ex.retryFrameIds.length > 1 ? `sent again (${i + 1})` : 'sent again' })),
     ...ex.responseFrameIds.map((id, i) => ({ id, role: ex.responseFrameIds.length > 1 ? `answer ${i + 1}` : 'answer' })),
+    ...(ex.damagedResponseFrameIds ?? []).map((id, i, all) => ({ id, role: all.length > 1 ? `damaged answer ${i + 1}` : 'damaged answer' })),
   ];
   const station = ex.station.name ?? formatAddress(ex.station.address);
   const what = [ex.call.name ?? (ex.call.code === null ? 'call' : `call ${ex.call.code}`), ex.fileName, ex.recordNumber === null ? null : `record ${ex.recordNumber}`]
@@ -51,6 +55,7 @@ export function ExchangeFrames({ exchange: ex, frameId, frameHref, roundTripsHre
           </li>
         ))}
       </ol>
+      <ExchangeResults exchange={ex} frameHref={frameHref} exchangeHref={exchangeHref} />
     </div>
   );
 }

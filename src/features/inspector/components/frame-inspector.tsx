@@ -17,6 +17,7 @@ import { HexView, type HexSpan } from './hex-view';
 import { LinkDecode } from './link-decode';
 import { WaveformView } from './waveform-view';
 import { captureScope } from '../../../lib/scope';
+import { exchangeHref } from '../../../components/exchange-results';
 
 /** context bits either side of the frame in the waveform: enough to show both flags (the loader prefetches the same) */
 export const WAVEFORM_CONTEXT_BITS = 24;
@@ -130,6 +131,7 @@ export function FrameInspector({ rigId, captureId, frameId, backTo, hasSamples }
                 frameId={frameId}
                 frameHref={(id) => `${base}/frames/${id}`}
                 roundTripsHref={`${base}/round-trips?${new URLSearchParams({ station: String(decoded.data.exchange.station.address), ex: String(decoded.data.exchange.id) })}`}
+                exchangeHref={(id) => exchangeHref(base, id)}
               />
             </div>
           ) : decoded.data ? (

@@ -1,6 +1,6 @@
 import { Fragment, type ReactNode } from 'react';
-import { useSearchParams } from 'react-router';
-import type { RecoveredFileSummary, RigDetail } from '../../../../shared/schemas';
+import { Link, useSearchParams } from 'react-router';
+import type { LockConflictOutcome, RecoveredFileDetail, RecoveredFileSummary, RigDetail } from '../../../../shared/schemas';
 import { buttonClass } from '../../../components/button';
 import { Card, CardTitle } from '../../../components/card';
 import { ErrorNotice } from '../../../components/notice';
@@ -11,6 +11,7 @@ import { useRecoveredFile } from '../api/get-file';
 import { useRecoveredFiles } from '../api/get-files';
 import { coverageOf, coverageText } from './coverage';
 import { CoverageBar, CoverageLegend } from './coverage-bar';
+import { SizeSource } from './size-source';
 
 interface RecoveredFileListProps {
   rig: RigDetail;
@@ -39,6 +40,7 @@ export function RecoveredFileList({ rig, captureId, renderExchanges }: Recovered
       { replace: true, preventScrollReset: true },
     );
   const stationName = (address: number) => rig.stations.find((s) => s.address === address)?.name ?? formatAddress(address);
+  const exchangeHref = (id: number) => `/rigs/${rig.id}/captures/${captureId}/round-trips?${new URLSearchParams({ station: 'all', ex: String(id) })}`;
 
   if (files.error) return <ErrorNotice error={files.error} />;
   if (files.isPending) return <p className="text-sm text-muted">Loading recovered files…</p>;
@@ -73,6 +75,11 @@ export function RecoveredFileList({ rig, captureId, renderExchanges }: Recovered
                         <span className={`ml-2 rounded px-1.5 py-px text-[11px] font-medium ${f.complete ? 'bg-ok-soft text-ok' : 'bg-flare-500/15 text-flare-700 dark:text-flare-300'}`}>
                           {f.complete ? 'complete' : 'incomplete'}
                         </span>
+                        {f.lockConflicts ? (
+                          <span className="ml-2 rounded bg-[#e0582f]/15 px-1.5 py-px text-[11px] font-medium text-[#c2410c] dark:text-[#f59e6b]" data-testid="file-lock-conflicts">
+                            {f.lockConflicts} lock conflict{f.lockConflicts === 1 ? '' : 's'}
+                          </span>
+                        ) : null}
                         <p className="mt-0.5 text-xs text-muted">{f.stations.map(stationName).join(', ')}</p>
                       </td>
                       <td className="py-2.5 pr-3 text-right font-mono text-xs" title={`${formatCount(f.size)} octets`}>
@@ -80,7 +87,7 @@ export function RecoveredFileList({ rig, captureId, renderExchanges }: Recovered
                       </td>
                       <td className="py-2.5 pr-3 text-right font-mono text-xs">
                         {formatCount(f.recordCount)}
-                        <p className="font-sans text-muted">{f.endKnown ? 'end seen' : 'end not seen'}</p>
+                        <SizeSource file={f} exchangeHref={exchangeHref} />
                       </td>
                       <td className="py-2.5 pr-3">
                         <CoverageBar coverage={coverage} />
@@ -98,7 +105,7 @@ export function RecoveredFileList({ rig, captureId, renderExchanges }: Recovered
                     {open === f.id ? (
                       <tr className="border-b border-line/70 bg-raised/40">
                         <td colSpan={5} className="px-3 py-3">
-                          <FileDetail rigId={rig.id} captureId={captureId} fileId={f.id} />
+                          <FileDetail rigId={rig.id} captureId={captureId} fileId={f.id} exchangeHref={exchangeHref} />
                           {renderExchanges(f.id)}
                         </td>
                       </tr>
@@ -115,7 +122,7 @@ export function RecoveredFileList({ rig, captureId, renderExchanges }: Recovered
   );
 }
 
-function FileDetail({ rigId, captureId, fileId }: { rigId: number; captureId: number; fileId: number }) {
+function FileDetail({ rigId, captureId, fileId, exchangeHref }: { rigId: number; captureId: number; fileId: number; exchangeHref: (id: number) => string }) {
   const detail = useRecoveredFile(rigId, captureId, fileId);
   if (detail.error) return <ErrorNotice error={detail.error} />;
   if (!detail.data) return <p className="text-sm text-muted">Loading…</p>;
@@ -132,6 +139,45 @@ function FileDetail({ rigId, captureId, fileId }: { rigId: number; captureId: nu
           {d.conflictDetail.map((c) => `record ${c.record} (${c.exchangeIds.length} transfers)`).join(', ')}; the first transfer's contents are kept.
         </p>
       ) : null}
+      <LockConflictList conflicts={d.lockConflictDetail ?? []} exchangeHref={exchangeHref} />
+    </div>
+  );
+}
+
+const lockOutcome: Record<LockConflictOutcome, string> = {
+  granted: 'granted: both held the record',
+  refused: 'refused',
+  unanswered: 'not answered',
+};
+
+/** Two stations holding or asking for a lock (calls 42/43) on the same record of this file. */
+function LockConflictList({ conflicts, exchangeHref }: { conflicts: NonNullable<RecoveredFileDetail['lockConflictDetail']>; exchangeHref: (id: number) => string }) {
+  if (conflicts.length === 0) return null;
+  const who = (s: { address: number; name: string | null; exchangeId: number | null }) => (
+    <>
+      {s.name ?? `station ${formatAddress(s.address)}`}
+      {s.exchangeId !== null ? (
+        <>
+          {' '}
+          (
+          <Link to={exchangeHref(s.exchangeId)} className="text-link hover:underline">
+            exchange #{s.exchangeId}
+          </Link>
+          )
+        </>
+      ) : null}
+    </>
+  );
+  return (
+    <div>
+      <p className="text-[#c2410c] dark:text-[#f59e6b]">Lock conflicts:</p>
+      <ul className="ml-4 list-disc" aria-label="Lock conflicts">
+        {conflicts.map((c, i) => (
+          <li key={i} data-testid="file-lock-conflict">
+            record {c.record}: {who(c.holder)} held the lock, {who(c.requester)} asked for it; {lockOutcome[c.outcome]}
+          </li>
+        ))}
+      </ul>
     </div>
   );
 }

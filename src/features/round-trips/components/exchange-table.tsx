@@ -2,12 +2,15 @@ import { Link } from 'react-router';
 import type { ExchangeRow } from '../../../../shared/schemas';
 import { formatDuration, formatSeconds } from '../../../components/units';
 import { formatAddress } from '../../../lib/format';
+import { ExchangeResults } from '../../../components/exchange-results';
 import { OutcomeChip } from './outcome-chip';
 
 interface ExchangeTableProps {
   rows: ExchangeRow[];
   frameHref: (frameId: number) => string;
   timelineHref: (row: ExchangeRow) => string;
+  /** Round trips with another exchange chosen (the other side of a lock conflict) */
+  exchangeHref: (exchangeId: number) => string;
   /** shows the exchange in the ladder; absent where there is no ladder */
   onShow?: (row: ExchangeRow) => void;
   showStation?: boolean;
@@ -15,7 +18,7 @@ interface ExchangeTableProps {
 }
 
 /** Exchanges as a table: the accessible twin of the ladder, and the per-file exchange list. */
-export function ExchangeTable({ rows, frameHref, timelineHref, onShow, showStation = true, caption }: ExchangeTableProps) {
+export function ExchangeTable({ rows, frameHref, timelineHref, exchangeHref, onShow, showStation = true, caption }: ExchangeTableProps) {
   return (
     <div className="overflow-x-auto">
       <table className="w-full text-sm">
@@ -49,6 +52,7 @@ export function ExchangeTable({ rows, frameHref, timelineHref, onShow, showStati
               <td className="py-1.5 pr-3">
                 <OutcomeChip outcome={r.outcome} />
                 {r.retries > 0 ? <span className="ml-1 text-xs text-muted">{r.retries}× again</span> : null}
+                <ExchangeResults exchange={r} frameHref={frameHref} exchangeHref={exchangeHref} compact />
               </td>
               <td className="py-1.5 text-xs whitespace-nowrap">
                 {r.requestFrameId !== null ? (

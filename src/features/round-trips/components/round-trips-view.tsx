@@ -11,6 +11,7 @@ import { exchangeExportUrl, useExchanges } from '../api/get-exchanges';
 import { ExportLinks } from '../../../components/export-links';
 import { ExchangeLadder, type LadderLane } from './exchange-ladder';
 import { exchangeOrderLabels, exchangeOrders, orderExchanges, parseExchangeOrder, timelineSearchFor } from './exchange-order';
+import { exchangeHref } from '../../../components/exchange-results';
 import { ExchangeTable } from './exchange-table';
 import { RttHistogram } from './rtt-histogram';
 import { RttStats } from './rtt-stats';
@@ -202,7 +203,7 @@ export function RoundTripsView({ rig, captureId }: { rig: RigDetail; captureId: 
             />
           </span>
         </CardTitle>
-        <ExchangeTable rows={listed} frameHref={frameHref} timelineHref={timelineHref} onShow={showInLadder} showStation={chosen === ALL} caption={`Exchanges, ${exchangeOrderLabels[order].toLowerCase()}`} />
+        <ExchangeTable rows={listed} frameHref={frameHref} timelineHref={timelineHref} exchangeHref={(id) => exchangeHref(base, id)} onShow={showInLadder} showStation={chosen === ALL} caption={`Exchanges, ${exchangeOrderLabels[order].toLowerCase()}`} />
       </Card>
     </div>
   );

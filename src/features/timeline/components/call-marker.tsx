@@ -6,6 +6,8 @@ const roleMarks: Record<TimelineCallMarker['role'], { mark: string; word: string
   request: { mark: '→', word: 'request' },
   retry: { mark: '↻', word: 'retry' },
   response: { mark: '←', word: 'answer' },
+  // a bad-FCS answer the station answered with a retry: why the exchange was retried
+  'damaged-response': { mark: '✗', word: 'damaged answer' },
 };
 
 function timing(e: TimelineCallMarker): string {
@@ -16,15 +18,17 @@ function timing(e: TimelineCallMarker): string {
 /** The frame's part in an exchange: call name and round trip, linking to the exchange in Round trips. */
 export function CallMarker({ exchange, href }: { exchange: TimelineCallMarker; href: string }) {
   const role = roleMarks[exchange.role];
-  const text = `${exchange.callName} · ${timing(exchange)}`;
+  const damaged = exchange.role === 'damaged-response';
+  const text = damaged ? `${exchange.callName} · damaged answer, retried` : `${exchange.callName} · ${timing(exchange)}`;
   return (
     <Link
       to={href}
       data-exchange-id={exchange.exchangeId}
+      data-call-role={exchange.role}
       title={`${role.word} of exchange ${exchange.exchangeId}: ${text} (open in Round trips)`}
       aria-label={`${role.word}: ${text}, open in Round trips`}
       onClick={(e) => e.stopPropagation()}
-      className={`mr-2 shrink-0 rounded border border-line px-1 text-[11.5px] hover:underline ${exchange.outcome === 'unanswered' ? 'text-[#e0582f]' : 'text-link'}`}
+      className={`mr-2 shrink-0 rounded border border-line px-1 text-[11.5px] hover:underline ${exchange.outcome === 'unanswered' || damaged ? 'text-[#e0582f]' : 'text-link'}`}
     >
       <span aria-hidden className="mr-1 text-muted">
         {role.mark}
