@@ -76,3 +76,8 @@ export function lineEventOf(l: DecodedEventLine): LineEvent {
 export function anomalyOf(l: DecodedAnomalyLine): LineAnomaly {
   return { kind: l.kind, link: l.link, channel: l.channel, sample: l.sample, endSample: l.end, count: l.count, bits: l.bits };
 }
+
+/** one frame's part of a decode's fingerprint: its line and the FCS verdict, so equal fingerprints mean equal frames */
+export function fingerprintLine(f: DecodedFrame): string {
+  return `${frameLine(f)} ${f.status}\n`;
+}

@@ -173,7 +173,7 @@ export function TimelineRoute() {
 
 /** A frame log holds cut frames only: no line samples to draw a waveform from. */
 function hasSamples(capture: CaptureSummaryRow): boolean {
-  return (capture.settings?.format ?? capture.format) !== 'framelog';
+  return capture.samplesKept && (capture.settings?.format ?? capture.format) !== 'framelog';
 }
 
 export function FrameRoute() {
@@ -185,7 +185,7 @@ export function FrameRoute() {
   const octetCount = useFrame(rigId, captureId, frameId).frame.hexAll.length / 2;
   return (
     <div className="space-y-4">
-      <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} hasSamples={hasSamples(capture)} />
+      <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} hasSamples={hasSamples(capture)} samplesKept={capture.samplesKept} />
       <FrameNotes key={`notes-${frameId}`} rigId={rigId} captureId={captureId} frameId={frameId} octetCount={octetCount} />
     </div>
   );

@@ -1,0 +1,136 @@
+/// <reference lib="webworker" />
+// Decodes a local capture file in the browser, off the page's thread: the settings finder on the
+// file's head (and windows spread over it), then one streaming pass of the decoder over
+// File.stream() that also hashes the file and writes the decoded-capture file's lines. Only
+// shared/ code runs here (pure TypeScript); nothing of the file is kept beyond the chunk in hand,
+// and the lines written so far go into Blobs as they fill, so memory stays flat on large files.
+import { DecodedCaptureEncoder } from '../../../shared/decoded-capture/encoder';
+import { Sha256 } from '../../../shared/decoded-capture/sha256';
+import { discover, type CaptureSource } from '../../../shared/decoder/finder';
+import type { DecodedFrame } from '../../../shared/decoder/types';
+import { captureSettingsSchema, DECODED_MEDIA_TYPE, type CaptureSettings } from '../../../shared/schemas';
+import { decoderOptions } from '../../../server/jobs/decoder-options';
+import { fingerprintLine } from '../../../shared/decoded-capture/lines';
+import type { FromWorker, LinkCounts, LocalHints, PreviewFrame, ToWorker } from './messages';
+
+declare const self: DedicatedWorkerGlobalScope;
+
+const post = (m: FromWorker) => self.postMessage(m);
+const PROGRESS_MS = 150;
+/** frames shown while the decode runs */
+const PREVIEW_FRAMES = 40;
+
+function fileSource(file: File): CaptureSource {
+  return { size: file.size, read: async (offset, length) => new Uint8Array(await file.slice(offset, offset + length).arrayBuffer()) };
+}
+
+async function find(file: File, hints: LocalHints): Promise<void> {
+  const d = await discover(fileSource(file), hints, (p) => post({ type: 'find-progress', bytesRead: p.bytesRead, budget: p.budget }));
+  let settings: CaptureSettings | null = null;
+  if (d.settings) {
+    const parsed = captureSettingsSchema.safeParse({ ...d.settings, sampleRate: d.settings.sampleRate ?? hints.sampleRate ?? null });
+    if (parsed.success) settings = parsed.data;
+  }
+  post({ type: 'found', settings, summary: d.finder.summary, advice: d.finder.found ? [] : [...d.finder.advice, ...d.finder.cautions] });
+}
+
+function summaryOf(f: DecodedFrame): string {
+  const d = f.decode;
+  if (!d) return f.status === 'short' ? 'too short for address and control' : '';
+  const n = d.kind === 'I' ? ` N(S)=${d.ns} N(R)=${d.nr}` : d.kind === 'S' ? ` N(R)=${d.nr}` : '';
+  return `addr ${d.address.toString(16).padStart(2, '0')} ${d.command}${n}${d.pf ? ' P/F' : ''}${d.infoLength ? `, ${d.infoLength} octets` : ''}`;
+}
+
+function preview(f: DecodedFrame, period: number): PreviewFrame {
+  let hex = '';
+  for (let i = 0; i < Math.min(f.bytes.length, 24); i++) hex += f.bytes[i].toString(16).padStart(2, '0') + ' ';
+  return { link: f.link, seq: f.seq, seconds: f.firstSample * period, status: f.status, summary: summaryOf(f), hex: hex.trim() + (f.bytes.length > 24 ? ' …' : '') };
+}
+
+async function decode(file: File, settings: CaptureSettings): Promise<void> {
+  const started = performance.now();
+  const counts = new Map<string, Record<string, number>>();
+  const fingerprint = new Sha256();
+  const utf8 = new TextEncoder();
+  let shown: PreviewFrame[] = [];
+  let previewed = 0;
+  let first: PreviewFrame | null = null;
+  let last: DecodedFrame | null = null;
+  const period = () => enc.samplePeriodSeconds ?? 1;
+  const enc = new DecodedCaptureEncoder(settings, decoderOptions(settings), {
+    frame: (f) => {
+      const c = counts.get(f.link) ?? {};
+      c[f.status] = (c[f.status] ?? 0) + 1;
+      counts.set(f.link, c);
+      fingerprint.update(utf8.encode(fingerprintLine(f)));
+      last = f;
+      if (previewed < PREVIEW_FRAMES) {
+        const p = preview(f, period());
+        first ??= p;
+        shown.push(p);
+        previewed++;
+      }
+    },
+  });
+  const hash = new Sha256();
+  const blobs: Blob[] = [];
+  const reader = file.stream().getReader();
+  let bytes = 0;
+  let lastReport = 0;
+  for (;;) {
+    const { done, value } = await reader.read();
+    if (done) break;
+    hash.update(value);
+    enc.push(value);
+    bytes += value.length;
+    if (enc.fatal()) break;
+    const parts = enc.takeParts();
+    if (parts.length > 0) blobs.push(new Blob(parts));
+    const now = performance.now();
+    // the first frames go out as soon as there are any, then with the progress
+    if (shown.length > 0 && (now - lastReport >= PROGRESS_MS || previewed === shown.length)) {
+      post({ type: 'frames', frames: shown });
+      shown = [];
+    }
+    if (now - lastReport >= PROGRESS_MS) {
+      post({ type: 'progress', bytesRead: bytes, total: file.size, frames: enc.frames });
+      lastReport = now;
+    }
+  }
+  const fatal = enc.finish();
+  if (fatal) {
+    await reader.cancel().catch(() => undefined);
+    post({ type: 'failed', error: `The capture could not be decoded with these settings: ${fatal.message}` });
+    return;
+  }
+  if (shown.length > 0) post({ type: 'frames', frames: shown });
+  post({ type: 'progress', bytesRead: bytes, total: file.size, frames: enc.frames });
+  const parts = enc.takeParts();
+  if (parts.length > 0) blobs.push(new Blob(parts));
+  const sha256 = hash.hex();
+  const out = new Blob([enc.header({ name: file.name, size: file.size, sha256 }), ...blobs, enc.end()], { type: DECODED_MEDIA_TYPE });
+  const lastFrame = last as DecodedFrame | null;
+  const links: LinkCounts[] = [...counts].map(([link, byStatus]) => ({ link, byStatus }));
+  post({
+    type: 'done',
+    result: {
+      file: out,
+      sha256,
+      frames: enc.frames,
+      events: enc.events,
+      anomalies: enc.anomalies,
+      links,
+      first,
+      last: lastFrame ? preview(lastFrame, period()) : null,
+      framesFingerprint: fingerprint.hex(),
+      seconds: (performance.now() - started) / 1000,
+      warnings: [],
+    },
+  });
+}
+
+self.onmessage = (e: MessageEvent<ToWorker>) => {
+  const m = e.data;
+  const run = m.type === 'find' ? find(m.file, m.hints) : decode(m.file, m.settings);
+  run.catch((err: unknown) => post({ type: 'failed', error: err instanceof Error ? err.message : String(err) }));
+};
