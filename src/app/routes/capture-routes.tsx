@@ -21,6 +21,7 @@ import { filtersFromParams } from '../../features/timeline/api/timeline-filters'
 import { TimelineView } from '../../features/timeline/components/timeline-view';
 import { frameQueryOptions, useFrame } from '../../features/inspector/api/get-frame';
 import { FrameNotes } from '../../features/notes/components/frame-notes';
+import { SamplesElsewhere } from '../../features/local-decode/components/samples-elsewhere';
 import { FrameInspector, WAVEFORM_CONTEXT_BITS } from '../../features/inspector/components/frame-inspector';
 import { frameCallQueryOptions } from '../../features/inspector/api/get-frame-call';
 import { waveformQueryOptions } from '../../features/inspector/api/get-waveform';
@@ -61,7 +62,8 @@ export const setupLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) =
   const captureId = idFrom(params.captureId, 'capture');
   const capture = await queryClient.ensureQueryData(captureQueryOptions(rigId, captureId));
   await Promise.all([
-    queryClient.prefetchQuery(detectionQueryOptions(rigId, captureId)),
+    // a capture decoded in the browser has no file to detect from
+    capture.samplesKept ? queryClient.prefetchQuery(detectionQueryOptions(rigId, captureId)) : null,
     capture.job !== null ? queryClient.prefetchQuery(jobQueryOptions(rigId, captureId)) : null,
   ]);
 });
@@ -143,7 +145,10 @@ export function CaptureRoute() {
 
 export function CaptureSetupRoute() {
   const { rigId, captureId } = useIds();
-  return <CaptureSetup rig={useRig(rigId)} captureId={captureId} />;
+  const rig = useRig(rigId);
+  const capture = useCapture(rigId, captureId);
+  if (!capture.samplesKept) return <SamplesElsewhere rigId={rigId} captureId={captureId} />;
+  return <CaptureSetup rig={rig} captureId={captureId} />;
 }
 
 function NotDecodedYet({ rigId, captureId }: { rigId: number; captureId: number }) {
