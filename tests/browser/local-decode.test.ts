@@ -77,7 +77,7 @@ async function fillHints(page: Page, s: CaptureSettings) {
   const panel = page.getByTestId('local-decode');
   await panel.getByLabel('Sample rate').fill(s.format === 'raw' && s.sampleRate ? String(s.sampleRate) : '');
   await panel.getByLabel('Raw sample width').selectOption(s.format === 'raw' ? String(s.rawWidth) : 'auto');
-  await panel.getByLabel('Channel names').fill(s.format === 'raw' ? s.channelNames.join(', ') : '');
+  await panel.getByLabel('Channel names').fill(s.format === 'raw' || s.format === 'octets' ? s.channelNames.join(', ') : '');
   await panel.getByLabel('Bit rate').fill(s.format === 'octets' || s.format === 'framelog' ? String(s.bitRate ?? '') : '');
 }
 
@@ -155,8 +155,8 @@ describe('decode in the browser before upload', () => {
       await page.getByRole('navigation', { name: 'Capture views' }).getByRole('link', { name: 'Round trips', exact: true }).click();
       await page.getByTestId('exchange-row').first().waitFor();
       await shot(page, 'round-trips');
-      const timeline = await getJson<TimelinePage>(page, `/api/rigs/${demo.rigId}/captures/${vcd.id}/timeline?limit=1`);
-      await page.goto(`${baseUrl}/rigs/${demo.rigId}/captures/${vcd.id}/frames/${timeline.rows[0].id}`);
+      const [firstFrame] = await allFrames(page, `/api/rigs/${demo.rigId}/captures/${vcd.id}`);
+      await page.goto(`${baseUrl}/rigs/${demo.rigId}/captures/${vcd.id}/frames/${firstFrame.id}`);
       await page.getByTestId('samples-elsewhere').waitFor();
       expect(await page.getByTestId('samples-elsewhere').textContent()).toContain("The samples stayed on the uploader's machine");
       await shot(page, 'inspector-no-samples');

@@ -80,7 +80,7 @@ export function LocalDecodePanel({ rigId }: { rigId: number }) {
             { value: '2', label: '2 bytes' },
           ]}
         />
-        <TextField label="Channel names" placeholder="clk, txd, rxd" value={names} onChange={(e) => setNames(e.target.value)} hint="raw bits 0, 1, 2…, comma-separated" />
+        <TextField label="Channel names" placeholder="clk, txd, rxd" value={names} onChange={(e) => setNames(e.target.value)} hint="raw bits 0, 1, 2… or an octet stream’s line, comma-separated" />
         <TextField label="Bit rate" placeholder="e.g. 800k" value={bitRate} onChange={(e) => setBitRate(e.target.value)} hint="only without a clock line" />
       </div>
       {hintError ? <ErrorNotice>{hintError}</ErrorNotice> : null}
