@@ -7,7 +7,6 @@ import { readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { createServer } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { join } from 'node:path';
-import { chromium } from 'playwright-core';
 import type { CaptureSettings } from '../../shared/schemas';
 
 export interface WorkerMemory {
@@ -75,6 +74,8 @@ export async function measureBrowserWorker(file: string, settings: CaptureSettin
     }
   });
   await new Promise<void>((r) => server.listen(0, '127.0.0.1', r));
+  // loaded here, not at the top: the bench's bundled stage runs (in a temp folder) must not need it
+  const { chromium } = await import('playwright-core');
   const browser = await chromium.launch({
     executablePath: '/usr/bin/chromium',
     args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
