@@ -12,7 +12,8 @@ import { anomalyLine, endLine, eventLine, frameLine, headerLine } from './lines'
 const LINES_PER_PART = 2000;
 
 export interface EncoderSink {
-  frame?(f: DecodedFrame): void;
+  /** each frame with its line as written (without the newline) */
+  frame?(f: DecodedFrame, line: string): void;
 }
 
 export function describeDecodeIssue(issue: DecodeIssue): string {
@@ -46,8 +47,9 @@ export class DecodedCaptureEncoder {
       {
         frame: (f: DecodedFrame) => {
           this.frames++;
-          this.line(frameLine(f));
-          sink.frame?.(f);
+          const line = frameLine(f);
+          this.line(line);
+          sink.frame?.(f, line);
         },
         event: (e: LineEvent) => {
           this.events++;

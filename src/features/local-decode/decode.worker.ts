@@ -52,17 +52,24 @@ async function decode(file: File, settings: CaptureSettings): Promise<void> {
   const counts = new Map<string, Record<string, number>>();
   const fingerprint = new Sha256();
   const utf8 = new TextEncoder();
+  // one reused buffer for the fingerprint's input: no array per frame (a longer line gets its own)
+  let scratch = new Uint8Array(1 << 16);
+  const utf8Of = (text: string): Uint8Array => {
+    if (text.length * 3 > scratch.length) scratch = new Uint8Array(text.length * 3);
+    const { written } = utf8.encodeInto(text, scratch);
+    return scratch.subarray(0, written);
+  };
   let shown: PreviewFrame[] = [];
   let previewed = 0;
   let first: PreviewFrame | null = null;
   let last: DecodedFrame | null = null;
   const period = () => enc.samplePeriodSeconds ?? 1;
   const enc = new DecodedCaptureEncoder(settings, decoderOptions(settings), {
-    frame: (f) => {
+    frame: (f, line) => {
       const c = counts.get(f.link) ?? {};
       c[f.status] = (c[f.status] ?? 0) + 1;
       counts.set(f.link, c);
-      fingerprint.update(utf8.encode(fingerprintLine(f)));
+      fingerprint.update(utf8Of(fingerprintLine(f, line)));
       last = f;
       if (previewed < PREVIEW_FRAMES) {
         const p = preview(f, period());
