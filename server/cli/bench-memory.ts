@@ -113,7 +113,7 @@ export async function measureBrowserWorker(file: string, settings: CaptureSettin
     );
     const secs = (performance.now() - t0) / 1000;
     sample();
-    if ('error' in r) throw new Error(`the browser worker failed: ${r.error}`);
+    if ('error' in r) throw new Error(`the browser worker failed: ${r.error} (renderer peak ${(rendererPeakKb / 1024).toFixed(0)} MB)`);
     return { secs, frames: r.frames, decodedBytes: r.size, rendererPeakMb: rendererPeakKb / 1024, totalPeakMb: totalPeakKb / 1024 };
   } finally {
     clearInterval(timer);
