@@ -12,6 +12,8 @@ import type { CaptureSettings } from '../../shared/schemas';
 export interface WorkerMemory {
   secs: number;
   frames: number;
+  /** seconds from the start to the first frames on the page */
+  firstFramesSecs: number | null;
   /** the decoded-capture file the worker produced */
   decodedBytes: number;
   /** the renderer process the page and its worker run in */
@@ -99,11 +101,14 @@ export async function measureBrowserWorker(file: string, settings: CaptureSettin
     const t0 = performance.now();
     const r = await page.evaluate(
       (settings) =>
-        new Promise<{ frames: number; size: number } | { error: string }>((resolve) => {
+        new Promise<{ frames: number; size: number; firstFrames: number | null } | { error: string }>((resolve) => {
           const input = document.getElementById('f') as HTMLInputElement;
           const w = new Worker('/decode-worker.js', { type: 'module' });
+          const t0 = performance.now();
+          let firstFrames: number | null = null;
           w.onmessage = (e: MessageEvent<{ type: string; result?: { frames: number; file: Blob }; error?: string }>) => {
-            if (e.data.type === 'done') resolve({ frames: e.data.result!.frames, size: e.data.result!.file.size });
+            if (e.data.type === 'frames') firstFrames ??= (performance.now() - t0) / 1000;
+            if (e.data.type === 'done') resolve({ frames: e.data.result!.frames, size: e.data.result!.file.size, firstFrames });
             if (e.data.type === 'failed') resolve({ error: e.data.error! });
           };
           w.onerror = (e) => resolve({ error: e.message });
@@ -114,7 +119,7 @@ export async function measureBrowserWorker(file: string, settings: CaptureSettin
     const secs = (performance.now() - t0) / 1000;
     sample();
     if ('error' in r) throw new Error(`the browser worker failed: ${r.error} (renderer peak ${(rendererPeakKb / 1024).toFixed(0)} MB)`);
-    return { secs, frames: r.frames, decodedBytes: r.size, rendererPeakMb: rendererPeakKb / 1024, totalPeakMb: totalPeakKb / 1024 };
+    return { secs, frames: r.frames, firstFramesSecs: r.firstFrames, decodedBytes: r.size, rendererPeakMb: rendererPeakKb / 1024, totalPeakMb: totalPeakKb / 1024 };
   } finally {
     clearInterval(timer);
     await browser.close();

@@ -529,7 +529,7 @@ async function benchMemory(sizeMb: number): Promise<void> {
       edge: 'rising',
     });
     const w = await measureBrowserWorker(file, settings, dir);
-    row('browser decode worker (Chromium renderer)', w.secs, w.rendererPeakMb, `${w.frames} frames, decoded file ${fmt(mb(w.decodedBytes), 1)} MB; all Chromium processes together at most ${fmt(w.totalPeakMb, 0)} MB`);
+    row('browser decode worker (Chromium renderer)', w.secs, w.rendererPeakMb, `${w.frames} frames, the first on the page after ${w.firstFramesSecs === null ? '—' : fmt(w.firstFramesSecs, 2) + ' s'}, decoded file ${fmt(mb(w.decodedBytes), 1)} MB; all Chromium processes together at most ${fmt(w.totalPeakMb, 0)} MB`);
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }

@@ -3,7 +3,7 @@
 // file's head (and windows spread over it), then one streaming pass of the decoder over
 // File.stream() that also hashes the file and writes the decoded-capture file's lines. Only
 // shared/ code runs here (pure TypeScript); nothing of the file is kept beyond the chunk in hand,
-// and the lines written so far go into Blobs as they fill, so memory stays flat on large files.
+// and the lines written so far go to disk (decoded-output.ts), so memory stays flat on large files.
 import { DecodedCaptureEncoder } from '../../../shared/decoded-capture/encoder';
 import { Sha256 } from '../../../shared/decoded-capture/sha256';
 import { discover, type CaptureSource } from '../../../shared/decoder/finder';
@@ -11,6 +11,7 @@ import type { DecodedFrame } from '../../../shared/decoder/types';
 import { captureSettingsSchema, DECODED_MEDIA_TYPE, type CaptureSettings } from '../../../shared/schemas';
 import { decoderOptions } from '../../../server/jobs/decoder-options';
 import { fingerprintLine } from '../../../shared/decoded-capture/lines';
+import { openDecodedOutput } from './decoded-output';
 import type { FromWorker, LinkCounts, LocalHints, PreviewFrame, ToWorker } from './messages';
 
 declare const self: DedicatedWorkerGlobalScope;
@@ -121,7 +122,7 @@ async function decode(file: File, settings: CaptureSettings): Promise<void> {
     },
   });
   const hash = new Sha256();
-  const blobs: Blob[] = [];
+  const output = await openDecodedOutput();
   const chunks = fileChunks(file);
   let bytes = 0;
   let lastReport = 0;
@@ -132,8 +133,7 @@ async function decode(file: File, settings: CaptureSettings): Promise<void> {
     enc.push(value);
     bytes += value.length;
     if (enc.fatal()) break;
-    const parts = enc.takeParts();
-    if (parts.length > 0) blobs.push(new Blob(parts));
+    for (const part of enc.takeParts()) output.write(part);
     const now = performance.now();
     // the first frames go out as soon as there are any, then with the progress
     if (shown.length > 0 && (now - lastReport >= PROGRESS_MS || previewed === shown.length)) {
@@ -153,10 +153,9 @@ async function decode(file: File, settings: CaptureSettings): Promise<void> {
   }
   if (shown.length > 0) post({ type: 'frames', frames: shown });
   post({ type: 'progress', bytesRead: bytes, total: file.size, frames: enc.frames });
-  const parts = enc.takeParts();
-  if (parts.length > 0) blobs.push(new Blob(parts));
+  for (const part of enc.takeParts()) output.write(part);
   const sha256 = hash.hex();
-  const out = new Blob([enc.header({ name: file.name, size: file.size, sha256 }), ...blobs, enc.end()], { type: DECODED_MEDIA_TYPE });
+  const out = await output.finish(enc.header({ name: file.name, size: file.size, sha256 }), enc.end(), DECODED_MEDIA_TYPE);
   const lastFrame = last as DecodedFrame | null;
   const links: LinkCounts[] = [...counts].map(([link, byStatus]) => ({ link, byStatus }));
   post({
