@@ -12,6 +12,9 @@
 //   npm run bench -- --cli-mb 1024    the same with the memory target: 1 GB raw under 300 MB RSS
 //   npm run bench -- --cli-mb 400 --cli-only   only the rows on the file
 //   npm run bench -- --readers        only each reader alone: MB/s of input per capture format
+//   npm run bench -- --memory 1024    only peak RSS on a 1 GB raw capture: the decode CLI, the server's
+//                                     decoder with the anomaly tap, and the browser's decode worker in
+//                                     Chromium (bench-memory.ts); target under 300 MB
 //   npm run bench -- --timing         only the service statistics (1 M frames) and schedule window rows
 import { spawn, spawnSync } from 'node:child_process';
 import { closeSync, existsSync, mkdtempSync, openSync, readFileSync, readSync, rmSync, writeSync } from 'node:fs';
@@ -24,8 +27,10 @@ import { requestInfo, responseInfo, planEpisode, type EpisodeStation, encodeLine
 import { RawReader } from '../../shared/decoder/readers';
 import { benchReaders } from './bench-readers';
 import { LineTiming, scheduleWindow, type TimingExchange, type TimingFrame } from '../../shared/decoder/timing';
+import { captureSettingsSchema } from '../../shared/schemas';
 import { benchDiscovery } from './bench-discovery';
 import { benchStartup } from './bench-startup';
+import { measureBrowserWorker } from './bench-memory';
 import { NdjsonWriter } from './ndjson-writer';
 import { ensureServerBuild } from './server-build.mjs';
 
@@ -311,7 +316,7 @@ function compileReference(dir: string): string | null {
 async function bundle(entry: string, dir: string, name: string): Promise<string> {
   const { buildSync } = await import('esbuild');
   const out = join(dir, name);
-  buildSync({ entryPoints: [join(process.cwd(), entry)], bundle: true, platform: 'node', format: 'esm', outfile: out, external: ['esbuild'], logLevel: 'warning' });
+  buildSync({ entryPoints: [join(process.cwd(), entry)], bundle: true, platform: 'node', format: 'esm', outfile: out, external: ['esbuild', 'playwright-core'], logLevel: 'warning' });
   return out;
 }
 
@@ -425,19 +430,25 @@ function runStage(stage: Stage, file: string, spb: number): void {
  * `npm run decode`, each decoder stage added in turn (one fresh process each, as the CLI and the
  * app's worker run), and the decoder with the anomaly tap as the app's worker runs it.
  */
+/** A raw capture of about `sizeMb` MB in `dir` (clock + 2 links, DENSE samples/bit), one generated block repeated. */
+function writeRawCapture(dir: string, sizeMb: number): { file: string; written: number } {
+  const block = collect(rawChunks(clockedWaveform(800_000, DENSE), { chunkSize: 1 << 22 }));
+  const file = join(dir, 'capture.bin');
+  const fd = openSync(file, 'w');
+  let written = 0;
+  while (written < sizeMb * 1e6) {
+    writeSync(fd, block);
+    written += block.length;
+  }
+  closeSync(fd);
+  return { file, written };
+}
+
 async function benchCli(sizeMb: number, general: boolean): Promise<void> {
   const spb = DENSE;
-  const block = collect(rawChunks(clockedWaveform(800_000, spb), { chunkSize: 1 << 22 }));
   const dir = mkdtempSync(join(tmpdir(), 'flagline-bench-'));
-  const file = join(dir, 'capture.bin');
   try {
-    const fd = openSync(file, 'w');
-    let written = 0;
-    while (written < sizeMb * 1e6) {
-      writeSync(fd, block);
-      written += block.length;
-    }
-    closeSync(fd);
+    const { file, written } = writeRawCapture(dir, sizeMb);
     const cliArgs = [file, '--format', 'raw', '--sample-rate', String(BIT_RATE * spb), '--channels', 'clk,a,b', '--clock', 'clk', '--data', 'a,b'];
     const cliBundle = fileURLToPath(await ensureServerBuild('decode'));
     const benchBundle = await bundle('server/cli/bench.ts', dir, 'bench.mjs');
@@ -478,6 +489,43 @@ async function benchCli(sizeMb: number, general: boolean): Promise<void> {
       row('decoder + anomaly tap, general path', slow, '—', c, `${fmt(slow.cpuSecs / tapped.cpuSecs, 2)}× CPU of the fused path with the tap`);
     }
     process.stdout.write('(stage rows: one fresh process each, timed from the first byte read, so without node\'s start-up; peak RSS of the whole process)\n');
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+/**
+ * Peak memory on one large raw capture: the decode CLI (one JS file, as a compiled entry runs),
+ * the decoder with the anomaly tap as the server's decode worker runs it, and the browser's decode
+ * worker in Chromium (bench-memory.ts). Target: under 300 MB RSS for 1 GB.
+ */
+async function benchMemory(sizeMb: number): Promise<void> {
+  const dir = mkdtempSync(join(tmpdir(), 'flagline-bench-memory-'));
+  try {
+    const { file, written } = writeRawCapture(dir, sizeMb);
+    process.stdout.write(`\nMemory: ${fmt(mb(written), 0)} MB raw capture (${DENSE} samples/bit, clock + 2 links); load average ${loadNow()} now\n`);
+    printHeader();
+    const row = (stage: string, secs: number, peakMb: number, note: string) =>
+      report({ stage, mbPerS: mb(written) / secs, mSamplesPerS: written / secs / 1e6, rssMb: peakMb, target: 'RSS < 300 MB at 1 GB', note: `${note}; ${fmt(secs, 1)} s wall (load ${loadNow()})` });
+    const cliBundle = await bundle('server/cli/decode.ts', dir, 'decode.mjs');
+    const cliArgs = [file, '--format', 'raw', '--sample-rate', String(BIT_RATE * DENSE), '--channels', 'clk,a,b', '--clock', 'clk', '--data', 'a,b', '--encoding', 'nrz'];
+    const cli = await bestChild(1, process.execPath, [cliBundle, ...cliArgs]);
+    row('CLI decode (one JS file), peak RSS', cli.secs, cli.peakKb / 1024, `${cli.frames} frames`);
+    const benchBundle = await bundle('server/cli/bench.ts', dir, 'bench.mjs');
+    const tapped = await bestChild(1, process.execPath, [benchBundle, '--stage', 'tap', '--file', file]);
+    row("decoder + anomaly tap, as the server's worker", tapped.secs, tapped.peakKb / 1024, `${tapped.frames} frames`);
+    const settings = captureSettingsSchema.parse({
+      format: 'raw',
+      sampleRate: BIT_RATE * DENSE,
+      rawWidth: 1,
+      channelNames: ['clk', 'a', 'b'],
+      clock: 'clk',
+      links: [{ channel: 'a' }, { channel: 'b' }],
+      encoding: 'nrz',
+      edge: 'rising',
+    });
+    const w = await measureBrowserWorker(file, settings, dir);
+    row('browser decode worker (Chromium renderer)', w.secs, w.rendererPeakMb, `${w.frames} frames, the first on the page after ${w.firstFramesSecs === null ? '—' : fmt(w.firstFramesSecs, 2) + ' s'}, decoded file ${fmt(mb(w.decodedBytes), 1)} MB; all Chromium processes together at most ${fmt(w.totalPeakMb, 0)} MB`);
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }
@@ -538,6 +586,7 @@ function runMeasured(cmd: string, args: string[], stderr: 'inherit' | 'ignore' =
 async function main(): Promise<void> {
   const { values } = parseArgs({
     options: {
+      memory: { type: 'string' },
       'cli-mb': { type: 'string' },
       'cli-only': { type: 'boolean' },
       general: { type: 'boolean' },
@@ -561,6 +610,11 @@ async function main(): Promise<void> {
   process.stdout.write(`Sample density: ${BIT_RATE / 1000} kbit/s links sampled at ${(BIT_RATE * DENSE) / 1e6} MHz (${DENSE} samples/bit, as real captures), and at ${SPARSE} samples/bit.\n`);
   process.stdout.write('Rates are wall-clock, best of a few runs; "per CPU-s" is the same work per CPU-second of this process.\n');
   process.stdout.write('Peak RSS of the in-memory stages includes the captures the bench generates; the CLI row is the decoder streaming a file.\n\n');
+  if (values.memory !== undefined) {
+    // `--memory 1024` gives the size in MB (0 or no number: 1 GB)
+    await benchMemory(Number(values.memory) || 1024);
+    return;
+  }
   printHeader();
   if (values.timing) benchServiceStats();
   else if (!values['cli-only']) {

@@ -142,6 +142,11 @@ export const captures = sqliteTable(
     uploadedAt: createdAt(),
     /** the decode run whose frames the timeline shows (switched in one transaction when a run completes) */
     currentJobId: integer('current_job_id'),
+    /**
+     * false when the capture was decoded in the uploader's browser and only its frames came up:
+     * the samples stayed on their machine, so there is no file to decode again or draw a waveform from
+     */
+    samplesKept: integer('samples_kept', { mode: 'boolean' }).notNull().default(true),
   },
   (t) => [index('captures_rig_idx').on(t.rigId), index('captures_sha_idx').on(t.sha256)],
 );

@@ -8,7 +8,7 @@ import { createDecoder, type Decoder } from '../../shared/decoder';
 import type { DecodeIssue } from '../../shared/decoder';
 import { createCallRun, switchToCallRun } from '../runs/call-runs';
 import { runCallStage } from '../runs/call-stage';
-import { decoderOptions } from '../runs/decoder-options';
+import { decoderOptions } from '../../shared/decoder-options';
 import { FaultRecorder, faultCallKey, storeFaultReport } from '../runs/fault-rows';
 import { loadMapVersion, type RunInputs } from '../runs/inputs';
 import { RunWriter } from '../runs/run-writer';

@@ -15,7 +15,10 @@ import type { CaptureModule } from '../services/captures/module';
 import { captureOverview } from '../services/captures/overview';
 import { currentJob, findCapture, listCaptures, parseSettings, toSummary } from '../services/captures/rows';
 import { saveSettings } from '../services/captures/settings';
+import { defaultMaxDecodedBytes, storeDecodedUpload } from '../services/captures/decoded-upload';
+import { requireSamples } from '../services/captures/samples-kept';
 import { storeUpload } from '../services/captures/upload';
+import { DECODED_MEDIA_TYPE } from '../../shared/schemas/decoded-upload';
 import { waveformWindow } from '../services/captures/waveform';
 
 const atQuerySchema = z.object({ t: z.coerce.number({ error: 'Give the time in seconds' }).min(0, 'The time cannot be negative') });
@@ -55,6 +58,15 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
     res.status(201).json(await storeUpload(m, rigAccess(res).rigId, currentUser(req).id, file));
   });
 
+  // a capture decoded in the browser: its frames, not its samples (shared/schemas/decoded-upload.ts)
+  router.post('/rigs/:rigId/captures/decoded', guard.requireRigRole('analyst'), async (req, res) => {
+    if (!req.is(DECODED_MEDIA_TYPE)) throw new HttpError(415, `Send the decoded capture as ${DECODED_MEDIA_TYPE}, one JSON object per line`);
+    const limit = Math.min(m.maxUploadBytes, defaultMaxDecodedBytes());
+    const declared = Number(req.headers['content-length']);
+    if (Number.isFinite(declared) && declared > limit) throw new HttpError(413, `The decoded capture is larger than the limit of ${megabytes(limit)}`);
+    res.status(201).json(await storeDecodedUpload(m, rigAccess(res).rigId, currentUser(req).id, req, limit));
+  });
+
   router.get(base, guard.requireRigRole('viewer'), (req, res) => {
     res.json(toSummary(m, capture(req, rigAccess(res).rigId)));
   });
@@ -65,16 +77,21 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
   });
 
   router.get(`${base}/detection`, guard.requireRigRole('viewer'), (req, res) => {
-    res.json(detectCapture(m, capture(req, rigAccess(res).rigId)));
+    const c = capture(req, rigAccess(res).rigId);
+    requireSamples(c, 'detecting its channels');
+    res.json(detectCapture(m, c));
   });
 
   router.put(`${base}/settings`, guard.requireRigRole('analyst'), (req, res) => {
     const c = capture(req, rigAccess(res).rigId);
+    requireSamples(c, 'changing its channel roles');
     res.json(saveSettings(m, c, parseBody(captureSettingsSchema, req.body)));
   });
 
   router.post(`${base}/decode`, guard.requireRigRole('analyst'), (req, res) => {
-    res.status(202).json(startDecode(m, capture(req, rigAccess(res).rigId)));
+    const c = capture(req, rigAccess(res).rigId);
+    requireSamples(c, 'decoding it again');
+    res.status(202).json(startDecode(m, c));
   });
 
   router.get(`${base}/job`, guard.requireRigRole('viewer'), (req, res) => {
@@ -125,6 +142,7 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
   router.get(`${base}/frames/:frameId/waveform`, guard.requireRigRole('viewer'), async (req, res) => {
     const c = capture(req, rigAccess(res).rigId);
     const f = findFrame(m, c.currentJobId, parseId(req.params.frameId, 'frame'));
+    requireSamples(c, 'drawing the waveform');
     const job = currentJob(m, c)!;
     const settings = parseSettings(job.settings)!;
     const { bits, points } = parseBody(waveformQuerySchema, req.query);

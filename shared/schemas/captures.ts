@@ -128,6 +128,8 @@ export interface CaptureSummaryRow {
   /** latest decode job, if any */
   job: DecodeJob | null;
   frameCount: number;
+  /** false when the capture was decoded in the uploader's browser: only its frames are here, the samples stayed on their machine */
+  samplesKept: boolean;
 }
 
 export interface LinkStats {

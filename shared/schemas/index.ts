@@ -6,3 +6,4 @@ export * from './calls';
 export * from './notes';
 export * from './faults';
 export * from './discovery';
+export * from './decoded-upload';

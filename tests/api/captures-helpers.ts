@@ -6,7 +6,7 @@ import path from 'node:path';
 import { encodeLineBits, type FrameFaults, type LineItem, renderWaveform, type HandshakeLine, rawChunks, vcdChunks } from '../../shared/decoder/encode';
 import { type FrameStatus, createDecoder } from '../../shared/decoder';
 import { captureSettingsSchema, type DecodeJob } from '../../shared/schemas';
-import { decoderOptions } from '../../server/runs/decoder-options';
+import { decoderOptions } from '../../shared/decoder-options';
 import { RunWriter } from '../../server/runs/run-writer';
 import { indexSearch } from '../../server/runs/search-index';
 import { openDb, type DbHandle } from '../../server/db/client';

@@ -1,9 +1,12 @@
+import fs from 'node:fs';
+import path from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { FlaglineApp } from '../../server/index';
 import { hashToken } from '../../server/auth/tokens';
 import { invitations, notes, passwordResets, rigs, stations } from '../../server/db/schema';
 import { clockedVcd, seedDecodedCapture, tempDataDir } from './captures-helpers';
 import { Client, addMember, anonymous, makeUser, rigBody, signedIn, testApp } from './helpers';
+import { decodedFileOf, manifestCaptures, samplesDir } from './decoded-helpers';
 import { listRoutes } from './route-list';
 import { seedCallLayer } from './calls-helpers';
 import { CPM_ENVELOPE_DOCUMENT } from '../../shared/decoder/calls';
@@ -53,6 +56,7 @@ const MATRIX: Record<string, Row> = {
   'GET /api/dev/mailbox': SIGNED_IN(200),
   'GET /api/rigs/:rigId/captures': MEMBER(200),
   'POST /api/rigs/:rigId/captures': ANALYST(201),
+  'POST /api/rigs/:rigId/captures/decoded': ANALYST(201),
   'GET /api/rigs/:rigId/captures/:captureId': MEMBER(200),
   'DELETE /api/rigs/:rigId/captures/:captureId': OWNER(204),
   'GET /api/rigs/:rigId/captures/:captureId/detection': MEMBER(200),
@@ -134,6 +138,14 @@ const QUERIES: Record<string, string> = {
 /** the upload is multipart, not JSON */
 const UPLOADS: Record<string, () => Buffer> = {
   'POST /api/rigs/:rigId/captures': () => clockedVcd(3).file,
+};
+
+/** a capture decoded in the browser goes up as NDJSON */
+const NDJSON_BODIES: Record<string, () => string> = {
+  'POST /api/rigs/:rigId/captures/decoded': () => {
+    const c = manifestCaptures().find((m) => m.file === 'wrenfield-registry-rxd.octets')!;
+    return decodedFileOf(fs.readFileSync(path.join(samplesDir, c.file)), c.file, c.settings);
+  },
 };
 
 const INVITE_TOKEN = 'role-matrix-invitation-token';
@@ -224,7 +236,9 @@ describe('role matrix', () => {
         const url = fillPath(route + (QUERIES[key] ?? ''), params);
         const res = UPLOADS[key]
           ? await client.agent.post(url).set('x-csrf-token', client.csrf).attach('file', UPLOADS[key](), 'matrix.vcd')
-          : await client.send(method, url, fillBody(BODIES[key], params));
+          : NDJSON_BODIES[key]
+            ? await client.agent.post(url).set('x-csrf-token', client.csrf).set('content-type', 'application/x-ndjson').send(NDJSON_BODIES[key]())
+            : await client.send(method, url, fillBody(BODIES[key], params));
         got[caller] = res.status;
         await world.app.jobs.idle();
         world.app.close();

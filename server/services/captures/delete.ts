@@ -15,8 +15,9 @@ export async function deleteCapture(deps: CaptureDeps, c: CaptureRow): Promise<v
     for (const id of jobIds) clearRunRows(deps.sqlite, id);
     deps.sqlite.prepare('delete from captures where id = ?').run(c.id);
   })();
-  const others = deps.sqlite.prepare('select 1 from captures where sha256 = ? limit 1').get(c.sha256);
-  if (!others) deps.store.remove(c.sha256);
+  // a capture decoded in the browser shares the hash of its original but holds no file
+  const others = deps.sqlite.prepare('select 1 from captures where sha256 = ? and samples_kept = 1 limit 1').get(c.sha256);
+  if (!others && c.samplesKept) deps.store.remove(c.sha256);
 }
 
 /** Deletes every capture of a rig the same way, before the rig row goes (its cascade would leave frames and files behind). */

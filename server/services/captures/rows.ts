@@ -74,6 +74,7 @@ export function toSummary(deps: CaptureDeps, c: CaptureRow): CaptureSummaryRow {
     settings: parseSettings(c.settings),
     job: job ? toDecodeJob(job) : null,
     frameCount: visible?.frames ?? 0,
+    samplesKept: c.samplesKept,
   };
 }
 

@@ -24,6 +24,7 @@ import { filtersFromParams } from '../../features/timeline/api/timeline-filters'
 import { TimelineView } from '../../features/timeline/components/timeline-view';
 import { frameQueryOptions, useFrame } from '../../features/inspector/api/get-frame';
 import { FrameNotes } from '../../features/notes/components/frame-notes';
+import { SamplesElsewhere } from '../../features/captures/components/samples-elsewhere';
 import { FrameInspector, WAVEFORM_CONTEXT_BITS } from '../../features/inspector/components/frame-inspector';
 import { frameCallQueryOptions } from '../../features/inspector/api/get-frame-call';
 import { waveformQueryOptions } from '../../features/inspector/api/get-waveform';
@@ -67,7 +68,8 @@ export const setupLoader = whenSignedIn(async ({ params }: LoaderFunctionArgs) =
   // the settings finder starts at once; the page shows its progress
   void queryClient.prefetchQuery(discoveryQueryOptions(rigId, captureId));
   await Promise.all([
-    queryClient.prefetchQuery(detectionQueryOptions(rigId, captureId)),
+    // a capture decoded in the browser has no file to detect from
+    capture.samplesKept ? queryClient.prefetchQuery(detectionQueryOptions(rigId, captureId)) : null,
     capture.job !== null ? queryClient.prefetchQuery(jobQueryOptions(rigId, captureId)) : null,
   ]);
 });
@@ -149,7 +151,10 @@ export function CaptureRoute() {
 
 export function CaptureSetupRoute() {
   const { rigId, captureId } = useIds();
-  return <CaptureSetup rig={useRig(rigId)} captureId={captureId} />;
+  const rig = useRig(rigId);
+  const capture = useCapture(rigId, captureId);
+  if (!capture.samplesKept) return <SamplesElsewhere rigId={rigId} captureId={captureId} />;
+  return <CaptureSetup rig={rig} captureId={captureId} />;
 }
 
 function NotDecodedYet({ rigId, captureId }: { rigId: number; captureId: number }) {
@@ -186,7 +191,7 @@ export function TimelineRoute() {
 
 /** A frame log holds cut frames only: no line samples to draw a waveform from. */
 function hasSamples(capture: CaptureSummaryRow): boolean {
-  return (capture.settings?.format ?? capture.format) !== 'framelog';
+  return capture.samplesKept && (capture.settings?.format ?? capture.format) !== 'framelog';
 }
 
 export function FrameRoute() {
@@ -198,7 +203,7 @@ export function FrameRoute() {
   const octetCount = useFrame(rigId, captureId, frameId).frame.hexAll.length / 2;
   return (
     <div className="space-y-4">
-      <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} hasSamples={hasSamples(capture)} />
+      <FrameInspector key={frameId} rigId={rigId} captureId={captureId} frameId={frameId} backTo={backTo} hasSamples={hasSamples(capture)} samplesKept={capture.samplesKept} />
       <FrameNotes key={`notes-${frameId}`} rigId={rigId} captureId={captureId} frameId={frameId} octetCount={octetCount} />
     </div>
   );

@@ -1,4 +1,4 @@
-import { useNavigate } from 'react-router';
+import { useNavigate, useSearchParams } from 'react-router';
 import { Card, CardTitle } from '../../../components/card';
 import { ErrorNotice } from '../../../components/notice';
 import { ProgressBar } from '../../../components/progress-bar';
@@ -9,6 +9,7 @@ import { useUploadCapture } from '../api/upload-capture';
 import { DropZone } from './drop-zone';
 import { SafetyPanel } from '../../../components/safety-panel';
 import { captureScope } from '../../../lib/scope';
+import { LocalDecodePanel } from './local-decode-panel';
 
 /** The server's message as a sentence: one full stop at the end, whatever it came with. */
 function sentence(text: string): string {
@@ -21,6 +22,8 @@ export function UploadPanel({ rigId }: { rigId: number }) {
   const upload = useUploadCapture(rigId);
   const navigate = useNavigate();
   const p = upload.progress;
+  const [params, setParams] = useSearchParams();
+  const local = params.get('mode') === 'local';
 
   function send(file: File) {
     if (file.size === 0) return;
@@ -31,6 +34,25 @@ export function UploadPanel({ rigId }: { rigId: number }) {
     <div className="grid items-start gap-5 lg:grid-cols-[1fr_22rem]">
       <Card>
         <CardTitle>Upload a capture</CardTitle>
+        <div className="mb-4 inline-flex rounded-md border border-line p-0.5 text-sm" role="radiogroup" aria-label="Where the capture is decoded">
+          {([
+            [false, 'Decode on the server'],
+            [true, 'Decode here first'],
+          ] as const).map(([mode, label]) => (
+            <button
+              key={label}
+              type="button"
+              role="radio"
+              aria-checked={local === mode}
+              disabled={upload.isPending}
+              onClick={() => setParams(mode ? { mode: 'local' } : {}, { replace: true })}
+              className={`rounded px-3 py-1 ${local === mode ? 'bg-raised font-medium text-text' : 'text-muted hover:text-text'}`}
+            >
+              {label}
+            </button>
+          ))}
+        </div>
+        {local ? <LocalDecodePanel rigId={rigId} /> : (
         <div className="space-y-4">
           <DropZone onFile={send} disabled={upload.isPending} />
           {p && (upload.isPending || upload.isSuccess) ? (
@@ -59,6 +81,7 @@ export function UploadPanel({ rigId }: { rigId: number }) {
             </ErrorNotice>
           ) : null}
         </div>
+        )}
       </Card>
       <SafetyPanel />
     </div>

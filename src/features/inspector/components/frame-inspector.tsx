@@ -37,11 +37,13 @@ interface Props {
   captureId: number;
   frameId: number;
   backTo: string;
-  /** false for a frame log, which has no line samples to draw */
+  /** false for a frame log, which has no line samples to draw, and when the samples were not uploaded */
   hasSamples: boolean;
+  /** false when the capture was decoded in the uploader's browser and only its frames came up */
+  samplesKept?: boolean;
 }
 
-export function FrameInspector({ rigId, captureId, frameId, backTo, hasSamples }: Props) {
+export function FrameInspector({ rigId, captureId, frameId, backTo, hasSamples, samplesKept = true }: Props) {
   const { frame, prevId, nextId } = useFrame(rigId, captureId, frameId);
   const waveform = useWaveform(rigId, captureId, frameId, WAVEFORM_CONTEXT_BITS, hasSamples);
   const decoded = useFrameCall(rigId, captureId, frameId);
@@ -145,7 +147,12 @@ export function FrameInspector({ rigId, captureId, frameId, backTo, hasSamples }
       </Card>
       <Card>
         <CardTitle aside={hasSamples ? <span className="font-mono text-xs text-muted">samples {frame.firstSample}–{frame.lastSample}</span> : null}>Waveform</CardTitle>
-        {!hasSamples ? (
+        {!hasSamples && !samplesKept ? (
+          <p className="text-sm text-muted" data-testid="samples-elsewhere">
+            The samples stayed on the uploader's machine: this capture was decoded in their browser and only its frames were uploaded, so there is no waveform
+            to draw here. To see it, upload the capture file itself.
+          </p>
+        ) : !hasSamples ? (
           <p className="text-sm text-muted">This capture is a frame log: it holds the frames already cut, not the line samples, so there is no waveform to draw.</p>
         ) : null}
         {hasSamples && waveform.isPending ? <p className="text-sm text-muted">Reading the samples around the frame…</p> : null}

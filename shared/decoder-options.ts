@@ -1,5 +1,5 @@
-import type { CaptureSettings } from '../../shared/schemas';
-import type { DecoderOptions } from '../../shared/decoder';
+import type { CaptureSettings } from './schemas';
+import type { DecoderOptions } from './decoder';
 
 /** The capture's channel-role settings as the decoder takes them. */
 export function decoderOptions(s: CaptureSettings): DecoderOptions {

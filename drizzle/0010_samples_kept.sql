@@ -1,0 +1,1 @@
+ALTER TABLE `captures` ADD `samples_kept` integer DEFAULT true NOT NULL;
