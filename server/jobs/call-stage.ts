@@ -160,6 +160,8 @@ export interface CallStageInput {
   settings: CaptureSettings;
   samplePeriod: number;
   timeoutSeconds?: number;
+  /** each exchange as the call layer pairs it (the decode run's fault desk takes them) */
+  onExchange?: (e: Exchange) => void;
   /** called between pages of frames; the in-process re-run yields to requests here */
   pause?: () => Promise<void>;
 }
@@ -234,7 +236,10 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
   const layer = new CallLayer(
     { map: input.map, links, rts, samplePeriodSeconds: period, timeoutSeconds: input.timeoutSeconds ?? rigResponseTimeoutSeconds(db, input.captureId) },
     {
-      exchange: (e) => pending.push(e),
+      exchange: (e) => {
+        pending.push(e);
+        input.onExchange?.(e);
+      },
       call: (cf) => {
         if (cf.call) frameIds.set(refKey(cf.ref.link, cf.ref.seq), currentFrameId);
       },

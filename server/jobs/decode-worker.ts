@@ -5,6 +5,7 @@ import fs from 'node:fs';
 import { parentPort, workerData } from 'node:worker_threads';
 import Database from 'better-sqlite3';
 import { createDecoder, type Decoder } from '../../shared/decoder/pipeline';
+import type { Exchange } from '../../shared/decoder/calls/exchanges';
 import type { DecodeIssue } from '../../shared/decoder/types';
 import type { CaptureSettings } from '../../shared/schemas';
 import { chosenMap, createCallRun, runCallStage, switchToCallRun } from './call-stage';
@@ -12,6 +13,7 @@ import { decoderOptions } from './decoder-options';
 import { FaultRecorder, faultCallKey, storeFaultReport } from './fault-rows';
 import { indexSearch, RunWriter } from './run-rows';
 import { CsvSeekTracker } from './csv-seek';
+import { raceDeskOptions, storeRaces } from '../services/timing/fault-races';
 import { type SeekPoint, VcdSeekTracker } from './vcd-seek';
 
 export interface DecodeWorkerData {
@@ -44,7 +46,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     // Frames reach the writer during push(), as soon as the reader's header has set the time base,
     // so the writer asks the decoder itself rather than a copy taken between pushes.
     const writer = new RunWriter(db, data.jobId, data.captureId, () => decoder.samplePeriodSeconds ?? period);
-    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.captureId, data.settings));
+    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.captureId, data.settings), raceDeskOptions(db, data.captureId, data.settings));
     const decoder: Decoder = createDecoder(
       { ...decoderOptions(data.settings), anomalies: faults },
       {
@@ -90,9 +92,11 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     if (fatal) return { type: 'failed', error: describeIssue(fatal) };
     writer.flush();
     progress.run(bytes, writer.frames, writer.events, 'indexing', data.jobId);
-    storeFaultReport(db, data.jobId, data.captureId, period, faults.report(writer.lastSample));
     indexSearch(db, data.jobId);
-    const calls = await callStage(db, data, period);
+    const calls = await callStage(db, data, period, (e) => faults.exchange(e));
+    const report = faults.report(writer.lastSample);
+    storeFaultReport(db, data.jobId, data.captureId, period, report);
+    storeRaces(db, data.jobId, report);
     const issues = decoder.issues.slice(0, 20).map(describeIssue);
     const committed = db.transaction(() => {
       const done = db
@@ -119,13 +123,13 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
  * The call-layer stage over the run's frames with the capture's chosen map. A failure here (a
  * stored map that no longer parses, say) fails the call run, not the decode.
  */
-async function callStage(db: Database.Database, data: DecodeWorkerData, period: number) {
+async function callStage(db: Database.Database, data: DecodeWorkerData, period: number, onExchange: (e: Exchange) => void) {
   let runId: number | null = null;
   try {
     db.prepare("update decode_jobs set stage = 'calls' where id = ? and state = 'running'").run(data.jobId);
     const m = chosenMap(db, data.captureId);
     runId = createCallRun(db, data.captureId, data.jobId, m, 'running');
-    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map: m.map, settings: data.settings, samplePeriod: period });
+    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map: m.map, settings: data.settings, samplePeriod: period, onExchange });
     return { runId, counts };
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);

@@ -1,5 +1,6 @@
 import type Database from 'better-sqlite3';
-import { callKeyFromFieldMap, FaultDesk, type CallKeyLookup, type FaultReport, type LineAnomaly } from '../../shared/decoder/faults';
+import type { Exchange } from '../../shared/decoder/calls/exchanges';
+import { callKeyFromFieldMap, FaultDesk, type CallKeyLookup, type FaultDeskOptions, type FaultReport, type LineAnomaly } from '../../shared/decoder/faults';
 import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
 import type { CaptureSettings } from '../../shared/schemas';
 import { chosenMap } from './call-stage';
@@ -20,10 +21,12 @@ export class FaultRecorder {
   constructor(
     private readonly period: () => number,
     private readonly callKey?: CallKeyLookup,
+    /** race-signature options (server/services/timing/fault-races.ts) */
+    private readonly extra: Partial<FaultDeskOptions> = {},
   ) {}
 
   private ensure(): FaultDesk {
-    this.desk ??= new FaultDesk({ samplePeriodSeconds: this.period(), maxAnomalies: MAX_ANOMALIES, callKey: this.callKey });
+    this.desk ??= new FaultDesk({ ...this.extra, samplePeriodSeconds: this.period(), maxAnomalies: MAX_ANOMALIES, callKey: this.callKey });
     return this.desk;
   }
 
@@ -37,6 +40,11 @@ export class FaultRecorder {
 
   anomaly(a: LineAnomaly): void {
     this.ensure().anomaly(a);
+  }
+
+  /** the call layer's exchanges: receiver over-run symptoms */
+  exchange(e: Exchange): void {
+    this.desk?.exchange(e);
   }
 
   report(lastSample: number): FaultReport | null {
