@@ -18,6 +18,7 @@ import { captureRoutes } from './routes/captures';
 import { compareRoutes } from './routes/compare';
 import { exchangeRoutes } from './routes/exchanges';
 import { faultRoutes } from './routes/faults';
+import { timingRoutes } from './routes/timing';
 import { fieldMapRoutes } from './routes/field-maps';
 import { fileRoutes } from './routes/files';
 import { invitationRoutes } from './routes/invitations';
@@ -150,6 +151,7 @@ export async function createApp(opts: AppOptions = {}) {
   api.use(fileRoutes(callsModule, guard));
   api.use(compareRoutes(callsModule, guard));
   api.use(faultRoutes(captureModule, guard));
+  api.use(timingRoutes(captureModule, guard));
   api.use(noteRoutes(captureModule, guard));
   api.use(apiNotFound);
   app.use('/api', api);

@@ -1,5 +1,6 @@
 import type Database from 'better-sqlite3';
 import type { Exchange } from '../../shared/decoder/calls/exchanges';
+import type { ClockSpread } from '../../shared/decoder/timing/clock-spread';
 import { callKeyFromFieldMap, FaultDesk, type CallKeyLookup, type FaultDeskOptions, type FaultReport, type LineAnomaly } from '../../shared/decoder/faults';
 import type { DecodedFrame, LineEvent } from '../../shared/decoder/types';
 import type { CaptureSettings } from '../../shared/schemas';
@@ -40,6 +41,11 @@ export class FaultRecorder {
 
   anomaly(a: LineAnomaly): void {
     this.ensure().anomaly(a);
+  }
+
+  /** the captured clock's period spread: octet timing and the budget line's measured rate */
+  clockSpread(spread: ClockSpread): void {
+    this.ensure().clockSpread(spread);
   }
 
   /** the call layer's exchanges: receiver over-run symptoms */

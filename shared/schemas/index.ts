@@ -5,3 +5,4 @@ export * from './captures';
 export * from './calls';
 export * from './notes';
 export * from './faults';
+export * from './timing';

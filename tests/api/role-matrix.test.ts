@@ -78,6 +78,8 @@ const MATRIX: Record<string, Row> = {
   'GET /api/rigs/:rigId/captures/:captureId/field-map': MEMBER(200),
   'PUT /api/rigs/:rigId/captures/:captureId/field-map': ANALYST(202),
   'GET /api/rigs/:rigId/captures/:captureId/faults': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/timing/service': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/timing/schedule': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/exchanges': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/exchanges/stats': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/exchanges/export.csv': MEMBER(200),
@@ -127,6 +129,7 @@ const BODIES: Record<string, object> = {
 const QUERIES: Record<string, string> = {
   'GET /api/rigs/:rigId/captures/:captureId/timeline/at': '?t=0',
   'GET /api/rigs/:rigId/compare': '?a=:captureId&b=:captureId',
+  'GET /api/rigs/:rigId/captures/:captureId/timing/schedule': '?from=0&to=1&width=400',
 };
 
 /** the upload is multipart, not JSON */
