@@ -151,7 +151,7 @@ export async function createApp(opts: AppOptions = {}) {
   api.use(fileRoutes(callsModule, guard));
   api.use(compareRoutes(callsModule, guard));
   api.use(faultRoutes(captureModule, guard));
-  api.use(timingRoutes(captureModule, guard));
+  api.use(timingRoutes(callsModule, guard));
   api.use(noteRoutes(captureModule, guard));
   api.use(apiNotFound);
   app.use('/api', api);

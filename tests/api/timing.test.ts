@@ -1,7 +1,7 @@
 import fs from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { FaultDeskView, RigDetail, ScheduleView, ServiceView } from '../../shared/schemas';
+import type { ExchangeRow, FaultDeskView, RigDetail, ScheduleView, ServiceView } from '../../shared/schemas';
 import type { UnderrunDetail } from '../../shared/decoder/faults';
 import { samplesDir } from '../../server/seed/demo-captures';
 import { clearTimingCache } from '../../server/services/timing/build-timing';
@@ -115,6 +115,11 @@ describe('line timing API over the demo races capture', () => {
     const ex = await w.viewer.get(`${url}/exchanges?limit=500`).expect(200);
     const ids = (ex.body.rows as { id: number }[]).map((r) => r.id);
     for (const l of win.lanes) for (const it of l.exchanges.items) expect(ids).toContain(it.id);
+    // a span opens its exchange with its frames
+    const opened = (await w.viewer.get(`${url}/timing/exchanges/${someExchange.id}`).expect(200)).body as ExchangeRow;
+    expect(opened.id).toBe(someExchange.id);
+    expect(opened.requestFrameId).not.toBeNull();
+    expect((await w.viewer.get(`${url}/timing/exchanges/999999`).expect(404)).body.error).toMatch(/No exchange with id 999999/);
   });
 
   it('answers the same after the kept timing is dropped (built again from the stored rows)', async () => {

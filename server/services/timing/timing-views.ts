@@ -8,6 +8,11 @@ import type { z } from 'zod';
 import type { CaptureModule } from '../captures/module';
 import { currentJob, type CaptureRow } from '../captures/rows';
 import { timingOf, type BuiltTiming } from './build-timing';
+import { notFound } from '../../http/errors';
+import type { ExchangeRow } from '../../../shared/schemas';
+import { visibleRun } from '../calls/capture-layer';
+import { EXCHANGE_COLUMNS, stationNames, toExchangeRow } from '../calls/exchanges';
+import type { CallsModule } from '../calls/module';
 
 type Loaded = { built: BuiltTiming; extent: TimingExtent } | { reason: TimingUnavailable };
 
@@ -57,3 +62,11 @@ export function scheduleView(m: CaptureModule, c: CaptureRow, q: z.output<typeof
 }
 
 export type { ScheduleQuery };
+
+/** One exchange of the visible call run, by id: what a span selected on the schedule opens. */
+export function scheduleExchange(m: CallsModule, c: CaptureRow, exchangeId: number): ExchangeRow {
+  const run = visibleRun(m, c.id);
+  const row = run ? m.sqlite.prepare(`select ${EXCHANGE_COLUMNS} from exchanges where run_id = ? and id = ?`).get(run.runId, exchangeId) : undefined;
+  if (!row) throw notFound(`No exchange with id ${exchangeId} in this capture's call layer`);
+  return toExchangeRow(row as Parameters<typeof toExchangeRow>[0], stationNames(m, c.id));
+}
