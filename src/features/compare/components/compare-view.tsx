@@ -165,10 +165,10 @@ function CompareTableRow({ row, rig, result }: { row: CompareRow; rig: RigDetail
         <p className="text-xs text-muted">{station}</p>
       </td>
       <td className="py-2 pr-3">
-        <Side ex={row.a} href={row.a ? `/rigs/${rig.id}/captures/${result.a.captureId}/round-trips?station=${row.station.address}&ex=${row.a.id}` : null} differs={row.kind === 'answered-differently'} />
+        <Side ex={row.a} href={row.a ? `/rigs/${rig.id}/captures/${result.a.captureId}/schedule?station=${row.station.address}&ex=${row.a.id}` : null} differs={row.kind === 'answered-differently'} />
       </td>
       <td className="py-2 pr-3">
-        <Side ex={row.b} href={row.b ? `/rigs/${rig.id}/captures/${result.b.captureId}/round-trips?station=${row.station.address}&ex=${row.b.id}` : null} differs={row.kind === 'answered-differently'} />
+        <Side ex={row.b} href={row.b ? `/rigs/${rig.id}/captures/${result.b.captureId}/schedule?station=${row.station.address}&ex=${row.b.id}` : null} differs={row.kind === 'answered-differently'} />
       </td>
       <td className="py-2 text-xs">
         <p className="font-medium">{kindText(row)}</p>

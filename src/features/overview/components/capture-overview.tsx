@@ -124,7 +124,7 @@ export function CaptureOverview({ rigId, captureId }: { rigId: number; captureId
       </Card>
       <Card>
         <CardTitle>Turnaround per station</CardTitle>
-        <TurnaroundHistograms rigId={rigId} captureId={captureId} roundTripsHref={`/rigs/${rigId}/captures/${captureId}/round-trips`} />
+        <TurnaroundHistograms rigId={rigId} captureId={captureId} roundTripsHref={`/rigs/${rigId}/captures/${captureId}/schedule`} />
       </Card>
     </div>
   );

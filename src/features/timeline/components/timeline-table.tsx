@@ -42,7 +42,7 @@ export function TimelineTable({ rigId, captureId, filters, start, selectedId, re
   const selectedT = useMemo(() => rows.find((r) => r.type === 'frame' && r.id === selectedId)?.t ?? null, [rows, selectedId]);
   const calls = useFrameExchanges(rigId, captureId, filters.station ?? [], rows.at(-1)?.t ?? 0);
   const callHref = useCallback(
-    (e: FrameExchange) => `/rigs/${rigId}/captures/${captureId}/round-trips?${new URLSearchParams({ station: String(e.station), ex: String(e.exchangeId) })}`,
+    (e: FrameExchange) => `/rigs/${rigId}/captures/${captureId}/schedule?${new URLSearchParams({ station: String(e.station), ex: String(e.exchangeId) })}`,
     [rigId, captureId],
   );
 
