@@ -67,7 +67,7 @@ function FaultDeskRoute() {
     const s = q.toString();
     return `${base}/faults${s ? `?${s}` : ''}`;
   };
-  return <FaultDeskView desk={desk.data} cause={cause} hrefFor={hrefFor} frameHref={(id) => `${base}/frames/${id}`} />;
+  return <FaultDeskView desk={desk.data} cause={cause} hrefFor={hrefFor} frameHref={(id) => `${base}/frames/${id}`} rigSettingsHref={`/rigs/${rigId}/settings`} />;
 }
 
 export const faultRoutes: RouteObject[] = [{ path: 'faults', loader: faultsLoader, element: <FaultDeskRoute />, shouldRevalidate: pathOnly }];

@@ -9,6 +9,7 @@ import { BarList } from './bar-list';
 import { FramesOverTimeChart } from './frames-over-time-chart';
 import { GapHistogram } from './gap-histogram';
 import { TurnaroundHistograms } from './turnaround-histograms';
+import { TimingCard } from '../../schedule/components/timing-card';
 
 const statuses = ['ok', 'bad-fcs', 'abort', 'short', 'residue'] as const;
 const directionWords = { 'to-server': 'station → server', 'from-server': 'server → station', unknown: 'direction not set' } as const;
@@ -45,6 +46,7 @@ export function CaptureOverview({ rigId, captureId }: { rigId: number; captureId
           </Link>
         </p>
       ) : null}
+      <TimingCard rigId={rigId} captureId={captureId} />
       <Card>
         <CardTitle>Frames over time</CardTitle>
         <FramesOverTimeChart bins={o.timeBins} />
