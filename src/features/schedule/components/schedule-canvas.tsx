@@ -125,8 +125,6 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
 
     // the server's visits
     const vy = AXIS_H;
-    g.fillStyle = muted;
-    g.fillText('server visits', 4, vy + 9);
     row(win.visits, vy + 12, 14, (code) => laneColour(code), win.codes.visits.map((_, i) => i));
     g.strokeStyle = text;
     for (const x of win.roundStarts) {

@@ -174,8 +174,8 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
         <div className="flex">
           <div style={{ width: LABEL_W }} className="shrink-0 text-xs">
             <div style={{ height: AXIS_H }} />
-            <div style={{ height: VISITS_H }} className="pt-3 text-muted">
-              Round {report.server.rounds > 0 ? `(${report.server.order.map(name).join(' → ')})` : ''}
+            <div style={{ height: VISITS_H }} className="pt-3 text-muted" title={`Visiting order: ${report.server.order.map(name).join(' → ')}`}>
+              Server visits
             </div>
             {lanes.map((l) => (
               <div key={l.station} style={{ height: LANE_H }} className={`border-t border-line/60 pt-1 ${chosen === l.station ? 'font-semibold' : ''}`} data-testid="schedule-lane">
