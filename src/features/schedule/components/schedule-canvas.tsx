@@ -208,6 +208,7 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
     // where the selected span is, for tests and tools that click it
     const w = wrap.current;
     if (w) {
+      w.dataset.drawn = String(win.lanes.length);
       if (box) {
         w.dataset.selectedX = String((box as { x: number }).x);
         w.dataset.selectedY = String((box as { y: number }).y);
