@@ -57,7 +57,7 @@ describe('Schedule', () => {
       await openTab(page, 'Schedule');
       await page.getByTestId('schedule-canvas').waitFor();
       await page.getByRole('button', { name: 'Whole capture' }).click();
-      await expect.poll(() => spanOf(page)).toBeGreaterThan(0.05);
+      await expect.poll(() => spanOf(page)).toBeGreaterThan(0.03);
       const whole = await spanOf(page);
       await page.getByRole('button', { name: 'Zoom in' }).click();
       await page.getByRole('button', { name: 'Zoom in' }).click();
