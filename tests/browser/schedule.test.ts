@@ -82,6 +82,8 @@ describe('Schedule', () => {
       const x = Number(await wrap.getAttribute('data-selected-x'));
       const y = Number(await wrap.getAttribute('data-selected-y'));
       await panel.getByRole('button', { name: 'Close' }).click();
+      await shot(page, 'closed');
+      await expect.poll(() => new URL(page.url()).searchParams.get('ex')).toBeNull();
       await expect.poll(() => panel.count()).toBe(0);
       const canvasBox = (await page.getByTestId('schedule-canvas').boundingBox())!;
       await page.mouse.click(canvasBox.x + x, canvasBox.y + y);
