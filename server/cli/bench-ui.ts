@@ -79,7 +79,7 @@ const views: View[] = [
   { name: 'Fault desk', from: (i) => capture(i), act: tab('Fault desk'), ready: { all: ['[data-testid="fault-row"]'] } },
   { name: 'Schedule', from: (i) => capture(i), act: tab('Schedule'), ready: { all: ['[data-drawn]:not([data-drawn="0"])', '[data-testid="exchange-row"]'] } },
   {
-    name: 'Schedule, long',
+    name: 'Schedule (long capture)',
     from: (i) => `/rigs/${i.rigId}/captures/${i.longId}`,
     act: tab('Schedule'),
     ready: { all: ['[data-drawn]:not([data-drawn="0"])'] },
@@ -221,8 +221,8 @@ async function panFigures(page: Page, base: string, ids: Ids): Promise<string> {
   });
   const p95 = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.max(0, Math.ceil(xs.length * 0.95) - 1)] ?? 0;
   const line = `pan (drag 60 × 12 px): draw median ${median(draws).toFixed(1)} ms, p95 ${p95(draws).toFixed(1)} ms, worst ${Math.max(0, ...draws).toFixed(1)} ms over ${draws.length} draws; frame interval median ${median(frames).toFixed(1)} ms, p95 ${p95(frames).toFixed(1)} ms, worst ${Math.max(0, ...frames).toFixed(1)} ms`;
-  console.log(`Schedule, long · ${line}`);
-  return `| Schedule, long: ${line} | | |`;
+  console.log(`Schedule (long capture) · ${line}`);
+  return `| Schedule (long capture), ${line} | | |`;
 }
 
 async function main() {
@@ -272,7 +272,7 @@ async function main() {
     const rows: string[] = [];
     for (const view of views) {
       if (only && !only.has(view.name)) continue;
-      if (view.name === 'Schedule, long' && !ids.longId) continue;
+      if (view.name === 'Schedule (long capture)' && !ids.longId) continue;
       // one unmeasured run first: the browser compiles the page's code once per process
       await measure(page, base, ids, view);
       const times: number[] = [];
@@ -283,7 +283,7 @@ async function main() {
       console.log(`${view.name.padEnd(22)} ${`${m.toFixed(0)} ms`.padStart(8)} ${`${worst.toFixed(0)} ms`.padStart(8)}  ${verdict}`);
       rows.push(`| ${view.name} | ${m.toFixed(0)} ms | ${worst.toFixed(0)} ms |`);
     }
-    if (ids.longId && (!only || only.has('Schedule, long'))) rows.push(await panFigures(page, base, ids));
+    if (ids.longId && (!only || only.has('Schedule (long capture)'))) rows.push(await panFigures(page, base, ids));
     console.log(`\nMarkdown:\n| view | median | worst |\n|---|---:|---:|\n${rows.join('\n')}`);
   } finally {
     await browser.close();
