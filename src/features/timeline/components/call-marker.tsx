@@ -13,7 +13,7 @@ function timing(e: FrameExchange): string {
   return e.outcome === 'unanswered' ? 'no answer' : '—';
 }
 
-/** The frame's part in an exchange: call name and round trip, linking to the exchange in Round trips. */
+/** The frame's part in an exchange: call name and round trip, linking to the exchange in the schedule. */
 export function CallMarker({ exchange, href }: { exchange: FrameExchange; href: string }) {
   const role = roleMarks[exchange.role];
   const text = `${exchange.callName} · ${timing(exchange)}`;
@@ -21,8 +21,8 @@ export function CallMarker({ exchange, href }: { exchange: FrameExchange; href: 
     <Link
       to={href}
       data-exchange-id={exchange.exchangeId}
-      title={`${role.word} of exchange ${exchange.exchangeId}: ${text} (open in Round trips)`}
-      aria-label={`${role.word}: ${text}, open in Round trips`}
+      title={`${role.word} of exchange ${exchange.exchangeId}: ${text} (open in the schedule)`}
+      aria-label={`${role.word}: ${text}, open in the schedule`}
       onClick={(e) => e.stopPropagation()}
       className={`mr-2 shrink-0 rounded border border-line px-1 text-[11.5px] hover:underline ${exchange.outcome === 'unanswered' ? 'text-[#e0582f]' : 'text-link'}`}
     >
