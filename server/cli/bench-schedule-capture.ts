@@ -23,7 +23,7 @@ export function addScheduleBenchCapture(dbPath: string, rigId: number, exchanges
     const settings = {
       format: 'framelog',
       sampleRate: null,
-      rawWidth: null,
+      rawWidth: 1,
       channelNames: [],
       clock: null,
       links,
