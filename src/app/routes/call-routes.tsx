@@ -156,14 +156,15 @@ function CompareRoute() {
   );
 }
 
-/** The schedule paints with its statistics and the lists' figures; its windows follow from them. */
-const scheduleLoader = prefetch((rigId, captureId) =>
-  Promise.all([
-    queryClient.prefetchQuery(callLayerQueryOptions(rigId, captureId)),
-    queryClient.prefetchQuery(serviceQueryOptions(rigId, captureId)),
-    queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, [])),
-  ]),
-);
+/**
+ * The schedule paints once its service statistics are in (they give the time range); the exchange
+ * figures beside it start loading at the same moment but are not waited for: on a long capture
+ * they take longer than the schedule itself.
+ */
+const scheduleLoader = prefetch((rigId, captureId) => {
+  void queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, []));
+  return Promise.all([queryClient.prefetchQuery(callLayerQueryOptions(rigId, captureId)), queryClient.prefetchQuery(serviceQueryOptions(rigId, captureId))]);
+});
 
 /** Children of the capture route (`rigs/:rigId/captures/:captureId`). */
 export const callRoutes: RouteObject[] = [
