@@ -51,6 +51,7 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
   const canvas = useRef<HTMLCanvasElement>(null);
   const [width, setWidth] = useState(800);
   const drag = useRef<{ x: number; moved: boolean } | null>(null);
+  const theme = useRef<{ text: string; muted: string; line: string } | null>(null);
 
   useEffect(() => {
     const el = wrap.current;
@@ -77,10 +78,15 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
     if (!g) return;
     g.setTransform(dpr, 0, 0, dpr, 0, 0);
     g.clearRect(0, 0, width, height);
-    const styles = getComputedStyle(c);
-    const text = styles.getPropertyValue('--fl-text').trim() || '#222';
-    const muted = styles.getPropertyValue('--fl-muted').trim() || '#777';
-    const line = styles.getPropertyValue('--fl-line').trim() || '#ccc';
+    if (!theme.current) {
+      const styles = getComputedStyle(c);
+      theme.current = {
+        text: styles.getPropertyValue('--fl-text').trim() || '#222',
+        muted: styles.getPropertyValue('--fl-muted').trim() || '#777',
+        line: styles.getPropertyValue('--fl-line').trim() || '#ccc',
+      };
+    }
+    const { text, muted, line } = theme.current;
     const scale = width / (view.to - view.from);
 
     // time axis
@@ -106,8 +112,20 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
       if (b < -1 || a > width + 1) return;
       g.fillRect(a, y, Math.max(1, b - a), h);
     };
+    // only what falls in the view is drawn (the window holds a screen either side for panning)
+    const lo = (view.from - win.from) / win.secondsPerPx - 1;
+    const hi = (view.to - win.from) / win.secondsPerPx + 1;
     const row = (r: WindowRow, y: number, h: number, colour: (code: number) => string, order: number[]) => {
-      for (const col of r.columns) {
+      const cols = r.columns;
+      let a = 0;
+      let b = cols.length;
+      while (a < b) {
+        const m = (a + b) >> 1;
+        if (cols[m].x < lo) a = m + 1;
+        else b = m;
+      }
+      for (let c = a; c < cols.length && cols[c].x <= hi; c++) {
+        const col = cols[c];
         let code = -1;
         let n = 0;
         for (const k of order) if (col.counts[k] > 0 && code < 0) code = k;
@@ -117,8 +135,12 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
         bar(col.x, col.x + 1, y, h);
       }
       g.globalAlpha = 1;
+      let last = '';
       for (const it of r.items) {
-        g.fillStyle = colour(it.code);
+        if (it.x1 < lo) continue;
+        if (it.x0 > hi) break;
+        const fill = colour(it.code);
+        if (fill !== last) g.fillStyle = last = fill;
         bar(it.x0, it.x1, y, h);
       }
     };
@@ -164,6 +186,8 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
       row(lane.exchanges, y + ROW.exchange[0], ROW.exchange[1], (code) => outcomeColours[OUTCOMES[code] ?? 'answered'], EXCHANGE_ORDER);
       // marks: a retried span gets a notch at its start, an unanswered one an open end
       for (const it of lane.exchanges.items) {
+        if (it.x1 < lo || it.code === 0) continue;
+        if (it.x0 > hi) break;
         const a = mapX(it.x0);
         const b = mapX(it.x1);
         if (b < 0 || a > width) continue;
