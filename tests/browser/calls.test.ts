@@ -66,9 +66,10 @@ describe('call layer views in the browser', () => {
       await page.waitForURL(/\/frames\/\d+$/);
       await page.getByTestId('hex-view').waitFor();
       await page.goBack();
+      await page.getByTestId('schedule-canvas').waitFor();
 
       // and into the timeline, filtered to its station and time
-      await panel.getByRole('link', { name: 'In the timeline' }).click();
+      await page.getByTestId('exchange-row').first().getByRole('link', { name: 'timeline' }).click();
       await page.waitForURL(/\/timeline\?/);
       const search = new URL(page.url()).searchParams;
       expect(search.get('station')).toBe(String(0x21));

@@ -47,8 +47,10 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
   const setParam = useCallback(
     (changes: Record<string, string | null>) =>
       setParams(
-        (prev) => {
-          const next = new URLSearchParams(prev);
+        () => {
+          // from the address bar, not the render's copy: the range is written on a timer and must
+          // not undo a station or exchange chosen since that render
+          const next = new URLSearchParams(window.location.search);
           for (const [k, v] of Object.entries(changes)) {
             if (v === null) next.delete(k);
             else next.set(k, v);
