@@ -74,7 +74,13 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
   // the range goes to the URL once it settles
   useEffect(() => {
     if (!view) return;
-    const t = setTimeout(() => setParam({ from: view.from.toFixed(9), to: view.to.toFixed(9) }), 400);
+    const t = setTimeout(() => {
+      // unchanged: writing it again would cancel a navigation the user started meanwhile
+      const now = new URLSearchParams(window.location.search);
+      const from = view.from.toFixed(9);
+      const to = view.to.toFixed(9);
+      if (now.get('from') !== from || now.get('to') !== to) setParam({ from, to });
+    }, 400);
     return () => clearTimeout(t);
   }, [view, setParam]);
 
