@@ -19,6 +19,7 @@ import { compareRoutes } from './routes/compare';
 import { discoveryRoutes } from './routes/discovery';
 import { exchangeRoutes } from './routes/exchanges';
 import { faultRoutes } from './routes/faults';
+import { timingRoutes } from './routes/timing';
 import { fieldMapRoutes } from './routes/field-maps';
 import { fileRoutes } from './routes/files';
 import { invitationRoutes } from './routes/invitations';
@@ -154,6 +155,7 @@ export async function createApp(opts: AppOptions = {}) {
   api.use(fileRoutes(callsModule, guard));
   api.use(compareRoutes(callsModule, guard));
   api.use(faultRoutes(captureModule, guard));
+  api.use(timingRoutes(callsModule, guard));
   api.use(noteRoutes(captureModule, guard));
   api.use(apiNotFound);
   app.use('/api', api);

@@ -9,13 +9,18 @@
  *
  * Options: --runs N (default 10), --url http://host:port (bench a running server with the demo
  * rig instead of starting one), --chromium PATH (default /usr/bin/chromium or FLAGLINE_CHROMIUM),
- * --only "Timeline,Round trips" (a comma-separated subset of the view names).
+ * --only "Timeline,Schedule" (a comma-separated subset of the view names), --exchanges N (default
+ * 100 000: the schedule's long capture, added to the bench server's database; not with --url).
+ *
+ * The schedule is also timed on that long capture: opening it, then a drag across it (60 moves of
+ * 12 px), with the canvas's drawing time and the page's frame intervals while it pans.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseArgs } from 'node:util';
 import { chromium, type Page } from 'playwright-core';
+import { addScheduleBenchCapture } from './bench-schedule-capture';
 import { buildClient, clientBuildReason } from './client-build';
 
 const GOAL_MS = 300;
@@ -29,6 +34,7 @@ const { values: args } = parseArgs({
     url: { type: 'string' },
     chromium: { type: 'string', default: process.env.FLAGLINE_CHROMIUM ?? '/usr/bin/chromium' },
     only: { type: 'string' },
+    exchanges: { type: 'string', default: '100000' },
   },
 });
 
@@ -38,6 +44,8 @@ interface Ids {
   otherId: number;
   builtInMapId: number;
   damagedFrameId: number;
+  /** the long capture for the schedule (0 when benching a running server) */
+  longId: number;
 }
 
 /** What the page must show for the view to count as usable; checked in the page every animation frame. */
@@ -69,7 +77,13 @@ const views: View[] = [
   { name: 'Overview', from: (i) => capture(i, '/setup'), act: tab('Overview'), ready: { all: ['[data-testid="overview-stats"]'] } },
   { name: 'Timeline', from: (i) => capture(i), act: tab('Timeline'), ready: { all: ['[data-frame-id]'], text: ['[data-testid="match-count"]', 'row'] } },
   { name: 'Fault desk', from: (i) => capture(i), act: tab('Fault desk'), ready: { all: ['[data-testid="fault-row"]'] } },
-  { name: 'Round trips', from: (i) => capture(i), act: tab('Round trips'), ready: { all: ['[data-exchange]', '[data-testid="exchange-row"]'] } },
+  { name: 'Schedule', from: (i) => capture(i), act: tab('Schedule'), ready: { all: ['[data-drawn]:not([data-drawn="0"])', '[data-testid="exchange-row"]'] } },
+  {
+    name: 'Schedule (long capture)',
+    from: (i) => `/rigs/${i.rigId}/captures/${i.longId}`,
+    act: tab('Schedule'),
+    ready: { all: ['[data-drawn]:not([data-drawn="0"])'] },
+  },
   { name: 'Recovered files', from: (i) => capture(i), act: tab('Recovered files'), ready: { all: ['[data-testid="recovered-file"]'] } },
   { name: 'Compare (tab)', from: (i) => capture(i), act: tab('Compare'), ready: { all: [], more: ['[data-testid="compare-with"] option', 1] } },
   {
@@ -131,7 +145,7 @@ async function demoIds(page: Page): Promise<Ids> {
           if (layers.every((l: { current: unknown; pending: { state: string } | null }) => l.current && !(l.pending && ['queued', 'running'].includes(l.pending.state)))) {
             const maps = (await get(`/api/rigs/${rig.id}/field-maps`)) as { id: number; builtIn: boolean }[];
             const faults = await get(`/api/rigs/${rig.id}/captures/${pick.id}/faults?limit=1`);
-            return { rigId: rig.id, captureId: pick.id, otherId: other.id, builtInMapId: maps.find((m) => m.builtIn)!.id, damagedFrameId: faults.rows[0]?.frameId ?? 0 };
+            return { rigId: rig.id, captureId: pick.id, otherId: other.id, builtInMapId: maps.find((m) => m.builtIn)!.id, damagedFrameId: faults.rows[0]?.frameId ?? 0, longId: 0 };
           }
         }
         if (i > 600) throw new Error('the demo captures did not finish decoding within 5 minutes');
@@ -169,10 +183,53 @@ async function measure(page: Page, base: string, ids: Ids, view: View): Promise<
   return Number(await handle.jsonValue());
 }
 
+/** Drags the long capture's schedule across and reports drawing times and frame intervals while it pans. */
+async function panFigures(page: Page, base: string, ids: Ids): Promise<string> {
+  await page.goto(`${base}/rigs/${ids.rigId}/captures/${ids.longId}/schedule`);
+  await page.locator('[data-drawn]:not([data-drawn="0"])').waitFor();
+  await page.getByRole('button', { name: 'Zoom in' }).click();
+  await page.getByRole('button', { name: 'Zoom in' }).click();
+  await page.waitForLoadState('networkidle');
+  const box = (await page.getByTestId('schedule-canvas').boundingBox())!;
+  await page.evaluate(() => {
+    const w = window as unknown as { __frames: number[]; __scheduleDrawMs?: number[]; __stopFrames: boolean };
+    w.__scheduleDrawMs = [];
+    w.__frames = [];
+    w.__stopFrames = false;
+    let last = performance.now();
+    const tick = (now: number) => {
+      w.__frames.push(now - last);
+      last = now;
+      if (!w.__stopFrames) requestAnimationFrame(tick);
+    };
+    requestAnimationFrame(tick);
+  });
+  const y = box.y + box.height / 2;
+  let x = box.x + box.width * 0.8;
+  await page.mouse.move(x, y);
+  await page.mouse.down();
+  for (let i = 0; i < 60; i++) {
+    x -= 12;
+    await page.mouse.move(x, y);
+  }
+  await page.mouse.up();
+  await page.waitForTimeout(300);
+  const { frames, draws } = await page.evaluate(() => {
+    const w = window as unknown as { __frames: number[]; __scheduleDrawMs?: number[]; __stopFrames: boolean };
+    w.__stopFrames = true;
+    return { frames: w.__frames.slice(1), draws: w.__scheduleDrawMs ?? [] };
+  });
+  const p95 = (xs: number[]) => [...xs].sort((a, b) => a - b)[Math.max(0, Math.ceil(xs.length * 0.95) - 1)] ?? 0;
+  const line = `pan (drag 60 × 12 px): draw median ${median(draws).toFixed(1)} ms, p95 ${p95(draws).toFixed(1)} ms, worst ${Math.max(0, ...draws).toFixed(1)} ms over ${draws.length} draws; frame interval median ${median(frames).toFixed(1)} ms, p95 ${p95(frames).toFixed(1)} ms, worst ${Math.max(0, ...frames).toFixed(1)} ms`;
+  console.log(`Schedule (long capture) · ${line}`);
+  return `| Schedule (long capture), ${line} | | |`;
+}
+
 async function main() {
   const runs = Math.max(1, Number(args.runs));
   let base = args.url?.replace(/\/$/, '');
   let stop: (() => Promise<void>) | null = null;
+  let dbPath: string | null = null;
   if (!base) {
     if (clientBuildReason()) {
       console.log('Building the client…');
@@ -180,7 +237,8 @@ async function main() {
     }
     const { startServer } = await import('../index');
     const dir = mkdtempSync(join(tmpdir(), 'flagline-bench-ui-'));
-    const server = await startServer({ port: 0, dbPath: join(dir, 'flagline.db'), demo: true, bcryptCost: 4, smtpUrl: '', rateLimit: { signIn: 1000, reset: 1000 } });
+    dbPath = join(dir, 'flagline.db');
+    const server = await startServer({ port: 0, dbPath, demo: true, bcryptCost: 4, smtpUrl: '', rateLimit: { signIn: 1000, reset: 1000 } });
     base = server.url;
     stop = async () => {
       await server.close();
@@ -202,12 +260,19 @@ async function main() {
     await page.getByRole('button', { name: 'Sign in', exact: true }).click();
     await page.getByRole('button', { name: 'Sign out' }).waitFor();
     const ids = await demoIds(page);
+    const longExchanges = Number(args.exchanges);
+    if (dbPath && longExchanges > 0) {
+      const started = Date.now();
+      ids.longId = addScheduleBenchCapture(dbPath, ids.rigId, longExchanges, null);
+      console.log(`Added a capture with ${longExchanges} exchanges for the schedule (${((Date.now() - started) / 1000).toFixed(1)} s).`);
+    }
     const only = args.only ? new Set(args.only.split(',').map((s) => s.trim())) : null;
     console.log(`bench:ui · ${base} · ${runs} runs per view · demo capture ${CAPTURE} · goal ${GOAL_MS} ms from the click to the view's data on screen\n`);
     console.log(`${'view'.padEnd(22)} ${'median'.padStart(8)} ${'worst'.padStart(8)}  goal`);
     const rows: string[] = [];
     for (const view of views) {
       if (only && !only.has(view.name)) continue;
+      if (view.name === 'Schedule (long capture)' && !ids.longId) continue;
       // one unmeasured run first: the browser compiles the page's code once per process
       await measure(page, base, ids, view);
       const times: number[] = [];
@@ -218,6 +283,7 @@ async function main() {
       console.log(`${view.name.padEnd(22)} ${`${m.toFixed(0)} ms`.padStart(8)} ${`${worst.toFixed(0)} ms`.padStart(8)}  ${verdict}`);
       rows.push(`| ${view.name} | ${m.toFixed(0)} ms | ${worst.toFixed(0)} ms |`);
     }
+    if (ids.longId && (!only || only.has('Schedule (long capture)'))) rows.push(await panFigures(page, base, ids));
     console.log(`\nMarkdown:\n| view | median | worst |\n|---|---:|---:|\n${rows.join('\n')}`);
   } finally {
     await browser.close();

@@ -37,6 +37,8 @@ export const rigs = sqliteTable('rigs', {
   bitOrder: text('bit_order', { enum: ['lsb-first', 'msb-first'] }).notNull(),
   /** a request with no answer within this many milliseconds counts as unanswered */
   responseTimeoutMs: integer('response_timeout_ms').notNull().default(DEFAULT_TIMEOUT_SECONDS * 1000),
+  /** CPU clock of the rig's machines (Hz), for the fault desk's budget line: CPU cycles per octet */
+  cpuHz: integer('cpu_hz').notNull().default(4_000_000),
   createdAt: createdAt(),
   createdBy: integer('created_by').references(() => users.id, { onDelete: 'set null' }),
 });
@@ -300,6 +302,8 @@ export const faultRows = sqliteTable(
     retransmissionFrameId: integer('retransmission_frame_id'),
     retransmissionBy: text('retransmission_by', { enum: ['call', 'ns'] }),
     retransmissionSearch: text('retransmission_search', { enum: ['found', 'not-found', 'capture-ended', 'not-applicable'] }).notNull(),
+    /** JSON RaceDetail (shared/decoder/faults/races.ts) when the row shows a race signature */
+    race: text('race'),
   },
   (t) => [index('fault_rows_job_sample_idx').on(t.jobId, t.firstSample), index('fault_rows_job_cause_idx').on(t.jobId, t.cause, t.firstSample)],
 );
@@ -316,6 +320,8 @@ export const faultSummaries = sqliteTable('fault_summaries', {
   bins: text('bins').notNull(),
   framesSeen: integer('frames_seen').notNull(),
   anomaliesDropped: integer('anomalies_dropped').notNull(),
+  /** JSON RaceSummary: under-run offsets, over-run repeats, clock spread, budget line (null for runs decoded before it) */
+  races: text('races'),
 });
 
 // ---- the call layer: field maps, call runs, exchanges, recovered files ----

@@ -6,6 +6,7 @@ import { parentPort, workerData } from 'node:worker_threads';
 import Database from 'better-sqlite3';
 import { createDecoder, type Decoder } from '../../shared/decoder';
 import type { DecodeIssue } from '../../shared/decoder';
+import type { Exchange } from '../../shared/decoder/calls';
 import { createCallRun, switchToCallRun } from '../runs/call-runs';
 import { runCallStage } from '../runs/call-stage';
 import { decoderOptions } from '../../shared/decoder-options';
@@ -15,6 +16,7 @@ import { RunWriter } from '../runs/run-writer';
 import { indexSearch } from '../runs/search-index';
 import { CsvSeekTracker } from '../runs/seek/csv-seek';
 import { type SeekPoint, VcdSeekTracker } from '../runs/seek/vcd-seek';
+import { raceDeskOptions, storeRaces } from '../services/timing/fault-races';
 
 export interface DecodeWorkerData {
   dbPath: string;
@@ -72,7 +74,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     // Frames reach the writer during push(), as soon as the reader's header has set the time base,
     // so the writer asks the decoder itself rather than a copy taken between pushes.
     const writer = new RunWriter(db, data.jobId, data.captureId, () => decoder.samplePeriodSeconds ?? period);
-    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.inputs));
+    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.inputs), raceDeskOptions(db, data.inputs));
     const decoder: Decoder = createDecoder(
       { ...decoderOptions(data.inputs.capture), anomalies: faults },
       {
@@ -139,12 +141,15 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     const decoded = performance.now();
     progress.run(bytes, writer.frames, writer.events, 'indexing', data.jobId);
     heartbeat();
-    storeFaultReport(db, data.jobId, data.captureId, period, faults.report(writer.lastSample));
-    const faulted = performance.now();
     indexSearch(db, data.jobId, undefined, heartbeat);
     const indexed = performance.now();
-    const calls = await callStage(db, data, period, heartbeat);
+    // the call layer's exchanges reach the fault desk (receiver over-run symptoms) before its report is stored
+    const calls = await callStage(db, data, period, heartbeat, (e) => faults.exchange(e));
     const called = performance.now();
+    const report = faults.report(writer.lastSample);
+    storeFaultReport(db, data.jobId, data.captureId, period, report);
+    storeRaces(db, data.jobId, report);
+    const faulted = performance.now();
     const issues = decoder.issues.slice(0, 20).map(describeIssue);
     const committed = db.transaction(() => {
       const done = db
@@ -167,10 +172,10 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       decode: decoded - started - sinkRows - sinkFaults,
       rows,
       inserts: writer.insertMs,
-      faults: sinkFaults + (faulted - decoded),
-      searchIndex: indexed - faulted,
+      faults: sinkFaults + (faulted - called),
+      searchIndex: indexed - decoded,
       calls: called - indexed,
-      commit: performance.now() - called,
+      commit: performance.now() - faulted,
     };
     return { type: 'done', frames: writer.frames, events: writer.events, timings };
   } finally {
@@ -182,13 +187,13 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
  * The call-layer stage over the run's frames with the run's map and answer timeout. A failure here (a
  * stored map that no longer parses, say) fails the call run, not the decode.
  */
-async function callStage(db: Database.Database, data: DecodeWorkerData, period: number, heartbeat: () => void) {
+async function callStage(db: Database.Database, data: DecodeWorkerData, period: number, heartbeat: () => void, onExchange: (e: Exchange) => void) {
   let runId: number | null = null;
   try {
     db.prepare("update decode_jobs set stage = 'calls' where id = ? and state = 'running'").run(data.jobId);
     runId = createCallRun(db, data.captureId, data.jobId, data.inputs, 'running');
     const { map } = loadMapVersion(db, data.inputs.fieldMap.mapId, data.inputs.fieldMap.version);
-    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map, inputs: data.inputs, samplePeriod: period, pause: async () => heartbeat() });
+    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map, inputs: data.inputs, samplePeriod: period, pause: async () => heartbeat(), onExchange });
     return { runId, counts };
   } catch (err) {
     const message = err instanceof Error ? err.message : String(err);

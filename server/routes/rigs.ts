@@ -12,7 +12,7 @@ import { createRig, deleteRig, getRigDetail, listRigs, updateRig, type RigValues
 function sentKeysOnly(raw: unknown, parsed: Partial<RigValues>): Partial<RigValues> {
   const sent = raw && typeof raw === 'object' ? (raw as Record<string, unknown>) : {};
   const out: Partial<RigValues> = {};
-  for (const key of ['name', 'description', 'lineSettings', 'responseTimeoutMs'] as const) {
+  for (const key of ['name', 'description', 'lineSettings', 'responseTimeoutMs', 'cpuClockMHz'] as const) {
     if (Object.hasOwn(sent, key) && parsed[key] !== undefined) Object.assign(out, { [key]: parsed[key] });
   }
   return out;

@@ -41,6 +41,8 @@ export interface CallStageInput {
   samplePeriod: number;
   /** called between pages of frames; the in-process re-run yields to requests here */
   pause?: () => Promise<void>;
+  /** each exchange as the call layer pairs it (the decode run's fault desk takes them) */
+  onExchange?: (e: Exchange) => void;
 }
 
 /** Runs the call layer over a decode run's frames and writes the call run's rows (invisible until switched to). */
@@ -101,7 +103,10 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
   const layer = new CallLayer(
     { map: input.map, links, rts, samplePeriodSeconds: period, timeoutSeconds: input.inputs.answerTimeoutSeconds },
     {
-      exchange: (e) => pending.push(e),
+      exchange: (e) => {
+        pending.push(e);
+        input.onExchange?.(e);
+      },
       call: (cf) => {
         // damaged I frames too: an exchange lists its damaged answers by frame id
         if (cf.call || cf.damagedCall !== undefined) frameIds.set(refKey(cf.ref.link, cf.ref.seq), currentFrameId);

@@ -4,7 +4,9 @@ import { drizzle } from 'drizzle-orm/better-sqlite3';
 import { placeholders } from '../db/placeholders';
 import * as schema from '../db/schema';
 import { faultRows, faultSummaries, frames } from '../db/schema';
-import { callKeyFromFieldMap, FaultDesk, type CallKeyLookup, type FaultReport, type LineAnomaly } from '../../shared/decoder/faults';
+import type { Exchange } from '../../shared/decoder/calls';
+import { callKeyFromFieldMap, FaultDesk, type CallKeyLookup, type FaultDeskOptions, type FaultReport, type LineAnomaly } from '../../shared/decoder/faults';
+import type { ClockSpread } from '../../shared/decoder/timing';
 import type { DecodedFrame, LineEvent } from '../../shared/decoder';
 import { loadMapVersion, type RunInputs } from './inputs';
 
@@ -24,10 +26,12 @@ export class FaultRecorder {
   constructor(
     private readonly period: () => number,
     private readonly callKey?: CallKeyLookup,
+    /** race-signature options (server/services/timing/fault-races.ts) */
+    private readonly extra: Partial<FaultDeskOptions> = {},
   ) {}
 
   private ensure(): FaultDesk {
-    this.desk ??= new FaultDesk({ samplePeriodSeconds: this.period(), maxAnomalies: MAX_ANOMALIES, callKey: this.callKey });
+    this.desk ??= new FaultDesk({ ...this.extra, samplePeriodSeconds: this.period(), maxAnomalies: MAX_ANOMALIES, callKey: this.callKey });
     return this.desk;
   }
 
@@ -41,6 +45,16 @@ export class FaultRecorder {
 
   anomaly(a: LineAnomaly): void {
     this.ensure().anomaly(a);
+  }
+
+  /** the captured clock's period spread: octet timing and the budget line's measured rate */
+  clockSpread(spread: ClockSpread): void {
+    this.ensure().clockSpread(spread);
+  }
+
+  /** the call layer's exchanges: receiver over-run symptoms */
+  exchange(e: Exchange): void {
+    this.desk?.exchange(e);
   }
 
   report(lastSample: number): FaultReport | null {

@@ -23,6 +23,8 @@ export interface RunInputs {
   fieldMap: MapRef;
   /** the rig's answer timeout: a request waits this long before it counts as unanswered */
   answerTimeoutSeconds: number;
+  /** the rig's CPU clock (Hz) for the budget line of timing races; snapshots older than the setting lack it */
+  cpuHz?: number;
 }
 
 export interface ResolvedMap extends MapRef {

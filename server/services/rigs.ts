@@ -9,6 +9,7 @@ export interface RigValues {
   description: string;
   lineSettings: LineSettings;
   responseTimeoutMs: number;
+  cpuClockMHz: number;
 }
 
 export const rigExists = (db: Db, rigId: number): boolean =>
@@ -33,6 +34,7 @@ const summaryColumns = {
   clockEdge: rigs.clockEdge,
   bitOrder: rigs.bitOrder,
   responseTimeoutMs: rigs.responseTimeoutMs,
+  cpuHz: rigs.cpuHz,
   createdAt: rigs.createdAt,
   myRole: memberships.role,
   stationCount,
@@ -48,6 +50,7 @@ function toSummary(r: {
   clockEdge: LineSettings['clockEdge'];
   bitOrder: LineSettings['bitOrder'];
   responseTimeoutMs: number;
+  cpuHz: number;
   createdAt: Date;
   myRole: Role;
   stationCount: number;
@@ -59,6 +62,7 @@ function toSummary(r: {
     description: r.description,
     lineSettings: { bitRate: r.bitRate, encoding: r.encoding, clockEdge: r.clockEdge, bitOrder: r.bitOrder },
     responseTimeoutMs: r.responseTimeoutMs,
+    cpuClockMHz: r.cpuHz / 1e6,
     myRole: r.myRole,
     stationCount: Number(r.stationCount),
     memberCount: Number(r.memberCount),
@@ -105,7 +109,7 @@ export function createRig(db: Db, userId: number, input: RigValues): RigDetail {
   const rigId = db.transaction((tx) => {
     const rig = tx
       .insert(rigs)
-      .values({ name: input.name, description: input.description, ...input.lineSettings, responseTimeoutMs: input.responseTimeoutMs, createdBy: userId })
+      .values({ name: input.name, description: input.description, ...input.lineSettings, responseTimeoutMs: input.responseTimeoutMs, cpuHz: Math.round(input.cpuClockMHz * 1e6), createdBy: userId })
       .returning({ id: rigs.id })
       .get();
     tx.insert(memberships).values({ rigId: rig.id, userId, role: 'owner' }).run();
@@ -121,6 +125,7 @@ export function updateRig(db: Db, rigId: number, userId: number, patch: Partial<
   if (patch.description !== undefined) set.description = patch.description;
   if (patch.lineSettings !== undefined) Object.assign(set, patch.lineSettings);
   if (patch.responseTimeoutMs !== undefined) set.responseTimeoutMs = patch.responseTimeoutMs;
+  if (patch.cpuClockMHz !== undefined) set.cpuHz = Math.round(patch.cpuClockMHz * 1e6);
   if (Object.keys(set).length > 0) db.update(rigs).set(set).where(eq(rigs.id, rigId)).run();
   return getRigDetail(db, rigId, userId);
 }

@@ -1,4 +1,5 @@
 import { z } from 'zod';
+import type { RaceDetail, RaceSummary } from '../decoder/faults';
 import { frameStatusSchema } from './captures';
 
 // The fault desk of a capture (GET …/captures/:captureId/faults): damaged frames grouped by cause,
@@ -68,6 +69,8 @@ export interface FaultFrameRow {
   /** how the retransmission was found: same call-layer key, or the same N(S) */
   retransmissionBy: 'call' | 'ns' | null;
   retransmissionSearch: 'found' | 'not-found' | 'capture-ended' | 'not-applicable';
+  /** what shows a race signature on this row (under-run offset, over-run symptom, octet timing), else null */
+  race: RaceDetail | null;
 }
 
 export interface FaultBinsView {
@@ -97,4 +100,8 @@ export interface FaultDeskView {
   framesSeen: number;
   anomaliesDropped: number;
   samplePeriod: number;
+  /** the capture-wide race signatures with the budget line; null for runs decoded before they were recorded */
+  races: RaceSummary | null;
+  /** title and explanation of each race cause, as the desk shows them */
+  raceWords: Record<'tx-underrun' | 'underrun-fragment' | 'rx-overrun' | 'octet-timing', { title: string; explanation: string }>;
 }

@@ -7,3 +7,4 @@ export * from './notes';
 export * from './faults';
 export * from './discovery';
 export * from './decoded-upload';
+export * from './timing';

@@ -27,12 +27,20 @@ const rigFields = {
     .int('Use a whole number of milliseconds')
     .min(1, 'At least 1 ms')
     .max(60_000, 'At most 60 000 ms'),
+  /** the CPU clock of the rig's machines, for the budget line (CPU cycles per octet) */
+  cpuClockMHz: z.coerce
+    .number({ error: 'Enter a clock rate in MHz' })
+    .min(0.1, 'At least 0.1 MHz')
+    .max(1000, 'At most 1000 MHz')
+    .refine((v) => Math.abs(v * 1000 - Math.round(v * 1000)) < 1e-6, 'Use at most three decimals (kHz)'),
 };
 
 export const rigInputSchema = z.object({
   ...rigFields,
   description: rigFields.description.default(''),
   responseTimeoutMs: rigFields.responseTimeoutMs.default(DEFAULT_TIMEOUT_SECONDS * 1000),
+  // 4 MHz: the clock an 800 kbit/s controller divides by 5 (common practice for machines of the period)
+  cpuClockMHz: rigFields.cpuClockMHz.default(4),
 });
 export type RigInput = z.input<typeof rigInputSchema>;
 
@@ -71,6 +79,8 @@ export interface RigSummary {
   lineSettings: LineSettings;
   /** a request unanswered this long counts as unanswered in exchanges */
   responseTimeoutMs: number;
+  /** CPU clock of the rig's machines, MHz (budget line: CPU cycles per octet) */
+  cpuClockMHz: number;
   myRole: z.infer<typeof roleSchema>;
   stationCount: number;
   memberCount: number;

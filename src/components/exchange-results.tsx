@@ -2,9 +2,9 @@ import { Link } from 'react-router';
 import type { ExchangeLockConflict, ExchangeRow, LockConflictOutcome } from '../../shared/schemas';
 import { formatAddress } from '../lib/format';
 
-/** Round trips with this exchange chosen: every station, so an exchange of another station shows too. */
+/** The schedule with this exchange chosen: every station, so an exchange of another station shows too. */
 export function exchangeHref(captureBase: string, exchangeId: number): string {
-  return `${captureBase}/round-trips?${new URLSearchParams({ station: 'all', ex: String(exchangeId) })}`;
+  return `${captureBase}/schedule?${new URLSearchParams({ station: 'all', ex: String(exchangeId) })}`;
 }
 
 export const lockOutcomeWords: Record<LockConflictOutcome, string> = {

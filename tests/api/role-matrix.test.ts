@@ -84,6 +84,9 @@ const MATRIX: Record<string, Row> = {
   'GET /api/rigs/:rigId/captures/:captureId/field-map': MEMBER(200),
   'PUT /api/rigs/:rigId/captures/:captureId/field-map': ANALYST(202),
   'GET /api/rigs/:rigId/captures/:captureId/faults': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/timing/service': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/timing/schedule': MEMBER(200),
+  'GET /api/rigs/:rigId/captures/:captureId/timing/exchanges/:exchangeId': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/exchanges': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/exchanges/stats': MEMBER(200),
   'GET /api/rigs/:rigId/captures/:captureId/exchanges/export.csv': MEMBER(200),
@@ -133,6 +136,7 @@ const BODIES: Record<string, object> = {
 const QUERIES: Record<string, string> = {
   'GET /api/rigs/:rigId/captures/:captureId/timeline/at': '?t=0',
   'GET /api/rigs/:rigId/compare': '?a=:captureId&b=:captureId',
+  'GET /api/rigs/:rigId/captures/:captureId/timing/schedule': '?from=0&to=1&width=400',
 };
 
 /** the upload is multipart, not JSON */
@@ -185,11 +189,17 @@ async function buildWorld(): Promise<World> {
   db.insert(passwordResets).values({ userId: extraId, tokenHash: hashToken(RESET_TOKEN), expiresAt: new Date(Date.now() + hour) }).run();
   const { captureId, frameId, busyCaptureId } = seedDecodedCapture(app, rigA, data.dir, ownerId);
   const { mapId, fileId } = seedCallLayer(app, rigA, captureId, ownerId);
+  const callRunId = app.db.sqlite.prepare('select current_run_id from capture_call_layers where capture_id = ?').pluck().get(captureId) as number;
+  const exchangeId = Number(
+    app.db.sqlite
+      .prepare("insert into exchanges (run_id, capture_id, station, request_frame_id, retry_frame_ids, response_frame_ids, t_request, t_request_end, outcome, retries) values (?, ?, 33, ?, '[]', '[]', 0, 0.001, 'unanswered', 0)")
+      .run(callRunId, captureId, frameId).lastInsertRowid,
+  );
   const noteId = db.insert(notes).values({ rigId: rigA, captureId, target: 'capture', body: "The analyst's note", authorId: analystId }).returning().get().id;
   const layout = CPM_ENVELOPE_DOCUMENT.layouts[0];
   const fieldPath = `${layout.id}.${layout.fields[0].id}`;
   const fieldNoteId = db.insert(notes).values({ rigId: rigA, target: 'field', fieldMapId: mapId, fieldPath, body: "The analyst's field note", authorId: analystId }).returning().get().id;
-  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId, captureId, frameId, mapId, fileId, noteId, fieldNoteId, fieldPath }, busyCaptureId, cleanup: data.cleanup };
+  return { app, params: { rigId: rigA, stationId, userId: extraId, invitationId, captureId, frameId, mapId, fileId, noteId, fieldNoteId, fieldPath, exchangeId }, busyCaptureId, cleanup: data.cleanup };
 }
 
 function fillPath(route: string, params: World['params']): string {

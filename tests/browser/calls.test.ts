@@ -44,52 +44,47 @@ async function openClockedCapture(page: Page): Promise<{ rigId: number; clocked:
 }
 
 describe('call layer views in the browser', () => {
-  it('draws the registry desk ladder with round-trip times, opens an arrow in the inspector and an exchange in the timeline, and lists the unanswered request first', async () => {
+  it('draws the registry desk on the schedule with round-trip times, opens an exchange’s frame in the inspector and in the timeline, and lists the unanswered request first', async () => {
     const shot = stepShots('calls-round-trips');
     const { context, page } = await newPage(browser);
     try {
       await openClockedCapture(page);
-      await page.getByRole('link', { name: 'Round trips', exact: true }).click();
-      const station = page.getByLabel('Station');
+      await page.getByRole('link', { name: 'Schedule', exact: true }).click();
+      const station = page.getByLabel('Station', { exact: true });
+      await station.selectOption({ label: await station.locator('option', { hasText: 'Registry desk' }).innerText() });
       await expect.poll(async () => (await station.locator('option:checked').innerText()).trim()).toMatch(/^Registry desk \(0x21\)/);
-
-      const ladder = page.getByRole('group', { name: /^Ladder of \d+ exchanges$/ });
-      await ladder.waitFor();
-      const answers = ladder.getByRole('link', { name: /^Answer to .*RTT \d/ });
-      expect(await answers.count()).toBeGreaterThan(5);
-      // every answered arrow says its round trip in a unit a person reads
-      for (const label of (await answers.allTextContents()).slice(0, 5)) expect(label).toMatch(/RTT \d+(\.\d+)? (µs|ms)/);
+      await page.locator('[data-drawn]:not([data-drawn="0"])').waitFor();
       const stats = page.getByLabel('Round-trip statistics', { exact: true });
       await expect.poll(() => stats.innerText(), { timeout: 15_000 }).toMatch(/Median RTT\s*\d/);
       await page.getByRole('img', { name: /^Round-trip times of \d+ answered exchanges/ }).waitFor();
-      await shot(page, 'registry-desk-ladder');
+      await shot(page, 'registry-desk-schedule');
 
-      // an arrow is a way into its frame
-      await ladder.getByRole('link', { name: /^Request / }).first().click();
+      // an exchange opens with its frames: a way into the inspector
+      await page.getByTestId('exchange-row').first().getByRole('button', { name: 'schedule' }).click();
+      const panel = page.getByTestId('exchange-panel');
+      await panel.getByRole('link', { name: /^Request · frame \d+$/ }).click();
       await page.waitForURL(/\/frames\/\d+$/);
       await page.getByTestId('hex-view').waitFor();
       await page.goBack();
-      await ladder.waitFor();
+      await page.getByTestId('schedule-canvas').waitFor();
 
-      // and an exchange is a way into the timeline, filtered to its station and time
-      await ladder.getByRole('link', { name: /in the timeline$/ }).first().click();
+      // and into the timeline, filtered to its station and time
+      await page.getByTestId('exchange-row').first().getByRole('link', { name: 'timeline' }).click();
       await page.waitForURL(/\/timeline\?/);
       const search = new URL(page.url()).searchParams;
       expect(search.get('station')).toBe(String(0x21));
       expect(Number(search.get('to'))).toBeGreaterThan(Number(search.get('from')));
       await page.getByRole('grid', { name: 'Frames and line events' }).locator('[data-frame-id]').first().waitFor();
       await page.goBack();
-      await ladder.waitFor();
+      await page.getByTestId('schedule-canvas').waitFor();
 
       // the choir office's last request is never answered: "Unanswered first" puts it on top
       await station.selectOption({ label: await station.locator('option', { hasText: 'Choir office' }).innerText() });
       await page.getByRole('radio', { name: 'Unanswered first' }).click();
       await expect.poll(() => new URL(page.url()).searchParams.get('order')).toBe('unanswered');
-      // the list re-sorts after the station's exchanges arrive: wait for it rather than read it once
       const first = page.getByTestId('exchange-row').first();
       await expect.poll(() => first.innerText(), { timeout: 15_000 }).toContain('unanswered');
       await expect.poll(() => first.innerText(), { timeout: 15_000 }).toContain('ANTHEMS.TXT');
-      await ladder.getByText('no answer within the timeout').first().waitFor();
       await shot(page, 'choir-office-unanswered-first');
 
       await page.getByRole('radio', { name: 'Slowest first' }).click();
@@ -102,13 +97,11 @@ describe('call layer views in the browser', () => {
       const descending = (xs: number[]) => xs.length > 1 && xs.every((x, i) => i === 0 || x <= xs[i - 1]);
       await expect.poll(async () => descending(await rttSeconds()), { timeout: 15_000 }).toBe(true);
 
-      // all stations: a lane each beside the server's, and a table of their figures
+      // all stations: a lane each and a table of their service figures
       await station.selectOption('all');
-      await page.getByRole('table', { name: 'Round-trip statistics per station' }).waitFor();
-      await page.getByRole('group', { name: 'Ladder of 24 exchanges' }).waitFor(); // one ladder page of the 38
-      const lanes = await ladder.locator('text').allTextContents();
-      for (const name of ['Registry desk', 'Treasurer desk', 'Choir office', 'Server']) expect(lanes).toContain(name);
-      expect(await ladder.getByRole('link', { name: /^Request / }).count()).toBe(24);
+      await page.getByRole('table', { name: 'Service per station' }).waitFor();
+      const lanes = await page.getByTestId('schedule-lane').allTextContents();
+      for (const name of ['Registry desk', 'Treasurer desk', 'Choir office']) expect(lanes.some((l) => l.includes(name))).toBe(true);
       await shot(page, 'all-stations');
     } finally {
       await context.close();

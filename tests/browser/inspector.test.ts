@@ -22,12 +22,6 @@ afterAll(async () => {
   if (dir) rmSync(dir, { recursive: true, force: true });
 });
 
-/** true when the element's box lies inside the window */
-const inView = (page: Page, selector: string) =>
-  page.locator(selector).evaluate((el) => {
-    const r = el.getBoundingClientRect();
-    return r.top >= 0 && r.bottom <= window.innerHeight && r.height > 0;
-  });
 
 /** The waveform's lane labels, band labels and axis ends, as drawn. */
 async function waveformTexts(page: Page): Promise<string[]> {
@@ -77,13 +71,13 @@ describe('the frame inspector', () => {
       await exchange.getByText('answer (this frame)').waitFor();
       await shot(page, 'answer');
 
-      // and the whole exchange in Round trips, drawn in view and marked
-      await exchange.getByRole('link', { name: 'Open the exchange in Round trips →' }).click();
-      await page.waitForURL(/\/round-trips\?/);
+      // and the whole exchange on the schedule, brought into view, selected and opened
+      await exchange.getByRole('link', { name: 'Open the exchange in the schedule →' }).click();
+      await page.waitForURL(/\/schedule\?/);
       expect(new URL(page.url()).searchParams.get('ex')).toBe(String(boot.id));
-      await page.locator(`[data-exchange="${boot.id}"]`).waitFor();
-      await expect.poll(() => inView(page, `[data-exchange="${boot.id}"]`)).toBe(true);
-      await shot(page, 'in-round-trips');
+      await page.getByTestId('exchange-panel').waitFor();
+      await expect.poll(() => page.getByTestId('schedule-canvas').locator('..').getAttribute('data-selected-x')).not.toBeNull();
+      await shot(page, 'in-schedule');
     } finally {
       await context.close();
     }

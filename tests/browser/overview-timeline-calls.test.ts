@@ -41,7 +41,7 @@ async function waitForClocked(page: Page): Promise<{ rigId: number; captureId: n
 }
 
 describe('exchanges on the overview and in the timeline', () => {
-  it('charts each station’s turnaround on the overview, marks a request frame with its call and round trip in the timeline, and opens that exchange in Round trips', async () => {
+  it('charts each station’s turnaround on the overview, marks a request frame with its call and round trip in the timeline, and opens that exchange on the schedule', async () => {
     const shot = stepShots('overview-timeline-calls');
     const { context, page } = await newPage(browser);
     try {
@@ -70,7 +70,7 @@ describe('exchanges on the overview and in the timeline', () => {
       // timeline: a request frame carries its call name and round trip, from the exchange it opens
       await page.getByRole('navigation', { name: 'Capture views' }).getByRole('link', { name: 'Timeline', exact: true }).click();
       const grid = page.getByRole('grid', { name: 'Frames and line events' });
-      const marker = grid.getByRole('link', { name: /^request: .+ · \d+(\.\d+)? (µs|ms), open in Round trips$/ }).first();
+      const marker = grid.getByRole('link', { name: /^request: .+ · \d+(\.\d+)? (µs|ms), open in the schedule$/ }).first();
       await marker.waitFor();
       const exchangeId = Number(await marker.getAttribute('data-exchange-id'));
       const frameId = Number(await marker.locator('xpath=ancestor::*[@data-frame-id]').getAttribute('data-frame-id'));
@@ -92,16 +92,13 @@ describe('exchanges on the overview and in the timeline', () => {
       await answer.waitFor();
       await grid.screenshot({ path: join(artifactsDir, '02b-timeline-request-and-answer.png') });
 
-      // the marker opens Round trips with that exchange highlighted in the ladder
+      // the marker opens the schedule with that exchange in view, selected and opened
       await request.click();
-      await page.waitForURL(new RegExp(`/round-trips\\?.*ex=${exchangeId}`));
-      const ladder = page.getByRole('group', { name: /^Ladder of \d+ exchanges$/ });
-      await ladder.waitFor();
-      // the selected exchange's band is the first thing drawn in its group, and only it has one
-      await ladder.locator(`g[data-exchange="${exchangeId}"] > rect:first-child`).waitFor();
-      expect(await ladder.locator('g[data-exchange] > rect:first-child').count()).toBe(1);
+      await page.waitForURL(new RegExp(`/schedule\\?.*ex=${exchangeId}`));
+      await page.getByTestId('exchange-panel').waitFor();
+      await expect.poll(() => page.getByTestId('schedule-canvas').locator('..').getAttribute('data-selected-x')).not.toBeNull();
       expect(new URL(page.url()).searchParams.get('station')).toBe(String(exchange.station.address));
-      await shot(page, 'round-trips-highlighted');
+      await shot(page, 'schedule-highlighted');
     } finally {
       await context.close();
     }

@@ -1,4 +1,6 @@
-import { RACE_CAUSE_WORDS } from '../../../shared/decoder/faults';
+import { describeRace, RACE_CAUSE_WORDS } from '../../../shared/decoder/faults';
+import type { RaceDetail } from '../../../shared/decoder/faults';
+import type { OctetBudget } from '../../../shared/decoder/timing';
 import type { DamageCauseName, FaultAnomaly, FaultFrameRow } from '../../../shared/schemas';
 
 // One sentence per fault row, in the words the fault desk shows.
@@ -26,6 +28,10 @@ export interface FaultFacts {
   retransmissionSeq: number | null;
   retransmissionBy: 'call' | 'ns' | null;
   retransmissionSearch: FaultFrameRow['retransmissionSearch'];
+  /** what shows the race signature, when the row has one */
+  race?: RaceDetail | null;
+  /** the run's budget line, for the time into the frame where an under-run struck */
+  budget?: OctetBudget | null;
 }
 
 export function describeFault(f: FaultFacts): string {
@@ -56,9 +62,12 @@ export function describeFault(f: FaultFacts): string {
     case 'underrun-fragment':
     case 'rx-overrun':
     case 'octet-timing':
-      parts.push(`${RACE_CAUSE_WORDS[f.cause].title}: ${RACE_CAUSE_WORDS[f.cause].explanation}`);
+      // the row's own evidence when stored; the cause's general explanation for runs decoded before it was
+      parts.push(`${RACE_CAUSE_WORDS[f.cause].title}: ${f.race ? describeRace(f.race, f.budget) : RACE_CAUSE_WORDS[f.cause].explanation}`);
       break;
   }
+  // octet timing found on a frame with another cause (a bad FCS with a stretched clock period)
+  if (f.race?.kind === 'octet-timing' && f.cause !== 'octet-timing') parts.push(`Octet timing: ${describeRace(f.race, f.budget)}`);
   if (f.anomalies.length > 0) parts.push(`On the line: ${f.anomalies.slice(0, 3).map((a) => ANOMALY_WORDS[a.kind](a)).join('; ')}${f.anomalies.length > 3 ? `; ${f.anomalies.length - 3} more` : ''}.`);
   if (f.retransmissionSearch === 'found') parts.push(`Sent again as frame ${f.retransmissionSeq} (${f.retransmissionBy === 'call' ? 'same call and tag' : 'same N(S)'}).`);
   else if (f.retransmissionSearch === 'not-found') parts.push('Not sent again in the frames that followed.');

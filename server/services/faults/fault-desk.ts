@@ -1,5 +1,5 @@
 import type { DamageCauseName, FaultAnomaly, FaultDeskView, FaultFrameRow, FaultQuery } from '../../../shared/schemas';
-import { DAMAGE_CAUSES, ANOMALY_KINDS, type FaultBins, type LineAnomaly } from '../../../shared/decoder/faults';
+import { DAMAGE_CAUSES, ANOMALY_KINDS, RACE_CAUSE_WORDS, type FaultBins, type LineAnomaly, type RaceDetail, type RaceSummary } from '../../../shared/decoder/faults';
 import type { CaptureDeps } from '../captures/deps';
 import { currentJob, type CaptureRow } from '../captures/rows';
 import { describeFault } from './diagnosis';
@@ -24,6 +24,7 @@ interface StoredRow {
   fcs_received: number | null;
   fcs_computed: number | null;
   stuffed: string | null;
+  race: string | null;
 }
 
 interface StoredSummary {
@@ -34,6 +35,7 @@ interface StoredSummary {
   bins: string;
   frames_seen: number;
   anomalies_dropped: number;
+  races: string | null;
 }
 
 /** The fault desk of the capture's visible run: one page of rows of the chosen cause, plus the whole run's groups and bins. */
@@ -54,12 +56,17 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
     framesSeen: 0,
     anomaliesDropped: 0,
     samplePeriod: period,
+    races: null,
+    raceWords: RACE_CAUSE_WORDS,
   };
   if (!job) return empty;
   const summary = deps.sqlite.prepare('select * from fault_summaries where job_id = ?').get(job.id) as StoredSummary | undefined;
   if (!summary) return empty;
 
-  const groups = JSON.parse(summary.groups) as FaultDeskView['groups'];
+  const races = summary.races ? (JSON.parse(summary.races) as RaceSummary) : null;
+  const storedGroups = JSON.parse(summary.groups) as FaultDeskView['groups'];
+  // runs decoded before the race causes were stored list only the causes of their day
+  const groups = DAMAGE_CAUSES.map((cause) => storedGroups.find((g) => g.cause === cause) ?? { cause, count: 0 });
   const total = q.cause ? (groups.find((g) => g.cause === q.cause)?.count ?? 0) : groups.reduce((n, g) => n + g.count, 0);
   const stored = deps.sqlite
     .prepare(
@@ -78,6 +85,7 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
     const status =
       r.status ?? (r.cause === 'abort' || r.cause === 'short' || r.cause === 'residue' ? r.cause : r.cause === 'bad-fcs-explained' || r.cause === 'bad-fcs-unexplained' ? 'bad-fcs' : 'ok');
     const stuffedBefore = r.suspect_line_bit !== null && r.flipped_bit !== null ? r.suspect_line_bit - r.flipped_bit : 0;
+    const race = r.race ? (JSON.parse(r.race) as RaceDetail) : null;
     return {
       frameId: r.frame_id,
       link: r.link,
@@ -98,6 +106,8 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
         retransmissionSeq: r.retransmission_seq,
         retransmissionBy: r.retransmission_by,
         retransmissionSearch: r.retransmission_search,
+        race,
+        budget: races?.budget ?? null,
       }),
       fcsReceived: r.fcs_received,
       fcsComputed: r.fcs_computed,
@@ -109,6 +119,7 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
       retransmissionFrameId: r.retransmission_frame_id,
       retransmissionBy: r.retransmission_by,
       retransmissionSearch: r.retransmission_search,
+      race,
     };
   });
   const bins = JSON.parse(summary.bins) as FaultBins | null;
@@ -132,5 +143,7 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
     framesSeen: summary.frames_seen,
     anomaliesDropped: summary.anomalies_dropped,
     samplePeriod: period,
+    races,
+    raceWords: RACE_CAUSE_WORDS,
   };
 }

@@ -1,31 +1,32 @@
 import { useEffect, useRef, type ReactNode } from 'react';
-import { useParams, type LoaderFunctionArgs, type RouteObject, type ShouldRevalidateFunctionArgs } from 'react-router';
+import { Navigate, useLocation, useParams, type LoaderFunctionArgs, type RouteObject, type ShouldRevalidateFunctionArgs } from 'react-router';
 import { idParam } from '../../../shared/schemas';
 import { ButtonLink } from '../../components/button';
 import { Card, CardTitle } from '../../components/card';
 import { ErrorNotice } from '../../components/notice';
 import { capturesQueryOptions, useCapture, useCaptures } from '../../features/captures/api/get-captures';
-import { rigQueryOptions, useRig } from '../../features/rigs/api/get-rig';
+import { useRig } from '../../features/rigs/api/get-rig';
 import { comparisonKeys, comparisonQueryOptions } from '../../features/compare/api/get-comparison';
 import { CompareView } from '../../features/compare/components/compare-view';
 import { recoveredFileKeys } from '../../features/recovered-files/api/file-keys';
 import { recoveredFilesQueryOptions } from '../../features/recovered-files/api/get-files';
 import { RecoveredFileList } from '../../features/recovered-files/components/recovered-file-list';
-import { exchangeKeys } from '../../features/round-trips/api/exchange-keys';
+import { exchangeKeys } from '../../features/schedule/api/exchange-keys';
 import { callLayerQueryOptions, useCallLayer } from '../../lib/call-layer';
-import { exchangeStatsQueryOptions } from '../../features/round-trips/api/get-exchange-stats';
-import { exchangeExportUrl, exchangesQueryOptions, useExchanges } from '../../features/round-trips/api/get-exchanges';
+import { exchangeStatsQueryOptions } from '../../features/schedule/api/get-exchange-stats';
+import { exchangeExportUrl, useExchanges } from '../../features/schedule/api/get-exchanges';
 import { ExportLinks } from '../../components/export-links';
 import { timelineKeys } from '../../features/timeline/api/timeline-keys';
-import { timelineSearchFor } from '../../features/round-trips/components/exchange-order';
+import { timelineSearchFor } from '../../features/schedule/components/exchange-order';
 import { exchangeHref } from '../../components/exchange-results';
-import { ExchangeTable } from '../../features/round-trips/components/exchange-table';
-import { RoundTripsView } from '../../features/round-trips/components/round-trips-view';
+import { ExchangeTable } from '../../features/schedule/components/exchange-table';
+import { serviceQueryOptions } from '../../features/schedule/api/get-service';
+import { ScheduleView } from '../../features/schedule/components/schedule-view';
 import { queryClient } from '../query-client';
 import { whenSignedIn } from './session-loaders';
 import { captureScope } from '../../lib/scope';
 
-// The call-layer views of a capture (round trips, recovered files, compare), mounted under the
+// The call-layer views of a capture (schedule with round trips, recovered files, compare), mounted under the
 // capture route by router.tsx. Their view state (station, order, open file, B capture) lives in
 // the search params, so changing it must not rerun loaders.
 
@@ -103,14 +104,20 @@ function CallLayerGate({ children }: { children: ReactNode }) {
   );
 }
 
-function RoundTripsRoute() {
+function ScheduleRoute() {
   const { rigId, captureId } = useIds();
   const rig = useRig(rigId);
   return (
     <CallLayerGate>
-      <RoundTripsView rig={rig} captureId={captureId} />
+      <ScheduleView rig={rig} captureId={captureId} />
     </CallLayerGate>
   );
+}
+
+/** Links made before the schedule replaced the round-trips page keep working. */
+function RoundTripsRedirect() {
+  const { search } = useLocation();
+  return <Navigate to={`../schedule${search}`} replace relative="path" />;
 }
 
 function FileExchanges({ rigId, captureId, fileId }: { rigId: number; captureId: number; fileId: number }) {
@@ -156,31 +163,19 @@ function CompareRoute() {
 }
 
 /**
- * Round trips opens on one station: the one in the link, else the first that has exchanges. The
- * statistics say which that is, so the loader guesses it from the rig's roster (the stations by
- * address, as the statistics list them) and reads its exchanges beside the statistics instead of
- * after them; a wrong guess only costs the view one more request.
+ * The schedule paints once its service statistics are in (they give the time range); the exchange
+ * figures beside it start loading at the same moment but are not waited for: on a long capture
+ * they take longer than the schedule itself.
  */
-const roundTripsLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs) => {
-  const got = ids(params);
-  if (!got) return;
-  const { rigId, captureId } = got;
-  const param = new URL(request.url).searchParams.get('station');
-  const rig = await queryClient.ensureQueryData(rigQueryOptions(rigId));
-  const guess = [...rig.stations].filter((s) => s.role !== 'server').sort((a, b) => a.address - b.address)[0]?.address;
-  const station = param === 'all' ? null : param !== null && /^\d+$/.test(param) ? Number(param) : (guess ?? null);
-  const stations = station === null ? [] : [station];
-  await Promise.all([
-    queryClient.prefetchQuery(callLayerQueryOptions(rigId, captureId)),
-    queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, [])),
-    station !== null || param === 'all' ? queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, stations)) : null,
-    station !== null || param === 'all' ? queryClient.prefetchQuery(exchangesQueryOptions(rigId, captureId, { station: stations })) : null,
-  ]);
+const scheduleLoader = prefetch((rigId, captureId) => {
+  void queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, []));
+  return Promise.all([queryClient.prefetchQuery(callLayerQueryOptions(rigId, captureId)), queryClient.prefetchQuery(serviceQueryOptions(rigId, captureId))]);
 });
 
 /** Children of the capture route (`rigs/:rigId/captures/:captureId`). */
 export const callRoutes: RouteObject[] = [
-  { path: 'round-trips', loader: roundTripsLoader, element: <RoundTripsRoute />, shouldRevalidate: pathOnly },
+  { path: 'schedule', loader: scheduleLoader, element: <ScheduleRoute />, shouldRevalidate: pathOnly },
+  { path: 'round-trips', element: <RoundTripsRedirect /> },
   {
     path: 'files',
     loader: prefetch((rigId, captureId) =>

@@ -16,6 +16,7 @@ import { canCapture } from '../../lib/permissions';
 import { UploadPanel } from '../../features/captures/components/upload-panel';
 import { overviewQueryOptions } from '../../lib/overview';
 import { CaptureOverview } from '../../features/overview/components/capture-overview';
+import { TimingCard } from '../../features/schedule/components/timing-card';
 import { discoveryQueryOptions } from '../../components/discovery/get-discovery';
 import { DecodeDiagnosis } from '../../components/discovery/decode-diagnosis';
 import { CaptureMapChoice } from '../../features/field-maps/components/capture-map-choice';
@@ -175,7 +176,7 @@ export function OverviewRoute() {
   return (
     <div className="space-y-5">
       <DecodeDiagnosis rig={rig} capture={capture} />
-      <CaptureOverview rigId={rigId} captureId={captureId} />
+      <CaptureOverview rigId={rigId} captureId={captureId} timing={<TimingCard rigId={rigId} captureId={captureId} />} />
       <CaptureMapChoice rig={rig} captureId={captureId} />
     </div>
   );

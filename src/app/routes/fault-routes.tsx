@@ -4,7 +4,7 @@ import { ButtonLink } from '../../components/button';
 import { Card, CardTitle } from '../../components/card';
 import { ErrorNotice } from '../../components/notice';
 import { useCapture } from '../../features/captures/api/get-captures';
-import { faultsQueryOptions, useFaults } from '../../features/fault-desk/api/get-faults';
+import { faultsQueryOptions, useFaults } from '../../lib/faults';
 import { FaultDeskView } from '../../features/fault-desk/components/fault-desk-view';
 import { queryClient } from '../query-client';
 import { whenSignedIn } from './session-loaders';
@@ -68,7 +68,7 @@ function FaultDeskRoute() {
     const s = q.toString();
     return `${base}/faults${s ? `?${s}` : ''}`;
   };
-  return <FaultDeskView desk={desk.data} cause={cause} hrefFor={hrefFor} frameHref={(id) => `${base}/frames/${id}`} />;
+  return <FaultDeskView desk={desk.data} cause={cause} hrefFor={hrefFor} frameHref={(id) => `${base}/frames/${id}`} rigSettingsHref={`/rigs/${rigId}/settings`} />;
 }
 
 export const faultRoutes: RouteObject[] = [{ path: 'faults', loader: faultsLoader, element: <FaultDeskRoute />, shouldRevalidate: pathOnly }];

@@ -4,6 +4,7 @@ export const DEMO_RIG = 'Wrenfield Parish Office, 1983';
 export const CLOCKED = 'wrenfield-session-clocked.raw';
 export const REPLACEMENT = 'wrenfield-session-replacement.raw';
 export const REGISTRY_VCD = 'wrenfield-registry-boot.vcd';
+export const RACES = 'wrenfield-evening-races.raw';
 
 export interface DemoIds {
   rigId: number;

@@ -26,8 +26,8 @@ export function CaptureNav({ rigId, capture }: { rigId: number; capture: Capture
         <NavLink to={`${base}/faults`} className={tab}>
           Fault desk
         </NavLink>
-        <NavLink to={`${base}/round-trips`} className={tab}>
-          Round trips
+        <NavLink to={`${base}/schedule`} className={tab}>
+          Schedule
         </NavLink>
         <NavLink to={`${base}/files`} className={tab}>
           Recovered files

@@ -166,10 +166,10 @@ function CompareTableRow({ row, rig, result }: { row: CompareRow; rig: RigDetail
         <p className="text-xs text-muted">{station}</p>
       </td>
       <td className="py-2 pr-3">
-        <Side ex={row.a} href={row.a ? `${captureScope(rig.id, result.a.captureId).page}/round-trips?station=${row.station.address}&ex=${row.a.id}` : null} differs={row.kind === 'answered-differently'} />
+        <Side ex={row.a} href={row.a ? `${captureScope(rig.id, result.a.captureId).page}/schedule?station=${row.station.address}&ex=${row.a.id}` : null} differs={row.kind === 'answered-differently'} />
       </td>
       <td className="py-2 pr-3">
-        <Side ex={row.b} href={row.b ? `${captureScope(rig.id, result.b.captureId).page}/round-trips?station=${row.station.address}&ex=${row.b.id}` : null} differs={row.kind === 'answered-differently'} />
+        <Side ex={row.b} href={row.b ? `${captureScope(rig.id, result.b.captureId).page}/schedule?station=${row.station.address}&ex=${row.b.id}` : null} differs={row.kind === 'answered-differently'} />
       </td>
       <td className="py-2 text-xs">
         <p className="font-medium">{kindText(row)}</p>

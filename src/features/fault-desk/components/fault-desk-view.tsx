@@ -6,16 +6,18 @@ import { anomalyLabels, causeLabels } from './cause-labels';
 import { FaultGroups } from './fault-groups';
 import { FaultStrip } from './fault-strip';
 import { FaultTable } from './fault-table';
+import { RacePanel } from './race-panel';
 
 interface Props {
   desk: Desk;
   cause: DamageCauseName | null;
   hrefFor: (cause: DamageCauseName | null, offset?: number) => string;
   frameHref: (frameId: number) => string;
+  rigSettingsHref: string;
 }
 
 /** Screen 7: every damaged frame grouped by cause, damage over time, and the rows to open. */
-export function FaultDeskView({ desk, cause, hrefFor, frameHref }: Props) {
+export function FaultDeskView({ desk, cause, hrefFor, frameHref, rigSettingsHref }: Props) {
   const from = desk.total === 0 ? 0 : desk.offset + 1;
   const to = desk.offset + desk.rows.length;
   return (
@@ -24,6 +26,7 @@ export function FaultDeskView({ desk, cause, hrefFor, frameHref }: Props) {
         <CardTitle aside={<span className="text-xs text-muted">{desk.framesSeen} frames decoded</span>}>Damage by cause</CardTitle>
         <FaultGroups desk={desk} chosen={cause} hrefFor={(c) => hrefFor(c)} />
       </Card>
+      <RacePanel desk={desk} hrefFor={(c) => hrefFor(c)} rigSettingsHref={rigSettingsHref} />
       {desk.bins ? (
         <Card>
           <CardTitle>Damage over time</CardTitle>

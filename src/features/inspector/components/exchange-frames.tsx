@@ -37,7 +37,7 @@ export function ExchangeFrames({ exchange: ex, frameId, frameHref, roundTripsHre
         <span className="font-medium">{what}</span> from {station} at {formatSeconds(ex.tRequest)} s: {outcomeWords[ex.outcome]}
         {ex.rttSeconds !== null ? `, round trip ${formatDuration(ex.rttSeconds)}` : ''}.{' '}
         <Link to={roundTripsHref} className="font-medium text-link hover:underline">
-          Open the exchange in Round trips →
+          Open the exchange in the schedule →
         </Link>
       </p>
       <ol aria-label="Frames of this exchange" className="flex flex-wrap gap-x-4 gap-y-1">

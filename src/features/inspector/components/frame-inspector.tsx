@@ -132,7 +132,7 @@ export function FrameInspector({ rigId, captureId, frameId, backTo, hasSamples, 
                 exchange={decoded.data.exchange}
                 frameId={frameId}
                 frameHref={(id) => `${base}/frames/${id}`}
-                roundTripsHref={`${base}/round-trips?${new URLSearchParams({ station: String(decoded.data.exchange.station.address), ex: String(decoded.data.exchange.id) })}`}
+                roundTripsHref={`${base}/schedule?${new URLSearchParams({ station: String(decoded.data.exchange.station.address), ex: String(decoded.data.exchange.id) })}`}
                 exchangeHref={(id) => exchangeHref(base, id)}
               />
             </div>

@@ -10,6 +10,7 @@ import { FramesOverTimeChart } from './frames-over-time-chart';
 import { GapHistogram } from './gap-histogram';
 import { TurnaroundHistograms } from './turnaround-histograms';
 import { captureScope } from '../../../lib/scope';
+import type { ReactNode } from 'react';
 
 const statuses = ['ok', 'bad-fcs', 'abort', 'short', 'residue'] as const;
 const directionWords = { 'to-server': 'station → server', 'from-server': 'server → station', unknown: 'direction not set' } as const;
@@ -25,7 +26,8 @@ function Stat({ label, value, hint }: { label: string; value: string; hint?: str
 }
 
 /** Screen 4: the shape of a capture at a glance, with a way into its damaged frames. */
-export function CaptureOverview({ rigId, captureId }: { rigId: number; captureId: number }) {
+/** `timing`: the line timing card, given by the route (it belongs to the schedule feature) */
+export function CaptureOverview({ rigId, captureId, timing }: { rigId: number; captureId: number; timing?: ReactNode }) {
   const o: Overview = useOverview(rigId, captureId);
   const total = statuses.reduce((n, s) => n + (o.byStatus[s] ?? 0), 0);
   const damaged = total - (o.byStatus.ok ?? 0);
@@ -46,6 +48,7 @@ export function CaptureOverview({ rigId, captureId }: { rigId: number; captureId
           </Link>
         </p>
       ) : null}
+      {timing}
       <Card>
         <CardTitle>Frames over time</CardTitle>
         <FramesOverTimeChart bins={o.timeBins} />
@@ -125,7 +128,7 @@ export function CaptureOverview({ rigId, captureId }: { rigId: number; captureId
       </Card>
       <Card>
         <CardTitle>Turnaround per station</CardTitle>
-        <TurnaroundHistograms rigId={rigId} captureId={captureId} roundTripsHref={`${captureScope(rigId, captureId).page}/round-trips`} />
+        <TurnaroundHistograms rigId={rigId} captureId={captureId} roundTripsHref={`${captureScope(rigId, captureId).page}/schedule`} />
       </Card>
     </div>
   );

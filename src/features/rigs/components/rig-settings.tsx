@@ -26,6 +26,7 @@ function RigSettingsReadOnly({ rigId }: { rigId: number }) {
     ['Clock edge', clockEdgeLabels[s.clockEdge]],
     ['Bit order', bitOrderLabels[s.bitOrder]],
     ['Answer timeout', `${rig.responseTimeoutMs} ms`],
+    ['CPU clock', `${rig.cpuClockMHz} MHz`],
   ];
   return (
     <Card>
@@ -70,7 +71,7 @@ function RigSettingsForm({ rigId }: { rigId: number }) {
     <Card>
       <CardTitle>Rig and line settings</CardTitle>
       {/* keyed by the saved values so the form shows what the server stored */}
-      <form key={JSON.stringify([rig.name, rig.description, rig.lineSettings, rig.responseTimeoutMs])} onSubmit={submit} onChange={edits.onChange} noValidate className="max-w-2xl space-y-5">
+      <form key={JSON.stringify([rig.name, rig.description, rig.lineSettings, rig.responseTimeoutMs, rig.cpuClockMHz])} onSubmit={submit} onChange={edits.onChange} noValidate className="max-w-2xl space-y-5">
         <TextField label="Rig name" name="name" defaultValue={rig.name} error={errors.name} />
         <TextArea label="Description" name="description" rows={2} defaultValue={rig.description} error={errors.description} />
         <LineSettingsFields defaults={rig.lineSettings} errors={errors} />
@@ -81,6 +82,15 @@ function RigSettingsForm({ rigId }: { rigId: number }) {
           defaultValue={rig.responseTimeoutMs}
           error={errors.responseTimeoutMs}
           hint="A request with no answer within this time counts as unanswered in round trips. Decode a capture again to apply a change."
+          className="max-w-40 font-mono"
+        />
+        <TextField
+          label="CPU clock (MHz)"
+          name="cpuClockMHz"
+          inputMode="decimal"
+          defaultValue={rig.cpuClockMHz}
+          error={errors.cpuClockMHz}
+          hint="The clock of the CPU that feeds the serial controller. The fault desk's budget line counts CPU cycles per octet at this rate. Decode a capture again to apply a change."
           className="max-w-40 font-mono"
         />
         {update.error ? <ErrorNotice error={update.error} /> : null}

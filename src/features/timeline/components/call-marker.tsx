@@ -15,7 +15,7 @@ function timing(e: TimelineCallMarker): string {
   return e.outcome === 'unanswered' ? 'no answer' : '—';
 }
 
-/** The frame's part in an exchange: call name and round trip, linking to the exchange in Round trips. */
+/** The frame's part in an exchange: call name and round trip, linking to the exchange in the schedule. */
 export function CallMarker({ exchange, href }: { exchange: TimelineCallMarker; href: string }) {
   const role = roleMarks[exchange.role];
   const damaged = exchange.role === 'damaged-response';
@@ -25,8 +25,8 @@ export function CallMarker({ exchange, href }: { exchange: TimelineCallMarker; h
       to={href}
       data-exchange-id={exchange.exchangeId}
       data-call-role={exchange.role}
-      title={`${role.word} of exchange ${exchange.exchangeId}: ${text} (open in Round trips)`}
-      aria-label={`${role.word}: ${text}, open in Round trips`}
+      title={`${role.word} of exchange ${exchange.exchangeId}: ${text} (open in the schedule)`}
+      aria-label={`${role.word}: ${text}, open in the schedule`}
       onClick={(e) => e.stopPropagation()}
       className={`mr-2 shrink-0 rounded border border-line px-1 text-[11.5px] hover:underline ${exchange.outcome === 'unanswered' || damaged ? 'text-[#e0582f]' : 'text-link'}`}
     >

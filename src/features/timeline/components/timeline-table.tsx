@@ -41,7 +41,7 @@ export function TimelineTable({ rigId, captureId, filters, start, selectedId, re
   const anchor = useRef<{ key: string; index: number; delta: number } | null>(null);
   const selectedT = useMemo(() => rows.find((r) => r.type === 'frame' && r.id === selectedId)?.t ?? null, [rows, selectedId]);
   const callHref = useCallback(
-    (e: TimelineCallMarker) => `${captureScope(rigId, captureId).page}/round-trips?${new URLSearchParams({ station: String(e.station), ex: String(e.exchangeId) })}`,
+    (e: TimelineCallMarker) => `${captureScope(rigId, captureId).page}/schedule?${new URLSearchParams({ station: String(e.station), ex: String(e.exchangeId) })}`,
     [rigId, captureId],
   );
 

@@ -4,7 +4,7 @@ import { api } from '../../../lib/api';
 import { exchangeKeys, type ExchangeListQuery } from './exchange-keys';
 import { captureScope } from '../../../lib/scope';
 
-/** Enough for any session a person reads as a ladder; past it the view says how many it left out. */
+/** Enough to rank a long session; past it the view says how many it left out (the schedule draws them all). */
 export const EXCHANGE_READ_LIMIT = 20_000;
 
 export interface ExchangeList {

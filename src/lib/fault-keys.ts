@@ -1,5 +1,5 @@
-import type { DamageCauseName } from '../../../../shared/schemas';
-import { captureScope } from '../../../lib/scope';
+import type { DamageCauseName } from '../../shared/schemas';
+import { captureScope } from './scope';
 
 /** The fault desk of one capture, under its decoded views (captureScope) so a finished decode clears it. */
 export const faultKeys = {

@@ -9,15 +9,15 @@ interface ExchangeTableProps {
   rows: ExchangeRow[];
   frameHref: (frameId: number) => string;
   timelineHref: (row: ExchangeRow) => string;
-  /** Round trips with another exchange chosen (the other side of a lock conflict) */
+  /** the schedule with another exchange chosen (the other side of a lock conflict) */
   exchangeHref: (exchangeId: number) => string;
-  /** shows the exchange in the ladder; absent where there is no ladder */
+  /** brings the exchange into view on the schedule; absent where there is none */
   onShow?: (row: ExchangeRow) => void;
   showStation?: boolean;
   caption: string;
 }
 
-/** Exchanges as a table: the accessible twin of the ladder, and the per-file exchange list. */
+/** Exchanges as a table: the keyboard twin of the schedule, and the per-file exchange list. */
 export function ExchangeTable({ rows, frameHref, timelineHref, exchangeHref, onShow, showStation = true, caption }: ExchangeTableProps) {
   return (
     <div className="overflow-x-auto">
@@ -76,7 +76,7 @@ export function ExchangeTable({ rows, frameHref, timelineHref, exchangeHref, onS
                   <>
                     {' · '}
                     <button type="button" onClick={() => onShow(r)} className="text-link hover:underline">
-                      ladder
+                      schedule
                     </button>
                   </>
                 ) : null}

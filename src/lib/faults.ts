@@ -1,8 +1,8 @@
 import { keepPreviousData, queryOptions, useQuery } from '@tanstack/react-query';
-import type { DamageCauseName, FaultDeskView } from '../../../../shared/schemas';
-import { api } from '../../../lib/api';
+import type { DamageCauseName, FaultDeskView } from '../../shared/schemas';
+import { api } from './api';
 import { FAULT_PAGE, faultKeys } from './fault-keys';
-import { captureScope } from '../../../lib/scope';
+import { captureScope } from './scope';
 
 export function fetchFaults(rigId: number, captureId: number, cause: DamageCauseName | null, offset: number): Promise<FaultDeskView> {
   const params = new URLSearchParams({ limit: String(FAULT_PAGE), offset: String(offset) });

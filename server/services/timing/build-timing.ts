@@ -1,0 +1,105 @@
+// Line timing of a decode run, built from its stored rows: frames (station and direction from the
+// run's channel roles), request-line edges from the line events, and the visible call run's
+// exchanges. Reading a few hundred thousand rows takes a moment, so the result is kept per
+// (decode run, call run) for the next request: the schedule view asks for many windows of it.
+import type Database from 'better-sqlite3';
+import { callLayerRoles } from '../../../shared/decoder/calls';
+import { LineTiming, type Schedule, type ServiceReport } from '../../../shared/decoder/timing';
+import { captureSettingsSchema, type CaptureSettings } from '../../../shared/schemas';
+
+export interface BuiltTiming {
+  service: ServiceReport;
+  schedule: Schedule;
+  frames: number;
+  exchanges: number;
+  unattributed: number;
+  /** true when no link had a known direction: nothing could be put in a lane */
+  noRoles: boolean;
+}
+
+/** runs kept: each is a few typed arrays per lane */
+const KEEP = 4;
+const cache = new Map<string, BuiltTiming>();
+
+/** The run's line timing, from the cache when the same decode and call runs were built before. */
+export function timingOf(db: Database.Database, jobId: number, callRunId: number | null, rigStations: number[]): BuiltTiming {
+  const key = `${jobId}:${callRunId ?? '-'}:${rigStations.join(',')}`;
+  const hit = cache.get(key);
+  if (hit) {
+    // most recently used last
+    cache.delete(key);
+    cache.set(key, hit);
+    return hit;
+  }
+  const built = buildTiming(db, jobId, callRunId, rigStations);
+  cache.set(key, built);
+  while (cache.size > KEEP) cache.delete(cache.keys().next().value!);
+  return built;
+}
+
+type FrameTuple = [number, string, number, number, string, number | null, string | null, number | null];
+
+export function buildTiming(db: Database.Database, jobId: number, callRunId: number | null, rigStations: number[]): BuiltTiming {
+  const raw = db.prepare('select settings from decode_jobs where id = ?').pluck().get(jobId) as string | undefined;
+  const settings: CaptureSettings = captureSettingsSchema.parse(raw ? JSON.parse(raw) : {});
+  const { links, rts } = callLayerRoles(settings);
+  const roles = new Map(links.map((l) => [l.link, l]));
+  // per-port wiring names each port's station; on a shared line the rig's stations are the roster
+  const portStations = links.map((l) => l.station).filter((s): s is number => s !== undefined);
+  const roster = portStations.length > 0 ? new Set(portStations) : rigStations.length > 0 ? new Set(rigStations) : null;
+  const timing = new LineTiming({ secondsPerUnit: 1 });
+  const known = new Set<number>();
+  let frames = 0;
+  let unattributed = 0;
+  const rows = db
+    .prepare('select id, link, t, t_end, status, address, kind, pf from frames where job_id = ? order by t, id')
+    .raw()
+    .iterate(jobId) as IterableIterator<FrameTuple>;
+  for (const [id, link, t, tEnd, status, address, kind, pf] of rows) {
+    frames++;
+    const role = roles.get(link);
+    const station = role?.station ?? address;
+    if (!role || station === null || station === undefined || (status !== 'ok' && role.station === undefined && !known.has(station)) || (roster && !roster.has(station))) {
+      unattributed++;
+      continue;
+    }
+    if (status === 'ok') known.add(station);
+    timing.frame({
+      station,
+      direction: role.direction,
+      first: t,
+      last: tEnd,
+      status: status as never,
+      kind: kind as 'I' | 'S' | 'U' | null,
+      pf: pf === 1,
+      id,
+    });
+  }
+  if (rts.length > 0) {
+    const lineOf = new Map(rts.map((r) => [r.channel, r.station]));
+    const edges = db
+      .prepare(`select channel, kind, t from line_events where job_id = ? and kind in ('rise', 'fall') and channel in (${rts.map(() => '?').join(', ')}) order by t, id`)
+      .raw()
+      .all(jobId, ...rts.map((r) => r.channel)) as [string, 'rise' | 'fall', number][];
+    for (const [channel, kind, t] of edges) timing.requestLine(lineOf.get(channel)!, kind === 'rise', t);
+  }
+  let exchanges = 0;
+  if (callRunId !== null) {
+    const xs = db
+      .prepare('select id, station, t_request, t_request_end, t_response, rtt, outcome from exchanges where run_id = ? order by t_request, id')
+      .raw()
+      .iterate(callRunId) as IterableIterator<[number, number, number, number, number | null, number | null, 'answered' | 'retried' | 'unanswered']>;
+    for (const [id, station, tRequest, tRequestEnd, tResponse, rtt, outcome] of xs) {
+      if (roster && !roster.has(station)) continue;
+      exchanges++;
+      timing.exchange({ station, first: tRequest, end: tResponse ?? tRequestEnd, outcome, rttSeconds: rtt, id });
+    }
+  }
+  const { service, schedule } = timing.finish();
+  return { service, schedule, frames, exchanges, unattributed, noRoles: links.length === 0 };
+}
+
+/** forget every kept run (tests, and a run's rows being cleared) */
+export function clearTimingCache(): void {
+  cache.clear();
+}
