@@ -16,7 +16,7 @@ import { RunWriter } from '../runs/run-writer';
 import { indexSearch } from '../runs/search-index';
 import { CsvSeekTracker } from '../runs/seek/csv-seek';
 import { type SeekPoint, VcdSeekTracker } from '../runs/seek/vcd-seek';
-import { raceDeskOptions, storeRaces } from '../services/timing/fault-races';
+import { raceDeskOptions } from '../services/timing/fault-races';
 
 export interface DecodeWorkerData {
   dbPath: string;
@@ -148,7 +148,6 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     const called = performance.now();
     const report = faults.report(writer.lastSample);
     storeFaultReport(db, data.jobId, data.captureId, period, report);
-    storeRaces(db, data.jobId, report);
     const faulted = performance.now();
     const issues = decoder.issues.slice(0, 20).map(describeIssue);
     const committed = db.transaction(() => {

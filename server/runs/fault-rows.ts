@@ -132,6 +132,8 @@ export function storeFaultReport(sqlite: Database.Database, jobId: number, captu
         retransmissionFrameId: r.retransmission ? idOf(r.retransmission.link, r.retransmission.seq, r.retransmission.firstSample) : null,
         retransmissionBy: r.retransmission ? r.retransmission.by : null,
         retransmissionSearch: r.retransmissionSearch,
+        // the race signature's detail (shared/decoder/faults/races.ts), when the row shows one
+        race: r.race ? JSON.stringify(r.race) : null,
       };
       insert.run(row);
     }
@@ -145,6 +147,7 @@ export function storeFaultReport(sqlite: Database.Database, jobId: number, captu
     bins: JSON.stringify(report?.bins ?? null),
     framesSeen: report?.framesSeen ?? 0,
     anomaliesDropped: report?.anomaliesDropped ?? 0,
+    races: report ? JSON.stringify(report.races) : null,
   };
   db.insert(faultSummaries)
     .values({ jobId, ...summary })

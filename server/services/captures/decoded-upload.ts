@@ -28,6 +28,7 @@ import { RunWriter } from '../../runs/run-writer';
 import { indexSearch } from '../../runs/search-index';
 import { clearRunRows } from '../../runs/sweep';
 import { decodeRunInputs } from '../calls/run-inputs';
+import { raceDeskOptions } from '../timing/fault-races';
 import type { CaptureDeps } from './deps';
 import { toSummary } from './rows';
 
@@ -127,7 +128,7 @@ async function validate(file: string): Promise<DecodedHeader> {
 async function storeRun(sqlite: Database.Database, file: string, h: DecodedHeader, inputs: RunInputs, captureId: number, jobId: number): Promise<void> {
   const period = h.samplePeriod;
   const writer = new RunWriter(sqlite, jobId, captureId, () => period);
-  const faults = new FaultRecorder(() => period, faultCallKey(sqlite, inputs));
+  const faults = new FaultRecorder(() => period, faultCallKey(sqlite, inputs), raceDeskOptions(sqlite, inputs));
   let n = 0;
   let first = true;
   for await (const text of lines(file)) {
@@ -150,7 +151,6 @@ async function storeRun(sqlite: Database.Database, file: string, h: DecodedHeade
   }
   writer.flush();
   sqlite.prepare("update decode_jobs set bytes_read = ?, frames = ?, events = ?, stage = 'indexing' where id = ?").run(h.bytesRead, writer.frames, writer.events, jobId);
-  storeFaultReport(sqlite, jobId, captureId, period, faults.report(writer.lastSample));
   indexSearch(sqlite, jobId);
   await yieldTurn();
   sqlite.prepare("update decode_jobs set stage = 'calls' where id = ?").run(jobId);
@@ -159,13 +159,15 @@ async function storeRun(sqlite: Database.Database, file: string, h: DecodedHeade
   try {
     runId = createCallRun(sqlite, captureId, jobId, inputs, 'running');
     const { map } = loadMapVersion(sqlite, inputs.fieldMap.mapId, inputs.fieldMap.version);
-    const counts = await runCallStage(sqlite, { captureId, decodeJobId: jobId, runId, map, inputs, samplePeriod: period, pause: yieldTurn });
+    const counts = await runCallStage(sqlite, { captureId, decodeJobId: jobId, runId, map, inputs, samplePeriod: period, pause: yieldTurn, onExchange: (e) => faults.exchange(e) });
     calls = { runId, counts };
   } catch (err) {
     // as in a server decode: a call layer that stops fails the call run, not the frames
     const message = err instanceof Error ? err.message : String(err);
     if (runId !== null) sqlite.prepare("update call_runs set state = 'failed', error = ?, finished_at = ? where id = ?").run(`The call layer stopped: ${message}`, Date.now(), runId);
   }
+  // as in a server decode: the fault desk has seen the call layer's exchanges (receiver over-run symptoms)
+  storeFaultReport(sqlite, jobId, captureId, period, faults.report(writer.lastSample));
   sqlite.transaction(() => {
     sqlite
       .prepare(

@@ -1,6 +1,6 @@
 // The decode run's side of the race signatures: what the fault desk needs to find them (the field
 // map's shape of each call, the rig's CPU clock and the capture's bit rate) and where their
-// details go once found (fault_rows.race, fault_summaries.races). Raw better-sqlite3: the decode
+// details go once found (fault_rows.race, fault_summaries.races, written by server/runs/fault-rows.ts). Raw better-sqlite3: the decode
 // worker has no Drizzle handle.
 import type Database from 'better-sqlite3';
 import { callShapeFromFieldMap, type FaultDeskOptions, type FaultReport } from '../../../shared/decoder/faults';
@@ -22,14 +22,4 @@ export function raceDeskOptions(db: Database.Database, inputs: RunInputs): Parti
     // a map that cannot be loaded: under-runs are still found by their fragments and recurring aborts
   }
   return options;
-}
-
-/** Stores each row's race detail and the capture-wide race summary; call after storeFaultReport. */
-export function storeRaces(db: Database.Database, jobId: number, report: FaultReport | null): void {
-  if (!report) return;
-  const set = db.prepare('update fault_rows set race = ? where job_id = ? and first_sample = ? and link = ? and seq = ?');
-  db.transaction(() => {
-    for (const r of report.rows) if (r.race) set.run(JSON.stringify(r.race), jobId, r.firstSample, r.link, r.seq);
-    db.prepare('update fault_summaries set races = ? where job_id = ?').run(JSON.stringify(report.races), jobId);
-  }).immediate();
 }
