@@ -14,3 +14,9 @@ export function placeholders<T extends SQLiteTable>(table: T): Record<keyof T['$
   }
   return out as Record<keyof T['$inferInsert'], Placeholder>;
 }
+
+/**
+ * A row for such an insert: every column present (null where empty), so a column added to the
+ * schema is a type error here rather than a "no value for placeholder" at run time.
+ */
+export type FullRow<T extends SQLiteTable> = Required<Omit<T['$inferInsert'], 'id'>>;

@@ -14,13 +14,13 @@ import { FileResultsWriter, storeDamagedAnswers } from '../services/calls/call-r
 import type { RunInputs } from './inputs';
 import { drizzle } from 'drizzle-orm/better-sqlite3';
 import { and, eq, inArray } from 'drizzle-orm';
-import { placeholders } from '../db/placeholders';
+import { placeholders, type FullRow } from '../db/placeholders';
 import * as schema from '../db/schema';
 import { exchangeFrames, exchanges, lineEvents, recoveredFiles } from '../db/schema';
 import { frameFromRow, storedFramePages } from './stored-frame';
 
 const PAGE = 5000;
-type ExchangeInsert = Omit<typeof exchanges.$inferInsert, 'id'>;
+type ExchangeInsert = FullRow<typeof exchanges>;
 
 /** The response's fields without the tag: what "answered the same" compares. */
 export function answerSignature(e: Exchange): string | null {
@@ -88,6 +88,9 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
         serviceDelay: e.serviceDelaySeconds,
         user: e.requestCall.user,
         answer: answerSignature(e),
+        // filled in below and by the file results writer (server/services/calls/call-results.ts)
+        damagedResponseFrameIds: '[]',
+        lockConflicts: '[]',
       };
       const exchangeId = insertExchange.get(row)!.id;
       for (const f of [requestId, ...retryIds, ...responseIds]) if (f !== null) insertLink.run({ runId: input.runId, frameId: f, exchangeId });
@@ -169,7 +172,11 @@ export async function runCallStage(db: Database.Database, input: CallStageInput)
         coverage: f.coverage.map((c) => (c === 'seen' ? 's' : c === 'missing' ? 'm' : 'c')).join(''),
         conflicts: JSON.stringify(f.conflicts.map((c) => ({ record: c.record, exchangeIds: c.requests.map(exId).filter((x) => x !== null) }))),
         exchangeIds: JSON.stringify(f.exchanges.map(exId).filter((x) => x !== null)),
-      } satisfies Omit<typeof recoveredFiles.$inferInsert, 'id'>)!;
+        // the file results writer sets these once every exchange has its id
+        sizeSource: null,
+        sizeExchangeId: null,
+        lockConflicts: null,
+      } satisfies FullRow<typeof recoveredFiles>)!;
       results.file(stored.id, f);
     }
     results.finish();

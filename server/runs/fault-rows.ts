@@ -1,7 +1,7 @@
 import type Database from 'better-sqlite3';
 import { and, between, eq, sql } from 'drizzle-orm';
 import { drizzle } from 'drizzle-orm/better-sqlite3';
-import { placeholders } from '../db/placeholders';
+import { placeholders, type FullRow } from '../db/placeholders';
 import * as schema from '../db/schema';
 import { faultRows, faultSummaries, frames } from '../db/schema';
 import type { Exchange } from '../../shared/decoder/calls';
@@ -81,8 +81,6 @@ export function faultCallKey(db: Database.Database, inputs: RunInputs): CallKeyL
   }
 }
 
-type FaultRowInsert = typeof faultRows.$inferInsert;
-
 /**
  * Writes the report's rows with the ids of their frames (and of the follower and retransmission)
  * in the run's frames table; call after the frames are flushed.
@@ -111,7 +109,7 @@ export function storeFaultReport(sqlite: Database.Database, jobId: number, captu
   const rows = report?.rows ?? [];
   const writeBatch = sqlite.transaction((from: number) => {
     for (const r of rows.slice(from, from + BATCH)) {
-      const row: Omit<FaultRowInsert, 'id'> = {
+      const row: FullRow<typeof faultRows> = {
         jobId,
         link: r.link,
         seq: r.seq,

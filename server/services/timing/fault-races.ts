@@ -3,7 +3,7 @@
 // details go once found (fault_rows.race, fault_summaries.races, written by server/runs/fault-rows.ts). Raw better-sqlite3: the decode
 // worker has no Drizzle handle.
 import type Database from 'better-sqlite3';
-import { callShapeFromFieldMap, type FaultDeskOptions, type FaultReport } from '../../../shared/decoder/faults';
+import { callShapeFromFieldMap, type FaultDeskOptions } from '../../../shared/decoder/faults';
 import { DEFAULT_CPU_HZ } from '../../../shared/decoder/timing';
 import { loadMapVersion, type RunInputs } from '../../runs/inputs';
 
