@@ -260,3 +260,31 @@ describe('clocked bit recovery: more than two links, names of line events', () =
     expect(() => new BitRecovery({ ...opts, bitRate: 9600 }, recoverySink())).not.toThrow();
   });
 });
+
+describe('bit recovery without a clock: line events', () => {
+  it('reports handshake changes and unknown data levels as line events when the clock is recovered', () => {
+    const sink = recoverySink();
+    const br = new BitRecovery(
+      { samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], handshake: [{ channel: 4, name: 'rts', link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false },
+      sink,
+    );
+    br.transitions(
+      tr([
+        [1, 0, 1],
+        [4, 0, 0],
+        [1, 30, 0],
+        [4, 35, 1],
+        [1, 50, 2],
+        [1, 70, 1],
+        [4, 80, 0],
+        [1, 100, 1],
+      ]),
+    );
+    br.finish();
+    expect(sink.r.events).toEqual([
+      { link: 'd', channel: 'rts', kind: 'rise', sample: 35 },
+      { link: 'd', channel: 'd', kind: 'unknown', sample: 50 },
+      { link: 'd', channel: 'rts', kind: 'fall', sample: 80 },
+    ]);
+  });
+});
