@@ -191,3 +191,100 @@ describe('clocked bit recovery', () => {
     expect(glitched.slice(101)).toEqual(Array.from(bits.slice(100)));
   });
 });
+
+describe('clocked bit recovery: more than two links, names of line events', () => {
+  it('samples every data line of three links on the same clock edge, each with the setup-time rule (common practice)', () => {
+    const sink = recoverySink();
+    const br = new BitRecovery(
+      {
+        samplePeriodSeconds: 1e-6,
+        clock: 0,
+        data: [
+          { channel: 1, link: 'a' },
+          { channel: 2, link: 'b' },
+          { channel: 3, link: 'c' },
+        ],
+        edge: 'rising',
+        encoding: 'nrz',
+        invert: false,
+      },
+      sink,
+    );
+    br.transitions(
+      tr([
+        [0, 0, 0],
+        [1, 0, 1],
+        [2, 0, 0],
+        [3, 0, 1],
+        [0, 2, 1], // edge 1: a=1 b=0 c=1
+        [0, 3, 0],
+        [1, 3, 0],
+        [3, 4, 0], // c changes at the very sample of edge 2: the edge still takes 1
+        [0, 4, 1], // edge 2: a=0 b=0 c=1
+        [0, 5, 0],
+        [2, 5, 1],
+        [0, 6, 1], // edge 3: a=0 b=1 c=0
+      ]),
+    );
+    br.finish();
+    expect(sink.r.bits.get('a')).toEqual([1, 0, 0]);
+    expect(sink.r.bits.get('b')).toEqual([0, 0, 1]);
+    expect(sink.r.bits.get('c')).toEqual([1, 1, 0]);
+    expect(sink.r.samples.get('c')).toEqual([2, 4, 6]);
+  });
+
+  it('names an unknown clock "clock" with no link, and a handshake line without a link by its own name', () => {
+    const r = run({ handshake: [{ channel: 5, name: 'dcd' }] }, [
+      [
+        [0, 0, 0],
+        [1, 0, 1],
+        [5, 0, 1],
+        [0, 2, 2],
+        [5, 3, 2],
+        [5, 4, 0],
+        [5, 6, 1],
+      ],
+    ]);
+    expect(r.events).toEqual([
+      { link: null, channel: 'clock', kind: 'unknown', sample: 2 },
+      { link: null, channel: 'dcd', kind: 'unknown', sample: 3 },
+      { link: null, channel: 'dcd', kind: 'fall', sample: 4 },
+      { link: null, channel: 'dcd', kind: 'rise', sample: 6 },
+    ]);
+  });
+
+  it('refuses to start with neither a clock channel nor a nominal bit rate', () => {
+    const opts = { samplePeriodSeconds: 1e-6, data: [{ channel: 1, link: 'd' }], edge: 'rising' as const, encoding: 'nrz' as const, invert: false };
+    expect(() => new BitRecovery(opts, recoverySink())).toThrow(/clock channel or a nominal bit rate/);
+    expect(() => new BitRecovery({ ...opts, bitRate: 0 }, recoverySink())).toThrow(/nominal bit rate/);
+    expect(() => new BitRecovery({ ...opts, bitRate: 9600 }, recoverySink())).not.toThrow();
+  });
+});
+
+describe('bit recovery without a clock: line events', () => {
+  it('reports handshake changes and unknown data levels as line events when the clock is recovered', () => {
+    const sink = recoverySink();
+    const br = new BitRecovery(
+      { samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], handshake: [{ channel: 4, name: 'rts', link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false },
+      sink,
+    );
+    br.transitions(
+      tr([
+        [1, 0, 1],
+        [4, 0, 0],
+        [1, 30, 0],
+        [4, 35, 1],
+        [1, 50, 2],
+        [1, 70, 1],
+        [4, 80, 0],
+        [1, 100, 1],
+      ]),
+    );
+    br.finish();
+    expect(sink.r.events).toEqual([
+      { link: 'd', channel: 'rts', kind: 'rise', sample: 35 },
+      { link: 'd', channel: 'd', kind: 'unknown', sample: 50 },
+      { link: 'd', channel: 'rts', kind: 'fall', sample: 80 },
+    ]);
+  });
+});
