@@ -104,9 +104,10 @@ describe('zero-configuration decoding in the browser', () => {
       await expect.poll(() => frames.innerText()).toContain(String(frameTotal(e)));
       await shot(page, 'overview');
 
-      await page.getByRole('link', { name: 'Round trips', exact: true }).click();
-      await page.getByRole('group', { name: /^Ladder of \d+ exchanges$/ }).waitFor({ timeout: 30_000 });
-      await shot(page, 'round-trips');
+      await page.getByRole('link', { name: 'Schedule', exact: true }).click();
+      await page.getByTestId('schedule-canvas').waitFor({ timeout: 30_000 });
+      await page.getByTestId('exchange-row').first().waitFor({ timeout: 30_000 });
+      await shot(page, 'schedule');
       await expectFiles(page, e.expected);
       await shot(page, 'files');
     } finally {
@@ -197,9 +198,10 @@ describe('zero-configuration decoding in the browser', () => {
       await page.waitForURL(/\/captures\/\d+$/, { timeout: 120_000 });
       await page.getByText('Frames over time').waitFor({ timeout: 30_000 });
       await expect.poll(() => page.getByTestId('decode-diagnosis').count(), { timeout: 30_000 }).toBe(0);
-      await page.getByRole('link', { name: 'Round trips', exact: true }).click();
-      await page.getByRole('group', { name: /^Ladder of \d+ exchanges$/ }).waitFor({ timeout: 30_000 });
-      await shot(page, 'round-trips-after-fix');
+      await page.getByRole('link', { name: 'Schedule', exact: true }).click();
+      await page.getByTestId('schedule-canvas').waitFor({ timeout: 30_000 });
+      await page.getByTestId('exchange-row').first().waitFor({ timeout: 30_000 });
+      await shot(page, 'schedule-after-fix');
     } finally {
       await context.close();
     }

@@ -163,9 +163,9 @@ describe('decode in the browser before upload', () => {
     await page.getByRole('heading', { level: 1, name: vcd.name }).waitFor();
     await page.getByTestId('row-summary').first().waitFor();
     await shot(page, 'timeline');
-    await page.getByRole('navigation', { name: 'Capture views' }).getByRole('link', { name: 'Round trips', exact: true }).click();
+    await page.getByRole('navigation', { name: 'Capture views' }).getByRole('link', { name: 'Schedule', exact: true }).click();
     await page.getByTestId('exchange-row').first().waitFor();
-    await shot(page, 'round-trips');
+    await shot(page, 'schedule');
     const [firstFrame] = await allFrames(page, `/api/rigs/${demo.rigId}/captures/${vcd.id}`);
     await page.goto(`${baseUrl}/rigs/${demo.rigId}/captures/${vcd.id}/frames/${firstFrame.id}`);
     await page.getByTestId('samples-elsewhere').waitFor();
