@@ -492,3 +492,16 @@ describe('directory listings from hand-made exchanges', () => {
     ]);
   });
 });
+
+describe('missing record ranges', () => {
+  it('gives each run of missing records as [first, last], runs of one, at the start and at the end included', () => {
+    expect(missingRanges([])).toEqual([]);
+    expect(missingRanges(['seen', 'conflict'])).toEqual([]);
+    expect(missingRanges(['missing', 'missing', 'seen', 'missing', 'conflict', 'missing', 'missing', 'missing'])).toEqual([
+      [0, 1],
+      [3, 3],
+      [5, 7],
+    ]);
+    expect(missingRanges(['seen', 'missing'])).toEqual([[1, 1]]);
+  });
+});
