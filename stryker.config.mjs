@@ -10,7 +10,7 @@ const TARGETS = {
   bits: { mutate: 'shared/decoder/bits.ts', tests: ['bits', 'fast-path-raw', 'waveform-roundtrip'] },
   apply: { mutate: 'shared/decoder/calls/apply.ts', tests: ['calls-apply', 'calls-field-map'] },
   exchanges: { mutate: 'shared/decoder/calls/exchanges.ts', tests: ['calls-exchanges', 'calls-compare'] },
-  files: { mutate: 'shared/decoder/calls/files.ts', tests: ['calls-files'] },
+  files: { mutate: 'shared/decoder/calls/files.ts', tests: ['calls-files', 'hints-ledger'] },
 };
 
 const name = process.env.STRYKER_TARGET ?? '';
