@@ -121,6 +121,14 @@ export interface DiscoveryDeps {
  * 'running' with its progress. The file never changes, so neither does the answer.
  */
 export function captureDiscovery(deps: DiscoveryDeps, c: CaptureRow): CaptureDiscovery {
+  // the finder reads the capture file: a capture decoded in the browser left its samples with the
+  // uploader, and a file can be gone; the answer says so (a page may ask while showing such a capture)
+  const unreadable = !c.samplesKept
+    ? 'The samples of this capture stayed on the uploader’s machine, so the settings finder cannot read them; decode the file in the browser again to try other settings.'
+    : !/^[0-9a-f]{64}$/.test(c.sha256) || !deps.store.exists(c.sha256)
+      ? 'The capture file is not on the server any more, so the settings finder cannot read it; upload the capture again.'
+      : null;
+  if (unreadable) return { ...emptyView(0), state: 'failed', error: unreadable };
   const saved = parseSettings(c.settings);
   const given = { sampleRate: saved?.format === 'raw' ? saved.sampleRate : null, channelNames: saved?.format === 'raw' ? saved.channelNames : [] };
   let resolved: { mapId: number; version: number; map: FieldMap } | null;
