@@ -11,7 +11,7 @@ import type { DecodedFrame } from '../../shared/decoder';
 import { captureSettingsSchema, type CaptureSettings, type CaptureSummaryRow, type TimelineFrame, type TimelinePage } from '../../shared/schemas';
 import { launchBrowser, newPage, stepShots } from './support/browser';
 import { getJson, waitForDemo, type DemoIds } from './support/demo';
-import { signInAsDemo } from './support/flows';
+import { createRig, signInAsDemo } from './support/flows';
 
 const baseUrl = inject('baseUrl');
 const samples = path.resolve(import.meta.dirname, '../../samples');
@@ -95,6 +95,8 @@ describe('decode in the browser before upload', () => {
   let context: BrowserContext;
   let page: Page;
   let demo: DemoIds;
+  // the uploads go to a rig of their own: captures of the same names in the demo rig would confuse other tests
+  let rigId: number;
   let vcdCapture: CaptureSummaryRow | null = null;
 
   beforeAll(async () => {
@@ -104,7 +106,8 @@ describe('decode in the browser before upload', () => {
       page,
       entries.filter((e) => e.seeded).map((e) => e.file),
     );
-    await page.goto(`${baseUrl}/rigs/${demo.rigId}/captures/new`);
+    rigId = await createRig(page, baseUrl, 'Decoded here');
+    await page.goto(`${baseUrl}/rigs/${rigId}/captures/new`);
     await page.getByRole('radio', { name: 'Decode here first' }).click();
     await page.getByTestId('local-decode').waitFor();
     await shot(page, 'local-mode');
@@ -115,7 +118,7 @@ describe('decode in the browser before upload', () => {
 
   for (const entry of entries) {
     it(`decodes ${entry.file} in a worker with the server’s results and uploads only the frames`, async () => {
-      await page.goto(`${baseUrl}/rigs/${demo.rigId}/captures/new?mode=local`);
+      await page.goto(`${baseUrl}/rigs/${rigId}/captures/new?mode=local`);
       await fillHints(page, entry.settings);
       await page.getByTestId('local-decode').getByLabel('Capture file').setInputFiles(path.join(samples, entry.file));
       // the first frames show while the decode runs, or at the latest with its result
@@ -128,7 +131,7 @@ describe('decode in the browser before upload', () => {
       await page.getByRole('button', { name: /Upload only the decoded frames/ }).click();
       await page.waitForURL(/\/captures\/\d+\/timeline/);
       const captureId = Number(new URL(page.url()).pathname.split('/')[4]);
-      const base = `/api/rigs/${demo.rigId}/captures/${captureId}`;
+      const base = `/api/rigs/${rigId}/captures/${captureId}`;
       const uploaded = await getJson<CaptureSummaryRow>(page, base);
       expect(uploaded.samplesKept).toBe(false);
       expect(uploaded.name).toBe(entry.file);
@@ -159,19 +162,19 @@ describe('decode in the browser before upload', () => {
   it('shows the timeline and exchanges of a capture whose samples stayed here, and says why there is no waveform', async () => {
     const vcd = vcdCapture!;
     expect(vcd).not.toBeNull();
-    await page.goto(`${baseUrl}/rigs/${demo.rigId}/captures/${vcd.id}/timeline`);
+    await page.goto(`${baseUrl}/rigs/${rigId}/captures/${vcd.id}/timeline`);
     await page.getByRole('heading', { level: 1, name: vcd.name }).waitFor();
     await page.getByTestId('row-summary').first().waitFor();
     await shot(page, 'timeline');
     await page.getByRole('navigation', { name: 'Capture views' }).getByRole('link', { name: 'Schedule', exact: true }).click();
     await page.getByTestId('exchange-row').first().waitFor();
     await shot(page, 'schedule');
-    const [firstFrame] = await allFrames(page, `/api/rigs/${demo.rigId}/captures/${vcd.id}`);
-    await page.goto(`${baseUrl}/rigs/${demo.rigId}/captures/${vcd.id}/frames/${firstFrame.id}`);
+    const [firstFrame] = await allFrames(page, `/api/rigs/${rigId}/captures/${vcd.id}`);
+    await page.goto(`${baseUrl}/rigs/${rigId}/captures/${vcd.id}/frames/${firstFrame.id}`);
     await page.getByTestId('samples-elsewhere').waitFor();
     expect(await page.getByTestId('samples-elsewhere').textContent()).toContain("The samples stayed on the uploader's machine");
     await shot(page, 'inspector-no-samples');
-    await page.goto(`${baseUrl}/rigs/${demo.rigId}/captures/${vcd.id}/setup`);
+    await page.goto(`${baseUrl}/rigs/${rigId}/captures/${vcd.id}/setup`);
     await page.getByTestId('samples-elsewhere').waitFor();
   });
 });
