@@ -75,7 +75,7 @@ describe('call results in the browser', () => {
       const lockLine = page.getByTestId('frame-exchange').getByTestId('lock-conflict');
       await expect.poll(() => lockLine.innerText()).toMatch(/^Lock conflict on record 4: Registry desk held the lock this exchange asked for; the server refused it\./);
       const holder = requesterLock.lockConflicts![0].otherExchangeId!;
-      expect(await lockLine.getByRole('link').getAttribute('href')).toBe(`/rigs/${rigId}/captures/${captureId}/round-trips?station=all&ex=${holder}`);
+      expect(await lockLine.getByRole('link').getAttribute('href')).toBe(`/rigs/${rigId}/captures/${captureId}/schedule?station=all&ex=${holder}`);
       await shot(page, 'exchange-lock-conflict');
 
       // the timeline marks the damaged answer as the retried exchange's
@@ -83,14 +83,14 @@ describe('call results in the browser', () => {
       await page.goto(`${baseUrl}/rigs/${rigId}/captures/${captureId}/timeline?at=${retried.tRequest}`);
       const marker = page.locator(`[data-call-role="damaged-response"][data-exchange-id="${retried.id}"]`);
       await marker.first().waitFor();
-      expect(await marker.first().getAttribute('aria-label')).toMatch(/^damaged answer: .*damaged answer, retried, open in Round trips$/);
+      expect(await marker.first().getAttribute('aria-label')).toMatch(/^damaged answer: .*damaged answer, retried, open in the schedule$/);
 
       // Recovered files: where each size came from, the lock conflict on the file
       await page.getByRole('navigation', { name: 'Capture views' }).getByRole('link', { name: 'Recovered files', exact: true }).click();
       const registerRow = page.locator('[data-testid="recovered-file"][data-file="REGISTER.DAT"]');
       const source = registerRow.getByTestId('size-source');
       await expect.poll(() => source.innerText()).toBe(`end known · size from the compute-file-size answer of exchange #${register.id}`);
-      expect(await source.getByRole('link').getAttribute('href')).toBe(`/rigs/${rigId}/captures/${captureId}/round-trips?station=all&ex=${register.id}`);
+      expect(await source.getByRole('link').getAttribute('href')).toBe(`/rigs/${rigId}/captures/${captureId}/schedule?station=all&ex=${register.id}`);
       await expect
         .poll(() => page.locator('[data-testid="recovered-file"][data-file="PARISH.DAT"]').getByTestId('size-source').innerText())
         .toMatch(/^end known · size from the open answer \(its record count, extent and module\) of exchange #\d+$/);

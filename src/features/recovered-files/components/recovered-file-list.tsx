@@ -12,6 +12,8 @@ import { useRecoveredFiles } from '../api/get-files';
 import { coverageOf, coverageText } from './coverage';
 import { CoverageBar, CoverageLegend } from './coverage-bar';
 import { SizeSource } from './size-source';
+import { captureScope } from '../../../lib/scope';
+import { exchangeHref as exchangeHrefOf } from '../../../components/exchange-results';
 
 interface RecoveredFileListProps {
   rig: RigDetail;
@@ -40,7 +42,7 @@ export function RecoveredFileList({ rig, captureId, renderExchanges }: Recovered
       { replace: true, preventScrollReset: true },
     );
   const stationName = (address: number) => rig.stations.find((s) => s.address === address)?.name ?? formatAddress(address);
-  const exchangeHref = (id: number) => `/rigs/${rig.id}/captures/${captureId}/round-trips?${new URLSearchParams({ station: 'all', ex: String(id) })}`;
+  const exchangeHref = (id: number) => exchangeHrefOf(captureScope(rig.id, captureId).page, id);
 
   if (files.error) return <ErrorNotice error={files.error} />;
   if (files.isPending) return <p className="text-sm text-muted">Loading recovered files…</p>;
