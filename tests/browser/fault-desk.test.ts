@@ -47,7 +47,8 @@ describe('fault desk', () => {
       await groups.getByRole('link', { name: /Bad FCS, one bit explains it/ }).click();
       await page.waitForURL(/cause=bad-fcs-explained/);
       const rows = page.getByTestId('fault-row');
-      await expect(rows.count()).resolves.toBe(explained);
+      // the desk also lists other causes (race signatures): wait until the filtered page replaces it
+      await expect.poll(() => rows.count(), { timeout: 15_000 }).toBe(explained);
       for (const text of await rows.allInnerTexts()) expect(text).toMatch(/one flipped bit explains it — bit \d+/);
       await shot(page, 'bad-fcs-group');
 
