@@ -91,7 +91,7 @@ describe('Schedule', () => {
       await panel.waitFor();
       await shot(page, 'exchange-open');
       await panel.getByRole('link', { name: /^Request · frame \d+$/ }).click();
-      await page.waitForURL(/\/frames\/\d+/);
+      await page.waitForURL(/\/frames\/\d+/, { timeout: 30_000, waitUntil: 'commit' });
     } finally {
       await context.close();
     }
