@@ -1,7 +1,7 @@
 // Field hints over a decoded capture: its good information frames, told request or answer by the
 // link directions of the decode's settings, through the hints engine (shared/decoder/hints).
 import type Database from 'better-sqlite3';
-import { and, eq, gt } from 'drizzle-orm';
+import { and, eq, gt, or, sql } from 'drizzle-orm';
 import { drizzle } from 'drizzle-orm/better-sqlite3';
 import { callLayerRoles } from '../../shared/decoder/calls';
 import { FieldHints, hintFrameOf } from '../../shared/decoder/hints';
@@ -15,6 +15,7 @@ import { parseSettings } from './captures/rows';
 
 /** Frames the statistics take at most: beyond this the request thread would wait too long. */
 export const HINT_FRAME_LIMIT = 200_000;
+const PAGE = 5000;
 
 
 export function captureFieldHints(sqlite: Database.Database, c: CaptureRow, q: FieldHintsQuery): CaptureFieldHints {
@@ -35,24 +36,39 @@ export function captureFieldHints(sqlite: Database.Database, c: CaptureRow, q: F
   const ids = new Map<string, number>();
   let read = 0;
   let limited = false;
-  const rows = db
+  // keyset pages in (first sample, id) order: a long capture never sits in memory at once
+  const page = db
     .select(storedFrameColumns)
     .from(frames)
-    .where(and(eq(frames.jobId, job.id), eq(frames.status, 'ok'), gt(frames.infoLength, 0)))
+    .where(
+      and(
+        eq(frames.jobId, job.id),
+        eq(frames.status, 'ok'),
+        gt(frames.infoLength, 0),
+        or(gt(frames.firstSample, sql.placeholder('sample')), and(eq(frames.firstSample, sql.placeholder('sample')), gt(frames.id, sql.placeholder('id')))),
+      ),
+    )
     .orderBy(frames.firstSample, frames.id)
-    .limit(HINT_FRAME_LIMIT + 1)
-    .all();
-  for (const r of rows) {
-    if (read >= HINT_FRAME_LIMIT) {
-      limited = true;
-      break;
+    .limit(PAGE)
+    .prepare();
+  let after = { sample: -Infinity, id: 0 };
+  pages: for (;;) {
+    const rows = page.all(after);
+    for (const r of rows) {
+      if (read >= HINT_FRAME_LIMIT) {
+        limited = true;
+        break pages;
+      }
+      const f = frameFromRow(r);
+      const h = hintFrameOf(f, roles.get(f.link));
+      if (!h) continue;
+      read++;
+      ids.set(`${f.link}:${f.seq}`, r.id);
+      engine.push(h);
     }
-    const f = frameFromRow(r);
-    const h = hintFrameOf(f, roles.get(f.link));
-    if (!h) continue;
-    read++;
-    ids.set(`${f.link}:${f.seq}`, r.id);
-    engine.push(h);
+    if (rows.length < PAGE) break;
+    const last = rows[rows.length - 1];
+    after = { sample: last.firstSample, id: last.id };
   }
   const report = engine.finish();
   const frameIds: Record<string, number> = {};
