@@ -1,5 +1,8 @@
 import type { TimelineCallMarker, TimelineEvent, TimelineFrame, TimelinePage, TimelineQuery, TimelineRow } from '../../../shared/schemas';
+import { SQLiteSyncDialect } from 'drizzle-orm/sqlite-core';
+import type { SQL } from 'drizzle-orm';
 import { badRequest } from '../../http/errors';
+import { searchHitCount, searchHitIds } from '../../runs/search-index';
 import type { CaptureDeps } from './deps';
 import { hexTokens, longestLiteral } from './hex-pattern';
 import type { CaptureRow } from './rows';
@@ -41,6 +44,10 @@ interface Sql {
 const hasFrameFilter = (q: TimelineQuery) =>
   !!(q.station?.length || q.status?.length || q.kind?.length || q.command?.length || q.text || q.hex);
 
+const dialect = new SQLiteSyncDialect();
+/** a search-index fragment as SQL text and its values */
+const rendered = (fragment: SQL) => dialect.sqlToQuery(fragment);
+
 const placeholders = (n: number) => Array.from({ length: n }, () => '?').join(', ');
 
 /**
@@ -77,8 +84,9 @@ export function frameFilters(jobId: number, q: TimelineQuery, selective: Selecti
     const notesOfRun = "notes n where n.capture_id = (select capture_id from decode_jobs where id = ?) and n.body like ? escape '\\'";
     // the trigram index answers substrings of three or more characters without LIKE wildcards
     if (q.text.length >= 3 && escaped === q.text && selective('text', `%${q.text}%`)) {
-      where.push(`f.id in (select rowid from frame_search where text like ? union select nf.id from ${notesOfRun.replace('notes n', 'notes n cross join frames nf on nf.job_id = ? and nf.link = n.link and nf.seq = n.seq')})`);
-      params.push(`%${q.text}%`, jobId, jobId, `%${escaped}%`);
+      const hits = rendered(searchHitIds('text', `%${q.text}%`));
+      where.push(`f.id in (${hits.sql} union select nf.id from ${notesOfRun.replace('notes n', 'notes n cross join frames nf on nf.job_id = ? and nf.link = n.link and nf.seq = n.seq')})`);
+      params.push(...hits.params, jobId, jobId, `%${escaped}%`);
     }
     where.push(`(f.text like ? escape '\\' or exists (select 1 from ${notesOfRun} and n.link = f.link and n.seq = f.seq))`);
     params.push(`%${escaped}%`, jobId, `%${escaped}%`);
@@ -88,8 +96,9 @@ export function frameFilters(jobId: number, q: TimelineQuery, selective: Selecti
     if (tokens.length > 0) {
       const literal = longestLiteral(tokens);
       if (literal.length >= 4 && selective('hex', `%${literal}%`)) {
-        where.push('f.id in (select rowid from frame_search where hex like ?)');
-        params.push(`%${literal}%`);
+        const hits = rendered(searchHitIds('hex', `%${literal}%`));
+        where.push(`f.id in (${hits.sql})`);
+        params.push(...hits.params);
       }
       where.push('hex_match(f.hex, ?)');
       params.push(tokens.join(' '));
@@ -200,7 +209,8 @@ export class TimelineReader {
     const now = Date.now();
     const hit = this.probes.get(key);
     if (hit && now - hit.at < PROBE_TTL_MS) return hit.selective;
-    const n = this.stmt(`select count(*) as n from (select rowid from frame_search where ${column} like ? limit ${SELECTIVE_LIMIT})`).get(likePattern) as { n: number };
+    const probe = rendered(searchHitCount(column, likePattern, SELECTIVE_LIMIT));
+    const n = this.stmt(probe.sql).get(...probe.params) as { n: number };
     const selective = n.n < SELECTIVE_LIMIT;
     if (this.probes.size > 500) this.probes.clear();
     this.probes.set(key, { selective, at: now });
