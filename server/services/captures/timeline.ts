@@ -1,6 +1,7 @@
-import { and, asc, count, desc, eq, inArray, isNotNull, sql, type Placeholder, type SQL } from 'drizzle-orm';
+import { and, asc, count, desc, eq, isNotNull, sql, type Placeholder } from 'drizzle-orm';
 import { alias, type SQLiteColumn } from 'drizzle-orm/sqlite-core';
 import type { TimelineCallMarker, TimelineEvent, TimelineFrame, TimelinePage, TimelineQuery, TimelineRow } from '../../../shared/schemas';
+import { Conditions } from '../../db/conditions';
 import { prepared } from '../../db/prepared';
 import { allRows } from '../../db/rows';
 import { callRuns, captureCallLayers, decodeJobs, exchangeFrames, exchanges, frames, lineEvents, notes, stations } from '../../db/schema';
@@ -43,36 +44,6 @@ const e = alias(lineEvents, 'e');
 // inside sql`` an alias renders as its name alone, so FROM clauses name the table before it
 const n = alias(notes, 'n');
 const nf = alias(frames, 'nf');
-
-/**
- * The conditions of one query as Drizzle fragments whose values are placeholders, and the
- * query's shape: one shape always renders the same SQL, so its prepared statement is reused with
- * each request's values.
- */
-export class Conditions {
-  readonly parts: SQL[] = [];
-  readonly values: Record<string, unknown> = {};
-  shape = '';
-  private next = 0;
-
-  /** a placeholder standing for one value of this request */
-  v(value: unknown) {
-    const name = `v${this.next++}`;
-    this.values[name] = value;
-    return sql.placeholder(name);
-  }
-
-  /** a condition; `token` names its SQL text among the query's shapes */
-  add(token: string, part: SQL) {
-    this.parts.push(part);
-    this.shape += `${token};`;
-  }
-
-  inList(token: string, column: SQLiteColumn, values: readonly unknown[] | undefined) {
-    if (!values || values.length === 0) return;
-    this.add(`${token}:${values.length}`, inArray(column, values.map((x) => this.v(x))));
-  }
-}
 
 /** filters that only frames can satisfy: with any of them, line events are left out */
 const hasFrameFilter = (q: TimelineQuery) =>
