@@ -321,6 +321,8 @@ export class TimelineReader {
     const cursor = q.cursor ? decodeCursor(q.cursor) : null;
     const forward = cursor ? cursor.d === 'f' : q.direction === 'forward';
     const got = this.slice(jobId, q, cursor, forward, q.limit + 1);
+    // the extra row says whether the page's own direction goes on
+    const more = got.length > q.limit;
     const taken = got.slice(0, q.limit);
     if (!forward) taken.reverse();
     const names = this.stationNames(rigId);
@@ -340,8 +342,10 @@ export class TimelineReader {
     }
     const first = taken[0];
     const last = taken[taken.length - 1];
-    const before = this.slice(jobId, q, keyOf(first, 'b'), false, 1).length > 0;
-    const after = this.slice(jobId, q, keyOf(last, 'f'), true, 1).length > 0;
+    // the other way needs a look only from a cursor: without one the page starts at an end
+    const otherWay = (from: Cursor, ahead: boolean) => cursor !== null && this.slice(jobId, q, from, ahead, 1).length > 0;
+    const before = forward ? otherWay(keyOf(first, 'b'), false) : more;
+    const after = forward ? more : otherWay(keyOf(last, 'f'), true);
     // nextCursor continues in the page's direction; prevCursor goes the other way
     const forwardCursor = after ? encodeCursor(keyOf(last, 'f')) : null;
     const backwardCursor = before ? encodeCursor(keyOf(first, 'b')) : null;
