@@ -59,6 +59,22 @@ export type SelectiveProbe = (column: SearchColumn, likePattern: string) => bool
 /** the capture of a decode run, as a scalar subquery */
 const captureOfRun = (jobId: Placeholder) => sql`(select ${decodeJobs.captureId} from ${decodeJobs} where ${decodeJobs.id} = ${jobId})`;
 
+const markedFrame = exchangeFrames.frameId;
+/** a page frame's exchange and its part in it */
+const markerColumns = {
+  frameId: markedFrame,
+  exchangeId: exchanges.id,
+  station: exchanges.station,
+  callName: exchanges.callName,
+  callCode: exchanges.callCode,
+  rtt: exchanges.rtt,
+  outcome: exchanges.outcome,
+  role: sql<TimelineCallMarker['role']>`case when ${exchanges.requestFrameId} = ${markedFrame} then 'request'
+      when exists (select 1 from json_each(${exchanges.responseFrameIds}) r where r.value = ${markedFrame}) then 'response'
+      when exists (select 1 from json_each(${exchanges.damagedResponseFrameIds}) r where r.value = ${markedFrame}) then 'damaged-response'
+      else 'retry' end`,
+};
+
 /** the call run visible over a decode run (its capture's current one, finished, over this run), as a scalar subquery */
 const visibleCallRun = (jobId: Placeholder) =>
   sql`(select ${callRuns.id} from ${decodeJobs}
@@ -218,22 +234,9 @@ export class TimelineReader {
   private callMarkers(jobId: number, frameIds: number[]): Map<number, TimelineCallMarker> {
     const markers = new Map<number, TimelineCallMarker>();
     if (frameIds.length === 0) return markers;
-    const frameId = exchangeFrames.frameId;
-    const rows = this.cached('calls', () =>
+    const stmt = this.cached('calls', () =>
       this.deps.db
-        .select({
-          frameId,
-          exchangeId: exchanges.id,
-          station: exchanges.station,
-          callName: exchanges.callName,
-          callCode: exchanges.callCode,
-          rtt: exchanges.rtt,
-          outcome: exchanges.outcome,
-          role: sql<TimelineCallMarker['role']>`case when ${exchanges.requestFrameId} = ${frameId} then 'request'
-              when exists (select 1 from json_each(${exchanges.responseFrameIds}) r where r.value = ${frameId}) then 'response'
-              when exists (select 1 from json_each(${exchanges.damagedResponseFrameIds}) r where r.value = ${frameId}) then 'damaged-response'
-              else 'retry' end`,
-        })
+        .select(markerColumns)
         .from(exchangeFrames)
         .innerJoin(exchanges, eq(exchanges.id, exchangeFrames.exchangeId))
         .where(
@@ -242,12 +245,13 @@ export class TimelineReader {
             // each page frame looked up by (run, frame) in the index; joined the other way round,
             // SQLite walked every exchange frame of the run and scanned the page's ids for each
             // (1.2 s a page with 100 000 exchange frames)
-            sql`${frameId} in (select value from json_each(${ph('ids')}))`,
+            sql`${exchangeFrames.frameId} in (select value from json_each(${ph('ids')}))`,
           ),
         )
-        .orderBy(frameId, exchanges.id)
+        .orderBy(exchangeFrames.frameId, exchanges.id)
         .prepare(),
-    ).all({ ids: JSON.stringify(frameIds), jobId });
+    );
+    const rows = allRows(stmt, markerColumns, { ids: JSON.stringify(frameIds), jobId });
     // a frame in several exchanges (a repeated answer, say) is marked with the latest one
     for (const r of rows) {
       markers.set(r.frameId, {
