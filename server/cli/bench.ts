@@ -449,7 +449,9 @@ async function benchCli(sizeMb: number, general: boolean): Promise<void> {
   const dir = mkdtempSync(join(tmpdir(), 'flagline-bench-'));
   try {
     const { file, written } = writeRawCapture(dir, sizeMb);
-    const cliArgs = [file, '--format', 'raw', '--sample-rate', String(BIT_RATE * spb), '--channels', 'clk,a,b', '--clock', 'clk', '--data', 'a,b'];
+    // every setting given, as the C reference gets them; the finder's row leaves the encoding out
+    const foundArgs = [file, '--format', 'raw', '--sample-rate', String(BIT_RATE * spb), '--channels', 'clk,a,b', '--clock', 'clk', '--data', 'a,b'];
+    const cliArgs = [...foundArgs, '--encoding', 'nrz'];
     const cliBundle = fileURLToPath(await ensureServerBuild('decode'));
     const benchBundle = await bundle('server/cli/bench.ts', dir, 'bench.mjs');
     const runs = 2;
@@ -473,7 +475,9 @@ async function benchCli(sizeMb: number, general: boolean): Promise<void> {
     if (c) row('C reference (bench/reference.c, cc -O2)', c, '—', null, c.note);
     else process.stdout.write('C reference: no C compiler (cc) here, ratios not measured\n');
     const cli = await bestChild(runs, process.execPath, [cliBundle, ...cliArgs]);
-    row('CLI decode (compiled, dist/server), end to end', cli, '≤ 2× C; RSS < 300 MB', c, `${cli.frames} frames, start-up included`);
+    row('CLI decode (compiled, dist/server), end to end', cli, '≤ 2× C; RSS < 300 MB', c, `${cli.frames} frames, start-up included, settings given`);
+    const found = await bestChild(runs, process.execPath, [cliBundle, ...foundArgs]);
+    row('  the same, settings found by the finder', found, '—', c);
     const npmCli = await bestChild(runs, 'npm', ['run', '--silent', 'decode', '--', ...cliArgs]);
     row('CLI decode via npm run decode, end to end', npmCli, '—', c);
     const stage = (name: Stage) => bestChild(runs, process.execPath, [benchBundle, '--stage', name, '--file', file]);

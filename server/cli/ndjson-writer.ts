@@ -55,18 +55,13 @@ export function eventRecord(e: LineEvent, period: number): Record<string, unknow
 const encoder = new TextEncoder();
 const ascii = (s: string) => encoder.encode(s);
 
-const K_LINK = ascii('{"link":');
-const K_SEQ = ascii(',"seq":');
 const K_T = ascii(',"t":');
 const K_TEND = ascii(',"tEnd":');
-const K_STATUS = ascii(',"status":');
-const K_BITS = ascii(',"bits":');
 const K_HEX = ascii(',"hex":"');
 const K_FCS = ascii('","fcs":');
 const K_ADDRESS = ascii(',"address":');
-const K_KIND = ascii(',"kind":');
-const K_COMMAND = ascii(',"command":');
-const K_NS = ascii(',"ns":');
+/** kind and command of a frame without a link decode */
+const K_NO_LINK = ascii(',"kind":null,"command":null,"ns":');
 const K_NR = ascii(',"nr":');
 const K_PF = ascii(',"pf":');
 const K_FCS_COMPUTED = ascii(',"fcsComputed":"');
@@ -102,11 +97,17 @@ class JsonStrings {
   private readonly values: Uint8Array[] = [];
   private next = 0;
 
+  /** each value is kept with the fixed text around it in the line, so that goes out in the same copy */
+  constructor(
+    private readonly before = '',
+    private readonly after = '',
+  ) {}
+
   get(s: string): Uint8Array {
     const keys = this.keys;
     for (let k = 0; k < keys.length; k++) if (keys[k] === s) return this.values[k];
     let b = this.all.get(s);
-    if (!b) this.all.set(s, (b = encoder.encode(JSON.stringify(s))));
+    if (!b) this.all.set(s, (b = encoder.encode(this.before + JSON.stringify(s) + this.after)));
     this.keys[this.next] = s;
     this.values[this.next] = b;
     this.next = (this.next + 1) % RECENT;
@@ -120,10 +121,10 @@ const FIXED_ROOM = 512;
 export class NdjsonWriter {
   private buf: Uint8Array;
   private at = 0;
-  private readonly links = new JsonStrings();
-  private readonly statuses = new JsonStrings();
-  private readonly kinds = new JsonStrings();
-  private readonly commands = new JsonStrings();
+  private readonly links = new JsonStrings('{"link":', ',"seq":');
+  private readonly statuses = new JsonStrings(',"status":', ',"bits":');
+  private readonly kinds = new JsonStrings(',"kind":', ',"command":');
+  private readonly commands = new JsonStrings('', ',"ns":');
   private readonly digits = new Uint8Array(12);
 
   /**
@@ -144,19 +145,18 @@ export class NdjsonWriter {
     const hexEnd = hasFcs ? bytes.length - (this.fcsDigits >> 1) : bytes.length;
     const d = f.decode;
     const link = this.links.get(f.link);
-    const command = d ? this.commands.get(d.command) : NULL;
-    this.room(FIXED_ROOM + 2 * Math.max(0, hexEnd) + link.length + command.length);
-    this.put(K_LINK);
+    const command = d ? this.commands.get(d.command) : K_NO_LINK;
+    const status = this.statuses.get(f.status);
+    this.room(FIXED_ROOM + 2 * Math.max(0, hexEnd) + link.length + command.length + status.length);
+    // {"link":…,"seq":
     this.put(link);
-    this.put(K_SEQ);
     this.integer(f.seq);
     this.put(K_T);
     this.seconds(f.firstSample, period);
     this.put(K_TEND);
     this.seconds(f.lastSample, period);
-    this.put(K_STATUS);
-    this.put(this.statuses.get(f.status));
-    this.put(K_BITS);
+    // ,"status":…,"bits":
+    this.put(status);
     this.integer(f.bitLength);
     this.put(K_HEX);
     const buf = this.buf;
@@ -174,11 +174,9 @@ export class NdjsonWriter {
     this.put(K_ADDRESS);
     if (d) this.integer(d.address);
     else this.put(NULL);
-    this.put(K_KIND);
-    this.put(d ? this.kinds.get(d.kind) : NULL);
-    this.put(K_COMMAND);
+    // ,"kind":…,"command":…,"ns":
+    if (d) this.put(this.kinds.get(d.kind));
     this.put(command);
-    this.put(K_NS);
     this.nullableInteger(d ? d.ns : null);
     this.put(K_NR);
     this.nullableInteger(d ? d.nr : null);
@@ -293,9 +291,10 @@ export class NdjsonWriter {
   /** the 12-digit integer r (10^11 ≤ r < 10^12) times 10^(e - 11), in fixed notation without trailing zeros */
   private fixed(r: number, e: number): void {
     const digits = this.digits;
+    // both halves below 10^6, so the digit loops run on 32-bit integers (no floating-point remainder)
     const hi = Math.floor(r / 1e6);
-    let lo = r - hi * 1e6;
-    let h = hi;
+    let lo = (r - hi * 1e6) | 0;
+    let h = hi | 0;
     for (let k = 11; k >= 6; k--) {
       digits[k] = 48 + (lo % 10);
       lo = (lo / 10) | 0;
@@ -333,7 +332,8 @@ export class NdjsonWriter {
       return;
     }
     let digits = this.fcsDigits;
-    while (digits < 8 && v >= 2 ** (4 * digits)) digits++;
+    // v >= 16^digits, by shifting (v is a whole number below 2^32; Math.pow per digit was a tenth of the writer)
+    while (digits < 8 && v >>> (4 * digits) !== 0) digits++;
     const buf = this.buf;
     const at = this.at;
     for (let k = 0; k < digits; k++) buf[at + k] = NIBBLE[(v >>> (4 * (digits - 1 - k))) & 15];

@@ -109,7 +109,10 @@ export async function ensureServerBuild(name, { quiet = false } = {}) {
   return pathToFileURL(path.join(serverDist, `${name}.mjs`)).href;
 }
 
-if (process.argv[1] && fileURLToPath(import.meta.url) === path.resolve(process.argv[1])) {
+// Run as a script only under its own name: bundled into another file (the bench's stage runner)
+// import.meta.url is that file, which is also argv[1].
+const self = fileURLToPath(import.meta.url);
+if (process.argv[1] && path.basename(self) === 'server-build.mjs' && self === path.resolve(process.argv[1])) {
   const t0 = performance.now();
   await buildServer();
   console.log(`Built dist/server (${Object.keys(SERVER_ENTRIES).join(', ')}) in ${Math.round(performance.now() - t0)} ms`);

@@ -229,13 +229,18 @@ export class Deframer {
     let fastSt = 0;
     for (let i = 0; i < n; i++) {
       if (inFrame && (i & 7) === 0 && ones < 6 && i + 8 <= n && table) {
-        const b = packed[i >> 3];
-        const e = FAST[(ones << 8) | b];
-        if (e !== 0 && len >> 3 < this.buf.length) {
-          // no flag or abort in these eight line bits: their data bits go in at once
-          const onesOut = (e >> 12) & 15;
+        // whole line bytes without a flag or abort in them: their data bits go in a byte at a time,
+        // in a loop of their own (a frame's body is almost all such bytes)
+        const buf = this.buf;
+        const room = buf.length;
+        const whole = n >> 3;
+        let j = i >> 3;
+        while (j < whole && len >> 3 < room) {
+          const b = packed[j];
+          const e = FAST[(ones << 8) | b];
+          if (e === 0) break;
           const count = (e >> 8) & 15;
-          if (lineCount === 0) firstSample = samples[i];
+          if (lineCount === 0) firstSample = samples[j << 3];
           const st = STUFFED[(ones << 8) | b];
           if (st !== 0) {
             this.stuffedPush(lineCount + (st & 15) - 1);
@@ -243,19 +248,22 @@ export class Deframer {
           }
           lineCount += 8;
           // where the last 0 and the trailing 1s are is worked out once the run of such bytes ends
-          fastAt = i;
           fastE = e;
           fastSt = st;
           fastLen = len;
           const r = len & 7;
           acc |= (e & 0xff) << r;
           if (r + count >= 8) {
-            this.buf[len >> 3] = acc;
+            buf[len >> 3] = acc;
             acc >>>= 8;
           }
           len += count;
-          ones = onesOut;
-          i += 7;
+          ones = (e >> 12) & 15;
+          j++;
+        }
+        if (j > i >> 3) {
+          fastAt = (j - 1) << 3;
+          i = (j << 3) - 1;
           continue;
         }
       }

@@ -86,6 +86,8 @@ const LEARN_INTERVALS = 16;
 const HOLD = 4096;
 /** how far the period may grow within one stretch of the fused feed before quiet() declines it */
 const QUIET_HEADROOM = 1.0625;
+/** quiet() counts clock intervals of fewer samples than this by length */
+const TALLY = 256;
 
 export class AnomalyTap {
   private readonly role = new Uint8Array(256);
@@ -124,6 +126,8 @@ export class AnomalyTap {
   private readonly heldChannel = new Uint8Array(HOLD);
   private readonly heldSample = new Float64Array(HOLD);
   private held = 0;
+  /** quiet(): clock intervals of the stretch by length in samples */
+  private readonly tally = new Int32Array(TALLY);
 
   /** anomalies reported so far */
   reported = 0;
@@ -253,27 +257,52 @@ export class AnomalyTap {
     if (last < 0 && i < to) last = clockEdges[i++];
     const first = i;
     const start = last;
-    const silence = this.silenceBits;
-    const stretch = this.stretchFraction;
+    // the same limits as classifyEdge: anything but an on-time edge is reported there. (d >= a·p
+    // for any of a = silence, 1.5, stretch is d >= min(a)·p: p > 0 and rounding keeps the order.)
+    const late = Math.min(this.silenceBits, 1.5, this.stretchFraction);
+    // intervals counted by length while they are small whole numbers (raw samples give those),
+    // so the histogram takes each length once
+    const tally = this.tally;
+    let counted = true;
     for (; i < to; i++) {
       const s = clockEdges[i];
       const d = s - last;
-      // the same limits as classifyEdge: anything but an on-time edge is reported there
-      if (d < 0.5 * p || d >= silence * p || d >= 1.5 * p || d >= stretch * p) return false;
+      if (d < 0.5 * p || d >= late * p) {
+        if (counted) tally.fill(0);
+        return false;
+      }
       p = p + (d - p) / 64;
       if (p > most) most = p;
+      if (counted) {
+        if (d < TALLY && (d | 0) === d) tally[d]++;
+        else {
+          counted = false;
+          tally.fill(0);
+        }
+      }
       last = s;
     }
-    if (this.glitchFraction * most > screen) return false;
+    if (this.glitchFraction * most > screen) {
+      if (counted) tally.fill(0);
+      return false;
+    }
     // taken: every interval goes into the period's histogram as classifyEdge puts it there
-    p = this.period;
-    last = start;
-    for (i = first; i < to; i++) {
-      const s = clockEdges[i];
-      const d = s - last;
-      this.histogram.add(d, p);
-      p = p + (d - p) / 64;
-      last = s;
+    if (counted) {
+      for (let d = 0; d < TALLY; d++) {
+        if (tally[d] === 0) continue;
+        this.histogram.addRepeated(d, tally[d], this.period);
+        tally[d] = 0;
+      }
+    } else {
+      let q = this.period;
+      let at = start;
+      for (let k = first; k < to; k++) {
+        const s = clockEdges[k];
+        const d = s - at;
+        this.histogram.add(d, q);
+        q = q + (d - q) / 64;
+        at = s;
+      }
     }
     this.period = p;
     this.lastEdge = last;

@@ -63,6 +63,29 @@ export class ClockPeriodHistogram {
     if (samples > this.max) this.max = samples;
   }
 
+  /**
+   * `times` intervals of `samples` samples each, as that many add() calls would leave it: the sums
+   * are multiplied out only while they stay whole numbers below 2^53, where adding is exact and so
+   * order-free; otherwise added one by one.
+   */
+  addRepeated(samples: number, times: number, period: number): void {
+    if (times <= 0) return;
+    const sum = this.sum + samples * times;
+    const sumSq = this.sumSq + samples * samples * times;
+    if (!(Number.isInteger(samples) && Number.isSafeInteger(sumSq) && Number.isSafeInteger(sum) && Number.isInteger(this.sum) && Number.isInteger(this.sumSq))) {
+      for (let k = 0; k < times; k++) this.add(samples, period);
+      return;
+    }
+    if (this.ref === 0) this.ref = period;
+    const bin = Math.min(this.counts.length - 1, Math.max(0, Math.round((samples / this.ref) * BINS_PER_PERIOD)));
+    this.counts[bin] += times;
+    this.n += times;
+    this.sum = sum;
+    this.sumSq = sumSq;
+    if (samples < this.min) this.min = samples;
+    if (samples > this.max) this.max = samples;
+  }
+
   /** null before any interval */
   spread(samplePeriodSeconds: number): ClockSpread | null {
     if (this.n === 0) return null;
