@@ -4,7 +4,7 @@
 //   node server/cli/server-build.mjs          builds (npm run build:server)
 // All outputs sit flat in dist/server/, two levels below the repository like their sources:
 // server/db/client.ts finds the repository from its own file's URL, and the decode queue (server/runs/decode-queue.ts) starts
-// `./decode-worker-entry.mjs` beside itself — in the build that is the bundled worker.
+// the bundled worker beside itself, whose name this build gives it (`define` below).
 import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -73,6 +73,8 @@ export async function buildServer() {
       splitting: true,
       chunkNames: '[name]-[hash]',
       packages: 'external',
+      // the decode queue starts the bundled worker that sits beside it (server/runs/decode-queue.ts)
+      define: { BUNDLED_DECODE_WORKER: JSON.stringify('./decode-worker-entry.mjs') },
     }),
     // The CLI is one file with its one small package (crc) inside: every module node resolves
     // and loads is start-up time, and the CLI must answer within 150 ms.

@@ -284,8 +284,11 @@ export function stallMessage(seconds: number, at: { bytesRead: number; bytesTota
 function workerModule(): URL {
   const testModule = process.env.VITEST ? process.env.FLAGLINE_TEST_DECODE_WORKER : undefined;
   if (testModule) return new URL(`file://${testModule}`);
-  // compiled (dist/server/*.mjs, flat): the bundled worker sits beside this bundle. From sources: a
-  // JavaScript entry that registers tsx, so the TypeScript worker runs under `tsx` and vitest alike
-  const bundled = /\/dist\/server\/[^/]+\.mjs$/.test(import.meta.url);
-  return new URL(bundled ? './decode-worker-entry.mjs' : '../jobs/decode-worker-entry.mjs', import.meta.url);
+  // compiled: the build names the bundled worker beside this bundle. From sources: a JavaScript
+  // entry that registers tsx, so the TypeScript worker runs under `tsx` and vitest alike
+  const bundled = typeof BUNDLED_DECODE_WORKER === 'string' ? BUNDLED_DECODE_WORKER : undefined;
+  return new URL(bundled ?? '../jobs/decode-worker-entry.mjs', import.meta.url);
 }
+
+/** replaced by the server build (server/cli/server-build.mjs, esbuild `define`); undeclared when run from sources */
+declare const BUNDLED_DECODE_WORKER: string | undefined;
