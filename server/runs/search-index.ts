@@ -1,6 +1,7 @@
 // The frame search index (FTS5 trigram table frame_search, contentless over frames.hex/text):
 // the one place with raw SQL for it, since Drizzle cannot express FTS5 tables or their commands.
 import type Database from 'better-sqlite3';
+import { sql, type Placeholder, type SQL } from 'drizzle-orm';
 
 /**
  * frames per index transaction: FTS5 builds much faster from whole chunks than row by row, and
@@ -63,4 +64,21 @@ export function dropSearchEntries(db: Database.Database, jobId: number, from: nu
     from,
     to,
   );
+}
+
+// The query side: predicates over frame_search as Drizzle fragments, for the readers to compose.
+
+const SEARCH_COLUMNS = { hex: sql.raw('hex'), text: sql.raw('text') } as const;
+/** the two indexed columns of frames: hex (address..info as lower-case hex) and text (info as ASCII) */
+export type SearchColumn = keyof typeof SEARCH_COLUMNS;
+
+/** Contract: a subquery of frame ids (frames.id) whose `column` contains the LIKE `pattern` (`%…%`, no escapes, ≥ 3 literal characters, or the index answers more than that); `limit` caps the ids. */
+export function searchHitIds(column: SearchColumn, pattern: string | Placeholder, limit?: number): SQL<number> {
+  const capped = limit === undefined ? sql`` : sql` limit ${sql.raw(String(Math.trunc(limit)))}`;
+  return sql<number>`select rowid from frame_search where ${SEARCH_COLUMNS[column]} like ${pattern}${capped}`;
+}
+
+/** Contract: a one-row query of `n`, the number of index hits of `pattern` in `column` counted up to `cap`: cheap whatever the pattern, to tell a rare term from a common one. */
+export function searchHitCount(column: SearchColumn, pattern: string | Placeholder, cap: number): SQL<{ n: number }> {
+  return sql<{ n: number }>`select count(*) as n from (${searchHitIds(column, pattern, cap)})`;
 }

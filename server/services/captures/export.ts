@@ -1,31 +1,35 @@
+import { and, asc, sql } from 'drizzle-orm';
 import type { Response } from 'express';
 import type { TimelineQuery } from '../../../shared/schemas';
 import type { CaptureDeps } from './deps';
 import { frameSummary } from './summaries';
-import { frameFilters, type SelectiveProbe } from './timeline';
+import { prepared } from '../../db/prepared';
+import { allRows } from '../../db/rows';
+import { f as frameTable, frameFilters, type SelectiveProbe } from './timeline';
 import { csvCell } from '../../http/csv';
 
 const COLUMNS = ['id', 'link', 'seq', 't', 'tEnd', 'status', 'address', 'station', 'kind', 'command', 'ns', 'nr', 'pf', 'infoLength', 'fcsReceived', 'fcsComputed', 'flippedBit', 'hex', 'summary'] as const;
 
-interface ExportRow {
-  id: number;
-  link: string;
-  seq: number;
-  t: number;
-  tEnd: number;
-  status: string;
-  address: number | null;
-  kind: string | null;
-  command: string | null;
-  ns: number | null;
-  nr: number | null;
-  pf: number | null;
-  infoLength: number;
-  fcsReceived: number | null;
-  fcsComputed: number | null;
-  flippedBit: number | null;
-  hex: string;
-}
+const f = frameTable;
+const exportColumns = {
+  id: f.id,
+  link: f.link,
+  seq: f.seq,
+  t: f.t,
+  tEnd: f.tEnd,
+  status: f.status,
+  address: f.address,
+  kind: f.kind,
+  command: f.command,
+  ns: f.ns,
+  nr: f.nr,
+  pf: f.pf,
+  infoLength: f.infoLength,
+  fcsReceived: f.fcsReceived,
+  fcsComputed: f.fcsComputed,
+  flippedBit: f.flippedBit,
+  hex: f.hex,
+};
 
 const PAGE = 2000;
 
@@ -40,11 +44,16 @@ export async function exportFrames(deps: CaptureDeps, res: Response, opts: { job
   if (opts.format === 'csv') await write(COLUMNS.join(',') + '\n');
   else await write('[');
   if (opts.jobId !== null) {
-    const f = frameFilters(opts.jobId, opts.q, opts.selective);
-    const stmt = deps.sqlite.prepare(
-      `select f.id, f.link, f.seq, f.t, f.t_end as tEnd, f.status, f.address, f.kind, f.command, f.ns, f.nr, f.pf, f.info_length as infoLength,
-         f.fcs_received as fcsReceived, f.fcs_computed as fcsComputed, f.flipped_bit as flippedBit, f.hex
-       from frames f where ${f.where.join(' and ')} and (f.t, f.id) > (?, ?) order by f.t, f.id limit ?`,
+    const w = frameFilters(opts.jobId, opts.q, opts.selective);
+    w.add('after', sql`(${f.t}, ${f.id}) > (${sql.placeholder('afterT')}, ${sql.placeholder('afterId')})`);
+    const stmt = prepared(deps.db, `export ${w.shape}`, () =>
+      deps.db
+        .select(exportColumns)
+        .from(f)
+        .where(and(...w.parts))
+        .orderBy(asc(f.t), asc(f.id))
+        .limit(PAGE)
+        .prepare(),
     );
     let first = true;
     let after = { t: -1, id: 0 };
@@ -53,15 +62,14 @@ export async function exportFrames(deps: CaptureDeps, res: Response, opts: { job
     for (;;) {
       let buffer = '';
       let n = 0;
-      for (const r of stmt.iterate(...f.params, after.t, after.id, PAGE) as Iterable<ExportRow>) {
+      for (const r of allRows(stmt, exportColumns, { ...w.values, afterT: after.t, afterId: after.id })) {
         const station = r.address === null ? null : (opts.names.get(r.address) ?? null);
         const summary = frameSummary(r, station);
-        const pf = r.pf === null ? null : r.pf === 1;
         if (opts.format === 'csv') {
-          const values: Record<(typeof COLUMNS)[number], unknown> = { ...r, station, summary, pf };
+          const values: Record<(typeof COLUMNS)[number], unknown> = { ...r, station, summary };
           buffer += COLUMNS.map((c) => csvCell(values[c])).join(',') + '\n';
         } else {
-          buffer += (first ? '' : ',\n') + JSON.stringify({ ...r, pf, station, summary });
+          buffer += (first ? '' : ',\n') + JSON.stringify({ ...r, station, summary });
         }
         first = false;
         after = { t: r.t, id: r.id };

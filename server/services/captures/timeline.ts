@@ -1,10 +1,15 @@
+import { and, asc, count, desc, eq, inArray, isNotNull, sql, type Placeholder, type SQL } from 'drizzle-orm';
+import { alias, type SQLiteColumn } from 'drizzle-orm/sqlite-core';
 import type { TimelineCallMarker, TimelineEvent, TimelineFrame, TimelinePage, TimelineQuery, TimelineRow } from '../../../shared/schemas';
+import { prepared } from '../../db/prepared';
+import { allRows } from '../../db/rows';
+import { callRuns, captureCallLayers, decodeJobs, exchangeFrames, exchanges, frames, lineEvents, notes, stations } from '../../db/schema';
 import { badRequest } from '../../http/errors';
+import { searchHitCount, searchHitIds, type SearchColumn } from '../../runs/search-index';
 import type { CaptureDeps } from './deps';
 import { hexTokens, longestLiteral } from './hex-pattern';
 import type { CaptureRow } from './rows';
 import { eventSummary, frameSummary } from './summaries';
-
 // The timeline is two keyset streams in one order: frames (k = 0) and line events (k = 1),
 // each sorted by (t, id) through an index; rows are ordered by (t, k, id) overall. A cursor is
 // such a key plus the direction it continues in, so each stream's query starts exactly after
@@ -32,167 +37,162 @@ export function decodeCursor(s: string): Cursor {
   throw badRequest('Some fields need attention', { cursor: 'This cursor is not one the timeline gave out; start from the first page' });
 }
 
-interface Sql {
-  where: string[];
-  params: unknown[];
+/** the timeline's tables under the aliases its query plans are checked with (f frames, e line events) */
+export const f = alias(frames, 'f');
+const e = alias(lineEvents, 'e');
+// inside sql`` an alias renders as its name alone, so FROM clauses name the table before it
+const n = alias(notes, 'n');
+const nf = alias(frames, 'nf');
+
+/**
+ * The conditions of one query as Drizzle fragments whose values are placeholders, and the
+ * query's shape: one shape always renders the same SQL, so its prepared statement is reused with
+ * each request's values.
+ */
+export class Conditions {
+  readonly parts: SQL[] = [];
+  readonly values: Record<string, unknown> = {};
+  shape = '';
+  private next = 0;
+
+  /** a placeholder standing for one value of this request */
+  v(value: unknown) {
+    const name = `v${this.next++}`;
+    this.values[name] = value;
+    return sql.placeholder(name);
+  }
+
+  /** a condition; `token` names its SQL text among the query's shapes */
+  add(token: string, part: SQL) {
+    this.parts.push(part);
+    this.shape += `${token};`;
+  }
+
+  inList(token: string, column: SQLiteColumn, values: readonly unknown[] | undefined) {
+    if (!values || values.length === 0) return;
+    this.add(`${token}:${values.length}`, inArray(column, values.map((x) => this.v(x))));
+  }
 }
 
 /** filters that only frames can satisfy: with any of them, line events are left out */
 const hasFrameFilter = (q: TimelineQuery) =>
   !!(q.station?.length || q.status?.length || q.kind?.length || q.command?.length || q.text || q.hex);
 
-const placeholders = (n: number) => Array.from({ length: n }, () => '?').join(', ');
-
 /**
  * Whether a trigram search (column LIKE pattern) finds few enough rows to drive the query.
  * A common pattern is answered faster by walking frames in time order and testing each, which
  * stops after one page; a rare one by collecting its few rows from the index first.
  */
-export type SelectiveProbe = (column: 'hex' | 'text', likePattern: string) => boolean;
+export type SelectiveProbe = (column: SearchColumn, likePattern: string) => boolean;
 
-export function frameFilters(jobId: number, q: TimelineQuery, selective: SelectiveProbe = () => true): Sql {
-  const where = ['f.job_id = ?'];
-  const params: unknown[] = [jobId];
-  const inList = (col: string, values: unknown[] | undefined) => {
-    if (!values || values.length === 0) return;
-    where.push(`${col} in (${placeholders(values.length)})`);
-    params.push(...values);
-  };
-  inList('f.link', q.link);
-  inList('f.address', q.station);
-  inList('f.status', q.status);
-  inList('f.kind', q.kind);
-  inList('f.command', q.command);
-  if (q.from !== undefined) {
-    where.push('f.t >= ?');
-    params.push(q.from);
-  }
-  if (q.to !== undefined) {
-    where.push('f.t <= ?');
-    params.push(q.to);
-  }
+/** the capture of a decode run, as a scalar subquery */
+const captureOfRun = (jobId: Placeholder) => sql`(select ${decodeJobs.captureId} from ${decodeJobs} where ${decodeJobs.id} = ${jobId})`;
+
+/** The frame filters of a timeline query over the frames aliased `f`. */
+export function frameFilters(jobId: number, q: TimelineQuery, selective: SelectiveProbe = () => true): Conditions {
+  const w = new Conditions();
+  w.inList('link', f.link, q.link);
+  w.inList('station', f.address, q.station);
+  w.inList('status', f.status, q.status);
+  w.inList('kind', f.kind, q.kind);
+  w.inList('command', f.command, q.command);
+  if (q.from !== undefined) w.add('from', sql`${f.t} >= ${w.v(q.from)}`);
+  if (q.to !== undefined) w.add('to', sql`${f.t} <= ${w.v(q.to)}`);
+  let searched = false;
   if (q.text) {
     const escaped = q.text.replace(/[\\%_]/g, (m) => `\\${m}`);
     // frames whose notes hold the text match too; notes pin frames by link + seq, not by id
-    const notesOfRun = "notes n where n.capture_id = (select capture_id from decode_jobs where id = ?) and n.body like ? escape '\\'";
+    const noteMatches = () => sql`${n.captureId} = ${captureOfRun(w.v(jobId))} and ${n.body} like ${w.v(`%${escaped}%`)} escape '\\'`;
     // the trigram index answers substrings of three or more characters without LIKE wildcards
     if (q.text.length >= 3 && escaped === q.text && selective('text', `%${q.text}%`)) {
-      where.push(`f.id in (select rowid from frame_search where text like ? union select nf.id from ${notesOfRun.replace('notes n', 'notes n cross join frames nf on nf.job_id = ? and nf.link = n.link and nf.seq = n.seq')})`);
-      params.push(`%${q.text}%`, jobId, jobId, `%${escaped}%`);
+      searched = true;
+      const hits = searchHitIds('text', w.v(`%${q.text}%`));
+      const noted = sql`select ${nf.id} from ${notes} ${n} cross join ${frames} ${nf} on ${nf.jobId} = ${w.v(jobId)} and ${nf.link} = ${n.link} and ${nf.seq} = ${n.seq} where ${noteMatches()}`;
+      w.add('text-index', sql`${f.id} in (${hits} union ${noted})`);
     }
-    where.push(`(f.text like ? escape '\\' or exists (select 1 from ${notesOfRun} and n.link = f.link and n.seq = f.seq))`);
-    params.push(`%${escaped}%`, jobId, `%${escaped}%`);
+    w.add('text', sql`(${f.text} like ${w.v(`%${escaped}%`)} escape '\\' or exists (select 1 from ${notes} ${n} where ${noteMatches()} and ${n.link} = ${f.link} and ${n.seq} = ${f.seq}))`);
   }
   if (q.hex) {
     const tokens = hexTokens(q.hex);
     if (tokens.length > 0) {
       const literal = longestLiteral(tokens);
       if (literal.length >= 4 && selective('hex', `%${literal}%`)) {
-        where.push('f.id in (select rowid from frame_search where hex like ?)');
-        params.push(`%${literal}%`);
+        searched = true;
+        w.add('hex-index', sql`${f.id} in (${searchHitIds('hex', w.v(`%${literal}%`))})`);
       }
-      where.push('hex_match(f.hex, ?)');
-      params.push(tokens.join(' '));
+      w.add('hex', sql`hex_match(${f.hex}, ${w.v(tokens.join(' '))})`);
     }
   }
   // With a rare search term the rows come from the search index: the unary + keeps the planner
   // from walking the job's whole time index instead and testing each frame against the list.
-  if (where.some((w) => w.includes('frame_search'))) where[0] = '+f.job_id = ?';
-  return { where, params };
+  w.parts.unshift(searched ? sql`+${f.jobId} = ${w.v(jobId)}` : sql`${f.jobId} = ${w.v(jobId)}`);
+  w.shape = `${searched ? '+job' : 'job'};${w.shape}`;
+  return w;
 }
 
-function eventFilters(jobId: number, q: TimelineQuery): Sql {
-  const where = ['e.job_id = ?'];
-  const params: unknown[] = [jobId];
-  if (q.link?.length) {
-    where.push(`e.link in (${placeholders(q.link.length)})`);
-    params.push(...q.link);
-  }
-  if (q.from !== undefined) {
-    where.push('e.t >= ?');
-    params.push(q.from);
-  }
-  if (q.to !== undefined) {
-    where.push('e.t <= ?');
-    params.push(q.to);
-  }
-  return { where, params };
+function eventFilters(jobId: number, q: TimelineQuery): Conditions {
+  const w = new Conditions();
+  w.add('job', eq(e.jobId, w.v(jobId)));
+  w.inList('link', e.link, q.link);
+  if (q.from !== undefined) w.add('from', sql`${e.t} >= ${w.v(q.from)}`);
+  if (q.to !== undefined) w.add('to', sql`${e.t} <= ${w.v(q.to)}`);
+  return w;
 }
 
-/** the keyset condition of one stream (its k) relative to a cursor */
-function keyset(alias: string, k: number, c: Cursor | null, forward: boolean): Sql {
-  if (!c) return { where: [], params: [] };
-  const t = `${alias}.t`;
-  const id = `${alias}.id`;
+/** adds the keyset condition of one stream (its k) relative to a cursor */
+function keyset(w: Conditions, t: SQLiteColumn, id: SQLiteColumn, k: number, c: Cursor | null, forward: boolean): void {
+  if (!c) return;
   if (forward) {
-    if (c.k < k) return { where: [`${t} >= ?`], params: [c.t] };
-    if (c.k === k) return { where: [`(${t}, ${id}) > (?, ?)`], params: [c.t, c.id] };
-    return { where: [`${t} > ?`], params: [c.t] };
+    if (c.k < k) w.add('t>=', sql`${t} >= ${w.v(c.t)}`);
+    else if (c.k === k) w.add('(t,id)>', sql`(${t}, ${id}) > (${w.v(c.t)}, ${w.v(c.id)})`);
+    else w.add('t>', sql`${t} > ${w.v(c.t)}`);
+    return;
   }
-  if (c.k > k) return { where: [`${t} <= ?`], params: [c.t] };
-  if (c.k === k) return { where: [`(${t}, ${id}) < (?, ?)`], params: [c.t, c.id] };
-  return { where: [`${t} < ?`], params: [c.t] };
+  if (c.k > k) w.add('t<=', sql`${t} <= ${w.v(c.t)}`);
+  else if (c.k === k) w.add('(t,id)<', sql`(${t}, ${id}) < (${w.v(c.t)}, ${w.v(c.id)})`);
+  else w.add('t<', sql`${t} < ${w.v(c.t)}`);
 }
 
 const noteKey = (link: string, seq: number) => `${link}\u0000${seq}`;
 
-function withNotesAndCall(f: TimelineFrame, counts: Map<string, number>, calls: Map<number, TimelineCallMarker>): TimelineFrame {
-  const n = counts.get(noteKey(f.link, f.seq));
-  const call = calls.get(f.id);
-  return n || call ? { ...f, ...(n ? { notes: n } : {}), ...(call ? { call } : {}) } : f;
+function withNotesAndCall(fr: TimelineFrame, counts: Map<string, number>, calls: Map<number, TimelineCallMarker>): TimelineFrame {
+  const notesOn = counts.get(noteKey(fr.link, fr.seq));
+  const call = calls.get(fr.id);
+  return notesOn || call ? { ...fr, ...(notesOn ? { notes: notesOn } : {}), ...(call ? { call } : {}) } : fr;
 }
 
-interface CallMarkerDbRow {
-  frameId: number;
-  exchangeId: number;
-  role: TimelineCallMarker['role'];
-  station: number;
-  callName: string | null;
-  callCode: number | null;
-  rtt: number | null;
-  outcome: TimelineCallMarker['outcome'];
-}
+const frameColumns = {
+  id: f.id,
+  link: f.link,
+  seq: f.seq,
+  t: f.t,
+  tEnd: f.tEnd,
+  status: f.status,
+  address: f.address,
+  kind: f.kind,
+  command: f.command,
+  ns: f.ns,
+  nr: f.nr,
+  pf: f.pf,
+  infoLength: f.infoLength,
+  // a list shows 64 octets at most
+  hex: sql<string>`substr(${f.hex}, 1, 128)`,
+  flippedBit: f.flippedBit,
+};
+const eventColumns = { id: e.id, link: e.link, channel: e.channel, kind: e.kind, t: e.t, tEnd: e.tEnd, count: e.count };
 
-const FRAME_COLUMNS = `f.id, f.link, f.seq, f.t, f.t_end as tEnd, f.status, f.address, f.kind, f.command, f.ns, f.nr, f.pf,
-  f.info_length as infoLength, substr(f.hex, 1, 128) as hex, f.flipped_bit as flippedBit`;
-const EVENT_COLUMNS = 'e.id, e.link, e.channel, e.kind, e.t, e.t_end as tEnd, e.count';
-
-interface FrameDbRow {
-  id: number;
-  link: string;
-  seq: number;
-  t: number;
-  tEnd: number;
-  status: TimelineFrame['status'];
-  address: number | null;
-  kind: TimelineFrame['kind'];
-  command: string | null;
-  ns: number | null;
-  nr: number | null;
-  pf: number | null;
-  infoLength: number;
-  hex: string;
-  flippedBit: number | null;
-}
-
-interface EventDbRow {
-  id: number;
-  link: string | null;
-  channel: string;
-  kind: TimelineEvent['kind'];
-  t: number;
-  tEnd: number | null;
-  count: number | null;
-}
+/** the stored fields of a frame that a timeline row shows */
+export type TimelineFrameRow = Pick<typeof frames.$inferSelect, keyof typeof frameColumns>;
+type EventRow = Pick<typeof lineEvents.$inferSelect, keyof typeof eventColumns>;
 
 /** matches above this many, a search walks the frames in time order instead of collecting them first */
 const SELECTIVE_LIMIT = 5000;
 const PROBE_TTL_MS = 30_000;
+const ph = sql.placeholder;
 
 export class TimelineReader {
-  private readonly statements = new Map<string, import('better-sqlite3').Statement>();
   private readonly probes = new Map<string, { selective: boolean; at: number }>();
-  constructor(private readonly deps: CaptureDeps) {}
+  constructor(private readonly deps: Pick<CaptureDeps, 'db'>) {}
 
   /** counts up to SELECTIVE_LIMIT index hits of a pattern; remembered briefly so the pages of one search ask once */
   readonly selective: SelectiveProbe = (column, likePattern) => {
@@ -200,33 +200,36 @@ export class TimelineReader {
     const now = Date.now();
     const hit = this.probes.get(key);
     if (hit && now - hit.at < PROBE_TTL_MS) return hit.selective;
-    const n = this.stmt(`select count(*) as n from (select rowid from frame_search where ${column} like ? limit ${SELECTIVE_LIMIT})`).get(likePattern) as { n: number };
-    const selective = n.n < SELECTIVE_LIMIT;
+    // once per pattern and TTL, so not worth a prepared statement per pattern
+    const hits = this.deps.db.get<{ n: number }>(searchHitCount(column, likePattern, SELECTIVE_LIMIT));
+    const selective = hits.n < SELECTIVE_LIMIT;
     if (this.probes.size > 500) this.probes.clear();
     this.probes.set(key, { selective, at: now });
     return selective;
   };
 
-  private stmt(sql: string) {
-    let s = this.statements.get(sql);
-    if (!s) {
-      s = this.deps.sqlite.prepare(sql);
-      if (this.statements.size > 500) this.statements.clear();
-      this.statements.set(sql, s);
-    }
-    return s;
+  /** the prepared statement of one query shape, built on first use */
+  private cached<T>(key: string, build: () => T): T {
+    return prepared(this.deps.db, `timeline ${key}`, build);
   }
 
   stationNames(rigId: number): Map<number, string> {
-    const rows = this.stmt('select address, name from stations where rig_id = ?').all(rigId) as { address: number; name: string }[];
+    const rows = this.cached('stations', () =>
+      this.deps.db.select({ address: stations.address, name: stations.name }).from(stations).where(eq(stations.rigId, ph('rigId'))).prepare(),
+    ).all({ rigId });
     return new Map(rows.map((r) => [r.address, r.name]));
   }
 
   /** notes per frame of the run's capture, keyed link + seq (a capture holds few notes; frames many) */
   private noteCounts(jobId: number): Map<string, number> {
-    const rows = this.stmt(
-      'select link, seq, count(*) as n from notes where capture_id = (select capture_id from decode_jobs where id = ?) and seq is not null group by link, seq',
-    ).all(jobId) as { link: string; seq: number; n: number }[];
+    const rows = this.cached('notes', () =>
+      this.deps.db
+        .select({ link: sql<string>`${notes.link}`, seq: sql<number>`${notes.seq}`, n: count() })
+        .from(notes)
+        .where(and(eq(notes.captureId, captureOfRun(ph('jobId'))), isNotNull(notes.seq)))
+        .groupBy(notes.link, notes.seq)
+        .prepare(),
+    ).all({ jobId });
     return new Map(rows.map((r) => [noteKey(r.link, r.seq), r.n]));
   }
 
@@ -237,20 +240,32 @@ export class TimelineReader {
   private callMarkers(jobId: number, frameIds: number[]): Map<number, TimelineCallMarker> {
     const markers = new Map<number, TimelineCallMarker>();
     if (frameIds.length === 0) return markers;
-    const rows = this.stmt(
-      `select ef.frame_id as frameId, e.id as exchangeId, e.station, e.call_name as callName, e.call_code as callCode, e.rtt, e.outcome,
-         case when e.request_frame_id = ef.frame_id then 'request'
-              when exists (select 1 from json_each(e.response_frame_ids) r where r.value = ef.frame_id) then 'response'
-              when exists (select 1 from json_each(e.damaged_response_frame_ids) r where r.value = ef.frame_id) then 'damaged-response'
-              else 'retry' end as role
-       from decode_jobs j join capture_call_layers l on l.capture_id = j.capture_id
-       join call_runs cr on cr.id = l.current_run_id and cr.decode_job_id = j.id and cr.state = 'done'
-       join json_each(?) ids
-       join exchange_frames ef on ef.run_id = cr.id and ef.frame_id = ids.value
-       join exchanges e on e.id = ef.exchange_id
-       where j.id = ?
-       order by ef.frame_id, e.id`,
-    ).all(JSON.stringify(frameIds), jobId) as CallMarkerDbRow[];
+    const frameId = exchangeFrames.frameId;
+    const rows = this.cached('calls', () =>
+      this.deps.db
+        .select({
+          frameId,
+          exchangeId: exchanges.id,
+          station: exchanges.station,
+          callName: exchanges.callName,
+          callCode: exchanges.callCode,
+          rtt: exchanges.rtt,
+          outcome: exchanges.outcome,
+          role: sql<TimelineCallMarker['role']>`case when ${exchanges.requestFrameId} = ${frameId} then 'request'
+              when exists (select 1 from json_each(${exchanges.responseFrameIds}) r where r.value = ${frameId}) then 'response'
+              when exists (select 1 from json_each(${exchanges.damagedResponseFrameIds}) r where r.value = ${frameId}) then 'damaged-response'
+              else 'retry' end`,
+        })
+        .from(decodeJobs)
+        .innerJoin(captureCallLayers, eq(captureCallLayers.captureId, decodeJobs.captureId))
+        .innerJoin(callRuns, and(eq(callRuns.id, captureCallLayers.currentRunId), eq(callRuns.decodeJobId, decodeJobs.id), sql`${callRuns.state} = 'done'`))
+        .innerJoin(sql`json_each(${ph('ids')}) ids`, sql`true`)
+        .innerJoin(exchangeFrames, and(eq(exchangeFrames.runId, callRuns.id), sql`${frameId} = ids.value`))
+        .innerJoin(exchanges, eq(exchanges.id, exchangeFrames.exchangeId))
+        .where(eq(decodeJobs.id, ph('jobId')))
+        .orderBy(frameId, exchanges.id)
+        .prepare(),
+    ).all({ ids: JSON.stringify(frameIds), jobId });
     // a frame in several exchanges (a repeated answer, say) is marked with the latest one
     for (const r of rows) {
       markers.set(r.frameId, {
@@ -265,7 +280,7 @@ export class TimelineReader {
     return markers;
   }
 
-  toFrame(r: FrameDbRow, names: Map<number, string>): TimelineFrame {
+  toFrame(r: TimelineFrameRow, names: Map<number, string>): TimelineFrame {
     const stationName = r.address === null ? null : (names.get(r.address) ?? null);
     return {
       type: 'frame',
@@ -281,34 +296,50 @@ export class TimelineReader {
       command: r.command,
       ns: r.ns,
       nr: r.nr,
-      pf: r.pf === null ? null : r.pf === 1,
+      pf: r.pf,
       infoLength: r.infoLength,
       hex: r.hex,
       summary: frameSummary(r, stationName),
     };
   }
 
-  private frames(jobId: number, q: TimelineQuery, c: Cursor | null, forward: boolean, limit: number): FrameDbRow[] {
-    const f = frameFilters(jobId, q, this.selective);
-    const ks = keyset('f', 0, c, forward);
-    const dir = forward ? 'asc' : 'desc';
-    const sql = `select ${FRAME_COLUMNS} from frames f where ${[...f.where, ...ks.where].join(' and ')} order by f.t ${dir}, f.id ${dir} limit ?`;
-    return this.stmt(sql).all(...f.params, ...ks.params, limit) as FrameDbRow[];
+  private frames(jobId: number, q: TimelineQuery, c: Cursor | null, forward: boolean, limit: number): TimelineFrameRow[] {
+    const w = frameFilters(jobId, q, this.selective);
+    keyset(w, f.t, f.id, 0, c, forward);
+    const order = forward ? [asc(f.t), asc(f.id)] : [desc(f.t), desc(f.id)];
+    const stmt = this.cached(`frames ${forward ? 'f' : 'b'} ${w.shape}`, () =>
+      this.deps.db
+        .select(frameColumns)
+        .from(f)
+        .where(and(...w.parts))
+        .orderBy(...order)
+        .limit(ph('limit'))
+        .prepare(),
+    );
+    return allRows(stmt, frameColumns, { ...w.values, limit });
   }
 
-  private events(jobId: number, q: TimelineQuery, c: Cursor | null, forward: boolean, limit: number): EventDbRow[] {
+  private events(jobId: number, q: TimelineQuery, c: Cursor | null, forward: boolean, limit: number): EventRow[] {
     if (!q.events || hasFrameFilter(q)) return [];
-    const e = eventFilters(jobId, q);
-    const ks = keyset('e', 1, c, forward);
-    const dir = forward ? 'asc' : 'desc';
-    const sql = `select ${EVENT_COLUMNS} from line_events e where ${[...e.where, ...ks.where].join(' and ')} order by e.t ${dir}, e.id ${dir} limit ?`;
-    return this.stmt(sql).all(...e.params, ...ks.params, limit) as EventDbRow[];
+    const w = eventFilters(jobId, q);
+    keyset(w, e.t, e.id, 1, c, forward);
+    const order = forward ? [asc(e.t), asc(e.id)] : [desc(e.t), desc(e.id)];
+    const stmt = this.cached(`events ${forward ? 'f' : 'b'} ${w.shape}`, () =>
+      this.deps.db
+        .select(eventColumns)
+        .from(e)
+        .where(and(...w.parts))
+        .orderBy(...order)
+        .limit(ph('limit'))
+        .prepare(),
+    );
+    return allRows(stmt, eventColumns, { ...w.values, limit });
   }
 
   /** up to `limit` rows after (forward) or before (backward) the cursor, merged in (t, k, id) order, nearest first */
   private slice(jobId: number, q: TimelineQuery, c: Cursor | null, forward: boolean, limit: number) {
-    const fs = this.frames(jobId, q, c, forward, limit).map((r) => ({ k: 0, r }));
-    const es = this.events(jobId, q, c, forward, limit).map((r) => ({ k: 1, r }));
+    const fs = this.frames(jobId, q, c, forward, limit).map((r) => ({ k: 0 as const, r }));
+    const es = this.events(jobId, q, c, forward, limit).map((r) => ({ k: 1 as const, r }));
     const sign = forward ? 1 : -1;
     const merged = [...fs, ...es].sort((a, b) => sign * (a.r.t - b.r.t || a.k - b.k || a.r.id - b.r.id));
     return merged.slice(0, limit);
@@ -319,16 +350,15 @@ export class TimelineReader {
     const cursor = q.cursor ? decodeCursor(q.cursor) : null;
     const forward = cursor ? cursor.d === 'f' : q.direction === 'forward';
     const got = this.slice(jobId, q, cursor, forward, q.limit + 1);
-    const more = got.length > q.limit;
     const taken = got.slice(0, q.limit);
     if (!forward) taken.reverse();
     const names = this.stationNames(rigId);
     const noteCounts = this.noteCounts(jobId);
-    const calls = this.callMarkers(jobId, taken.filter((x) => x.k === 0).map((x) => x.r.id));
-    const rows: TimelineRow[] = taken.map(({ k, r }) =>
-      k === 0
-        ? withNotesAndCall(this.toFrame(r as FrameDbRow, names), noteCounts, calls)
-        : ({ type: 'event', ...(r as EventDbRow), summary: eventSummary(r as EventDbRow) } satisfies TimelineEvent),
+    const calls = this.callMarkers(jobId, taken.flatMap((x) => (x.k === 0 ? [x.r.id] : [])));
+    const rows: TimelineRow[] = taken.map((x) =>
+      x.k === 0
+        ? withNotesAndCall(this.toFrame(x.r, names), noteCounts, calls)
+        : ({ type: 'event', ...x.r, summary: eventSummary(x.r) } satisfies TimelineEvent),
     );
     const keyOf = (x: { k: number; r: { t: number; id: number } }, d: 'f' | 'b'): Cursor => ({ t: x.r.t, k: x.k, id: x.r.id, d });
     if (taken.length === 0) {
@@ -344,7 +374,6 @@ export class TimelineReader {
     // nextCursor continues in the page's direction; prevCursor goes the other way
     const forwardCursor = after ? encodeCursor(keyOf(last, 'f')) : null;
     const backwardCursor = before ? encodeCursor(keyOf(first, 'b')) : null;
-    void more;
     return forward
       ? { rows, nextCursor: forwardCursor, prevCursor: backwardCursor }
       : { rows, nextCursor: backwardCursor, prevCursor: forwardCursor };
@@ -354,16 +383,20 @@ export class TimelineReader {
     if (jobId === null) return 0;
     if (!hasFrameFilter(q) && !q.link?.length && q.from === undefined && q.to === undefined) {
       // the whole run: its totals were recorded when it finished
-      const totals = this.stmt('select frames, events from decode_jobs where id = ?').get(jobId) as { frames: number; events: number };
-      return totals.frames + (q.events ? totals.events : 0);
+      const totals = this.cached('totals', () =>
+        this.deps.db.select({ frames: decodeJobs.frames, events: decodeJobs.events }).from(decodeJobs).where(eq(decodeJobs.id, ph('jobId'))).prepare(),
+      ).get({ jobId });
+      return totals ? totals.frames + (q.events ? totals.events : 0) : 0;
     }
-    const f = frameFilters(jobId, q, this.selective);
-    let n = (this.stmt(`select count(*) as n from frames f where ${f.where.join(' and ')}`).get(...f.params) as { n: number }).n;
+    const fw = frameFilters(jobId, q, this.selective);
+    const countFrames = this.cached(`count frames ${fw.shape}`, () => this.deps.db.select({ n: count() }).from(f).where(and(...fw.parts)).prepare());
+    let total = countFrames.get(fw.values)?.n ?? 0;
     if (q.events && !hasFrameFilter(q)) {
-      const e = eventFilters(jobId, q);
-      n += (this.stmt(`select count(*) as n from line_events e where ${e.where.join(' and ')}`).get(...e.params) as { n: number }).n;
+      const ew = eventFilters(jobId, q);
+      const countEvents = this.cached(`count events ${ew.shape}`, () => this.deps.db.select({ n: count() }).from(e).where(and(...ew.parts)).prepare());
+      total += countEvents.get(ew.values)?.n ?? 0;
     }
-    return n;
+    return total;
   }
 
   /** a forward cursor that starts at the first row at or after t */
@@ -374,12 +407,22 @@ export class TimelineReader {
   /** the next or previous damaged frame (any status but ok) on the timeline */
   damaged(jobId: number, from: { t: number; id: number }, dir: 'next' | 'prev'): number | null {
     const forward = dir === 'next';
-    const op = forward ? '>' : '<';
-    const order = forward ? 'asc' : 'desc';
-    const row = this.stmt(
-      `select id from frames where job_id = ? and status in ('bad-fcs', 'abort', 'short', 'residue') and (t, id) ${op} (?, ?) order by t ${order}, id ${order} limit 1`,
-    ).get(jobId, from.t, from.id) as { id: number } | undefined;
-    return row?.id ?? null;
+    const stmt = this.cached(`damaged ${dir}`, () =>
+      this.deps.db
+        .select({ id: frames.id })
+        .from(frames)
+        .where(
+          and(
+            eq(frames.jobId, ph('jobId')),
+            sql`${frames.status} in ('bad-fcs', 'abort', 'short', 'residue')`,
+            forward ? sql`(${frames.t}, ${frames.id}) > (${ph('t')}, ${ph('id')})` : sql`(${frames.t}, ${frames.id}) < (${ph('t')}, ${ph('id')})`,
+          ),
+        )
+        .orderBy(...(forward ? [asc(frames.t), asc(frames.id)] : [desc(frames.t), desc(frames.id)]))
+        .limit(1)
+        .prepare(),
+    );
+    return stmt.get({ jobId, t: from.t, id: from.id })?.id ?? null;
   }
 }
 
