@@ -1,4 +1,4 @@
-// The frame search index (FTS5 trigram table frame_search, contentless over frames.hex/text):
+// The frame search index (FTS5 trigram table frame_search, external content over frames.hex/text):
 // the one place with raw SQL for it, since Drizzle cannot express FTS5 tables or their commands.
 import type Database from 'better-sqlite3';
 import { sql, type Placeholder, type SQL } from 'drizzle-orm';
@@ -72,13 +72,33 @@ const SEARCH_COLUMNS = { hex: sql.raw('hex'), text: sql.raw('text') } as const;
 /** the two indexed columns of frames: hex (address..info as lower-case hex) and text (info as ASCII) */
 export type SearchColumn = keyof typeof SEARCH_COLUMNS;
 
-/** Contract: a subquery of frame ids (frames.id) whose `column` contains the LIKE `pattern` (`%…%`, no escapes, ≥ 3 literal characters, or the index answers more than that); `limit` caps the ids. */
+/**
+ * Frames of visible runs that are not in the index yet: a decode run becomes visible before its
+ * index is built, and until the index reaches last_frame_id the rest of its frames are handed
+ * to the search as candidates. Empty once every index is complete. The cross join and the unary
+ * + keep the plan on decode_jobs (a few rows) and the frames' id range.
+ */
+const NOT_YET_INDEXED = sql.raw(
+  'select t.id from decode_jobs j cross join frames t where j.search_indexed_to < j.last_frame_id and t.id > j.search_indexed_to and t.id <= j.last_frame_id and +t.job_id = j.id',
+);
+
+/**
+ * Contract: a subquery of frame ids (frames.id) holding every frame whose `column` contains the
+ * LIKE `pattern` (`%…%`, no escapes, ≥ 3 literal characters, or the index answers more than
+ * that): the index's hits plus the frames it does not cover yet, so a caller still tests its own
+ * predicate on each row; `limit` caps the ids.
+ */
 export function searchHitIds(column: SearchColumn, pattern: string | Placeholder, limit?: number): SQL<number> {
   const capped = limit === undefined ? sql`` : sql` limit ${sql.raw(String(Math.trunc(limit)))}`;
-  return sql<number>`select rowid from frame_search where ${SEARCH_COLUMNS[column]} like ${pattern}${capped}`;
+  return sql<number>`select rowid from frame_search where ${SEARCH_COLUMNS[column]} like ${pattern} union all ${NOT_YET_INDEXED}${capped}`;
 }
 
-/** Contract: a one-row query of `n`, the number of index hits of `pattern` in `column` counted up to `cap`: cheap whatever the pattern, to tell a rare term from a common one. */
+/**
+ * Contract: a one-row query of `n`, the number of candidates of `pattern` in `column` (index hits
+ * and frames not indexed yet) counted up to `cap`: cheap whatever the pattern, to tell a rare
+ * term from a common one. While a long run is still being indexed its candidates are many, so a
+ * search then walks the frames in time order instead.
+ */
 export function searchHitCount(column: SearchColumn, pattern: string | Placeholder, cap: number): SQL<{ n: number }> {
   return sql<{ n: number }>`select count(*) as n from (${searchHitIds(column, pattern, cap)})`;
 }
