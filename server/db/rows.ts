@@ -18,7 +18,8 @@ function decoderOf(field: Column | SQL): Decode {
     return field.mapFromDriverValue === Column.prototype.mapFromDriverValue ? null : (v) => field.mapFromDriverValue(v);
   }
   if (is(field, SQL)) {
-    const decoder = field.decoder;
+    // the decoder `mapWith` sets (Drizzle's typings mark it internal)
+    const decoder = (field as unknown as { decoder: { mapFromDriverValue(v: unknown): unknown } }).decoder;
     return (v) => decoder.mapFromDriverValue(v);
   }
   throw new Error('rows: a hot select lists columns and sql fragments only');

@@ -12,7 +12,7 @@ describe('rows of a hot select', () => {
   const now = new Date(1_700_000_000_123);
   h.db.insert(users).values({ email: 'a@example.test', name: 'A', passwordHash: 'x', createdAt: now }).run();
   h.db.insert(rigs).values({ name: 'R', bitRate: 9600, encoding: 'nrz', clockEdge: 'rising', bitOrder: 'lsb-first', createdAt: now }).run();
-  h.db.insert(captures).values({ rigId: 1, name: 'c', size: 1, sha256: 'x', format: 'octets', settings: '{}', uploadedBy: 1, createdAt: now }).run();
+  h.db.insert(captures).values({ rigId: 1, name: 'c', size: 1, sha256: 'x', format: 'octets', settings: '{}', uploadedBy: 1, uploadedAt: now }).run();
   h.db.insert(decodeJobs).values({ captureId: 1, state: 'done', settings: '{}', createdAt: now, finishedAt: null, rowsCleared: true }).run();
   const frame = {
     jobId: 1, captureId: 1, link: 'A', seq: 0, firstSample: 1.5, lastSample: 9, t: 0.25, tEnd: 0.5, status: 'bad-fcs' as const, address: null, control: 3,

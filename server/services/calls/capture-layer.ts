@@ -1,5 +1,8 @@
 // A capture's call layer: which map it uses, which call run is visible, and choosing a new map.
-import type { CaptureCallLayer, CaptureFieldMapInput, CallRunState } from '../../../shared/schemas';
+import { and, desc, eq, sql } from 'drizzle-orm';
+import type { CaptureCallLayer, CaptureFieldMapInput } from '../../../shared/schemas';
+import { prepared } from '../../db/prepared';
+import { callRuns, captureCallLayers, captures, decodeJobs, fieldMaps, fieldMapVersions } from '../../db/schema';
 import { createCallRun } from '../../runs/call-runs';
 import { parseRunInputs, type RunInputs } from '../../runs/inputs';
 import { chosenMap, loadMapVersion } from './field-map-store';
@@ -17,38 +20,71 @@ export interface VisibleRun {
   samplePeriod: number;
 }
 
+const ph = sql.placeholder;
+
 /** The call run whose rows the lists read: the capture's current one, if it belongs to the visible decode run. */
-export function visibleRun(m: CallsModule, captureId: number): VisibleRun | null {
-  const row = m.sqlite
-    .prepare(
-      `select r.id as runId, r.decode_job_id as decodeJobId, r.map_id as mapId, r.map_version as mapVersion, coalesce(j.sample_period, 0) as samplePeriod
-       from capture_call_layers l join call_runs r on r.id = l.current_run_id join captures c on c.id = l.capture_id
-       join decode_jobs j on j.id = r.decode_job_id
-       where l.capture_id = ? and r.decode_job_id = c.current_job_id and r.state = 'done'`,
-    )
-    .get(captureId) as VisibleRun | undefined;
+export function visibleRun(m: Pick<CallsModule, 'db'>, captureId: number): VisibleRun | null {
+  const row = prepared(m.db, 'visible call run', () =>
+    m.db
+      .select({
+        runId: callRuns.id,
+        decodeJobId: callRuns.decodeJobId,
+        mapId: callRuns.mapId,
+        mapVersion: callRuns.mapVersion,
+        samplePeriod: sql<number>`coalesce(${decodeJobs.samplePeriod}, 0)`,
+      })
+      .from(captureCallLayers)
+      .innerJoin(callRuns, eq(callRuns.id, captureCallLayers.currentRunId))
+      .innerJoin(captures, eq(captures.id, captureCallLayers.captureId))
+      .innerJoin(decodeJobs, eq(decodeJobs.id, callRuns.decodeJobId))
+      .where(and(eq(captureCallLayers.captureId, ph('captureId')), eq(callRuns.decodeJobId, captures.currentJobId), sql`${callRuns.state} = 'done'`))
+      .prepare(),
+  ).get({ captureId });
   return row ?? null;
 }
 
+/** the name of a field map */
+const mapNameOf = (m: Pick<CallsModule, 'db'>, mapId: number): string | undefined =>
+  prepared(m.db, 'field map name', () => m.db.select({ name: fieldMaps.name }).from(fieldMaps).where(eq(fieldMaps.id, ph('mapId'))).prepare()).get({ mapId })?.name;
+
 export function captureCallLayer(m: CallsModule, capture: CaptureRow): CaptureCallLayer {
-  const chosen = m.sqlite.prepare('select map_id as mapId, map_version as mapVersion from capture_call_layers where capture_id = ?').get(capture.id) as
-    | { mapId: number | null; mapVersion: number | null }
-    | undefined;
+  const chosen = prepared(m.db, 'chosen map', () =>
+    m.db
+      .select({ mapId: captureCallLayers.mapId, mapVersion: captureCallLayers.mapVersion })
+      .from(captureCallLayers)
+      .where(eq(captureCallLayers.captureId, ph('captureId')))
+      .prepare(),
+  ).get({ captureId: capture.id });
   const resolved = chosenMap(m.sqlite, capture.id);
-  const mapName = m.sqlite.prepare('select name from field_maps where id = ?').pluck().get(resolved.mapId) as string;
+  const mapName = mapNameOf(m, resolved.mapId) as string;
   const visible = visibleRun(m, capture.id);
   let current: CaptureCallLayer['current'] = null;
   if (visible) {
-    const r = m.sqlite.prepare('select exchanges, files, finished_at as finishedAt from call_runs where id = ?').get(visible.runId) as {
-      exchanges: number;
-      files: number;
-      finishedAt: number;
+    const r = prepared(m.db, 'call run totals', () =>
+      m.db
+        .select({ exchanges: callRuns.exchanges, files: callRuns.files, finishedAt: callRuns.finishedAt })
+        .from(callRuns)
+        .where(eq(callRuns.id, ph('runId')))
+        .prepare(),
+    ).get({ runId: visible.runId })!;
+    current = {
+      runId: visible.runId,
+      mapId: visible.mapId,
+      mapVersion: visible.mapVersion,
+      exchanges: r.exchanges,
+      files: r.files,
+      finishedAt: (r.finishedAt ?? new Date(0)).toISOString(),
     };
-    current = { runId: visible.runId, mapId: visible.mapId, mapVersion: visible.mapVersion, exchanges: r.exchanges, files: r.files, finishedAt: new Date(r.finishedAt).toISOString() };
   }
-  const latest = m.sqlite.prepare('select id, state, error from call_runs where capture_id = ? order by id desc limit 1').get(capture.id) as
-    | { id: number; state: CallRunState; error: string | null }
-    | undefined;
+  const latest = prepared(m.db, 'latest call run', () =>
+    m.db
+      .select({ id: callRuns.id, state: callRuns.state, error: callRuns.error })
+      .from(callRuns)
+      .where(eq(callRuns.captureId, ph('captureId')))
+      .orderBy(desc(callRuns.id))
+      .limit(1)
+      .prepare(),
+  ).get({ captureId: capture.id });
   const pending = latest && latest.id !== visible?.runId && (latest.state !== 'done') ? { runId: latest.id, state: latest.state, error: latest.error } : null;
   return {
     captureId: capture.id,
@@ -67,19 +103,24 @@ export function captureCallLayer(m: CallsModule, capture: CaptureRow): CaptureCa
 export function chooseCaptureMap(m: CallsModule, rigId: number, capture: CaptureRow, body: CaptureFieldMapInput): CaptureCallLayer {
   findMap(m, rigId, body.mapId);
   if (body.version !== undefined) {
-    const has = m.sqlite.prepare('select 1 from field_map_versions where map_id = ? and version = ?').get(body.mapId, body.version);
+    const has = m.db
+      .select({ id: fieldMapVersions.id })
+      .from(fieldMapVersions)
+      .where(and(eq(fieldMapVersions.mapId, body.mapId), eq(fieldMapVersions.version, body.version)))
+      .get();
     if (!has) throw notFound(`This field map has no version ${body.version}`);
   }
-  m.sqlite
-    .prepare(
-      `insert into capture_call_layers (capture_id, map_id, map_version, current_run_id) values (?, ?, ?, null)
-       on conflict(capture_id) do update set map_id = excluded.map_id, map_version = excluded.map_version`,
-    )
-    .run(capture.id, body.mapId, body.version ?? null);
-  const decoded = m.sqlite
-    .prepare("select j.id from captures c join decode_jobs j on j.id = c.current_job_id where c.id = ? and j.state = 'done'")
-    .pluck()
-    .get(capture.id) as number | undefined;
+  m.db
+    .insert(captureCallLayers)
+    .values({ captureId: capture.id, mapId: body.mapId, mapVersion: body.version ?? null, currentRunId: null })
+    .onConflictDoUpdate({ target: captureCallLayers.captureId, set: { mapId: sql`excluded.map_id`, mapVersion: sql`excluded.map_version` } })
+    .run();
+  const decoded = m.db
+    .select({ id: decodeJobs.id })
+    .from(captures)
+    .innerJoin(decodeJobs, eq(decodeJobs.id, captures.currentJobId))
+    .where(and(eq(captures.id, capture.id), eq(decodeJobs.state, 'done')))
+    .get()?.id;
   if (decoded !== undefined && !m.jobs.isBusy(capture.id)) {
     const v = loadMapVersion(m.sqlite, body.mapId, body.version ?? null);
     queueCallRun(m, capture.id, decoded, { mapId: v.mapId, version: v.version });
@@ -87,9 +128,13 @@ export function chooseCaptureMap(m: CallsModule, rigId: number, capture: Capture
   return captureCallLayer(m, capture);
 }
 
+/** a decode run's inputs snapshot (JSON) and settings */
+const runInputsOf = (m: Pick<CallsModule, 'db'>, decodeJobId: number) =>
+  m.db.select({ inputs: decodeJobs.inputs, settings: decodeJobs.settings }).from(decodeJobs).where(eq(decodeJobs.id, decodeJobId)).get();
+
 /** A call-only re-run over a decode run's frames, with its own snapshot. */
 function queueCallRun(m: CallsModule, captureId: number, decodeJobId: number, fieldMap: { mapId: number; version: number }): void {
-  const row = m.sqlite.prepare('select inputs, settings from decode_jobs where id = ?').get(decodeJobId) as { inputs: string | null; settings: string };
+  const row = runInputsOf(m, decodeJobId)!;
   const decodeInputs = parseRunInputs(row.inputs, { settings: row.settings, fieldMap });
   m.calls.enqueue(createCallRun(m.sqlite, captureId, decodeJobId, callRunInputs(m.sqlite, captureId, decodeInputs, fieldMap), 'queued'));
 }
@@ -99,9 +144,9 @@ function queueCallRun(m: CallsModule, captureId: number, decodeJobId: number, fi
  * applied by a call-only re-run as soon as the decode is visible.
  */
 export function applyMapChosenDuringDecode(m: CallsModule, captureId: number, decodeJobId: number): void {
-  const row = m.sqlite.prepare('select inputs from decode_jobs where id = ?').pluck().get(decodeJobId) as string | null | undefined;
-  if (!row) return;
-  const used = (JSON.parse(row) as RunInputs).fieldMap;
+  const inputs = runInputsOf(m, decodeJobId)?.inputs;
+  if (!inputs) return;
+  const used = (JSON.parse(inputs) as RunInputs).fieldMap;
   const now = chosenMap(m.sqlite, captureId);
   if (now.mapId !== used.mapId || now.version !== used.version) queueCallRun(m, captureId, decodeJobId, { mapId: now.mapId, version: now.version });
 }

@@ -1,31 +1,37 @@
 // Two captures of one rig side by side at exchange level, through the engine's compareExchanges.
 import { type DecodedCall, compareExchanges, type Exchange } from '../../../shared/decoder/calls';
 import type { ComparedExchange, CompareResult, ComparisonKindName } from '../../../shared/schemas';
+import { asc, eq, sql } from 'drizzle-orm';
+import { prepared } from '../../db/prepared';
+import { allRows, type RowOf } from '../../db/rows';
+import { exchanges } from '../../db/schema';
 import { HttpError } from '../../http/errors';
 import { findCapture } from '../captures/rows';
 import { visibleRun } from './capture-layer';
 import { stationNames } from './exchanges';
 import type { CallsModule } from './module';
 
-interface Row {
-  id: number;
-  station: number;
-  callCode: number | null;
-  callName: string | null;
-  tag: number | null;
-  fileName: string | null;
-  recordNumber: number | null;
-  status: number | null;
-  statusMeaning: string | null;
-  tRequest: number;
-  tRequestEnd: number;
-  tResponse: number | null;
-  rtt: number | null;
-  outcome: Exchange['outcome'];
-  retries: number;
-  user: number | null;
-  answer: string | null;
-}
+/** what the comparison reads of a stored exchange */
+const compareColumns = {
+  id: exchanges.id,
+  station: exchanges.station,
+  callCode: exchanges.callCode,
+  callName: exchanges.callName,
+  tag: exchanges.tag,
+  fileName: exchanges.fileName,
+  recordNumber: exchanges.recordNumber,
+  status: exchanges.status,
+  statusMeaning: exchanges.statusMeaning,
+  tRequest: exchanges.tRequest,
+  tRequestEnd: exchanges.tRequestEnd,
+  tResponse: exchanges.tResponse,
+  rtt: exchanges.rtt,
+  outcome: exchanges.outcome,
+  retries: exchanges.retries,
+  user: exchanges.user,
+  answer: exchanges.answer,
+};
+type Row = RowOf<typeof compareColumns>;
 
 const callOf = (r: Row, fields: DecodedCall['fields']): DecodedCall =>
   ({ fileName: r.fileName, recordNumber: r.recordNumber, user: r.user, fields }) as unknown as DecodedCall;
@@ -65,13 +71,15 @@ function loadExchanges(m: CallsModule, rigId: number, captureId: number, which: 
   const c = findCapture(m, rigId, captureId);
   const run = visibleRun(m, captureId);
   if (!run) throw new HttpError(422, `Capture ${which.toUpperCase()} (“${c.name}”) has no exchanges yet: decode it first`);
-  const rows = m.sqlite
-    .prepare(
-      `select id, station, call_code as callCode, call_name as callName, tag, file_name as fileName, record_number as recordNumber, status,
-         status_meaning as statusMeaning, t_request as tRequest, t_request_end as tRequestEnd, t_response as tResponse, rtt, outcome, retries, user, answer
-       from exchanges where run_id = ? order by t_request, id`,
-    )
-    .all(run.runId) as Row[];
+  const stmt = prepared(m.db, 'compare exchanges', () =>
+    m.db
+      .select(compareColumns)
+      .from(exchanges)
+      .where(eq(exchanges.runId, sql.placeholder('runId')))
+      .orderBy(asc(exchanges.tRequest), asc(exchanges.id))
+      .prepare(),
+  );
+  const rows = allRows(stmt, compareColumns, { runId: run.runId });
   return { name: c.name, rows: new Map(rows.map((r) => [r.id, r])), list: rows.map(asExchange) };
 }
 

@@ -1,45 +1,65 @@
 // Exchanges of a capture's visible call run: filtered pages and round-trip statistics.
 import type { ExchangePage, ExchangeQuery, ExchangeRow, ExchangeStats, RttSummary, StationExchangeStats } from '../../../shared/schemas';
+import { and, asc, count, desc, eq, sql } from 'drizzle-orm';
+import { Conditions } from '../../db/conditions';
+import { prepared } from '../../db/prepared';
+import { allRows, type RowOf } from '../../db/rows';
+import { captures, exchanges, recoveredFiles, stations } from '../../db/schema';
 import { badRequest } from '../../http/errors';
 import { exchangeLockConflicts } from './call-results';
 import { visibleRun } from './capture-layer';
 import type { CallsModule } from './module';
 
-export interface Row {
-  id: number;
-  station: number;
-  callCode: number | null;
-  callName: string | null;
-  tag: number | null;
-  fileName: string | null;
-  recordNumber: number | null;
-  status: number | null;
-  statusMeaning: string | null;
-  requestFrameId: number | null;
-  retryFrameIds: string;
-  responseFrameIds: string;
-  tRequest: number;
-  tRequestEnd: number;
-  tResponse: number | null;
-  rtt: number | null;
-  outcome: ExchangeRow['outcome'];
-  retries: number;
-  serviceDelay: number | null;
-  damagedResponseFrameIds: string;
-  lockConflicts: string;
-}
+/** the stored fields of an exchange that its wire row (ExchangeRow) is made of */
+export const exchangeColumns = {
+  id: exchanges.id,
+  station: exchanges.station,
+  callCode: exchanges.callCode,
+  callName: exchanges.callName,
+  tag: exchanges.tag,
+  fileName: exchanges.fileName,
+  recordNumber: exchanges.recordNumber,
+  status: exchanges.status,
+  statusMeaning: exchanges.statusMeaning,
+  requestFrameId: exchanges.requestFrameId,
+  retryFrameIds: exchanges.retryFrameIds,
+  responseFrameIds: exchanges.responseFrameIds,
+  tRequest: exchanges.tRequest,
+  tRequestEnd: exchanges.tRequestEnd,
+  tResponse: exchanges.tResponse,
+  rtt: exchanges.rtt,
+  outcome: exchanges.outcome,
+  retries: exchanges.retries,
+  serviceDelay: exchanges.serviceDelay,
+  damagedResponseFrameIds: exchanges.damagedResponseFrameIds,
+  lockConflicts: exchanges.lockConflicts,
+};
+export type Row = RowOf<typeof exchangeColumns>;
 
-export const EXCHANGE_COLUMNS = `id, station, call_code as callCode, call_name as callName, tag, file_name as fileName, record_number as recordNumber,
-  status, status_meaning as statusMeaning, request_frame_id as requestFrameId, retry_frame_ids as retryFrameIds, response_frame_ids as responseFrameIds,
-  t_request as tRequest, t_request_end as tRequestEnd, t_response as tResponse, rtt, outcome, retries, service_delay as serviceDelay,
-  damaged_response_frame_ids as damagedResponseFrameIds, lock_conflicts as lockConflicts`;
+const ph = sql.placeholder;
 
 /** Station names of the capture's rig by address. */
-export function stationNames(m: CallsModule, captureId: number): Map<number, string> {
-  const rows = m.sqlite
-    .prepare('select s.address, s.name from stations s join captures c on c.rig_id = s.rig_id where c.id = ?')
-    .all(captureId) as { address: number; name: string }[];
+export function stationNames(m: Pick<CallsModule, 'db'>, captureId: number): Map<number, string> {
+  const rows = prepared(m.db, 'exchanges station names', () =>
+    m.db
+      .select({ address: stations.address, name: stations.name })
+      .from(stations)
+      .innerJoin(captures, eq(captures.rigId, stations.rigId))
+      .where(eq(captures.id, ph('captureId')))
+      .prepare(),
+  ).all({ captureId });
   return new Map(rows.map((r) => [r.address, r.name]));
+}
+
+/** One exchange of a call run, by id. */
+export function findExchange(m: Pick<CallsModule, 'db'>, runId: number, exchangeId: number): Row | undefined {
+  return prepared(m.db, 'exchange by id', () =>
+    m.db
+      .select(exchangeColumns)
+      .from(exchanges)
+      .where(and(eq(exchanges.runId, ph('runId')), eq(exchanges.id, ph('exchangeId'))))
+      .prepare(),
+  ).get({ runId, exchangeId });
 }
 
 export function toExchangeRow(r: Row, names: Map<number, string>): ExchangeRow {
@@ -75,33 +95,47 @@ function decodeCursor(cursor: string): number {
   return Number(match[1]);
 }
 
-export function filters(m: CallsModule, runId: number, q: Pick<ExchangeQuery, 'station' | 'call' | 'outcome' | 'file'>): { where: string; params: unknown[] } {
-  const parts = ['run_id = ?'];
-  const params: unknown[] = [runId];
-  const list = (column: string, values: readonly unknown[] | undefined) => {
-    if (!values || values.length === 0) return;
-    parts.push(`${column} in (${values.map(() => '?').join(', ')})`);
-    params.push(...values);
-  };
-  list('station', q.station);
-  list('call_code', q.call);
-  list('outcome', q.outcome);
+/** The exchange filters of a list or an export over a call run. */
+export function filters(m: Pick<CallsModule, 'db'>, runId: number, q: Pick<ExchangeQuery, 'station' | 'call' | 'outcome' | 'file'>): Conditions {
+  const w = new Conditions();
+  w.add('run', eq(exchanges.runId, w.v(runId)));
+  w.inList('station', exchanges.station, q.station);
+  w.inList('call', exchanges.callCode, q.call);
+  w.inList('outcome', exchanges.outcome, q.outcome);
   if (q.file !== undefined) {
-    const ids = m.sqlite.prepare('select exchange_ids from recovered_files where id = ? and run_id = ?').pluck().get(q.file, runId) as string | undefined;
-    list('id', ids ? (JSON.parse(ids) as number[]) : [-1]);
-    if (!ids) parts.push('0');
+    const file = prepared(m.db, 'exchanges of a file', () =>
+      m.db
+        .select({ exchangeIds: recoveredFiles.exchangeIds })
+        .from(recoveredFiles)
+        .where(and(eq(recoveredFiles.id, ph('file')), eq(recoveredFiles.runId, ph('runId'))))
+        .prepare(),
+    ).get({ file: q.file, runId });
+    w.inList('id', exchanges.id, file ? (JSON.parse(file.exchangeIds) as number[]) : [-1]);
+    if (!file) w.add('none', sql`0`);
   }
-  return { where: parts.join(' and '), params };
+  return w;
 }
 
 export function exchangePage(m: CallsModule, captureId: number, q: ExchangeQuery): ExchangePage {
   const run = visibleRun(m, captureId);
   if (!run) return { rows: [], nextCursor: null, total: 0 };
-  const { where, params } = filters(m, run.runId, q);
-  const order = q.sort === 'rtt-desc' ? 'rtt is null, rtt desc, id' : 't_request, id';
+  const w = filters(m, run.runId, q);
+  const byRtt = q.sort === 'rtt-desc';
+  const order = byRtt ? [sql`${exchanges.rtt} is null`, desc(exchanges.rtt), asc(exchanges.id)] : [asc(exchanges.tRequest), asc(exchanges.id)];
   const offset = q.cursor ? decodeCursor(q.cursor) : 0;
-  const rows = m.sqlite.prepare(`select ${EXCHANGE_COLUMNS} from exchanges where ${where} order by ${order} limit ? offset ?`).all(...params, q.limit + 1, offset) as Row[];
-  const total = m.sqlite.prepare(`select count(*) from exchanges where ${where}`).pluck().get(...params) as number;
+  const page = prepared(m.db, `exchange page ${byRtt ? 'rtt' : 't'} ${w.shape}`, () =>
+    m.db
+      .select(exchangeColumns)
+      .from(exchanges)
+      .where(and(...w.parts))
+      .orderBy(...order)
+      .limit(ph('limit'))
+      .offset(ph('offset'))
+      .prepare(),
+  );
+  const rows = allRows(page, exchangeColumns, { ...w.values, limit: q.limit + 1, offset });
+  const counted = prepared(m.db, `exchange count ${w.shape}`, () => m.db.select({ n: count() }).from(exchanges).where(and(...w.parts)).prepare());
+  const total = counted.get(w.values)?.n ?? 0;
   const names = stationNames(m, captureId);
   const more = rows.length > q.limit;
   return { rows: rows.slice(0, q.limit).map((r) => toExchangeRow(r, names)), nextCursor: more ? encodeCursor(offset + q.limit) : null, total };
@@ -118,15 +152,16 @@ function summary(values: number[]): RttSummary | null {
   return { min: s[0], median: percentile(s, 0.5), p95: percentile(s, 0.95), max: s[s.length - 1], mean: s.reduce((a, b) => a + b, 0) / s.length };
 }
 
+const statColumns = { station: exchanges.station, outcome: exchanges.outcome, rtt: exchanges.rtt, serviceDelay: exchanges.serviceDelay };
+
 export function exchangeStats(m: CallsModule, captureId: number, q: { station?: number[]; bins: number }): ExchangeStats {
   const run = visibleRun(m, captureId);
   if (!run) return { stations: [], histogram: { edges: [], counts: [] } };
-  const rows = m.sqlite.prepare('select station, outcome, rtt, service_delay as serviceDelay from exchanges where run_id = ?').all(run.runId) as {
-    station: number;
-    outcome: ExchangeRow['outcome'];
-    rtt: number | null;
-    serviceDelay: number | null;
-  }[];
+  const rows = allRows(
+    prepared(m.db, 'exchange stats', () => m.db.select(statColumns).from(exchanges).where(eq(exchanges.runId, ph('runId'))).prepare()),
+    statColumns,
+    { runId: run.runId },
+  );
   const names = stationNames(m, captureId);
   const by = new Map<number, typeof rows>();
   for (const r of rows) {

@@ -1,10 +1,14 @@
 // Exchanges of the visible call run as a CSV or JSON file, streamed page by page in time order.
+import { and, asc, sql } from 'drizzle-orm';
 import type { Response } from 'express';
 import type { ExchangeQuery } from '../../../shared/schemas';
 import { visibleRun } from './capture-layer';
-import { EXCHANGE_COLUMNS, filters, stationNames, toExchangeRow, type Row } from './exchanges';
+import { exchangeColumns, filters, stationNames, toExchangeRow } from './exchanges';
 import type { CallsModule } from './module';
 import { csvCell } from '../../http/csv';
+import { prepared } from '../../db/prepared';
+import { allRows } from '../../db/rows';
+import { exchanges } from '../../db/schema';
 
 const PAGE = 2000;
 const CSV_COLUMNS = [
@@ -46,12 +50,21 @@ export async function exportExchanges(
   const run = visibleRun(m, opts.captureId);
   if (run) {
     const names = stationNames(m, opts.captureId);
-    const { where, params } = filters(m, run.runId, opts.q);
-    const stmt = m.sqlite.prepare(`select ${EXCHANGE_COLUMNS} from exchanges where ${where} and (t_request, id) > (?, ?) order by t_request, id limit ?`);
+    const w = filters(m, run.runId, opts.q);
+    w.add('after', sql`(${exchanges.tRequest}, ${exchanges.id}) > (${sql.placeholder('afterT')}, ${sql.placeholder('afterId')})`);
+    const stmt = prepared(m.db, `exchange export ${w.shape}`, () =>
+      m.db
+        .select(exchangeColumns)
+        .from(exchanges)
+        .where(and(...w.parts))
+        .orderBy(asc(exchanges.tRequest), asc(exchanges.id))
+        .limit(PAGE)
+        .prepare(),
+    );
     let after = { t: -Infinity, id: 0 };
     let first = true;
     for (;;) {
-      const rows = stmt.all(...params, after.t, after.id, PAGE) as Row[];
+      const rows = allRows(stmt, exchangeColumns, { ...w.values, afterT: after.t, afterId: after.id });
       let buffer = '';
       for (const r of rows) {
         const x = toExchangeRow(r, names);

@@ -7,7 +7,7 @@ import { chosenMap, loadMapVersion } from './field-map-store';
 import { notFound } from '../../http/errors';
 import type { CaptureRow } from '../captures/rows';
 import { visibleRun } from './capture-layer';
-import { EXCHANGE_COLUMNS, stationNames, toExchangeRow, type Row } from './exchanges';
+import { findExchange, stationNames, toExchangeRow } from './exchanges';
 import type { CallsModule } from './module';
 
 export function frameCall(m: CallsModule, capture: CaptureRow, frameId: number): FrameCall {
@@ -23,7 +23,7 @@ export function frameCall(m: CallsModule, capture: CaptureRow, frameId: number):
     ? ((m.sqlite.prepare('select exchange_id from exchange_frames where run_id = ? and frame_id = ? limit 1').pluck().get(run.runId, frameId) as number | undefined) ?? null)
     : null;
   // the whole exchange, so the inspector links its request, retries and answers without another request
-  const exchangeRow = exchangeId === null ? undefined : (m.sqlite.prepare(`select ${EXCHANGE_COLUMNS} from exchanges where id = ?`).get(exchangeId) as Row | undefined);
+  const exchangeRow = exchangeId === null || !run ? undefined : findExchange(m, run.runId, exchangeId);
   const exchange = exchangeRow ? toExchangeRow(exchangeRow, stationNames(m, capture.id)) : null;
   const base = { frameId, map: { id: resolved.mapId, name: mapName, version: resolved.version }, exchangeId, exchange };
   const settingsJson = m.sqlite.prepare('select settings from decode_jobs where id = ?').pluck().get(jobId) as string;

@@ -1,41 +1,44 @@
-import type { DamageCauseName, FaultAnomaly, FaultDeskView, FaultFrameRow, FaultQuery } from '../../../shared/schemas';
+import type { FaultAnomaly, FaultDeskView, FaultFrameRow, FaultQuery } from '../../../shared/schemas';
 import { DAMAGE_CAUSES, ANOMALY_KINDS, RACE_CAUSE_WORDS, type FaultBins, type LineAnomaly, type RaceDetail, type RaceSummary } from '../../../shared/decoder/faults';
+import { and, asc, eq, sql } from 'drizzle-orm';
+import { prepared } from '../../db/prepared';
+import { allRows } from '../../db/rows';
+import { faultRows, faultSummaries, frames, stations } from '../../db/schema';
 import type { CaptureDeps } from '../captures/deps';
 import { currentJob, type CaptureRow } from '../captures/rows';
 import { describeFault } from './diagnosis';
 
-interface StoredRow {
-  link: string;
-  seq: number;
-  frame_id: number | null;
-  first_sample: number;
-  cause: DamageCauseName;
-  station: number | null;
-  flipped_bit: number | null;
-  suspect_line_bit: number | null;
-  focus_sample: number | null;
-  anomalies: string;
-  next_frame_id: number | null;
-  retransmission_seq: number | null;
-  retransmission_frame_id: number | null;
-  retransmission_by: 'call' | 'ns' | null;
-  retransmission_search: FaultFrameRow['retransmissionSearch'];
-  status: FaultFrameRow['status'] | null;
-  fcs_received: number | null;
-  fcs_computed: number | null;
-  stuffed: string | null;
-  race: string | null;
-}
+/** a fault row with its frame's verdict: the frame's columns are null when the row has no frame (left join) */
+const rowColumns = {
+  link: faultRows.link,
+  seq: faultRows.seq,
+  frameId: faultRows.frameId,
+  firstSample: faultRows.firstSample,
+  cause: faultRows.cause,
+  station: faultRows.station,
+  flippedBit: faultRows.flippedBit,
+  suspectLineBit: faultRows.suspectLineBit,
+  focusSample: faultRows.focusSample,
+  anomalies: faultRows.anomalies,
+  nextFrameId: faultRows.nextFrameId,
+  retransmissionSeq: faultRows.retransmissionSeq,
+  retransmissionFrameId: faultRows.retransmissionFrameId,
+  retransmissionBy: faultRows.retransmissionBy,
+  retransmissionSearch: faultRows.retransmissionSearch,
+  race: faultRows.race,
+  status: sql<FaultFrameRow['status'] | null>`${frames.status}`,
+  fcsReceived: sql<number | null>`${frames.fcsReceived}`,
+  fcsComputed: sql<number | null>`${frames.fcsComputed}`,
+};
 
-interface StoredSummary {
-  groups: string;
-  anomaly_groups: string;
-  outside: string;
-  outside_total: number;
-  bins: string;
-  frames_seen: number;
-  anomalies_dropped: number;
-  races: string | null;
+const ph = sql.placeholder;
+
+/** the rig's station names by address */
+function stationNames(deps: Pick<CaptureDeps, 'db'>, rigId: number): Map<number, string> {
+  const rows = prepared(deps.db, 'fault desk station names', () =>
+    deps.db.select({ address: stations.address, name: stations.name }).from(stations).where(eq(stations.rigId, ph('rigId'))).prepare(),
+  ).all({ rigId });
+  return new Map(rows.map((s) => [s.address, s.name]));
 }
 
 /** The fault desk of the capture's visible run: one page of rows of the chosen cause, plus the whole run's groups and bins. */
@@ -60,7 +63,9 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
     raceWords: RACE_CAUSE_WORDS,
   };
   if (!job) return empty;
-  const summary = deps.sqlite.prepare('select * from fault_summaries where job_id = ?').get(job.id) as StoredSummary | undefined;
+  const summary = prepared(deps.db, 'fault summary', () => deps.db.select().from(faultSummaries).where(eq(faultSummaries.jobId, ph('jobId'))).prepare()).get({
+    jobId: job.id,
+  });
   if (!summary) return empty;
 
   const races = summary.races ? (JSON.parse(summary.races) as RaceSummary) : null;
@@ -68,57 +73,60 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
   // runs decoded before the race causes were stored list only the causes of their day
   const groups = DAMAGE_CAUSES.map((cause) => storedGroups.find((g) => g.cause === cause) ?? { cause, count: 0 });
   const total = q.cause ? (groups.find((g) => g.cause === q.cause)?.count ?? 0) : groups.reduce((n, g) => n + g.count, 0);
-  const stored = deps.sqlite
-    .prepare(
-      `select r.*, f.status, f.fcs_received, f.fcs_computed, f.stuffed
-         from fault_rows r left join frames f on f.id = r.frame_id
-        where r.job_id = ? ${q.cause ? 'and r.cause = ?' : ''}
-        order by r.first_sample, r.id limit ? offset ?`,
-    )
-    .all(...(q.cause ? [job.id, q.cause] : [job.id]), q.limit, q.offset) as StoredRow[];
-  const names = new Map(
-    (deps.sqlite.prepare('select address, name from stations where rig_id = ?').all(c.rigId) as { address: number; name: string }[]).map((s) => [s.address, s.name]),
+  const byCause = q.cause !== undefined;
+  const page = prepared(deps.db, `fault rows ${byCause ? 'of a cause' : 'all'}`, () =>
+    deps.db
+      .select(rowColumns)
+      .from(faultRows)
+      .leftJoin(frames, eq(frames.id, faultRows.frameId))
+      .where(byCause ? and(eq(faultRows.jobId, ph('jobId')), eq(faultRows.cause, ph('cause'))) : eq(faultRows.jobId, ph('jobId')))
+      .orderBy(asc(faultRows.firstSample), asc(faultRows.id))
+      .limit(ph('limit'))
+      .offset(ph('offset'))
+      .prepare(),
   );
+  const stored = allRows(page, rowColumns, { jobId: job.id, cause: q.cause, limit: q.limit, offset: q.offset });
+  const names = stationNames(deps, c.rigId);
   const anomaly = (a: LineAnomaly): FaultAnomaly => ({ ...a, t: a.sample * period });
   const rows: FaultFrameRow[] = stored.map((r) => {
     const anomalies = (JSON.parse(r.anomalies) as LineAnomaly[]).map(anomaly);
     const status =
       r.status ?? (r.cause === 'abort' || r.cause === 'short' || r.cause === 'residue' ? r.cause : r.cause === 'bad-fcs-explained' || r.cause === 'bad-fcs-unexplained' ? 'bad-fcs' : 'ok');
-    const stuffedBefore = r.suspect_line_bit !== null && r.flipped_bit !== null ? r.suspect_line_bit - r.flipped_bit : 0;
+    const stuffedBefore = r.suspectLineBit !== null && r.flippedBit !== null ? r.suspectLineBit - r.flippedBit : 0;
     const race = r.race ? (JSON.parse(r.race) as RaceDetail) : null;
     return {
-      frameId: r.frame_id,
+      frameId: r.frameId,
       link: r.link,
       seq: r.seq,
-      t: r.first_sample * period,
+      t: r.firstSample * period,
       station: r.station,
       stationName: r.station !== null ? (names.get(r.station) ?? null) : null,
       status,
       cause: r.cause,
       diagnosis: describeFault({
         cause: r.cause,
-        fcsReceived: r.fcs_received,
-        fcsComputed: r.fcs_computed,
-        flippedBit: r.flipped_bit,
-        suspectLineBit: r.suspect_line_bit,
+        fcsReceived: r.fcsReceived,
+        fcsComputed: r.fcsComputed,
+        flippedBit: r.flippedBit,
+        suspectLineBit: r.suspectLineBit,
         stuffedBefore,
         anomalies,
-        retransmissionSeq: r.retransmission_seq,
-        retransmissionBy: r.retransmission_by,
-        retransmissionSearch: r.retransmission_search,
+        retransmissionSeq: r.retransmissionSeq,
+        retransmissionBy: r.retransmissionBy,
+        retransmissionSearch: r.retransmissionSearch,
         race,
         budget: races?.budget ?? null,
       }),
-      fcsReceived: r.fcs_received,
-      fcsComputed: r.fcs_computed,
-      flippedBit: r.flipped_bit,
-      suspectLineBit: r.suspect_line_bit,
-      focusSample: r.focus_sample,
+      fcsReceived: r.fcsReceived,
+      fcsComputed: r.fcsComputed,
+      flippedBit: r.flippedBit,
+      suspectLineBit: r.suspectLineBit,
+      focusSample: r.focusSample,
       anomalies,
-      nextFrameId: r.next_frame_id,
-      retransmissionFrameId: r.retransmission_frame_id,
-      retransmissionBy: r.retransmission_by,
-      retransmissionSearch: r.retransmission_search,
+      nextFrameId: r.nextFrameId,
+      retransmissionFrameId: r.retransmissionFrameId,
+      retransmissionBy: r.retransmissionBy,
+      retransmissionSearch: r.retransmissionSearch,
       race,
     };
   });
@@ -126,13 +134,13 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
   return {
     available: true,
     groups,
-    anomalyGroups: JSON.parse(summary.anomaly_groups) as FaultDeskView['anomalyGroups'],
+    anomalyGroups: JSON.parse(summary.anomalyGroups) as FaultDeskView['anomalyGroups'],
     rows,
     total,
     offset: q.offset,
     limit: q.limit,
     outside: (JSON.parse(summary.outside) as LineAnomaly[]).map(anomaly),
-    outsideTotal: summary.outside_total,
+    outsideTotal: summary.outsideTotal,
     bins: bins && {
       binSeconds: bins.binSeconds,
       start: bins.start.map((s) => s * period),
@@ -140,8 +148,8 @@ export function faultDesk(deps: CaptureDeps, c: CaptureRow, q: FaultQuery): Faul
       frames: bins.frames,
       anomalies: bins.anomalies,
     },
-    framesSeen: summary.frames_seen,
-    anomaliesDropped: summary.anomalies_dropped,
+    framesSeen: summary.framesSeen,
+    anomaliesDropped: summary.anomaliesDropped,
     samplePeriod: period,
     races,
     raceWords: RACE_CAUSE_WORDS,

@@ -11,7 +11,7 @@ import { timingOf, type BuiltTiming } from './build-timing';
 import { notFound } from '../../http/errors';
 import type { ExchangeRow } from '../../../shared/schemas';
 import { visibleRun } from '../calls/capture-layer';
-import { EXCHANGE_COLUMNS, stationNames, toExchangeRow } from '../calls/exchanges';
+import { findExchange, stationNames, toExchangeRow } from '../calls/exchanges';
 import type { CallsModule } from '../calls/module';
 
 type Loaded = { built: BuiltTiming; extent: TimingExtent } | { reason: TimingUnavailable };
@@ -66,7 +66,7 @@ export type { ScheduleQuery };
 /** One exchange of the visible call run, by id: what a span selected on the schedule opens. */
 export function scheduleExchange(m: CallsModule, c: CaptureRow, exchangeId: number): ExchangeRow {
   const run = visibleRun(m, c.id);
-  const row = run ? m.sqlite.prepare(`select ${EXCHANGE_COLUMNS} from exchanges where run_id = ? and id = ?`).get(run.runId, exchangeId) : undefined;
+  const row = run ? findExchange(m, run.runId, exchangeId) : undefined;
   if (!row) throw notFound(`No exchange with id ${exchangeId} in this capture's call layer`);
-  return toExchangeRow(row as Parameters<typeof toExchangeRow>[0], stationNames(m, c.id));
+  return toExchangeRow(row, stationNames(m, c.id));
 }
