@@ -22,8 +22,12 @@ export function asciiOf(bytes: Uint8Array, from: number, to: number): string {
   return s;
 }
 
-/** rows per transaction: larger batches write each hot index page to the WAL fewer times */
-const BATCH = 20_000;
+/**
+ * rows per transaction: a larger batch writes each hot index page to the WAL fewer times, but past
+ * a few thousand rows the flat value array itself costs more (200 k frames, bench-ingest-db's rows:
+ * 4000–8000 rows 2.8–3.1 s CPU, 20 000 rows 3.4–3.5 s, 2000 rows 3.0–3.1 s, at load ≈ 10)
+ */
+const BATCH = 5_000;
 const ROWS_PER_INSERT = 40;
 /**
  * Fill between frames shorter than this many flags is ordinary inter-frame fill: it is not
