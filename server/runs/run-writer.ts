@@ -24,7 +24,7 @@ export function asciiOf(bytes: Uint8Array, from: number, to: number): string {
 
 /**
  * rows per transaction: a larger batch writes each hot index page to the WAL fewer times, but past
- * a few thousand rows the flat value array itself costs more (200 k frames, bench-ingest-db's rows:
+ * a few thousand rows the flat value array itself costs more (200 k synthetic frames through this writer:
  * 4000–8000 rows 2.8–3.1 s CPU, 20 000 rows 3.4–3.5 s, 2000 rows 3.0–3.1 s, at load ≈ 10)
  */
 const BATCH = 5_000;
