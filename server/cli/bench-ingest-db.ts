@@ -56,7 +56,7 @@ const insertCpu = cpu() - c0;
 const insertWall = (performance.now() - t0) / 1000;
 c0 = cpu();
 t0 = performance.now();
-indexSearch(db, 1, values.chunk ? Number(values.chunk) : undefined);
+indexSearch(db, 1, values.chunk ? { chunk: Number(values.chunk) } : {});
 const indexCpu = cpu() - c0;
 const indexWall = (performance.now() - t0) / 1000;
 console.log(`${N} frames: rows+inserts ${insertCpu.toFixed(2)} s CPU (${insertWall.toFixed(2)} s wall), search index ${indexCpu.toFixed(2)} s CPU (${indexWall.toFixed(2)} s wall); ${(fs.statSync(path.join(dir, 'bench.db')).size / 1e6).toFixed(0)} MB`);

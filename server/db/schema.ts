@@ -183,6 +183,11 @@ export const decodeJobs = sqliteTable(
     rowsCleared: integer('rows_cleared', { mode: 'boolean' }).notNull().default(false),
     /** frames of this run with id up to here have their frame_search entries (built after the frames, in chunks) */
     searchIndexedTo: integer('search_indexed_to').notNull().default(0),
+    /**
+     * the run's largest frame id, set when it becomes visible: frames above search_indexed_to up to
+     * here are not in the search index yet (it is built after the switch) and are searched directly
+     */
+    lastFrameId: integer('last_frame_id').notNull().default(0),
     createdAt: createdAt(),
     startedAt: integer('started_at', { mode: 'timestamp_ms' }),
     finishedAt: integer('finished_at', { mode: 'timestamp_ms' }),

@@ -7,13 +7,15 @@ import Database from 'better-sqlite3';
 import { createDecoder, type Decoder } from '../../shared/decoder';
 import type { DecodeIssue } from '../../shared/decoder';
 import type { Exchange } from '../../shared/decoder/calls';
+import type { FieldMap } from '../../shared/decoder/calls';
 import { createCallRun, switchToCallRun } from '../runs/call-runs';
-import { runCallStage } from '../runs/call-stage';
+import { dropCallRows, InStreamCalls, runCallStage } from '../runs/call-stage';
 import { decoderOptions } from '../../shared/decoder-options';
 import { FaultRecorder, faultCallKey, storeFaultReport } from '../runs/fault-rows';
 import { loadMapVersion, type RunInputs } from '../runs/inputs';
 import { RunWriter } from '../runs/run-writer';
 import { indexSearch } from '../runs/search-index';
+import { threadCpuMs } from '../runs/thread-cpu';
 import { CsvSeekTracker } from '../runs/seek/csv-seek';
 import { type SeekPoint, VcdSeekTracker } from '../runs/seek/vcd-seek';
 import { raceDeskOptions } from '../services/timing/fault-races';
@@ -36,11 +38,20 @@ export interface IngestTimings {
   /** batched inserts of frames and events */
   inserts: number;
   faults: number;
-  searchIndex: number;
   calls: number;
   commit: number;
+  /** from the worker's start to the run visible */
+  visible: number;
+  /** building the search index, after the run became visible */
+  searchIndex: number;
+  /** CPU milliseconds of the worker thread: decode with rows and inserts, start to visible, search index */
+  cpu: { decodeAndRows: number; toVisible: number; searchIndex: number };
 }
 export type DecodeWorkerMessage = { type: 'done'; frames: number; events: number; timings: IngestTimings } | { type: 'failed'; error: string };
+/** the run became its capture's visible one; the worker goes on with the search index */
+export interface DecodeWorkerVisible {
+  type: 'visible';
+}
 /** sent at least every PROGRESS_MS while the worker moves on: the runner's watchdog listens */
 export interface DecodeWorkerProgress {
   type: 'progress';
@@ -70,31 +81,55 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
   db.pragma('temp_store = MEMORY');
   db.pragma('wal_autocheckpoint = 4096');
   try {
+    const cpuStart = threadCpuMs();
     let period = 0;
     // Frames reach the writer during push(), as soon as the reader's header has set the time base,
     // so the writer asks the decoder itself rather than a copy taken between pushes.
-    const writer = new RunWriter(db, data.jobId, data.captureId, () => decoder.samplePeriodSeconds ?? period);
-    const faults = new FaultRecorder(() => decoder.samplePeriodSeconds ?? period, faultCallKey(db, data.inputs), raceDeskOptions(db, data.inputs));
+    const periodNow = () => decoder.samplePeriodSeconds ?? period;
+    const writer = new RunWriter(db, data.jobId, data.captureId, periodNow);
+    const faults = new FaultRecorder(periodNow, faultCallKey(db, data.inputs), raceDeskOptions(db, data.inputs));
+    // the call layer runs beside the decoder; it is created with the first item, once the time base is known
+    const callRun = startCallRun(db, data);
+    let calls: InStreamCalls | null = null;
+    let callsPeriod = 0;
+    const inStream = (): InStreamCalls | null => {
+      if (calls || !callRun.map) return calls;
+      callsPeriod = periodNow();
+      calls = new InStreamCalls(
+        db,
+        { captureId: data.captureId, runId: callRun.runId!, map: callRun.map, inputs: data.inputs, samplePeriod: callsPeriod },
+        (ordinal) => writer.idOf(ordinal),
+      );
+      const c = calls;
+      writer.afterFlush = () => c.afterFlush();
+      return calls;
+    };
     const decoder: Decoder = createDecoder(
       { ...decoderOptions(data.inputs.capture), anomalies: faults },
       {
         frame: (f) => {
           const t = performance.now();
+          const ordinal = writer.frames;
           writer.frame(f);
           const u = performance.now();
           faults.frame(f);
+          const v = performance.now();
+          inStream()?.frame(f, ordinal, f.firstSample * periodNow());
           sinkRows += u - t;
-          sinkFaults += performance.now() - u;
+          sinkFaults += v - u;
+          sinkCalls += performance.now() - v;
         },
         event: (e) => {
           writer.event(e);
           faults.event(e);
+          inStream()?.event(e);
         },
       },
     );
     // time spent inside the decoder's sink: subtracted from the decode phase
     let sinkRows = 0;
     let sinkFaults = 0;
+    let sinkCalls = 0;
     const started = performance.now();
     const addSeek = db.prepare('insert into seek_points (job_id, byte_offset, sample, levels) values (?, ?, ?, ?)');
     const addPoint = (p: SeekPoint) => addSeek.run(data.jobId, p.byteOffset, p.sample, JSON.stringify(p.levels));
@@ -138,43 +173,67 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     const fatal = decoder.fatal();
     if (fatal) return { type: 'failed', error: describeIssue(fatal) };
     writer.flush();
+    writer.afterFlush = null;
     const decoded = performance.now();
-    progress.run(bytes, writer.frames, writer.events, 'indexing', data.jobId);
+    const cpuDecoded = threadCpuMs();
+    progress.run(bytes, writer.frames, writer.events, 'calls', data.jobId);
     heartbeat();
-    indexSearch(db, data.jobId, undefined, heartbeat);
-    const indexed = performance.now();
     // the call layer's exchanges reach the fault desk (receiver over-run symptoms) before its report is stored
-    const calls = await callStage(db, data, period, heartbeat, (e) => faults.exchange(e));
+    const callCounts = await finishCalls(db, data, callRun, calls as InStreamCalls | null, callsPeriod, period, heartbeat, (e) => faults.exchange(e));
     const called = performance.now();
     const report = faults.report(writer.lastSample);
     storeFaultReport(db, data.jobId, data.captureId, period, report);
     const faulted = performance.now();
     const issues = decoder.issues.slice(0, 20).map(describeIssue);
     const committed = db.transaction(() => {
+      // the search index is built after the switch: frames above search_indexed_to up to
+      // last_frame_id are searched directly until it is (search-index.ts)
       const done = db
         .prepare(
-          `update decode_jobs set state = 'done', stage = 'done', bytes_read = ?, frames = ?, events = ?, sample_period = ?, links = ?,
-             last_sample = ?, issues = ?, finished_at = ? where id = ? and state = 'running'`,
+          `update decode_jobs set state = 'done', stage = ?, bytes_read = ?, frames = ?, events = ?, sample_period = ?, links = ?,
+             last_sample = ?, issues = ?, finished_at = ?, search_indexed_to = ?, last_frame_id = ? where id = ? and state = 'running'`,
         )
-        .run(bytes, writer.frames, writer.events, period, JSON.stringify(decoder.links), writer.lastSample, JSON.stringify(issues), Date.now(), data.jobId);
+        .run(
+          writer.frames > 0 ? 'search index' : 'done',
+          bytes,
+          writer.frames,
+          writer.events,
+          period,
+          JSON.stringify(decoder.links),
+          writer.lastSample,
+          JSON.stringify(issues),
+          Date.now(),
+          Math.max(0, writer.firstId - 1),
+          writer.lastId,
+          data.jobId,
+        );
       // cancelled meanwhile: the rows stay invisible and the runner clears them
       if (done.changes === 0) return false;
       db.prepare('update captures set current_job_id = ? where id = ?').run(data.jobId, data.captureId);
       // the call layer's exchanges and files appear together with the frames they came from
-      if (calls) switchToCallRun(db, data.captureId, calls.runId, calls.counts);
+      if (callCounts && callRun.runId !== null) switchToCallRun(db, data.captureId, callRun.runId, callCounts);
       return true;
     }).immediate();
     if (!committed) return { type: 'failed', error: 'The run was cancelled.' };
+    const visible = performance.now();
+    const cpuVisible = threadCpuMs();
+    parentPort?.postMessage({ type: 'visible' } satisfies DecodeWorkerVisible);
+    if (writer.frames > 0) {
+      indexSearch(db, data.jobId, { range: { lo: writer.firstId, hi: writer.lastId }, onChunk: heartbeat });
+      db.prepare("update decode_jobs set stage = 'done' where id = ? and stage = 'search index'").run(data.jobId);
+    }
     // row building time includes the inserts of the batches it filled
     const rows = sinkRows - writer.insertMs;
     const timings: IngestTimings = {
-      decode: decoded - started - sinkRows - sinkFaults,
+      decode: decoded - started - sinkRows - sinkFaults - sinkCalls,
       rows,
       inserts: writer.insertMs,
       faults: sinkFaults + (faulted - called),
-      searchIndex: indexed - decoded,
-      calls: called - indexed,
-      commit: performance.now() - faulted,
+      calls: sinkCalls + (called - decoded),
+      commit: visible - faulted,
+      visible: visible - started,
+      searchIndex: performance.now() - visible,
+      cpu: { decodeAndRows: cpuDecoded - cpuStart, toVisible: cpuVisible - cpuStart, searchIndex: threadCpuMs() - cpuVisible },
     };
     return { type: 'done', frames: writer.frames, events: writer.events, timings };
   } finally {
@@ -182,22 +241,56 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
   }
 }
 
-/**
- * The call-layer stage over the run's frames with the run's map and answer timeout. A failure here (a
- * stored map that no longer parses, say) fails the call run, not the decode.
- */
-async function callStage(db: Database.Database, data: DecodeWorkerData, period: number, heartbeat: () => void, onExchange: (e: Exchange) => void) {
+interface CallRunStart {
+  runId: number | null;
+  map: FieldMap | null;
+  error: string | null;
+}
+
+/** The decode run's call run, created before the decode so the call layer can run beside it. */
+function startCallRun(db: Database.Database, data: DecodeWorkerData): CallRunStart {
   let runId: number | null = null;
   try {
-    db.prepare("update decode_jobs set stage = 'calls' where id = ? and state = 'running'").run(data.jobId);
     runId = createCallRun(db, data.captureId, data.jobId, data.inputs, 'running');
     const { map } = loadMapVersion(db, data.inputs.fieldMap.mapId, data.inputs.fieldMap.version);
-    const counts = await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId, map, inputs: data.inputs, samplePeriod: period, pause: async () => heartbeat(), onExchange });
-    return { runId, counts };
+    return { runId, map, error: null };
   } catch (err) {
-    const message = err instanceof Error ? err.message : String(err);
-    if (runId !== null) db.prepare("update call_runs set state = 'failed', error = ?, finished_at = ? where id = ?").run(`The call layer stopped: ${message}`, Date.now(), runId);
+    return { runId, map: null, error: err instanceof Error ? err.message : String(err) };
+  }
+}
+
+/**
+ * Ends the call run: the in-stream layer's result when it saw the frames in stored order with the
+ * run's final time base, else the stage over the stored frames. A failure here (a stored map that
+ * no longer parses, say) fails the call run, not the decode.
+ */
+async function finishCalls(
+  db: Database.Database,
+  data: DecodeWorkerData,
+  run: CallRunStart,
+  calls: InStreamCalls | null,
+  callsPeriod: number,
+  period: number,
+  heartbeat: () => void,
+  onExchange: (e: Exchange) => void,
+): Promise<{ exchanges: number; files: number } | null> {
+  const fail = (message: string) => {
+    if (run.runId !== null) db.prepare("update call_runs set state = 'failed', error = ?, finished_at = ? where id = ?").run(`The call layer stopped: ${message}`, Date.now(), run.runId);
     return null;
+  };
+  if (run.runId === null || run.map === null) return fail(run.error ?? 'no call run');
+  try {
+    if (calls && calls.failure !== null) throw calls.failure;
+    if (calls && !calls.broken && callsPeriod === period) {
+      const counts = calls.finish();
+      for (const e of calls.exchanges) onExchange(e);
+      return counts;
+    }
+    // read the stored run instead: what the in-stream layer wrote so far goes first
+    dropCallRows(db, run.runId);
+    return await runCallStage(db, { captureId: data.captureId, decodeJobId: data.jobId, runId: run.runId, map: run.map, inputs: data.inputs, samplePeriod: period, pause: async () => heartbeat(), onExchange });
+  } catch (err) {
+    return fail(err instanceof Error ? err.message : String(err));
   }
 }
 

@@ -5,11 +5,14 @@ import { drizzle, type BetterSQLite3Database } from 'drizzle-orm/better-sqlite3'
 import * as schema from '../db/schema';
 import { captures, decodeJobs } from '../db/schema';
 import type { CaptureStore } from '../storage/capture-store';
-import type { DecodeWorkerData, DecodeWorkerMessage, DecodeWorkerProgress, IngestTimings } from '../jobs/decode-worker';
+import type { DecodeWorkerData, DecodeWorkerMessage, DecodeWorkerProgress, DecodeWorkerVisible, IngestTimings } from '../jobs/decode-worker';
 import type { RunInputs } from './inputs';
+import { indexSearch, unindexedRuns } from './search-index';
 import { clearCallRunRows, clearRunRows, recoverCallRuns, staleCallRuns, staleRuns } from './sweep';
 
 const START_UP_ALLOWANCE_MS = 30_000;
+/** frames per search-index step when the server finishes an index a stopped worker left (it yields between steps) */
+const RESUME_INDEX_CHUNK = 5000;
 
 interface Active {
   jobId: number;
@@ -50,6 +53,8 @@ export class DecodeQueue {
 
   /** phase times of the last finished run (the ingest benchmark prints them) */
   lastTimings: IngestTimings | null = null;
+  /** when the last run became visible (Date.now(); the ingest benchmark) */
+  visibleAt = 0;
 
   /** called after a run became its capture's visible one (the call queue checks for a map chosen meanwhile) */
   onVisible: ((captureId: number, jobId: number) => void) | null = null;
@@ -100,7 +105,11 @@ export class DecodeQueue {
   async stop(captureId: number): Promise<void> {
     const a = this.active;
     this.cancel(captureId);
-    if (a && a.captureId === captureId) await a.done;
+    if (a && a.captureId === captureId) {
+      // a run already visible may still be building its search index: that stops too
+      void a.worker.terminate();
+      await a.done;
+    }
   }
 
   /**
@@ -115,6 +124,8 @@ export class DecodeQueue {
       .run();
     this.queue.length = 0;
     this.sweepNow();
+    // a visible run whose worker stopped while building the search index gets it finished
+    if (unindexedRuns(this.sqlite).length > 0) this.sweep();
   }
 
   /** Tests only: kills the capture's worker without recording anything, as a crash would. */
@@ -193,11 +204,17 @@ export class DecodeQueue {
       outcome = { type: 'failed', error: stallMessage(this.stallMs / 1000, active.position) };
       void worker.terminate();
     }, Math.min(1000, Math.max(50, this.stallMs / 4)));
-    worker.on('message', (m: DecodeWorkerMessage | DecodeWorkerProgress) => {
+    let visible = false;
+    worker.on('message', (m: DecodeWorkerMessage | DecodeWorkerProgress | DecodeWorkerVisible) => {
       active.lastProgressAt = Date.now();
       reported = true;
       if (m.type === 'progress') active.position = { bytesRead: m.bytesRead, bytesTotal: m.bytesTotal, seconds: m.seconds };
-      else outcome ??= m;
+      else if (m.type === 'visible') {
+        // the worker goes on with the search index; the run is already the capture's visible one
+        visible = true;
+        this.visibleAt = Date.now();
+        this.onVisible?.(active.captureId, jobId);
+      } else outcome ??= m;
     });
     worker.on('error', (err) => (outcome ??= { type: 'failed', error: `The decoder stopped: ${err.message}` }));
     worker.on('exit', () => {
@@ -209,8 +226,9 @@ export class DecodeQueue {
         else if (o.type === 'failed') this.finish(jobId, 'failed', o.error);
         else {
           this.lastTimings = o.timings;
-          this.onVisible?.(active.captureId, jobId);
+          if (!visible) this.onVisible?.(active.captureId, jobId);
         }
+        // a visible run's search index left unfinished (the watchdog, say) is finished by the sweep
         this.sweep();
       }
       resolveDone();
@@ -243,6 +261,14 @@ export class DecodeQueue {
       }
       const stale = staleRuns(this.sqlite);
       if (stale.length === 0) {
+        // the search index of a visible run that no worker builds any more
+        const unindexed = unindexedRuns(this.sqlite).filter((r) => r.jobId !== this.active?.jobId);
+        if (unindexed.length > 0) {
+          const r = unindexed[0];
+          indexSearch(this.sqlite, r.jobId, { range: { lo: r.lo, hi: r.hi }, chunk: RESUME_INDEX_CHUNK, maxChunks: 1 });
+          setImmediate(step);
+          return;
+        }
         this.sweeping = false;
         if (!this.active && this.queue.length === 0) this.idleWaiters.splice(0).forEach((r) => r());
         return;

@@ -24,6 +24,10 @@ import { openDb, type DbHandle } from '../../server/db/client';
 import { createApp } from '../../server/index';
 import { DEMO_PASSWORD } from '../../server/seed/demo';
 import { samplesDir } from '../../server/seed/demo-captures';
+import { createCallRun } from '../../server/runs/call-runs';
+import { runCallStage } from '../../server/runs/call-stage';
+import { loadMapVersion, type RunInputs } from '../../server/runs/inputs';
+import { clearCallRunRows } from '../../server/runs/sweep';
 import { tempDataDir, waitForJob } from './captures-helpers';
 import { TEST_BCRYPT_COST, signedIn, type Client } from './helpers';
 
@@ -46,6 +50,26 @@ const binary = (res: NodeJS.ReadableStream, cb: (err: Error | null, body: unknow
   res.on('data', (c: Buffer) => chunks.push(c));
   res.on('end', () => cb(null, Buffer.concat(chunks)));
 };
+
+/** a call run's rows without their own ids: exchanges named by their place in the run */
+function callRunRows(sqlite: DbHandle['sqlite'], runId: number) {
+  const exchanges = sqlite.prepare('select * from exchanges where run_id = ? order by id').all(runId) as Record<string, unknown>[];
+  const place = new Map(exchanges.map((e, i) => [e.id as number, i]));
+  const named = (json: unknown) => (JSON.parse(String(json)) as number[]).map((id) => place.get(id));
+  return {
+    exchanges: exchanges.map(({ id: _id, run_id: _run, lock_conflicts: _locks, ...rest }) => rest),
+    frames: (sqlite.prepare('select exchange_id, frame_id from exchange_frames where run_id = ? order by exchange_id, frame_id').all(runId) as { exchange_id: number; frame_id: number }[]).map(
+      (r) => [place.get(r.exchange_id), r.frame_id],
+    ),
+    files: (sqlite.prepare('select * from recovered_files where run_id = ? order by id').all(runId) as Record<string, unknown>[]).map(
+      ({ id: _id, run_id: _run, conflicts: _c, lock_conflicts: _l, size_exchange_id: size, exchange_ids: exchangeIds, ...rest }) => ({
+        ...rest,
+        size: size === null ? null : place.get(size as number),
+        exchanges: named(exchangeIds),
+      }),
+    ),
+  };
+}
 
 describe('call layer over the demo captures', () => {
   const env = tempDataDir();
@@ -82,6 +106,25 @@ describe('call layer over the demo captures', () => {
       const total = async (q: string) => ((await viewer.get(`${url(entry.file)}/exchanges?limit=1${q}`).expect(200)).body as ExchangePage).total;
       const got = { total: await total(''), answered: await total('&outcome=answered'), retried: await total('&outcome=retried'), unanswered: await total('&outcome=unanswered') };
       expect(got, entry.file).toEqual(entry.expected.exchanges);
+    }
+  });
+
+  it('writes from the decoder\'s frames exactly what the call stage writes from the stored run', async () => {
+    // the decode worker runs the call layer beside the decoder; a call-only run reads the stored frames back
+    const sqlite = handle.sqlite;
+    for (const entry of manifest.captures) {
+      const captureId = ids.get(entry.file)!;
+      const visible = sqlite
+        .prepare('select c.current_job_id as jobId, l.current_run_id as runId, j.inputs, j.sample_period as period from captures c join capture_call_layers l on l.capture_id = c.id join decode_jobs j on j.id = c.current_job_id where c.id = ?')
+        .get(captureId) as { jobId: number; runId: number; inputs: string; period: number };
+      const inputs = JSON.parse(visible.inputs) as RunInputs;
+      const runId = createCallRun(sqlite, captureId, visible.jobId, inputs, 'running');
+      const { map } = loadMapVersion(sqlite, inputs.fieldMap.mapId, inputs.fieldMap.version);
+      await runCallStage(sqlite, { captureId, decodeJobId: visible.jobId, runId, map, inputs, samplePeriod: visible.period });
+      const inStream = callRunRows(sqlite, visible.runId);
+      expect(inStream.exchanges, entry.file).toHaveLength(entry.expected.exchanges.total);
+      expect(callRunRows(sqlite, runId), entry.file).toEqual(inStream);
+      clearCallRunRows(sqlite, runId);
     }
   });
 

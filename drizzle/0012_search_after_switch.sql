@@ -1,0 +1,1 @@
+ALTER TABLE `decode_jobs` ADD `last_frame_id` integer DEFAULT 0 NOT NULL;
