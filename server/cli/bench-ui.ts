@@ -10,7 +10,9 @@
  * Options: --runs N (default 10), --url http://host:port (bench a running server with the demo
  * rig instead of starting one), --chromium PATH (default /usr/bin/chromium or FLAGLINE_CHROMIUM),
  * --only "Timeline,Schedule" (a comma-separated subset of the view names), --exchanges N (default
- * 100 000: the schedule's long capture, added to the bench server's database; not with --url).
+ * 100 000: the schedule's long capture, added to the bench server's database; not with --url),
+ * --requests (after each view, the requests its median run made after the click, from Chromium's
+ * resource timing: start, waiting for the first byte, end, size; and when the view became ready).
  *
  * The schedule is also timed on that long capture: opening it, then a drag across it (60 moves of
  * 12 px), with the canvas's drawing time and the page's frame intervals while it pans.
@@ -35,6 +37,7 @@ const { values: args } = parseArgs({
     chromium: { type: 'string', default: process.env.FLAGLINE_CHROMIUM ?? '/usr/bin/chromium' },
     only: { type: 'string' },
     exchanges: { type: 'string', default: '100000' },
+    requests: { type: 'boolean', default: false },
   },
 });
 
@@ -156,7 +159,13 @@ async function demoIds(page: Page): Promise<Ids> {
   );
 }
 
-async function measure(page: Page, base: string, ids: Ids, view: View): Promise<number> {
+interface Measured {
+  ms: number;
+  /** the API and script requests made after the click, times relative to it */
+  requests: { name: string; start: number; wait: number; end: number; bytes: number }[];
+}
+
+async function measure(page: Page, base: string, ids: Ids, view: View): Promise<Measured> {
   await page.goto(`${base}${view.from(ids)}`);
   await page.waitForLoadState('networkidle');
   await page.evaluate(() => {
@@ -180,7 +189,28 @@ async function measure(page: Page, base: string, ids: Ids, view: View): Promise<
     view.ready,
     { polling: 'raf', timeout: 30_000 },
   );
-  return Number(await handle.jsonValue());
+  const ms = Number(await handle.jsonValue());
+  const requests = await page.evaluate(() => {
+    const clicked = (window as unknown as { __benchClick: number }).__benchClick;
+    return (performance.getEntriesByType('resource') as PerformanceResourceTiming[])
+      .filter((e) => e.startTime >= clicked)
+      .map((e) => ({
+        name: new URL(e.name).pathname.replace(/^\/api\/rigs\/\d+/, '…') + new URL(e.name).search,
+        start: e.startTime - clicked,
+        wait: e.responseStart - e.requestStart,
+        end: e.responseEnd - clicked,
+        bytes: e.encodedBodySize,
+      }));
+  });
+  return { ms, requests };
+}
+
+function printRequests(m: Measured): void {
+  for (const r of m.requests) {
+    const name = r.name.length > 90 ? `${r.name.slice(0, 89)}…` : r.name;
+    console.log(`    ${r.start.toFixed(0).padStart(5)} → ${r.end.toFixed(0).padStart(5)} ms  (first byte after ${r.wait.toFixed(0).padStart(4)} ms, ${(r.bytes / 1024).toFixed(1).padStart(7)} KB)  ${name}`);
+  }
+  console.log(`    ready at ${m.ms.toFixed(0)} ms`);
 }
 
 /** Drags the long capture's schedule across and reports drawing times and frame intervals while it pans. */
@@ -268,20 +298,22 @@ async function main() {
     }
     const only = args.only ? new Set(args.only.split(',').map((s) => s.trim())) : null;
     console.log(`bench:ui · ${base} · ${runs} runs per view · demo capture ${CAPTURE} · goal ${GOAL_MS} ms from the click to the view's data on screen\n`);
-    console.log(`${'view'.padEnd(22)} ${'median'.padStart(8)} ${'worst'.padStart(8)}  goal`);
+    console.log(`${'view'.padEnd(28)} ${'median'.padStart(8)} ${'worst'.padStart(8)}  goal`);
     const rows: string[] = [];
     for (const view of views) {
       if (only && !only.has(view.name)) continue;
       if (view.name === 'Schedule (long capture)' && !ids.longId) continue;
       // one unmeasured run first: the browser compiles the page's code once per process
       await measure(page, base, ids, view);
-      const times: number[] = [];
-      for (let i = 0; i < runs; i++) times.push(await measure(page, base, ids, view));
+      const measured: Measured[] = [];
+      for (let i = 0; i < runs; i++) measured.push(await measure(page, base, ids, view));
+      const times = measured.map((x) => x.ms);
       const m = median(times);
       const worst = Math.max(...times);
       const verdict = worst <= GOAL_MS ? 'met' : m <= GOAL_MS ? 'median met' : 'missed';
-      console.log(`${view.name.padEnd(22)} ${`${m.toFixed(0)} ms`.padStart(8)} ${`${worst.toFixed(0)} ms`.padStart(8)}  ${verdict}`);
+      console.log(`${view.name.padEnd(28)} ${`${m.toFixed(0)} ms`.padStart(8)} ${`${worst.toFixed(0)} ms`.padStart(8)}  ${verdict}`);
       rows.push(`| ${view.name} | ${m.toFixed(0)} ms | ${worst.toFixed(0)} ms |`);
+      if (args.requests) printRequests([...measured].sort((a, b) => a.ms - b.ms)[Math.floor((measured.length - 1) / 2)]);
     }
     if (ids.longId && (!only || only.has('Schedule (long capture)'))) rows.push(await panFigures(page, base, ids));
     console.log(`\nMarkdown:\n| view | median | worst |\n|---|---:|---:|\n${rows.join('\n')}`);
