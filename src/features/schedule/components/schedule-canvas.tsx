@@ -148,14 +148,17 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
     // the server's visits
     const vy = AXIS_H;
     row(win.visits, vy + 12, 14, (code) => laneColour(code), win.codes.visits.map((_, i) => i));
+    // round ticks in one path: a long capture seen whole has one per pixel
     g.strokeStyle = text;
+    g.beginPath();
     for (const x of win.roundStarts) {
+      if (x < lo) continue;
+      if (x > hi) break;
       const px = Math.round(mapX(x)) + 0.5;
-      g.beginPath();
       g.moveTo(px, vy + 10);
       g.lineTo(px, vy + 30);
-      g.stroke();
     }
+    g.stroke();
     for (const k of win.skipped) {
       const lane = win.codes.visits.indexOf(k.station);
       const px = mapX(k.x);
