@@ -1,4 +1,4 @@
-import { useCallback, useEffect, useRef, useState } from 'react';
+import { useCallback, useEffect, useRef } from 'react';
 import type { ScheduleWindow, WindowRow } from '../../../../shared/decoder/timing';
 import { frameColours, laneColour, outcomeColours, requestLineColour, serverFrameColour, waitColours } from './schedule-palette';
 import type { Range } from './view-range';
@@ -17,6 +17,8 @@ const ROW = { line: [2, 6], wait: [10, 4], station: [17, 11], server: [30, 11], 
 export interface CanvasProps {
   win: ScheduleWindow;
   view: Range;
+  /** css pixels across: the view measures its area (one measurement, so the first window is drawn once) */
+  width: number;
   height: number;
   selectedId: number | null;
   onPan: (fraction: number) => void;
@@ -28,6 +30,8 @@ export interface CanvasProps {
   onDrawn?: (ms: number) => void;
 }
 
+/** steps of a counted column's shade (by how many spans it holds) */
+const SHADES = 20;
 const EXCHANGE_ORDER = [2, 1, 0]; // unanswered, retried, answered: the rarer outcome colours a shared column
 const FRAME_ORDER = [1, 2, 3, 4, 0];
 const OUTCOMES = ['answered', 'retried', 'unanswered'];
@@ -46,21 +50,11 @@ export function formatTick(t: number, step: number): string {
   return `${(t * 1e3).toFixed(Math.min(6, Math.max(2, Math.ceil(-Math.log10(step * 1e3)))))} ms`;
 }
 
-export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, onSelect, onZoomTo, onDrawn }: CanvasProps) {
+export function ScheduleCanvas({ win, view, width, height, selectedId, onPan, onZoom, onSelect, onZoomTo, onDrawn }: CanvasProps) {
   const wrap = useRef<HTMLDivElement>(null);
   const canvas = useRef<HTMLCanvasElement>(null);
-  const [width, setWidth] = useState(800);
   const drag = useRef<{ x: number; moved: boolean } | null>(null);
   const theme = useRef<{ text: string; muted: string; line: string } | null>(null);
-
-  useEffect(() => {
-    const el = wrap.current;
-    if (!el) return;
-    const ro = new ResizeObserver(() => setWidth(Math.max(200, Math.floor(el.clientWidth))));
-    ro.observe(el);
-    setWidth(Math.max(200, Math.floor(el.clientWidth)));
-    return () => ro.disconnect();
-  }, []);
 
   // data pixel → view pixel
   const mapX = useCallback((x: number) => (win.from + x * win.secondsPerPx - view.from) * (width / (view.to - view.from)), [win, view, width]);
@@ -124,15 +118,32 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
         if (cols[m].x < lo) a = m + 1;
         else b = m;
       }
+      // counted columns in batches of one colour and shade: setting a fill style parses the colour,
+      // so once per batch rather than once per column (a long capture seen whole has thousands)
+      const batches = new Map<string, number[]>();
       for (let c = a; c < cols.length && cols[c].x <= hi; c++) {
         const col = cols[c];
         let code = -1;
         let n = 0;
         for (const k of order) if (col.counts[k] > 0 && code < 0) code = k;
         for (const k of col.counts) n += k;
-        g.fillStyle = colour(code);
-        g.globalAlpha = Math.min(1, 0.35 + Math.log2(1 + n) / 6);
-        bar(col.x, col.x + 1, y, h);
+        const shade = Math.round(Math.min(1, 0.35 + Math.log2(1 + n) / 6) * SHADES);
+        const key = `${shade} ${colour(code)}`;
+        const xs = batches.get(key);
+        if (xs) xs.push(col.x);
+        else batches.set(key, [col.x]);
+      }
+      for (const [key, xs] of batches) {
+        const space = key.indexOf(' ');
+        g.fillStyle = key.slice(space + 1);
+        g.globalAlpha = Number(key.slice(0, space)) / SHADES;
+        g.beginPath();
+        for (const x of xs) {
+          const a = mapX(x);
+          const b = mapX(x + 1);
+          if (b >= -1 && a <= width + 1) g.rect(a, y, Math.max(1, b - a), h);
+        }
+        g.fill();
       }
       g.globalAlpha = 1;
       let last = '';

@@ -107,8 +107,7 @@ export const ScheduleLists = memo(function ScheduleLists({ rigId, captureId, bas
           </CardTitle>
           {ranked.error ? <ErrorNotice error={ranked.error} /> : null}
           {ranked.data ? (
-            <div className="max-h-[32rem] overflow-y-auto">
-              <ExchangeTable
+            <ExchangeTable
                 rows={ranked.data.rows}
                 frameHref={frameHref}
                 timelineHref={timelineHref}
@@ -116,8 +115,8 @@ export const ScheduleLists = memo(function ScheduleLists({ rigId, captureId, bas
                 onShow={onShow}
                 showStation={chosen === ALL_STATIONS}
                 caption={`Exchanges, ${exchangeOrderLabels[order].toLowerCase()}`}
+                scrollHeight="32rem"
               />
-            </div>
           ) : ranked.error ? null : (
             <p className="text-sm text-muted">Loading exchanges…</p>
           )}

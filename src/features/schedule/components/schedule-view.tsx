@@ -193,7 +193,7 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
           </div>
           <div ref={area} className="min-w-0 flex-1">
             {w && view ? (
-              <ScheduleCanvas win={w} view={view} height={height} selectedId={selectedId} onPan={onPan} onZoom={onZoom} onSelect={onSelect} onZoomTo={onZoomTo} onDrawn={onDrawn} />
+              <ScheduleCanvas win={w} view={view} width={width} height={height} selectedId={selectedId} onPan={onPan} onZoom={onZoom} onSelect={onSelect} onZoomTo={onZoomTo} onDrawn={onDrawn} />
             ) : (
               <p className="text-sm text-muted">Drawing…</p>
             )}
