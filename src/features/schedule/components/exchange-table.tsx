@@ -25,7 +25,11 @@ interface ExchangeTableProps {
   scrollHeight?: string;
 }
 
-/** a row's height before it is measured (one line of text; rows with results are taller) */
+/**
+ * a row's height for the spacers above and below the rendered rows (one line of text). Rows are not
+ * measured: measuring each forced a layout per row. A row with results is taller, which only makes
+ * the scroll bar a little off.
+ */
 const ROW_ESTIMATE = 33;
 
 /** Exchanges as a table: the keyboard twin of the schedule, and the per-file exchange list. */
@@ -44,8 +48,8 @@ export function ExchangeTable({ rows, frameHref, timelineHref, exchangeHref, onS
       </tr>
     </thead>
   );
-  const row = (r: ExchangeRow, index?: number, measure?: (el: HTMLTableRowElement | null) => void) => (
-    <ExchangeTableRow key={r.id} r={r} index={index} measure={measure} frameHref={frameHref} timelineHref={timelineHref} exchangeHref={exchangeHref} onShow={onShow} showStation={showStation} />
+  const row = (r: ExchangeRow) => (
+    <ExchangeTableRow key={r.id} r={r} frameHref={frameHref} timelineHref={timelineHref} exchangeHref={exchangeHref} onShow={onShow} showStation={showStation} />
   );
   if (scrollHeight !== undefined) return <WindowedTable rows={rows} head={head} caption={caption} scrollHeight={scrollHeight} row={row} columns={showStation ? 8 : 7} />;
   return (
@@ -71,7 +75,7 @@ function WindowedTable({
   head: ReactNode;
   caption: string;
   scrollHeight: string;
-  row: (r: ExchangeRow, index: number, measure: (el: HTMLTableRowElement | null) => void) => ReactNode;
+  row: (r: ExchangeRow) => ReactNode;
   columns: number;
 }) {
   const scroller = useRef<HTMLDivElement>(null);
@@ -90,7 +94,7 @@ function WindowedTable({
               <td colSpan={columns} style={{ height: top, padding: 0 }} />
             </tr>
           ) : null}
-          {items.map((it) => row(rows[it.index], it.index, virtualizer.measureElement))}
+          {items.map((it) => row(rows[it.index]))}
           {bottom > 0 ? (
             <tr aria-hidden="true">
               <td colSpan={columns} style={{ height: bottom, padding: 0 }} />
@@ -105,13 +109,11 @@ function WindowedTable({
 interface RowProps extends Pick<ExchangeTableProps, 'frameHref' | 'timelineHref' | 'exchangeHref' | 'onShow'> {
   r: ExchangeRow;
   showStation: boolean;
-  index?: number;
-  measure?: (el: HTMLTableRowElement | null) => void;
 }
 
-function ExchangeTableRow({ r, showStation, index, measure, frameHref, timelineHref, exchangeHref, onShow }: RowProps) {
+function ExchangeTableRow({ r, showStation, frameHref, timelineHref, exchangeHref, onShow }: RowProps) {
   return (
-    <tr ref={measure} data-index={index} className="border-b border-line/70 last:border-0" data-testid="exchange-row">
+    <tr className="border-b border-line/70 last:border-0" data-testid="exchange-row">
       <td className="py-1.5 pr-3 font-mono text-xs">{formatSeconds(r.tRequest)}</td>
       {showStation ? <td className="py-1.5 pr-3 whitespace-nowrap">{r.station.name ?? formatAddress(r.station.address)}</td> : null}
       <td className="py-1.5 pr-3 font-mono text-xs whitespace-nowrap">{r.call.name ?? (r.call.code === null ? '?' : String(r.call.code))}</td>
