@@ -8,6 +8,7 @@ import type { z } from 'zod';
 import type { CaptureModule } from '../captures/module';
 import { currentJob, type CaptureRow } from '../captures/rows';
 import { timingOf, type BuiltTiming } from './build-timing';
+import { compactWindow } from './window-size';
 import { notFound } from '../../http/errors';
 import type { ExchangeRow } from '../../../shared/schemas';
 import { visibleRun } from '../calls/capture-layer';
@@ -58,7 +59,7 @@ export function serviceView(m: CaptureModule, c: CaptureRow): ServiceView {
 export function scheduleView(m: CaptureModule, c: CaptureRow, q: z.output<typeof scheduleQuerySchema>): ScheduleView {
   const l = load(m, c);
   if ('reason' in l) return { available: false, reason: l.reason, extent: null, window: null };
-  return { available: true, reason: null, extent: l.extent, window: scheduleWindow(l.built.schedule, { from: q.from, to: q.to, width: q.width, stations: q.stations }) };
+  return { available: true, reason: null, extent: l.extent, window: compactWindow(scheduleWindow(l.built.schedule, { from: q.from, to: q.to, width: q.width, stations: q.stations })) };
 }
 
 export type { ScheduleQuery };

@@ -13,7 +13,6 @@ import { recoveredFilesQueryOptions } from '../../features/recovered-files/api/g
 import { RecoveredFileList } from '../../features/recovered-files/components/recovered-file-list';
 import { exchangeKeys } from '../../features/schedule/api/exchange-keys';
 import { callLayerQueryOptions, useCallLayer } from '../../lib/call-layer';
-import { exchangeStatsQueryOptions } from '../../features/schedule/api/get-exchange-stats';
 import { exchangeExportUrl, useExchanges } from '../../features/schedule/api/get-exchanges';
 import { ExportLinks } from '../../components/export-links';
 import { timelineKeys } from '../../features/timeline/api/timeline-keys';
@@ -21,6 +20,12 @@ import { timelineSearchFor } from '../../features/schedule/components/exchange-o
 import { exchangeHref } from '../../components/exchange-results';
 import { ExchangeTable } from '../../features/schedule/components/exchange-table';
 import { serviceQueryOptions } from '../../features/schedule/api/get-service';
+import { scheduleWindowQueryOptions } from '../../features/schedule/api/get-schedule-window';
+import { rankedExchangesQueryOptions } from '../../features/schedule/api/get-ranked-exchanges';
+import { parseExchangeOrder } from '../../features/schedule/components/exchange-order';
+import { scheduleAreaWidth } from '../../features/schedule/components/schedule-width';
+import { ALL_STATIONS, parseStation } from '../../features/schedule/components/schedule-lists';
+import { clampRange, fetchFor, parseRange } from '../../features/schedule/components/view-range';
 import { ScheduleView } from '../../features/schedule/components/schedule-view';
 import { queryClient } from '../query-client';
 import { whenSignedIn } from './session-loaders';
@@ -163,13 +168,26 @@ function CompareRoute() {
 }
 
 /**
- * The schedule paints once its service statistics are in (they give the time range); the exchange
- * figures beside it start loading at the same moment but are not waited for: on a long capture
- * they take longer than the schedule itself.
+ * The schedule paints once its service statistics are in (they give the time range). The first
+ * window of the lanes, sized to the canvas, and the first rows of the exchange list start as soon as
+ * that range is known, while the page renders; the round-trip figures wait for the lanes (on a long
+ * capture they read every exchange and would hold the window up on the server).
  */
-const scheduleLoader = prefetch((rigId, captureId) => {
-  void queryClient.prefetchQuery(exchangeStatsQueryOptions(rigId, captureId, []));
-  return Promise.all([queryClient.prefetchQuery(callLayerQueryOptions(rigId, captureId)), queryClient.prefetchQuery(serviceQueryOptions(rigId, captureId))]);
+const scheduleLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs) => {
+  const got = ids(params);
+  if (!got) return;
+  const { rigId, captureId } = got;
+  const [, service] = await Promise.all([queryClient.prefetchQuery(callLayerQueryOptions(rigId, captureId)), queryClient.ensureQueryData(serviceQueryOptions(rigId, captureId)).catch(() => null)]);
+  const search = new URL(request.url).searchParams;
+  const extent = service?.extent;
+  const station = parseStation(search.get('station'));
+  void queryClient.prefetchQuery(rankedExchangesQueryOptions(rigId, captureId, station === ALL_STATIONS ? [] : [station], parseExchangeOrder(search.get('order'))));
+  // a linked exchange decides the range itself, once it is loaded
+  if (!extent || (search.has('ex') && !parseRange(search.get('from'), search.get('to')))) return;
+  // the range the view starts from: the link's, else the whole capture
+  const linked = parseRange(search.get('from'), search.get('to'));
+  const view = linked ? clampRange(linked, extent) : { from: extent.from, to: extent.to };
+  void queryClient.prefetchQuery(scheduleWindowQueryOptions(rigId, captureId, fetchFor(view, scheduleAreaWidth(), extent)));
 });
 
 /** Children of the capture route (`rigs/:rigId/captures/:captureId`). */

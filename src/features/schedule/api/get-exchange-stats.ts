@@ -14,6 +14,6 @@ export function exchangeStatsQueryOptions(rigId: number, captureId: number, stat
   return queryOptions({ queryKey: exchangeKeys.stats(rigId, captureId, stations), queryFn: () => fetchExchangeStats(rigId, captureId, stations) });
 }
 
-export function useExchangeStats(rigId: number, captureId: number, stations: number[]) {
-  return useQuery(exchangeStatsQueryOptions(rigId, captureId, stations));
+export function useExchangeStats(rigId: number, captureId: number, stations: number[], enabled = true) {
+  return useQuery({ ...exchangeStatsQueryOptions(rigId, captureId, stations), enabled });
 }

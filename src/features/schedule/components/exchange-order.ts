@@ -14,18 +14,6 @@ export function parseExchangeOrder(value: string | null): ExchangeOrder {
   return (exchangeOrders as readonly string[]).includes(value ?? '') ? (value as ExchangeOrder) : 'time';
 }
 
-/**
- * The list's order. "Slowest" puts unanswered exchanges last (they have no round trip); the
- * retried/unanswered orders move those exchanges to the top and keep time order within each part.
- */
-export function orderExchanges(rows: readonly ExchangeRow[], order: ExchangeOrder): ExchangeRow[] {
-  const byTime = [...rows].sort((a, b) => a.tRequest - b.tRequest);
-  if (order === 'time') return byTime;
-  if (order === 'slowest') return byTime.sort((a, b) => (b.rttSeconds ?? -1) - (a.rttSeconds ?? -1));
-  const first = byTime.filter((r) => r.outcome === order);
-  return [...first, ...byTime.filter((r) => r.outcome !== order)];
-}
-
 /** The timeline's own URL filters around one exchange: its station, from the request to just past the answer. */
 export function timelineSearchFor(row: ExchangeRow): string {
   const end = row.tResponse ?? row.tRequestEnd;

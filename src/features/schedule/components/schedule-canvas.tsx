@@ -1,4 +1,4 @@
-import { useCallback, useEffect, useRef, useState } from 'react';
+import { useCallback, useEffect, useRef } from 'react';
 import type { ScheduleWindow, WindowRow } from '../../../../shared/decoder/timing';
 import { frameColours, laneColour, outcomeColours, requestLineColour, serverFrameColour, waitColours } from './schedule-palette';
 import type { Range } from './view-range';
@@ -17,6 +17,8 @@ const ROW = { line: [2, 6], wait: [10, 4], station: [17, 11], server: [30, 11], 
 export interface CanvasProps {
   win: ScheduleWindow;
   view: Range;
+  /** css pixels across: the view measures its area (one measurement, so the first window is drawn once) */
+  width: number;
   height: number;
   selectedId: number | null;
   onPan: (fraction: number) => void;
@@ -33,6 +35,23 @@ const FRAME_ORDER = [1, 2, 3, 4, 0];
 const OUTCOMES = ['answered', 'retried', 'unanswered'];
 const STATUSES = ['ok', 'bad-fcs', 'abort', 'short', 'residue'];
 
+const rgbCache = new Map<string, [number, number, number]>();
+
+/** a palette colour as red, green, blue (the palette writes #rrggbb; anything else goes through a canvas, once) */
+function rgbOf(colour: string): [number, number, number] {
+  let rgb = rgbCache.get(colour);
+  if (rgb) return rgb;
+  let hex = /^#([0-9a-f]{6})$/i.exec(colour)?.[1];
+  if (!hex) {
+    const g = document.createElement('canvas').getContext('2d');
+    if (g) g.fillStyle = colour;
+    hex = /^#([0-9a-f]{6})$/i.exec(String(g?.fillStyle ?? ''))?.[1] ?? '808080';
+  }
+  rgb = [parseInt(hex.slice(0, 2), 16), parseInt(hex.slice(2, 4), 16), parseInt(hex.slice(4, 6), 16)];
+  rgbCache.set(colour, rgb);
+  return rgb;
+}
+
 function niceStep(span: number, px: number): number {
   const raw = (span / px) * 110;
   const p = 10 ** Math.floor(Math.log10(raw));
@@ -46,21 +65,13 @@ export function formatTick(t: number, step: number): string {
   return `${(t * 1e3).toFixed(Math.min(6, Math.max(2, Math.ceil(-Math.log10(step * 1e3)))))} ms`;
 }
 
-export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, onSelect, onZoomTo, onDrawn }: CanvasProps) {
+export function ScheduleCanvas({ win, view, width, height, selectedId, onPan, onZoom, onSelect, onZoomTo, onDrawn }: CanvasProps) {
   const wrap = useRef<HTMLDivElement>(null);
   const canvas = useRef<HTMLCanvasElement>(null);
-  const [width, setWidth] = useState(800);
   const drag = useRef<{ x: number; moved: boolean } | null>(null);
   const theme = useRef<{ text: string; muted: string; line: string } | null>(null);
-
-  useEffect(() => {
-    const el = wrap.current;
-    if (!el) return;
-    const ro = new ResizeObserver(() => setWidth(Math.max(200, Math.floor(el.clientWidth))));
-    ro.observe(el);
-    setWidth(Math.max(200, Math.floor(el.clientWidth)));
-    return () => ro.disconnect();
-  }, []);
+  /** the counted columns' pixels, kept between drawings (a pan draws every frame) */
+  const pixels = useRef<ImageData | null>(null);
 
   // data pixel → view pixel
   const mapX = useCallback((x: number) => (win.from + x * win.secondsPerPx - view.from) * (width / (view.to - view.from)), [win, view, width]);
@@ -89,6 +100,71 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
     const { text, muted, line } = theme.current;
     const scale = width / (view.to - view.from);
 
+    const bar = (x0: number, x1: number, y: number, h: number) => {
+      const a = mapX(x0);
+      const b = mapX(x1);
+      if (b < -1 || a > width + 1) return;
+      g.fillRect(a, y, Math.max(1, b - a), h);
+    };
+    // only what falls in the view is drawn (the window holds a screen either side for panning)
+    const lo = (view.from - win.from) / win.secondsPerPx - 1;
+    const hi = (view.to - win.from) / win.secondsPerPx + 1;
+    type RowSpec = [r: WindowRow, y: number, h: number, colour: (code: number) => string, order: number[]];
+    const vy = AXIS_H;
+    const visitsRow: RowSpec = [win.visits, vy + 12, 14, (code) => laneColour(code), win.codes.visits.map((_, i) => i)];
+    const laneRows = win.lanes.map((lane, i): RowSpec[] => {
+      const y = AXIS_H + VISITS_H + i * LANE_H;
+      return [
+        [lane.waits, y + ROW.wait[0], ROW.wait[1], (code) => (code >= 3 ? waitColours.starved : code === 0 ? waitColours.served : waitColours.withdrawn), [3, 4, 5, 0, 1, 2]],
+        [lane.stationFrames, y + ROW.station[0], ROW.station[1], (code) => frameColours[STATUSES[code] ?? 'ok'], FRAME_ORDER],
+        [lane.serverFrames, y + ROW.server[0], ROW.server[1], (code) => (code === 0 ? serverFrameColour : frameColours[STATUSES[code] ?? 'ok']), FRAME_ORDER],
+        [lane.exchanges, y + ROW.exchange[0], ROW.exchange[1], (code) => outcomeColours[OUTCOMES[code] ?? 'answered'], EXCHANGE_ORDER],
+      ];
+    });
+
+    // Counted columns first, written as pixels: a long capture seen whole has a column in every
+    // pixel of every row (some 15 000 rectangles), which the canvas fills far slower than this loop
+    // sets them. Everything else is drawn over them.
+    let img = pixels.current;
+    if (!img || img.width !== c.width || img.height !== c.height) img = pixels.current = g.createImageData(c.width, c.height);
+    else img.data.fill(0);
+    const px = img.data;
+    const W = c.width;
+    const columns = ([r, y, h, colour, order]: RowSpec) => {
+      const cols = r.columns;
+      let a = 0;
+      let b = cols.length;
+      while (a < b) {
+        const m = (a + b) >> 1;
+        if (cols[m].x < lo) a = m + 1;
+        else b = m;
+      }
+      const y0 = Math.round(y * dpr);
+      const y1 = Math.round((y + h) * dpr);
+      for (let k = a; k < cols.length && cols[k].x <= hi; k++) {
+        const col = cols[k];
+        let code = -1;
+        let n = 0;
+        for (const o of order) if (col.counts[o] > 0 && code < 0) code = o;
+        for (const o of col.counts) n += o;
+        const [R, G, B] = rgbOf(colour(code));
+        const A = Math.round(Math.min(1, 0.35 + Math.log2(1 + n) / 6) * 255);
+        const x0 = Math.max(0, Math.floor(mapX(col.x) * dpr));
+        const x1 = Math.min(W, Math.max(x0 + 1, Math.floor(mapX(col.x + 1) * dpr)));
+        for (let yy = y0; yy < y1; yy++) {
+          for (let o = (yy * W + x0) * 4, end = (yy * W + x1) * 4; o < end; o += 4) {
+            px[o] = R;
+            px[o + 1] = G;
+            px[o + 2] = B;
+            px[o + 3] = A;
+          }
+        }
+      }
+    };
+    columns(visitsRow);
+    for (const rows of laneRows) rows.forEach(columns);
+    g.putImageData(img, 0, 0);
+
     // time axis
     const step = niceStep(view.to - view.from, width);
     g.font = '10px "IBM Plex Mono", monospace';
@@ -106,35 +182,8 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
       g.fillText(formatTick(t, step), x + 3, 11);
     }
 
-    const bar = (x0: number, x1: number, y: number, h: number) => {
-      const a = mapX(x0);
-      const b = mapX(x1);
-      if (b < -1 || a > width + 1) return;
-      g.fillRect(a, y, Math.max(1, b - a), h);
-    };
-    // only what falls in the view is drawn (the window holds a screen either side for panning)
-    const lo = (view.from - win.from) / win.secondsPerPx - 1;
-    const hi = (view.to - win.from) / win.secondsPerPx + 1;
-    const row = (r: WindowRow, y: number, h: number, colour: (code: number) => string, order: number[]) => {
-      const cols = r.columns;
-      let a = 0;
-      let b = cols.length;
-      while (a < b) {
-        const m = (a + b) >> 1;
-        if (cols[m].x < lo) a = m + 1;
-        else b = m;
-      }
-      for (let c = a; c < cols.length && cols[c].x <= hi; c++) {
-        const col = cols[c];
-        let code = -1;
-        let n = 0;
-        for (const k of order) if (col.counts[k] > 0 && code < 0) code = k;
-        for (const k of col.counts) n += k;
-        g.fillStyle = colour(code);
-        g.globalAlpha = Math.min(1, 0.35 + Math.log2(1 + n) / 6);
-        bar(col.x, col.x + 1, y, h);
-      }
-      g.globalAlpha = 1;
+
+    const items = ([r, y, h, colour]: RowSpec) => {
       let last = '';
       for (const it of r.items) {
         if (it.x1 < lo) continue;
@@ -146,16 +195,18 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
     };
 
     // the server's visits
-    const vy = AXIS_H;
-    row(win.visits, vy + 12, 14, (code) => laneColour(code), win.codes.visits.map((_, i) => i));
+    items(visitsRow);
+    // round ticks in one path: a long capture seen whole has one per pixel
     g.strokeStyle = text;
+    g.beginPath();
     for (const x of win.roundStarts) {
+      if (x < lo) continue;
+      if (x > hi) break;
       const px = Math.round(mapX(x)) + 0.5;
-      g.beginPath();
       g.moveTo(px, vy + 10);
       g.lineTo(px, vy + 30);
-      g.stroke();
     }
+    g.stroke();
     for (const k of win.skipped) {
       const lane = win.codes.visits.indexOf(k.station);
       const px = mapX(k.x);
@@ -180,10 +231,7 @@ export function ScheduleCanvas({ win, view, height, selectedId, onPan, onZoom, o
       g.globalAlpha = 1;
       g.fillStyle = requestLineColour;
       for (const p of lane.requestLine) bar(p.x0, p.x1, y + ROW.line[0], ROW.line[1]);
-      row(lane.waits, y + ROW.wait[0], ROW.wait[1], (code) => (code >= 3 ? waitColours.starved : code === 0 ? waitColours.served : waitColours.withdrawn), [3, 4, 5, 0, 1, 2]);
-      row(lane.stationFrames, y + ROW.station[0], ROW.station[1], (code) => frameColours[STATUSES[code] ?? 'ok'], FRAME_ORDER);
-      row(lane.serverFrames, y + ROW.server[0], ROW.server[1], (code) => (code === 0 ? serverFrameColour : frameColours[STATUSES[code] ?? 'ok']), FRAME_ORDER);
-      row(lane.exchanges, y + ROW.exchange[0], ROW.exchange[1], (code) => outcomeColours[OUTCOMES[code] ?? 'answered'], EXCHANGE_ORDER);
+      laneRows[i].forEach(items);
       // marks: a retried span gets a notch at its start, an unanswered one an open end
       for (const it of lane.exchanges.items) {
         if (it.x1 < lo || it.code === 0) continue;

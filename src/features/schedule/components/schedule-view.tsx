@@ -1,31 +1,25 @@
-import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
+import { memo, useCallback, useEffect, useRef, useState } from 'react';
 import { useSearchParams } from 'react-router';
-import type { ExchangeRow, RigDetail, StationExchangeStats } from '../../../../shared/schemas';
+import type { ServiceReport } from '../../../../shared/decoder/timing';
+import type { ExchangeRow, RigDetail } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
 import { Card, CardTitle } from '../../../components/card';
-import { ExportLinks } from '../../../components/export-links';
 import { ErrorNotice } from '../../../components/notice';
-import { exchangeHref } from '../../../components/exchange-results';
 import { formatDuration } from '../../../components/units';
 import { formatAddress } from '../../../lib/format';
 import { captureScope } from '../../../lib/scope';
-import { useExchangeStats } from '../api/get-exchange-stats';
-import { exchangeExportUrl, useExchanges } from '../api/get-exchanges';
-import { exchangeOrderLabels, exchangeOrders, orderExchanges, parseExchangeOrder, timelineSearchFor } from './exchange-order';
-import { ExchangeTable } from './exchange-table';
-import { RttHistogram } from './rtt-histogram';
-import { RttStats } from './rtt-stats';
+import { parseExchangeOrder, timelineSearchFor } from './exchange-order';
 import { useTimingExchange } from '../api/get-exchange';
 import { useScheduleWindow } from '../api/get-schedule-window';
 import { useService } from '../api/get-service';
 import { ExchangePanel } from './exchange-panel';
 import { AXIS_H, LANE_H, ScheduleCanvas, VISITS_H } from './schedule-canvas';
 import { ScheduleLegend } from './schedule-legend';
+import { parseStation, ScheduleLists } from './schedule-lists';
 import { ServiceStats } from './service-stats';
-import { clampRange, covers, fetchFor, panRange, rangeAround, zoomRange, type Fetched, type Range } from './view-range';
+import { LABEL_W, noteAreaWidth, scheduleAreaWidth } from './schedule-width';
+import { clampRange, covers, fetchFor, panRange, parseRange, rangeAround, zoomRange, type Fetched, type Range } from './view-range';
 
-const ALL = 'all';
-const LABEL_W = 150;
 
 /**
  * The capture's schedule: one lane per station on a shared time axis, the server's visits above,
@@ -41,7 +35,8 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
   const selected = useTimingExchange(rig.id, captureId, selectedId);
   const urlRange = parseRange(params.get('from'), params.get('to'));
   const [view, setView] = useState<Range | null>(null);
-  const [width, setWidth] = useState(900);
+  // the loader fetched the first window for this width: the same guess here finds it in the cache
+  const [width, setWidth] = useState(scheduleAreaWidth);
   const [fetched, setFetched] = useState<Fetched | null>(null);
   const area = useRef<HTMLDivElement>(null);
   const drawTimes = useRef<number[]>([]);
@@ -89,7 +84,7 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
   useEffect(() => {
     const el = area.current;
     if (!el) return;
-    const ro = new ResizeObserver(() => setWidth(Math.max(200, Math.floor(el.clientWidth))));
+    const ro = new ResizeObserver(() => setWidth(noteAreaWidth(el.clientWidth)));
     ro.observe(el);
     return () => ro.disconnect();
   }, [extent]);
@@ -112,39 +107,39 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
     (window as unknown as { __scheduleDrawMs?: number[] }).__scheduleDrawMs = list;
   }, []);
 
-  // lists beside the schedule: the round-trip view's, by station
-  const all = useExchangeStats(rig.id, captureId, []);
-  const stationsSeen = all.data?.stations ?? [];
-  const stationParam = params.get('station');
-  const chosen: number | typeof ALL = stationParam !== null && stationParam !== ALL && Number.isInteger(Number(stationParam)) ? Number(stationParam) : ALL;
-  const stationFilter = chosen === ALL ? [] : [chosen];
-  const stats = useExchangeStats(rig.id, captureId, stationFilter);
-  const exchanges = useExchanges(rig.id, captureId, { station: stationFilter });
+  const chosen = parseStation(params.get('station'));
   const order = parseExchangeOrder(params.get('order'));
-  const listed = useMemo(() => orderExchanges(exchanges.data?.rows ?? [], order), [exchanges.data, order]);
-  const chosenStats: StationExchangeStats | undefined = chosen === ALL ? undefined : stats.data?.stations.find((s) => s.address === chosen);
 
   const base = captureScope(rig.id, captureId).page;
   const frameHref = (id: number) => `${base}/frames/${id}`;
   const timelineHref = (row: ExchangeRow) => `${base}/timeline${timelineSearchFor(row)}`;
-  const names = extent?.stationNames ?? {};
-  const name = (a: number) => names[a] ?? rig.stations.find((s) => s.address === a)?.name ?? `Station ${formatAddress(a)}`;
+  const stationNames = extent?.stationNames;
+  const name = useCallback(
+    (a: number) => stationNames?.[a] ?? rig.stations.find((s) => s.address === a)?.name ?? `Station ${formatAddress(a)}`,
+    [stationNames, rig.stations],
+  );
 
-  const show = (row: ExchangeRow) => {
-    setParam({ ex: String(row.id) });
-    if (extent) setView(rangeAround(row.tRequest, row.tResponse ?? row.tRequestEnd, extent));
-    area.current?.scrollIntoView({ block: 'nearest' });
-  };
-  const showStation = (station: number) => {
-    setParam({ station: String(station) });
-    const longest = service.data?.report?.stations.find((s) => s.station === station)?.longestWait;
-    if (longest && extent) setView(rangeAround(longest.rise, longest.end, extent, 0.5));
-  };
+  const show = useCallback(
+    (row: ExchangeRow) => {
+      setParam({ ex: String(row.id) });
+      if (extent) setView(rangeAround(row.tRequest, row.tResponse ?? row.tRequestEnd, extent));
+      area.current?.scrollIntoView({ block: 'nearest' });
+    },
+    [setParam, extent],
+  );
+  const report = service.data?.report ?? null;
+  const showStation = useCallback(
+    (station: number) => {
+      setParam({ station: String(station) });
+      const longest = report?.stations.find((s) => s.station === station)?.longestWait;
+      if (longest && extent) setView(rangeAround(longest.rise, longest.end, extent, 0.5));
+    },
+    [setParam, report, extent],
+  );
 
   if (service.error) return <ErrorNotice error={service.error} />;
   if (!service.data) return <p className="text-sm text-muted">Working out the schedule…</p>;
-  if (!service.data.available) return <Unavailable reason={service.data.reason} base={base} />;
-  const report = service.data.report!;
+  if (!service.data.available || !report) return <Unavailable reason={service.data.reason} base={base} />;
   const w = win.data?.window ?? null;
   const lanes = w?.lanes ?? [];
   const height = AXIS_H + VISITS_H + Math.max(1, lanes.length) * LANE_H;
@@ -198,7 +193,7 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
           </div>
           <div ref={area} className="min-w-0 flex-1">
             {w && view ? (
-              <ScheduleCanvas win={w} view={view} height={height} selectedId={selectedId} onPan={onPan} onZoom={onZoom} onSelect={onSelect} onZoomTo={onZoomTo} onDrawn={onDrawn} />
+              <ScheduleCanvas win={w} view={view} width={width} height={height} selectedId={selectedId} onPan={onPan} onZoom={onZoom} onSelect={onSelect} onZoomTo={onZoomTo} onDrawn={onDrawn} />
             ) : (
               <p className="text-sm text-muted">Drawing…</p>
             )}
@@ -216,80 +211,32 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
         ) : null}
       </Card>
 
-      <Card>
-        <CardTitle>Service and the server's round</CardTitle>
-        <ServiceStats report={report} names={names} onStation={showStation} />
-      </Card>
-
-      <div className="flex flex-wrap items-end gap-4">
-        <label className="space-y-1 text-sm">
-          <span className="block font-medium">Station</span>
-          <select
-            aria-label="Station"
-            value={String(chosen)}
-            onChange={(e) => setParam({ station: e.target.value === ALL ? null : e.target.value })}
-            className="block rounded-md border border-line bg-surface px-2.5 py-1.5 text-sm text-text focus:outline-none focus:ring-2 focus:ring-focus/60"
-          >
-            <option value={ALL}>All stations</option>
-            {stationsSeen.map((s) => (
-              <option key={s.address} value={s.address}>
-                {name(s.address)} ({formatAddress(s.address)}) · {s.count} exchanges
-              </option>
-            ))}
-          </select>
-        </label>
-        <p className="pb-1.5 text-sm text-muted">Round trip: from the request's last bit to the answer's first bit.</p>
-      </div>
-      {stats.error ? <ErrorNotice error={stats.error} /> : null}
-      {chosenStats ? <RttStats stats={chosenStats} /> : null}
-      <div className="grid gap-5 xl:grid-cols-[2fr_3fr]">
-        <Card>
-          <CardTitle>Round-trip times</CardTitle>
-          {stats.data ? <RttHistogram histogram={stats.data.histogram} /> : <p className="text-sm text-muted">Loading…</p>}
-        </Card>
-        <Card>
-          <CardTitle
-            aside={
-              <div role="radiogroup" aria-label="List order" className="flex flex-wrap gap-1">
-                {exchangeOrders.map((o) => (
-                  <button
-                    key={o}
-                    type="button"
-                    role="radio"
-                    aria-checked={order === o}
-                    onClick={() => setParam({ order: o === 'time' ? null : o })}
-                    className={`rounded-md border px-2.5 py-1 text-xs font-medium ${order === o ? 'border-flare-500 bg-flare-500/15 text-text' : 'border-line text-muted hover:text-text'}`}
-                  >
-                    {exchangeOrderLabels[o]}
-                  </button>
-                ))}
-              </div>
-            }
-          >
-            <span className="flex flex-wrap items-center gap-3">
-              Exchanges
-              <ExportLinks href={(format) => exchangeExportUrl(rig.id, captureId, { station: stationFilter }, format)} what={chosen === ALL ? 'every exchange of this capture' : 'the exchanges listed below'} />
-            </span>
-          </CardTitle>
-          {exchanges.error ? <ErrorNotice error={exchanges.error} /> : null}
-          {exchanges.data && exchanges.data.total > exchanges.data.rows.length ? (
-            <p className="mb-2 text-sm text-muted">Ranking the first {exchanges.data.rows.length} of {exchanges.data.total} exchanges; the schedule shows them all.</p>
-          ) : null}
-          <div className="max-h-[32rem] overflow-y-auto">
-            <ExchangeTable rows={listed.slice(0, 300)} frameHref={frameHref} timelineHref={timelineHref} exchangeHref={(id) => exchangeHref(base, id)} onShow={show} showStation={chosen === ALL} caption={`Exchanges, ${exchangeOrderLabels[order].toLowerCase()}`} />
-          </div>
-          {listed.length > 300 ? <p className="mt-2 text-xs text-muted">The first 300 in this order; export for the rest.</p> : null}
-        </Card>
-      </div>
+      <ServiceCard report={report} names={stationNames} onStation={showStation} />
+      <ScheduleLists
+        rigId={rig.id}
+        captureId={captureId}
+        base={base}
+        chosen={chosen}
+        order={order}
+        name={name}
+        statsEnabled={w !== null || win.error !== null}
+        setParam={setParam}
+        onShow={show}
+      />
     </div>
   );
 }
 
-function parseRange(from: string | null, to: string | null): Range | null {
-  const a = Number(from);
-  const b = Number(to);
-  return from !== null && to !== null && Number.isFinite(a) && Number.isFinite(b) && b > a ? { from: a, to: b } : null;
-}
+/** Memoised so that panning the schedule does not re-render the tables. */
+const ServiceCard = memo(function ServiceCard({ report, names, onStation }: { report: ServiceReport; names: Record<number, string> | undefined; onStation: (station: number) => void }) {
+  return (
+    <Card>
+      <CardTitle>Service and the server's round</CardTitle>
+      <ServiceStats report={report} names={names ?? NO_NAMES} onStation={onStation} />
+    </Card>
+  );
+});
+const NO_NAMES: Record<number, string> = {};
 
 function Unavailable({ reason, base }: { reason: string | null; base: string }) {
   const words: Record<string, string> = {

@@ -56,3 +56,10 @@ export function fetchFor(view: Range, widthPx: number, extent: Range): Fetched {
   const width = Math.min(8192, Math.max(16, Math.round((widthPx * (to - from)) / span)));
   return { from, to, width };
 }
+
+/** The range in the URL (`from`, `to` seconds), when it is one. */
+export function parseRange(from: string | null, to: string | null): Range | null {
+  const a = Number(from);
+  const b = Number(to);
+  return from !== null && to !== null && Number.isFinite(a) && Number.isFinite(b) && b > a ? { from: a, to: b } : null;
+}
