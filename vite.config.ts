@@ -1,9 +1,15 @@
+import path from 'node:path';
 import { defineConfig } from 'vite';
 import react from '@vitejs/plugin-react';
 import tailwindcss from '@tailwindcss/vite';
 
-export default defineConfig({
+export default defineConfig(({ command }) => ({
   plugins: [react(), tailwindcss()],
+  resolve: {
+    // react-router's package exports only its development build (dev-time warnings and checks on
+    // every navigation); the client build takes the production build that ships beside it.
+    alias: command === 'build' ? [{ find: /^react-router$/, replacement: path.resolve('node_modules/react-router/dist/production/index.mjs') }] : [],
+  },
   build: {
     outDir: 'dist/client',
     emptyOutDir: true,
@@ -25,4 +31,4 @@ export default defineConfig({
       },
     },
   },
-});
+}));
