@@ -154,28 +154,51 @@ function summary(values: number[]): RttSummary | null {
 
 const statColumns = { station: exchanges.station, outcome: exchanges.outcome, rtt: exchanges.rtt, serviceDelay: exchanges.serviceDelay };
 
-export function exchangeStats(m: CallsModule, captureId: number, q: { station?: number[]; bins: number }): ExchangeStats {
-  const run = visibleRun(m, captureId);
-  if (!run) return { stations: [], histogram: { edges: [], counts: [] } };
+/** a visible call run's figures per station (names left out: a station can be renamed) and its round trips */
+interface RunStats {
+  stations: Omit<StationExchangeStats, 'name'>[];
+  rttStation: Int32Array;
+  rtt: Float64Array;
+}
+
+/**
+ * A call run's exchanges never change once it is visible, and the overview and schedule ask for
+ * its figures once per view and station: reading and sorting 100 000 exchanges took over a second
+ * of the request thread, so the last few runs' figures are kept per database (call run ids are
+ * AUTOINCREMENT, never reused).
+ */
+const statsCache = new WeakMap<object, Map<number, RunStats>>();
+const STATS_RUNS_KEPT = 8;
+
+function runStats(m: CallsModule, runId: number): RunStats {
+  let byRun = statsCache.get(m.db);
+  if (!byRun) statsCache.set(m.db, (byRun = new Map()));
+  const kept = byRun.get(runId);
+  if (kept) {
+    // most recently used last, so the oldest is the first key
+    byRun.delete(runId);
+    byRun.set(runId, kept);
+    return kept;
+  }
   const rows = allRows(
     prepared(m.db, 'exchange stats', () => m.db.select(statColumns).from(exchanges).where(eq(exchanges.runId, ph('runId'))).prepare()),
     statColumns,
-    { runId: run.runId },
+    { runId },
   );
-  const names = stationNames(m, captureId);
   const by = new Map<number, typeof rows>();
+  let withRtt = 0;
   for (const r of rows) {
     const l = by.get(r.station);
     if (l) l.push(r);
     else by.set(r.station, [r]);
+    if (r.rtt !== null) withRtt++;
   }
-  const stations: StationExchangeStats[] = [...by.entries()]
+  const stationStats = [...by.entries()]
     .sort((a, b) => a[0] - b[0])
     .map(([address, list]) => {
       const delays = list.map((r) => r.serviceDelay).filter((x): x is number => x !== null).sort((a, b) => a - b);
       return {
         address,
-        name: names.get(address) ?? null,
         count: list.length,
         answered: list.filter((r) => r.outcome === 'answered').length,
         retried: list.filter((r) => r.outcome === 'retried').length,
@@ -184,9 +207,30 @@ export function exchangeStats(m: CallsModule, captureId: number, q: { station?: 
         serviceDelay: delays.length ? { count: delays.length, median: percentile(delays, 0.5), max: delays[delays.length - 1] } : null,
       };
     });
+  const rttStation = new Int32Array(withRtt);
+  const rtt = new Float64Array(withRtt);
+  let i = 0;
+  for (const r of rows) {
+    if (r.rtt === null) continue;
+    rttStation[i] = r.station;
+    rtt[i++] = r.rtt;
+  }
+  const stats = { stations: stationStats, rttStation, rtt };
+  byRun.set(runId, stats);
+  if (byRun.size > STATS_RUNS_KEPT) byRun.delete(byRun.keys().next().value!);
+  return stats;
+}
+
+export function exchangeStats(m: CallsModule, captureId: number, q: { station?: number[]; bins: number }): ExchangeStats {
+  const run = visibleRun(m, captureId);
+  if (!run) return { stations: [], histogram: { edges: [], counts: [] } };
+  const stats = runStats(m, run.runId);
+  const names = stationNames(m, captureId);
+  const stationsOut: StationExchangeStats[] = stats.stations.map(({ address, ...figures }) => ({ address, name: names.get(address) ?? null, ...figures }));
   const chosen = q.station && q.station.length ? new Set(q.station) : null;
-  const rtts = rows.filter((r) => r.rtt !== null && (!chosen || chosen.has(r.station))).map((r) => r.rtt!);
-  return { stations, histogram: histogram(rtts, q.bins) };
+  const rtts: number[] = [];
+  for (let i = 0; i < stats.rtt.length; i++) if (!chosen || chosen.has(stats.rttStation[i])) rtts.push(stats.rtt[i]);
+  return { stations: stationsOut, histogram: histogram(rtts, q.bins) };
 }
 
 function histogram(values: number[], bins: number): { edges: number[]; counts: number[] } {
