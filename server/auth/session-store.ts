@@ -62,7 +62,8 @@ export class SqliteSessionStore extends session.Store {
     );
   private readonly moveExpiry = () =>
     prepared(this.db, 'session touch', () =>
-      this.db.update(sessions).set({ expiresAt: ph('expiresAt') }).where(eq(sessions.sid, ph('sid'))).prepare(),
+      // update's set takes no bare placeholder in Drizzle's typings; one inside a sql fragment binds as is
+      this.db.update(sessions).set({ expiresAt: sql<number>`${ph('expiresAt')}` }).where(eq(sessions.sid, ph('sid'))).prepare(),
     );
 
   get(sid: string, cb: (err: unknown, session?: session.SessionData | null) => void): void {
