@@ -1,7 +1,10 @@
 import session from 'express-session';
-import { eq, lt } from 'drizzle-orm';
+import { eq, lt, sql } from 'drizzle-orm';
 import type { Db } from '../db/client';
+import { prepared } from '../db/prepared';
 import { sessions } from '../db/schema';
+
+const ph = sql.placeholder;
 
 const DEFAULT_TTL_MS = 14 * 24 * 60 * 60 * 1000;
 const CLEANUP_INTERVAL_MS = 15 * 60 * 1000;
@@ -43,12 +46,32 @@ export class SqliteSessionStore extends session.Store {
     return this.db.delete(sessions).where(lt(sessions.expiresAt, Date.now())).run().changes;
   }
 
+  // get runs on every request and set/touch on many: prepared once per database handle, so a
+  // request does not pay for Drizzle building the same SQL again
+  private readonly find = () =>
+    prepared(this.db, 'session by sid', () => this.db.select().from(sessions).where(eq(sessions.sid, ph('sid'))).prepare());
+  private readonly remove = () =>
+    prepared(this.db, 'session delete', () => this.db.delete(sessions).where(eq(sessions.sid, ph('sid'))).prepare());
+  private readonly upsert = () =>
+    prepared(this.db, 'session upsert', () =>
+      this.db
+        .insert(sessions)
+        .values({ sid: ph('sid'), data: ph('data'), expiresAt: ph('expiresAt') })
+        .onConflictDoUpdate({ target: sessions.sid, set: { data: sql`excluded.data`, expiresAt: sql`excluded.expires_at` } })
+        .prepare(),
+    );
+  private readonly moveExpiry = () =>
+    prepared(this.db, 'session touch', () =>
+      // update's set takes no bare placeholder in Drizzle's typings; one inside a sql fragment binds as is
+      this.db.update(sessions).set({ expiresAt: sql<number>`${ph('expiresAt')}` }).where(eq(sessions.sid, ph('sid'))).prepare(),
+    );
+
   get(sid: string, cb: (err: unknown, session?: session.SessionData | null) => void): void {
     try {
-      const row = this.db.select().from(sessions).where(eq(sessions.sid, sid)).get();
+      const row = this.find().get({ sid });
       if (!row) return cb(null, null);
       if (row.expiresAt < Date.now()) {
-        this.db.delete(sessions).where(eq(sessions.sid, sid)).run();
+        this.remove().run({ sid });
         this.storedExpiry.delete(sid);
         return cb(null, null);
       }
@@ -63,11 +86,7 @@ export class SqliteSessionStore extends session.Store {
     try {
       const data = JSON.stringify(sess);
       const expiresAt = this.expiry(sess);
-      this.db
-        .insert(sessions)
-        .values({ sid, data, expiresAt })
-        .onConflictDoUpdate({ target: sessions.sid, set: { data, expiresAt } })
-        .run();
+      this.upsert().run({ sid, data, expiresAt });
       this.remember(sid, expiresAt);
       cb?.();
     } catch (err) {
@@ -77,7 +96,7 @@ export class SqliteSessionStore extends session.Store {
 
   destroy(sid: string, cb?: Callback): void {
     try {
-      this.db.delete(sessions).where(eq(sessions.sid, sid)).run();
+      this.remove().run({ sid });
       this.storedExpiry.delete(sid);
       cb?.();
     } catch (err) {
@@ -90,7 +109,7 @@ export class SqliteSessionStore extends session.Store {
       const expiresAt = this.expiry(sess);
       const stored = this.storedExpiry.get(sid);
       if (stored !== undefined && expiresAt - stored < TOUCH_EVERY_MS) return cb?.();
-      this.db.update(sessions).set({ expiresAt }).where(eq(sessions.sid, sid)).run();
+      this.moveExpiry().run({ sid, expiresAt });
       this.remember(sid, expiresAt);
       cb?.();
     } catch (err) {

@@ -5,6 +5,8 @@ import type Database from 'better-sqlite3';
 import type { FieldMap } from '../../shared/decoder/calls';
 import { suggestedSettings, type Discovery } from '../../shared/decoder/finder';
 import type { CaptureDiscovery, CaptureSettingsInput, DiscoveryCandidate } from '../../shared/schemas';
+import type { Db } from '../db/client';
+import { mapNameOf } from './calls/capture-layer';
 import { chosenMap } from './calls/field-map-store';
 import type { CaptureStore } from '../storage/capture-store';
 import type { CaptureRow } from './captures/rows';
@@ -111,6 +113,8 @@ export function discoveryView(d: Discovery, mapName: string | null, given: { sam
 }
 
 export interface DiscoveryDeps {
+  db: Db;
+  /** the field-map store reads through the driver's handle */
   sqlite: Database.Database;
   store: CaptureStore;
 }
@@ -140,7 +144,7 @@ export function captureDiscovery(deps: DiscoveryDeps, c: CaptureRow): CaptureDis
   const key = [c.sha256, resolved ? `${resolved.mapId}:${resolved.version}` : '-', given.sampleRate ?? '', given.channelNames.join(',')].join('|');
   const entry = runs.get(c.id);
   if (entry && entry.key === key) return entry.view;
-  const mapName = resolved ? ((deps.sqlite.prepare('select name from field_maps where id = ?').pluck().get(resolved.mapId) as string | undefined) ?? null) : null;
+  const mapName = resolved ? (mapNameOf(deps, resolved.mapId) ?? null) : null;
   const fresh: Entry = { key, view: emptyView(16 * 1024 * 1024) };
   runs.delete(c.id);
   runs.set(c.id, fresh);

@@ -3,7 +3,7 @@
 import { and, asc, eq } from 'drizzle-orm';
 import { parseFieldMap, type FieldMap } from '../../shared/decoder/calls';
 import type { FieldNoteInput, FieldNoteQuery, Note, NotePatch } from '../../shared/schemas';
-import { notes, users } from '../db/schema';
+import { fieldMaps, fieldMapVersions, notes, users } from '../db/schema';
 import { badRequest, forbidden, notFound } from '../http/errors';
 import { ensureBuiltInMap } from './calls/field-map-store';
 import type { CaptureDeps } from './captures/deps';
@@ -14,10 +14,12 @@ type NoteRow = typeof notes.$inferSelect;
 /** The map's latest document; 404 when the rig has no such map. */
 export function latestFieldMap(deps: CaptureDeps, rigId: number, mapId: number): FieldMap {
   ensureBuiltInMap(deps.sqlite, rigId);
-  const doc = deps.sqlite
-    .prepare('select v.document from field_maps f join field_map_versions v on v.map_id = f.id and v.version = f.latest_version where f.id = ? and f.rig_id = ?')
-    .pluck()
-    .get(mapId, rigId) as string | undefined;
+  const doc = deps.db
+    .select({ document: fieldMapVersions.document })
+    .from(fieldMaps)
+    .innerJoin(fieldMapVersions, and(eq(fieldMapVersions.mapId, fieldMaps.id), eq(fieldMapVersions.version, fieldMaps.latestVersion)))
+    .where(and(eq(fieldMaps.id, mapId), eq(fieldMaps.rigId, rigId)))
+    .get()?.document;
   if (doc === undefined) throw notFound(`No field map with id ${mapId} on this rig`);
   return parseFieldMap(JSON.parse(doc));
 }

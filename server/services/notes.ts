@@ -1,6 +1,7 @@
 import { and, asc, eq, sql, type SQL } from 'drizzle-orm';
 import type { Note, NoteInput, NotePatch, NoteQuery, Role } from '../../shared/schemas';
-import { notes, users } from '../db/schema';
+import { prepared } from '../db/prepared';
+import { frames, notes, users } from '../db/schema';
 import { badRequest, forbidden, notFound } from '../http/errors';
 import type { CaptureDeps } from './captures/deps';
 import type { CaptureRow } from './captures/rows';
@@ -13,19 +14,22 @@ export interface NoteCaller {
   role: Role;
 }
 
-interface FramePin {
-  id: number;
-  link: string;
-  seq: number;
-  size: number;
-}
+const ph = sql.placeholder;
+
+const pinColumns = { id: frames.id, link: frames.link, seq: frames.seq, size: sql<number>`length(${frames.bytes})` };
 
 /** A frame of the capture's visible run, with its octet count (for byte ranges). */
-function framePin(deps: CaptureDeps, capture: CaptureRow, frameId: number): FramePin {
+function framePin(deps: CaptureDeps, capture: CaptureRow, frameId: number) {
   const row =
     capture.currentJobId === null
       ? undefined
-      : (deps.sqlite.prepare('select id, link, seq, length(bytes) as size from frames where id = ? and job_id = ?').get(frameId, capture.currentJobId) as FramePin | undefined);
+      : prepared(deps.db, 'note frame pin', () =>
+          deps.db
+            .select(pinColumns)
+            .from(frames)
+            .where(and(eq(frames.id, ph('frameId')), eq(frames.jobId, ph('jobId'))))
+            .prepare(),
+        ).get({ frameId, jobId: capture.currentJobId });
   if (!row) throw notFound(`No frame with id ${frameId} in this capture's decoded frames`);
   return row;
 }
@@ -33,7 +37,15 @@ function framePin(deps: CaptureDeps, capture: CaptureRow, frameId: number): Fram
 /** link + seq → the frame id in the visible run (a re-decode gives new ids, the same link + seq) */
 function currentFrameId(deps: CaptureDeps, capture: CaptureRow, link: string | null, seq: number | null): number | null {
   if (capture.currentJobId === null || link === null || seq === null) return null;
-  const row = deps.sqlite.prepare('select id from frames where job_id = ? and link = ? and seq = ? limit 1').get(capture.currentJobId, link, seq) as { id: number } | undefined;
+  // once per note listed: prepared per database handle
+  const row = prepared(deps.db, 'note frame by link and seq', () =>
+    deps.db
+      .select({ id: frames.id })
+      .from(frames)
+      .where(and(eq(frames.jobId, ph('jobId')), eq(frames.link, ph('link')), eq(frames.seq, ph('seq'))))
+      .limit(1)
+      .prepare(),
+  ).get({ jobId: capture.currentJobId, link, seq });
   return row?.id ?? null;
 }
 

@@ -1,6 +1,7 @@
 import { and, asc, eq, sql } from 'drizzle-orm';
 import type { LineSettings, RigDetail, RigSummary, Role, Station } from '../../shared/schemas';
 import type { Db } from '../db/client';
+import { prepared } from '../db/prepared';
 import { memberships, rigs, stations } from '../db/schema';
 import { notFound } from '../http/errors';
 
@@ -12,15 +13,19 @@ export interface RigValues {
   cpuClockMHz: number;
 }
 
+// the rig guard runs both on every rig request: prepared statements per database handle
 export const rigExists = (db: Db, rigId: number): boolean =>
-  db.select({ id: rigs.id }).from(rigs).where(eq(rigs.id, rigId)).get() !== undefined;
+  prepared(db, 'rig exists', () => db.select({ id: rigs.id }).from(rigs).where(eq(rigs.id, sql.placeholder('rigId'))).prepare()).get({ rigId }) !==
+  undefined;
 
 export const findMembership = (db: Db, rigId: number, userId: number): Role | undefined =>
-  db
-    .select({ role: memberships.role })
-    .from(memberships)
-    .where(and(eq(memberships.rigId, rigId), eq(memberships.userId, userId)))
-    .get()?.role;
+  prepared(db, 'membership role', () =>
+    db
+      .select({ role: memberships.role })
+      .from(memberships)
+      .where(and(eq(memberships.rigId, sql.placeholder('rigId')), eq(memberships.userId, sql.placeholder('userId'))))
+      .prepare(),
+  ).get({ rigId, userId })?.role;
 
 const stationCount = sql<number>`(select count(*) from ${stations} where ${stations.rigId} = ${rigs.id})`;
 const memberCount = sql<number>`(select count(*) from ${memberships} m2 where m2.rig_id = ${rigs.id})`;

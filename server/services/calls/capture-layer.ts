@@ -44,7 +44,7 @@ export function visibleRun(m: Pick<CallsModule, 'db'>, captureId: number): Visib
 }
 
 /** the name of a field map */
-const mapNameOf = (m: Pick<CallsModule, 'db'>, mapId: number): string | undefined =>
+export const mapNameOf = (m: Pick<CallsModule, 'db'>, mapId: number): string | undefined =>
   prepared(m.db, 'field map name', () => m.db.select({ name: fieldMaps.name }).from(fieldMaps).where(eq(fieldMaps.id, ph('mapId'))).prepare()).get({ mapId })?.name;
 
 export function captureCallLayer(m: CallsModule, capture: CaptureRow): CaptureCallLayer {

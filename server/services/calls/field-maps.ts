@@ -2,51 +2,68 @@
 // optimistic check of the version the editor opened, Markdown export.
 import { fieldMapToMarkdown, parseFieldMap, validateFieldMap } from '../../../shared/decoder/calls';
 import type { FieldMapCreate, FieldMapDetail, FieldMapSave, FieldMapSummary } from '../../../shared/schemas';
+import { and, asc, desc, eq, sql } from 'drizzle-orm';
+import { prepared } from '../../db/prepared';
+import { fieldMaps, fieldMapVersions, users } from '../../db/schema';
 import { ensureBuiltInMap } from './field-map-store';
 import { badRequest, conflict, notFound } from '../../http/errors';
 import type { CallsModule } from './module';
 import { markdownWithFieldNotes } from '../field-notes';
 
-interface MapRow {
-  id: number;
-  rigId: number;
-  name: string;
-  builtIn: number;
-  latestVersion: number;
-  updatedAt: number;
-}
-
-const MAP_COLUMNS = 'id, rig_id as rigId, name, built_in as builtIn, latest_version as latestVersion, updated_at as updatedAt';
+const mapColumns = {
+  id: fieldMaps.id,
+  rigId: fieldMaps.rigId,
+  name: fieldMaps.name,
+  builtIn: fieldMaps.builtIn,
+  latestVersion: fieldMaps.latestVersion,
+  updatedAt: fieldMaps.updatedAt,
+};
+type MapRow = { [K in keyof typeof mapColumns]: (typeof fieldMaps.$inferSelect)[K] };
+const ph = sql.placeholder;
 
 export function findMap(m: CallsModule, rigId: number, mapId: number): MapRow {
   ensureBuiltInMap(m.sqlite, rigId);
-  const row = m.sqlite.prepare(`select ${MAP_COLUMNS} from field_maps where id = ? and rig_id = ?`).get(mapId, rigId) as MapRow | undefined;
+  const row = prepared(m.db, 'field map of a rig', () =>
+    m.db
+      .select(mapColumns)
+      .from(fieldMaps)
+      .where(and(eq(fieldMaps.id, ph('mapId')), eq(fieldMaps.rigId, ph('rigId'))))
+      .prepare(),
+  ).get({ mapId, rigId });
   if (!row) throw notFound(`No field map with id ${mapId} on this rig`);
   return row;
 }
 
 function versionDocument(m: CallsModule, mapId: number, version: number): string {
-  const doc = m.sqlite.prepare('select document from field_map_versions where map_id = ? and version = ?').pluck().get(mapId, version) as string | undefined;
+  const doc = prepared(m.db, 'field map version document', () =>
+    m.db
+      .select({ document: fieldMapVersions.document })
+      .from(fieldMapVersions)
+      .where(and(eq(fieldMapVersions.mapId, ph('mapId')), eq(fieldMapVersions.version, ph('version'))))
+      .prepare(),
+  ).get({ mapId, version })?.document;
   if (doc === undefined) throw notFound(`This field map has no version ${version}`);
   return doc;
 }
 
 export function listFieldMaps(m: CallsModule, rigId: number): FieldMapSummary[] {
   ensureBuiltInMap(m.sqlite, rigId);
-  const rows = m.sqlite
-    .prepare(
-      `select ${MAP_COLUMNS},
-         (select u.name from field_map_versions v left join users u on u.id = v.created_by where v.map_id = f.id and v.version = f.latest_version) as updatedBy
-       from field_maps f where rig_id = ? order by built_in desc, name collate nocase, id`,
-    )
-    .all(rigId) as (MapRow & { updatedBy: string | null })[];
+  // who saved the latest version: (map, version) is unique, so the join keeps one row per map
+  const rows = m.db
+    .select({ ...mapColumns, updatedBy: users.name })
+    .from(fieldMaps)
+    .leftJoin(fieldMapVersions, and(eq(fieldMapVersions.mapId, fieldMaps.id), eq(fieldMapVersions.version, fieldMaps.latestVersion)))
+    .leftJoin(users, eq(users.id, fieldMapVersions.createdBy))
+    .where(eq(fieldMaps.rigId, rigId))
+    .orderBy(desc(fieldMaps.builtIn), sql`${fieldMaps.name} collate nocase`, asc(fieldMaps.id))
+    .all();
   return rows.map((r) => ({
     id: r.id,
     name: r.name,
     version: r.latestVersion,
-    builtIn: r.builtIn === 1,
-    updatedAt: new Date(r.updatedAt).toISOString(),
-    updatedBy: r.builtIn === 1 ? null : r.updatedBy,
+    builtIn: r.builtIn,
+    updatedAt: r.updatedAt.toISOString(),
+    updatedBy: r.builtIn ? null : r.updatedBy,
   }));
 }
 
@@ -54,20 +71,21 @@ export function fieldMapDetail(m: CallsModule, rigId: number, mapId: number, ver
   const map = findMap(m, rigId, mapId);
   const v = version ?? map.latestVersion;
   const doc = versionDocument(m, mapId, v);
-  const versions = m.sqlite
-    .prepare(
-      `select v.version, v.created_at as createdAt, u.name as createdBy from field_map_versions v left join users u on u.id = v.created_by
-       where v.map_id = ? order by v.version desc`,
-    )
-    .all(mapId) as { version: number; createdAt: number; createdBy: string | null }[];
+  const versions = m.db
+    .select({ version: fieldMapVersions.version, createdAt: fieldMapVersions.createdAt, createdBy: users.name })
+    .from(fieldMapVersions)
+    .leftJoin(users, eq(users.id, fieldMapVersions.createdBy))
+    .where(eq(fieldMapVersions.mapId, mapId))
+    .orderBy(desc(fieldMapVersions.version))
+    .all();
   return {
     id: map.id,
     name: map.name,
     version: v,
     latestVersion: map.latestVersion,
-    builtIn: map.builtIn === 1,
+    builtIn: map.builtIn,
     document: JSON.parse(doc),
-    versions: versions.map((x) => ({ version: x.version, createdAt: new Date(x.createdAt).toISOString(), createdBy: x.createdBy })),
+    versions: versions.map((x) => ({ version: x.version, createdAt: x.createdAt.toISOString(), createdBy: x.createdBy })),
   };
 }
 
@@ -100,36 +118,42 @@ export function createFieldMap(m: CallsModule, rigId: number, userId: number, bo
     source = JSON.parse(versionDocument(m, from.id, body.copyVersion ?? from.latestVersion));
   }
   const doc = checkedDocument(source, body.name, 1);
-  const now = Date.now();
-  const id = m.sqlite.transaction(() => {
-    const mapId = Number(
-      m.sqlite
-        .prepare('insert into field_maps (rig_id, name, built_in, latest_version, created_at, updated_at) values (?, ?, 0, 1, ?, ?)')
-        .run(rigId, body.name, now, now).lastInsertRowid,
-    );
-    m.sqlite.prepare('insert into field_map_versions (map_id, version, document, created_by, created_at) values (?, 1, ?, ?, ?)').run(mapId, JSON.stringify(doc), userId, now);
-    return mapId;
-  }).immediate();
+  const now = new Date();
+  const id = m.db.transaction(
+    (tx) => {
+      const mapId = tx
+        .insert(fieldMaps)
+        .values({ rigId, name: body.name, builtIn: false, latestVersion: 1, createdAt: now, updatedAt: now })
+        .returning({ id: fieldMaps.id })
+        .get().id;
+      tx.insert(fieldMapVersions).values({ mapId, version: 1, document: JSON.stringify(doc), createdBy: userId, createdAt: now }).run();
+      return mapId;
+    },
+    { behavior: 'immediate' },
+  );
   return fieldMapDetail(m, rigId, id);
 }
 
 export function saveFieldMap(m: CallsModule, rigId: number, mapId: number, userId: number, body: FieldMapSave): FieldMapDetail {
   const map = findMap(m, rigId, mapId);
-  if (map.builtIn === 1) throw conflict('The built-in map is read-only; copy it to change it');
+  if (map.builtIn) throw conflict('The built-in map is read-only; copy it to change it');
   const name = body.name ?? map.name;
-  m.sqlite.transaction(() => {
-    const latest = m.sqlite.prepare('select latest_version from field_maps where id = ?').pluck().get(mapId) as number;
-    if (body.baseVersion !== latest) {
-      throw conflict(
-        body.baseVersion < latest
-          ? `Someone saved version ${latest} since you opened version ${body.baseVersion}; reload it and apply your changes again`
-          : `Version ${body.baseVersion} does not exist yet; the latest is ${latest}`,
-      );
-    }
-    const doc = checkedDocument(body.document, name, latest + 1);
-    const now = Date.now();
-    m.sqlite.prepare('insert into field_map_versions (map_id, version, document, created_by, created_at) values (?, ?, ?, ?, ?)').run(mapId, latest + 1, JSON.stringify(doc), userId, now);
-    m.sqlite.prepare('update field_maps set latest_version = ?, name = ?, updated_at = ? where id = ?').run(latest + 1, name, now, mapId);
-  }).immediate();
+  m.db.transaction(
+    (tx) => {
+      const latest = tx.select({ v: fieldMaps.latestVersion }).from(fieldMaps).where(eq(fieldMaps.id, mapId)).get()!.v;
+      if (body.baseVersion !== latest) {
+        throw conflict(
+          body.baseVersion < latest
+            ? `Someone saved version ${latest} since you opened version ${body.baseVersion}; reload it and apply your changes again`
+            : `Version ${body.baseVersion} does not exist yet; the latest is ${latest}`,
+        );
+      }
+      const doc = checkedDocument(body.document, name, latest + 1);
+      const now = new Date();
+      tx.insert(fieldMapVersions).values({ mapId, version: latest + 1, document: JSON.stringify(doc), createdBy: userId, createdAt: now }).run();
+      tx.update(fieldMaps).set({ latestVersion: latest + 1, name, updatedAt: now }).where(eq(fieldMaps.id, mapId)).run();
+    },
+    { behavior: 'immediate' },
+  );
   return fieldMapDetail(m, rigId, mapId);
 }

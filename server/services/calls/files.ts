@@ -1,31 +1,33 @@
 // Recovered files of a capture's visible call run.
 import { missingRanges, type RecordCoverage } from '../../../shared/decoder/calls';
 import type { RecoveredFileDetail, RecoveredFileSummary } from '../../../shared/schemas';
+import { and, asc, eq, sql } from 'drizzle-orm';
+import { prepared } from '../../db/prepared';
+import { recoveredFiles } from '../../db/schema';
 import { notFound } from '../../http/errors';
 import { fileLockConflictDetail } from './call-results';
 import { visibleRun } from './capture-layer';
 import { stationNames } from './exchanges';
 import type { CallsModule } from './module';
 
-interface Row {
-  id: number;
-  name: string;
-  kind: 'file' | 'boot-image';
-  user: number | null;
-  stations: string;
-  recordCount: number;
-  endKnown: number;
-  sha256: string;
-  coverage: string;
-  conflicts: string;
-  exchangeIds: string;
-  sizeSource: RecoveredFileSummary['sizeSource'] | null;
-  sizeExchangeId: number | null;
-  lockConflicts: string | null;
-}
-
-const COLUMNS = `id, name, kind, user, stations, record_count as recordCount, end_known as endKnown, sha256, coverage, conflicts, exchange_ids as exchangeIds,
-  size_source as sizeSource, size_exchange_id as sizeExchangeId, lock_conflicts as lockConflicts`;
+const COLUMNS = {
+  id: recoveredFiles.id,
+  name: recoveredFiles.name,
+  kind: recoveredFiles.kind,
+  user: recoveredFiles.user,
+  stations: recoveredFiles.stations,
+  recordCount: recoveredFiles.recordCount,
+  endKnown: recoveredFiles.endKnown,
+  sha256: recoveredFiles.sha256,
+  coverage: recoveredFiles.coverage,
+  conflicts: recoveredFiles.conflicts,
+  exchangeIds: recoveredFiles.exchangeIds,
+  sizeSource: recoveredFiles.sizeSource,
+  sizeExchangeId: recoveredFiles.sizeExchangeId,
+  lockConflicts: recoveredFiles.lockConflicts,
+};
+type Row = { [K in keyof typeof COLUMNS]: (typeof recoveredFiles.$inferSelect)[K] };
+const ph = sql.placeholder;
 const COVERAGE: Record<string, RecordCoverage> = { s: 'seen', m: 'missing', c: 'conflict' };
 
 function coverageOf(r: Row): RecordCoverage[] {
@@ -45,10 +47,10 @@ function toSummary(r: Row): RecoveredFileSummary {
     stations: JSON.parse(r.stations),
     size: r.recordCount * 128,
     recordCount: r.recordCount,
-    endKnown: r.endKnown === 1,
+    endKnown: r.endKnown,
     missing,
     conflicts,
-    complete: r.endKnown === 1 && missing.length === 0 && conflicts.length === 0,
+    complete: r.endKnown && missing.length === 0 && conflicts.length === 0,
     sha256: r.sha256,
     exchangeCount: exchangeIds.length,
     // rows of runs stored before these columns leave them out rather than guess
@@ -60,13 +62,28 @@ function toSummary(r: Row): RecoveredFileSummary {
 export function listFiles(m: CallsModule, captureId: number): RecoveredFileSummary[] {
   const run = visibleRun(m, captureId);
   if (!run) return [];
-  const rows = m.sqlite.prepare(`select ${COLUMNS} from recovered_files where run_id = ? order by name, user, id`).all(run.runId) as Row[];
+  const rows = prepared(m.db, 'recovered files of a run', () =>
+    m.db
+      .select(COLUMNS)
+      .from(recoveredFiles)
+      .where(eq(recoveredFiles.runId, ph('runId')))
+      .orderBy(asc(recoveredFiles.name), asc(recoveredFiles.user), asc(recoveredFiles.id))
+      .prepare(),
+  ).all({ runId: run.runId });
   return rows.map(toSummary);
 }
 
 function findFile(m: CallsModule, captureId: number, fileId: number): Row {
   const run = visibleRun(m, captureId);
-  const row = run ? (m.sqlite.prepare(`select ${COLUMNS} from recovered_files where id = ? and run_id = ?`).get(fileId, run.runId) as Row | undefined) : undefined;
+  const row = run
+    ? prepared(m.db, 'recovered file of a run', () =>
+        m.db
+          .select(COLUMNS)
+          .from(recoveredFiles)
+          .where(and(eq(recoveredFiles.id, ph('fileId')), eq(recoveredFiles.runId, ph('runId'))))
+          .prepare(),
+      ).get({ fileId, runId: run.runId })
+    : undefined;
   if (!row) throw notFound(`No recovered file with id ${fileId} in this capture (ids change when the call layer runs again)`);
   return row;
 }
@@ -85,7 +102,7 @@ export function fileDetail(m: CallsModule, captureId: number, fileId: number): R
 /** The bytes and a download name safe in a Content-Disposition header and on any file system. */
 export function fileDownload(m: CallsModule, captureId: number, fileId: number): { name: string; bytes: Buffer } {
   const r = findFile(m, captureId, fileId);
-  const bytes = m.sqlite.prepare('select bytes from recovered_files where id = ?').pluck().get(r.id) as Buffer;
+  const { bytes } = m.db.select({ bytes: recoveredFiles.bytes }).from(recoveredFiles).where(eq(recoveredFiles.id, r.id)).get()!;
   return { name: safeFileName(r.name), bytes };
 }
 

@@ -1,14 +1,35 @@
 // The call decode of one frame for the inspector, with field spans counted from the frame's first octet.
+import { and, eq, sql } from 'drizzle-orm';
 import { decodeFrameCall, callLayerRoles } from '../../../shared/decoder/calls';
 import type { FrameCall } from '../../../shared/schemas';
 import { captureSettingsSchema } from '../../../shared/schemas';
 import { frameFromRow, storedFrame } from '../../runs/stored-frame';
 import { chosenMap, loadMapVersion } from './field-map-store';
+import { prepared } from '../../db/prepared';
+import { decodeJobs, exchangeFrames } from '../../db/schema';
 import { notFound } from '../../http/errors';
 import type { CaptureRow } from '../captures/rows';
-import { visibleRun } from './capture-layer';
+import { mapNameOf, visibleRun } from './capture-layer';
 import { findExchange, stationNames, toExchangeRow } from './exchanges';
 import type { CallsModule } from './module';
+
+const ph = sql.placeholder;
+
+/** the exchange a frame belongs to in a call run, by the (run, frame) index */
+const exchangeOfFrame = (m: Pick<CallsModule, 'db'>, runId: number, frameId: number): number | undefined =>
+  prepared(m.db, 'exchange of a frame', () =>
+    m.db
+      .select({ exchangeId: exchangeFrames.exchangeId })
+      .from(exchangeFrames)
+      .where(and(eq(exchangeFrames.runId, ph('runId')), eq(exchangeFrames.frameId, ph('frameId'))))
+      .limit(1)
+      .prepare(),
+  ).get({ runId, frameId })?.exchangeId;
+
+/** the settings a decode run used (JSON text), null for a run without them */
+const jobSettings = (m: Pick<CallsModule, 'db'>, jobId: number): string | null =>
+  prepared(m.db, 'decode job settings', () => m.db.select({ settings: decodeJobs.settings }).from(decodeJobs).where(eq(decodeJobs.id, ph('jobId'))).prepare()).get({ jobId })
+    ?.settings ?? null;
 
 export function frameCall(m: CallsModule, capture: CaptureRow, frameId: number): FrameCall {
   const jobId = capture.currentJobId;
@@ -18,15 +39,14 @@ export function frameCall(m: CallsModule, capture: CaptureRow, frameId: number):
   const run = visibleRun(m, capture.id);
   // the map of the visible results, so the inspector agrees with the exchange list
   const resolved = run ? loadMapVersion(m.sqlite, run.mapId, run.mapVersion) : chosenMap(m.sqlite, capture.id);
-  const mapName = m.sqlite.prepare('select name from field_maps where id = ?').pluck().get(resolved.mapId) as string;
-  const exchangeId = run
-    ? ((m.sqlite.prepare('select exchange_id from exchange_frames where run_id = ? and frame_id = ? limit 1').pluck().get(run.runId, frameId) as number | undefined) ?? null)
-    : null;
+  const mapName = mapNameOf(m, resolved.mapId) ?? '';
+  const exchangeId = run ? (exchangeOfFrame(m, run.runId, frameId) ?? null) : null;
   // the whole exchange, so the inspector links its request, retries and answers without another request
   const exchangeRow = exchangeId === null || !run ? undefined : findExchange(m, run.runId, exchangeId);
   const exchange = exchangeRow ? toExchangeRow(exchangeRow, stationNames(m, capture.id)) : null;
   const base = { frameId, map: { id: resolved.mapId, name: mapName, version: resolved.version }, exchangeId, exchange };
-  const settingsJson = m.sqlite.prepare('select settings from decode_jobs where id = ?').pluck().get(jobId) as string;
+  const settingsJson = jobSettings(m, jobId);
+  if (settingsJson === null) throw notFound(`No decode settings for this capture's decoded frames`);
   const { links } = callLayerRoles(captureSettingsSchema.parse(JSON.parse(settingsJson)));
   const role = links.find((l) => l.link === frame.link);
   if (!role) return { ...base, reason: 'The link of this frame has no direction (to or from the server) in the capture settings', call: null };

@@ -11,14 +11,13 @@ import { randomUUID } from 'node:crypto';
 import type { Readable } from 'node:stream';
 import { Transform } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
-import type Database from 'better-sqlite3';
 import { eq } from 'drizzle-orm';
 import { z } from 'zod';
 import { anomalyOf, lineEventOf, rawFrameOf } from '../../../shared/decoded-capture/lines';
 import { checkFrame } from '../../../shared/decoder';
 import type { CaptureSummaryRow } from '../../../shared/schemas';
 import { decodedBodyLineSchema, decodedHeaderSchema, type DecodedHeader } from '../../../shared/schemas/decoded-upload';
-import { captures, decodeJobs } from '../../db/schema';
+import { callRuns, captures, decodeJobs } from '../../db/schema';
 import { badRequest, HttpError } from '../../http/errors';
 import { createCallRun, switchToCallRun } from '../../runs/call-runs';
 import { runCallStage } from '../../runs/call-stage';
@@ -125,7 +124,9 @@ async function validate(file: string): Promise<DecodedHeader> {
 }
 
 /** Second pass: the run's rows, as the decode worker writes them. */
-async function storeRun(sqlite: Database.Database, file: string, h: DecodedHeader, inputs: RunInputs, captureId: number, jobId: number): Promise<void> {
+async function storeRun(deps: Pick<CaptureDeps, 'db' | 'sqlite'>, file: string, h: DecodedHeader, inputs: RunInputs, captureId: number, jobId: number): Promise<void> {
+  // the run writer and the stages after it take the driver's handle; the job and capture rows go through Drizzle on the same connection
+  const { db, sqlite } = deps;
   const period = h.samplePeriod;
   const writer = new RunWriter(sqlite, jobId, captureId, () => period);
   const faults = new FaultRecorder(() => period, faultCallKey(sqlite, inputs), raceDeskOptions(sqlite, inputs));
@@ -150,10 +151,10 @@ async function storeRun(sqlite: Database.Database, file: string, h: DecodedHeade
     if (++n % LINES_PER_TURN === 0) await yieldTurn();
   }
   writer.flush();
-  sqlite.prepare("update decode_jobs set bytes_read = ?, frames = ?, events = ?, stage = 'indexing' where id = ?").run(h.bytesRead, writer.frames, writer.events, jobId);
+  db.update(decodeJobs).set({ bytesRead: h.bytesRead, frames: writer.frames, events: writer.events, stage: 'indexing' }).where(eq(decodeJobs.id, jobId)).run();
   indexSearch(sqlite, jobId);
   await yieldTurn();
-  sqlite.prepare("update decode_jobs set stage = 'calls' where id = ?").run(jobId);
+  db.update(decodeJobs).set({ stage: 'calls' }).where(eq(decodeJobs.id, jobId)).run();
   let calls: { runId: number; counts: Awaited<ReturnType<typeof runCallStage>> } | null = null;
   let runId: number | null = null;
   try {
@@ -164,18 +165,27 @@ async function storeRun(sqlite: Database.Database, file: string, h: DecodedHeade
   } catch (err) {
     // as in a server decode: a call layer that stops fails the call run, not the frames
     const message = err instanceof Error ? err.message : String(err);
-    if (runId !== null) sqlite.prepare("update call_runs set state = 'failed', error = ?, finished_at = ? where id = ?").run(`The call layer stopped: ${message}`, Date.now(), runId);
+    if (runId !== null) db.update(callRuns).set({ state: 'failed', error: `The call layer stopped: ${message}`, finishedAt: new Date() }).where(eq(callRuns.id, runId)).run();
   }
   // as in a server decode: the fault desk has seen the call layer's exchanges (receiver over-run symptoms)
   storeFaultReport(sqlite, jobId, captureId, period, faults.report(writer.lastSample));
   sqlite.transaction(() => {
-    sqlite
-      .prepare(
-        `update decode_jobs set state = 'done', stage = 'done', bytes_read = ?, frames = ?, events = ?, sample_period = ?, links = ?,
-           last_sample = ?, issues = ?, finished_at = ? where id = ?`,
-      )
-      .run(h.bytesRead, writer.frames, writer.events, period, JSON.stringify(h.links), writer.lastSample, JSON.stringify(h.issues), Date.now(), jobId);
-    sqlite.prepare('update captures set current_job_id = ? where id = ?').run(jobId, captureId);
+    db.update(decodeJobs)
+      .set({
+        state: 'done',
+        stage: 'done',
+        bytesRead: h.bytesRead,
+        frames: writer.frames,
+        events: writer.events,
+        samplePeriod: period,
+        links: JSON.stringify(h.links),
+        lastSample: writer.lastSample,
+        issues: JSON.stringify(h.issues),
+        finishedAt: new Date(),
+      })
+      .where(eq(decodeJobs.id, jobId))
+      .run();
+    db.update(captures).set({ currentJobId: jobId }).where(eq(captures.id, captureId)).run();
     if (calls) switchToCallRun(sqlite, captureId, calls.runId, calls.counts);
   }).immediate();
 }
@@ -212,11 +222,11 @@ export async function storeDecodedUpload(deps: CaptureDeps, rigId: number, userI
       .returning({ id: decodeJobs.id })
       .get().id;
     try {
-      await storeRun(deps.sqlite, temp, h, inputs, row.id, jobId);
+      await storeRun(deps, temp, h, inputs, row.id, jobId);
     } catch (err) {
       // nothing half-stored: the capture and its rows go
       clearRunRows(deps.sqlite, jobId);
-      deps.sqlite.prepare('delete from captures where id = ?').run(row.id);
+      deps.db.delete(captures).where(eq(captures.id, row.id)).run();
       throw err;
     }
     return toSummary(deps, deps.db.select().from(captures).where(eq(captures.id, row.id)).get()!);

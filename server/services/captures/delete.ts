@@ -1,5 +1,5 @@
-import { eq } from 'drizzle-orm';
-import { captures } from '../../db/schema';
+import { and, eq } from 'drizzle-orm';
+import { captures, decodeJobs } from '../../db/schema';
 import { clearRunRows } from '../../runs/sweep';
 import type { CaptureDeps } from './deps';
 import type { CaptureRow } from './rows';
@@ -10,13 +10,19 @@ import type { CaptureRow } from './rows';
  */
 export async function deleteCapture(deps: CaptureDeps, c: CaptureRow): Promise<void> {
   await deps.jobs.stop(c.id);
-  const jobIds = deps.sqlite.prepare('select id from decode_jobs where capture_id = ?').pluck().all(c.id) as number[];
+  const jobIds = deps.db.select({ id: decodeJobs.id }).from(decodeJobs).where(eq(decodeJobs.captureId, c.id)).all();
+  // the run rows are cleared on the driver's handle; Drizzle's delete runs on the same connection, so in this transaction
   deps.sqlite.transaction(() => {
-    for (const id of jobIds) clearRunRows(deps.sqlite, id);
-    deps.sqlite.prepare('delete from captures where id = ?').run(c.id);
+    for (const { id } of jobIds) clearRunRows(deps.sqlite, id);
+    deps.db.delete(captures).where(eq(captures.id, c.id)).run();
   })();
   // a capture decoded in the browser shares the hash of its original but holds no file
-  const others = deps.sqlite.prepare('select 1 from captures where sha256 = ? and samples_kept = 1 limit 1').get(c.sha256);
+  const others = deps.db
+    .select({ id: captures.id })
+    .from(captures)
+    .where(and(eq(captures.sha256, c.sha256), eq(captures.samplesKept, true)))
+    .limit(1)
+    .get();
   if (!others && c.samplesKept) deps.store.remove(c.sha256);
 }
 

@@ -1,4 +1,6 @@
+import { and, asc, count, eq, isNotNull, sql } from 'drizzle-orm';
 import type { CaptureOverview, LinkStats } from '../../../shared/schemas';
+import { frames } from '../../db/schema';
 import type { CaptureDeps } from './deps';
 import { currentJob, parseSettings, toSummary, type CaptureRow } from './rows';
 import type { TimelineReader } from './timeline';
@@ -27,19 +29,36 @@ export function captureOverview(deps: CaptureDeps, timeline: TimelineReader, c: 
     lineEvents: 0,
   };
   if (!job) return empty;
-  const q = (sql: string, ...params: unknown[]) => deps.sqlite.prepare(sql).all(...params, job.id) as Record<string, number | string | null>[];
+  const ofRun = eq(frames.jobId, job.id);
   const duration = (job.lastSample ?? 0) * period;
 
-  for (const r of q('select status, count(*) as n from frames where job_id = ? group by status')) byStatus[r.status as keyof typeof byStatus] = r.n as number;
+  for (const r of deps.db.select({ status: frames.status, n: count() }).from(frames).where(ofRun).groupBy(frames.status).all()) byStatus[r.status] = r.n;
   const byKind: Record<string, number> = {};
-  for (const r of q('select coalesce(kind, \'none\') as kind, command, count(*) as n from frames where job_id = ? group by kind, command')) {
-    byKind[r.kind as string] = (byKind[r.kind as string] ?? 0) + (r.n as number);
-    if (r.command !== null && r.kind !== 'I') byKind[`${r.kind} ${r.command}`] = r.n as number;
+  const kinds = deps.db
+    .select({ kind: sql<string>`coalesce(${frames.kind}, 'none')`, command: frames.command, n: count() })
+    .from(frames)
+    .where(ofRun)
+    .groupBy(frames.kind, frames.command)
+    .all();
+  for (const r of kinds) {
+    byKind[r.kind] = (byKind[r.kind] ?? 0) + r.n;
+    if (r.command !== null && r.kind !== 'I') byKind[`${r.kind} ${r.command}`] = r.n;
   }
 
   const linkNames = JSON.parse(job.links ?? '[]') as string[];
   const perLink = new Map(
-    q('select link, count(*) as n, sum(length(bytes)) as octets, sum(t_end - t) as busy from frames where job_id = ? group by link').map((r) => [r.link as string, r]),
+    deps.db
+      .select({
+        link: frames.link,
+        n: count(),
+        octets: sql<number>`sum(length(${frames.bytes}))`.mapWith(Number),
+        busy: sql<number>`sum(${frames.tEnd} - ${frames.t})`.mapWith(Number),
+      })
+      .from(frames)
+      .where(ofRun)
+      .groupBy(frames.link)
+      .all()
+      .map((r) => [r.link, r]),
   );
   const links: LinkStats[] = linkNames.map((name) => {
     const role = settings?.links.find((l) => l.channel === name);
@@ -49,31 +68,40 @@ export function captureOverview(deps: CaptureDeps, timeline: TimelineReader, c: 
       label: role?.label ?? '',
       direction: role?.direction ?? 'unknown',
       stationAddress: role?.stationAddress ?? null,
-      frames: (r?.n as number) ?? 0,
-      octets: (r?.octets as number) ?? 0,
-      utilisation: duration > 0 && r ? Math.min(1, (r.busy as number) / duration) : 0,
+      frames: r?.n ?? 0,
+      octets: r?.octets ?? 0,
+      utilisation: duration > 0 && r ? Math.min(1, r.busy / duration) : 0,
     };
   });
 
   const names = timeline.stationNames(c.rigId);
-  const stations = q('select address, count(*) as n from frames where job_id = ? and address is not null group by address order by address').map((r) => ({
-    address: r.address as number,
-    name: names.get(r.address as number) ?? null,
-    frames: r.n as number,
-  }));
+  const stations = deps.db
+    .select({ address: sql<number>`${frames.address}`, n: count() })
+    .from(frames)
+    .where(and(ofRun, isNotNull(frames.address)))
+    .groupBy(frames.address)
+    .orderBy(asc(frames.address))
+    .all()
+    .map((r) => ({ address: r.address, name: names.get(r.address) ?? null, frames: r.n }));
 
   const binSeconds = duration > 0 ? duration / BINS : 0;
   const counts: Record<string, number[]> = {};
   if (binSeconds > 0) {
-    for (const r of q('select status, min(cast(t / ? as integer), ?) as bin, count(*) as n from frames where job_id = ? group by status, bin', binSeconds, BINS - 1)) {
-      (counts[r.status as string] ??= new Array(BINS).fill(0))[r.bin as number] += r.n as number;
-    }
+    const bin = sql<number>`min(cast(${frames.t} / ${binSeconds} as integer), ${BINS - 1})`;
+    const binned = deps.db.select({ status: frames.status, bin: bin.as('bin'), n: count() }).from(frames).where(ofRun).groupBy(frames.status, sql`bin`).all();
+    for (const r of binned) (counts[r.status] ??= new Array(BINS).fill(0))[r.bin] += r.n;
   }
 
   // gaps between consecutive frames on one link: end of one to start of the next
   const gapCounts = GAP_EDGES.slice(1).map(() => 0);
-  const gaps = deps.sqlite.prepare('select t - lag(t_end) over (partition by link order by t, id) as gap from frames where job_id = ?').pluck();
-  for (const g of gaps.iterate(job.id) as Iterable<number | null>) {
+  // streamed through the driver (Drizzle's sync selects have no iterator): a run's gaps never sit in memory at once
+  const gapQuery = deps.db
+    .select({ gap: sql<number | null>`${frames.t} - lag(${frames.tEnd}) over (partition by ${frames.link} order by ${frames.t}, ${frames.id})` })
+    .from(frames)
+    .where(ofRun)
+    .toSQL();
+  const gaps = deps.sqlite.prepare(gapQuery.sql).pluck();
+  for (const g of gaps.iterate(...gapQuery.params) as Iterable<number | null>) {
     if (g === null) continue;
     let b = GAP_EDGES.findIndex((e) => g < e) - 1;
     if (b < 0) b = g < 0 ? 0 : gapCounts.length - 1;

@@ -1,5 +1,6 @@
-import { and, desc, eq } from 'drizzle-orm';
+import { and, desc, eq, sql } from 'drizzle-orm';
 import { captureSettingsSchema, type CaptureSettings, type CaptureStatus, type CaptureSummaryRow, type DecodeJob } from '../../../shared/schemas';
+import { prepared } from '../../db/prepared';
 import { captures, decodeJobs, users } from '../../db/schema';
 import { notFound } from '../../http/errors';
 import type { CaptureDeps } from './deps';
@@ -49,12 +50,16 @@ export function parseSettings(json: string | null): CaptureSettings | null {
 }
 
 export function latestJob(deps: CaptureDeps, captureId: number): JobRow | undefined {
-  return deps.db.select().from(decodeJobs).where(eq(decodeJobs.captureId, captureId)).orderBy(desc(decodeJobs.id)).limit(1).get();
+  return prepared(deps.db, 'latest decode job', () =>
+    deps.db.select().from(decodeJobs).where(eq(decodeJobs.captureId, sql.placeholder('captureId'))).orderBy(desc(decodeJobs.id)).limit(1).prepare(),
+  ).get({ captureId });
 }
 
 export function currentJob(deps: CaptureDeps, c: CaptureRow): JobRow | undefined {
   if (c.currentJobId === null) return undefined;
-  return deps.db.select().from(decodeJobs).where(eq(decodeJobs.id, c.currentJobId)).get();
+  return prepared(deps.db, 'decode job by id', () => deps.db.select().from(decodeJobs).where(eq(decodeJobs.id, sql.placeholder('jobId'))).prepare()).get({
+    jobId: c.currentJobId,
+  });
 }
 
 export function toSummary(deps: CaptureDeps, c: CaptureRow): CaptureSummaryRow {
@@ -78,12 +83,15 @@ export function toSummary(deps: CaptureDeps, c: CaptureRow): CaptureSummaryRow {
   };
 }
 
+/** every capture request starts here: a prepared statement per database handle */
 export function findCapture(deps: CaptureDeps, rigId: number, captureId: number): CaptureRow {
-  const row = deps.db
-    .select()
-    .from(captures)
-    .where(and(eq(captures.id, captureId), eq(captures.rigId, rigId)))
-    .get();
+  const row = prepared(deps.db, 'capture of a rig', () =>
+    deps.db
+      .select()
+      .from(captures)
+      .where(and(eq(captures.id, sql.placeholder('captureId')), eq(captures.rigId, sql.placeholder('rigId'))))
+      .prepare(),
+  ).get({ captureId, rigId });
   if (!row) throw notFound(`No capture with id ${captureId} on this rig`);
   return row;
 }

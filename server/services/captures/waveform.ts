@@ -1,7 +1,10 @@
 import fs from 'node:fs';
+import { and, desc, eq, lte, sql } from 'drizzle-orm';
 import { createReader } from '../../../shared/decoder/readers';
 import type { ChannelInfo, Transitions } from '../../../shared/decoder';
 import type { CaptureSettings, WaveformWindow } from '../../../shared/schemas';
+import { prepared } from '../../db/prepared';
+import { seekPoints } from '../../db/schema';
 import { HttpError } from '../../http/errors';
 import type { CaptureDeps } from './deps';
 import type { FrameRecord } from './frame-detail';
@@ -18,6 +21,18 @@ export const MAX_WINDOW_BITS = 65_536;
 /** raw samples and octet streams are read sample by sample: their windows also stop at this many samples */
 const MAX_READ_SAMPLES = 20_000_000;
 const CHUNK = 1 << 20;
+
+/** the last seek point of a decode run at or before `sample`: a waveform window resumes the file there */
+const seekPointBefore = (deps: Pick<CaptureDeps, 'db'>, jobId: number, sample: number) =>
+  prepared(deps.db, 'seek point before', () =>
+    deps.db
+      .select({ byteOffset: seekPoints.byteOffset, sample: seekPoints.sample, levels: seekPoints.levels })
+      .from(seekPoints)
+      .where(and(eq(seekPoints.jobId, sql.placeholder('jobId')), lte(seekPoints.sample, sql.placeholder('sample'))))
+      .orderBy(desc(seekPoints.sample))
+      .limit(1)
+      .prepare(),
+  ).get({ jobId, sample });
 
 type Role = WaveformWindow['channels'][number]['role'];
 
@@ -179,9 +194,7 @@ export async function waveformWindow(
     let startAt = 0;
     const point =
       s.format === 'vcd' || s.format === 'csv'
-        ? (deps.sqlite
-            .prepare('select byte_offset as byteOffset, sample, levels from seek_points where job_id = ? and sample <= ? order by sample desc limit 1')
-            .get(f.jobId, from) as { byteOffset: number; sample: number; levels: string } | undefined)
+        ? seekPointBefore(deps, f.jobId, from)
         : undefined;
     if (point && s.format === 'csv') {
       // the file's own head gives the resumed reader the decode's time base; every row carries all levels
