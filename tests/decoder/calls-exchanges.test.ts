@@ -246,12 +246,15 @@ describe('pairing rules', () => {
   });
 
   it('pairs in order per call code when the map has no tag', () => {
-    const { exchanges } = run([req(0, 20, null), req(150, 33, null), resp(300, 33, null), resp(400, 20, null)], false);
-    expect(exchanges.map((e) => [e.callCode, e.responses[0].seq])).toEqual([
-      [20, exchanges[0].responses[0].seq],
-      [33, exchanges[1].responses[0].seq],
+    const answer33 = resp(300, 33, null);
+    const answer20 = resp(400, 20, null);
+    const { exchanges } = run([req(0, 20, null), req(150, 33, null), answer33, answer20], false);
+    // each request gets the answer of its own call code, not the next answer in time
+    expect(exchanges.map((e) => [e.callCode, e.responses])).toEqual([
+      [20, [answer20.ref]],
+      [33, [answer33.ref]],
     ]);
-    expect(exchanges[0].rttSeconds).toBeCloseTo((400 - 100) * period);
+    expect(exchanges.map((e) => e.rttSeconds)).toEqual([(400 - 100) * period, (300 - 250) * period]);
   });
 
   const damaged = (at: number, guess: DecodedCall | null, station = 1): CallFrame => ({
@@ -298,7 +301,12 @@ describe('pairing rules', () => {
     const { session } = decodeScript(script(), { clocked: true });
     const fast = framesOfSession(session);
     const { exchanges } = pairExchanges(fast.frames, [], { map, links: fast.roles, samplePeriodSeconds: fast.period });
-    expect(exchanges.map((e) => e.outcome).filter((o) => o !== 'unanswered').length).toBe(session.exchanges.filter((e) => e.outcome !== 'unanswered').length);
+    // the same requests as by tag, each with its own answer (the encoded session says which)
+    const got = exchanges.map((e) => [e.request.link, e.request.seq, e.callCode, e.outcome, e.responses[0]?.seq ?? null]);
+    const want = session.exchanges.map((e) => [e.link, e.requestSeq, e.callCode, e.outcome, e.responseSeq]);
+    const order = (a: (string | number | null)[], b: (string | number | null)[]) => String(a[0]).localeCompare(String(b[0])) || Number(a[1]) - Number(b[1]);
+    expect(got.sort(order)).toEqual(want.sort(order));
+    expect(exchanges.every((e) => e.tag === null)).toBe(true);
   });
 });
 
@@ -403,5 +411,149 @@ describe('capture settings and frames the call layer ignores', () => {
     const measured = pairExchanges(fast.frames, rise, { map: CPM_ENVELOPE, links: fast.roles, rts, samplePeriodSeconds: fast.period }).serviceDelays;
     // the rise at the poll's own first sample counts before the frame: a delay of 0
     expect(measured.map((d) => [d.station, d.seconds, d.serverFrame])).toEqual([[0x23, 0, { link: 'p3_rxd', seq: poll.seq }]]);
+  });
+});
+
+// Our pairing rules (the module comment of shared/decoder/calls/exchanges.ts is their spec), each
+// checked on hand-made call frames where a wrong pairing changes an exchange's values.
+describe('pairing rules: what a response, a retry and a timeout change', () => {
+  const withCall = (f: CallFrame, over: Partial<DecodedCall>): CallFrame => ({ ...f, call: { ...f.call!, ...over } });
+
+  it('pairs by tag unless told otherwise', () => {
+    const exchanges: Exchange[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: (e) => exchanges.push(e) });
+    const late = resp(400, 20, 1);
+    const early = resp(300, 20, 2);
+    for (const f of [req(0, 20, 1), req(100, 20, 2), early, late]) t.push(f);
+    t.finish();
+    exchanges.sort((a, b) => a.firstSample - b.firstSample);
+    expect(exchanges.map((e) => [e.tag, e.responses])).toEqual([
+      [1, [late.ref]],
+      [2, [early.ref]],
+    ]);
+  });
+
+  it('takes the same tag with another call code as a new request, not a retry', () => {
+    const a20 = resp(400, 20, 5);
+    const a33 = resp(300, 33, 5);
+    const { exchanges, orphans } = run([req(0, 20, 5), req(150, 33, 5), a33, a20]);
+    expect(orphans).toEqual([]);
+    expect(exchanges.map((e) => [e.callCode, e.outcome, e.retries.length, e.responses, e.rttSeconds])).toEqual([
+      [20, 'answered', 0, [a20.ref], (400 - 100) * period],
+      [33, 'answered', 0, [a33.ref], (300 - 250) * period],
+    ]);
+  });
+
+  it('ignores a call whose code the map cannot read', () => {
+    const { exchanges, orphans } = run([withCall(req(0, 20, 1), { callCode: null }), withCall(resp(200, 20, 1), { callCode: null })]);
+    expect(exchanges).toEqual([]);
+    expect(orphans).toEqual([]);
+  });
+
+  it('takes the status, its meaning and the first answer’s time from the first response only', () => {
+    const first = withCall(resp(300, 15, 3), { status: 0xff, statusMeaning: 'file not found' });
+    const second = withCall(resp(700, 15, 3), { status: 0, statusMeaning: 'ok' });
+    const { exchanges } = run([req(0, 15, 3), first, second]);
+    expect(exchanges).toHaveLength(1);
+    expect(exchanges[0]).toMatchObject({
+      status: 0xff,
+      statusMeaning: 'file not found',
+      responseCall: first.call,
+      responseFirstSample: 300,
+      rttSeconds: (300 - 100) * period,
+      responses: [first.ref, second.ref],
+    });
+  });
+
+  it('takes record and file from the response only when the request has none (boot load names its record in the answer)', () => {
+    const bare = run([req(0, 40, 1), withCall(resp(300, 40, 1), { recordNumber: 6, fileName: 'WRENBOOT.SYS' })]).exchanges;
+    expect(bare[0]).toMatchObject({ recordNumber: 6, fileName: 'WRENBOOT.SYS' });
+    const named = run([withCall(req(0, 40, 1), { recordNumber: 2, fileName: 'A.B' }), withCall(resp(300, 40, 1), { recordNumber: 6, fileName: 'C.D' })]).exchanges;
+    expect(named[0]).toMatchObject({ recordNumber: 2, fileName: 'A.B' });
+  });
+
+  it('makes a cut-short first send whole by its retry, and keeps a whole first send over a cut-short retry', () => {
+    const cut = withCall(req(0, 20, 1), { truncated: true, recordNumber: null, fileName: null });
+    const whole = withCall(req(5000, 20, 1), { recordNumber: 9, fileName: 'HYMNS.TXT' });
+    const mended = run([cut, whole, resp(6000, 20, 1)]).exchanges;
+    expect(mended).toHaveLength(1);
+    expect(mended[0]).toMatchObject({ requestCall: whole.call, recordNumber: 9, fileName: 'HYMNS.TXT', request: cut.ref, retries: [whole.ref] });
+    const first = withCall(req(0, 20, 1), { recordNumber: 9, fileName: 'HYMNS.TXT' });
+    const kept = run([first, withCall(req(5000, 20, 1), { truncated: true, recordNumber: null, fileName: null }), resp(6000, 20, 1)]).exchanges;
+    expect(kept[0]).toMatchObject({ requestCall: first.call, recordNumber: 9, fileName: 'HYMNS.TXT' });
+  });
+
+  it('times the timeout from the latest send, so a retry keeps its exchange open', () => {
+    // 100 µs timeout: the retry ends at 250, the answer at 300 is 50 after it (200 after the first send)
+    const { exchanges, orphans } = run([req(0, 20, 1), req(150, 20, 1), resp(300, 20, 1)], true, 100e-6);
+    expect(orphans).toEqual([]);
+    expect(exchanges.map((e) => [e.outcome, e.rttSeconds])).toEqual([['retried', (300 - 250) * period]]);
+  });
+
+  it('keeps an answered exchange open for the timeout after its latest answer, for a second answer', () => {
+    // 100 µs timeout: the answer ends at 280; a second answer at 300 still joins (200 after the send)
+    const again = resp(300, 20, 1);
+    const { exchanges, orphans } = run([req(0, 20, 1), resp(180, 20, 1), again], true, 100e-6);
+    expect(orphans).toEqual([]);
+    expect(exchanges[0].responses.at(-1)).toEqual(again.ref);
+    // and no longer: 101 samples after the latest answer it is over
+    expect(run([req(0, 20, 1), resp(180, 20, 1), resp(381, 20, 1)], true, 100e-6).orphans).toHaveLength(1);
+  });
+
+  it('ends an answered exchange only on a new request with its own tag', () => {
+    const late = resp(600, 20, 1);
+    const { exchanges, orphans } = run([req(0, 20, 1), resp(300, 20, 1), req(500, 20, 2), late, resp(800, 20, 2)]);
+    expect(orphans).toEqual([]);
+    expect(exchanges.map((e) => [e.tag, e.responses.length])).toEqual([
+      [1, 2],
+      [2, 1],
+    ]);
+    expect(exchanges[0].responses[1]).toEqual(late.ref);
+  });
+
+  it('without tags, lets a new request leave an answered exchange of another call open for a late second answer', () => {
+    const late = resp(600, 20, null);
+    const { exchanges, orphans } = run([req(0, 20, null), resp(300, 20, null), req(500, 33, null), late, resp(800, 33, null)], false);
+    expect(orphans).toEqual([]);
+    expect(exchanges.map((e) => [e.callCode, e.responses.length])).toEqual([
+      [20, 2],
+      [33, 1],
+    ]);
+  });
+
+  it('gives a station’s service delay to its next request only', () => {
+    const exchanges: Exchange[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: (e) => exchanges.push(e) });
+    t.rts(1, 0);
+    t.push({ ...resp(40, 20, 1), call: null }); // the server's poll
+    for (const f of [req(100, 20, 1), resp(300, 20, 1), req(500, 20, 2), resp(700, 20, 2)]) t.push(f);
+    t.finish();
+    exchanges.sort((a, b) => a.firstSample - b.firstSample);
+    expect(exchanges.map((e) => e.serviceDelaySeconds)).toEqual([40 * period, null]);
+  });
+
+  it('measures a service delay to the server’s frame, not to the station’s own frame after the rise', () => {
+    const delays: { seconds: number; serverFrame: unknown }[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: () => {}, serviceDelay: (d) => delays.push(d) });
+    t.rts(1, 0);
+    t.push({ ...req(10, 20, 1), call: null });
+    const poll = { ...resp(60, 20, 1), call: null };
+    t.push(poll);
+    expect(delays).toEqual([expect.objectContaining({ seconds: 60 * period, serverFrame: poll.ref })]);
+  });
+
+  it('takes a damaged frame from the station as no answer of anything', () => {
+    const damagedRequest: CallFrame = { ...req(300, 20, 1), call: null, damagedCall: callOf(20, 1, 'request') };
+    const { exchanges } = run([req(0, 20, 1), damagedRequest, req(5000, 20, 1), resp(5500, 20, 1)]);
+    expect(exchanges.map((e) => [e.outcome, e.damagedResponses])).toEqual([['retried', []]]);
+  });
+
+  it('without tags, gives a damaged answer to the waiting exchange of the call code its bytes name', () => {
+    const guess: CallFrame = { ref: { link: 'down', seq: seq++ }, station: 1, direction: 'from-server', firstSample: 300, lastSample: 400, call: null, damagedCall: callOf(33, null, 'response') };
+    const { exchanges } = run([req(0, 20, null), req(100, 33, null), guess, req(5000, 20, null), req(5100, 33, null), resp(5500, 20, null), resp(5600, 33, null)], false);
+    expect(exchanges.map((e) => [e.callCode, e.damagedResponses])).toEqual([
+      [20, []],
+      [33, [guess.ref]],
+    ]);
   });
 });
