@@ -242,3 +242,68 @@ describe('Deframer.pendingFrom (the time-order watermark)', () => {
     expect(d.pendingFrom()).toBe(21.5);
   });
 });
+
+// Edges of the deframer's rules (the comment at the top of shared/decoder/deframe.ts states them;
+// flag, abort and zero insertion are ISO/IEC 13239:2002, from memory; where a cut-off frame ends and
+// the idle threshold of fifteen 1s are common practice). Each runs bit-at-a-time and byte-at-a-time.
+describe('Deframer rule edges', () => {
+  const both = (bits: Uint8Array, options: { maxFrameOctets?: number } = {}) => {
+    const out = [false, true].map((bitwise) => {
+      const frames: RawFrame[] = [];
+      const events: unknown[] = [];
+      const d = new Deframer('L', { frame: (f) => frames.push(f), event: (e) => events.push(e) }, { ...options, bitwise });
+      d.push({ bits, samples: Float64Array.from(bits, (_, i) => i), n: bits.length });
+      d.finish();
+      return { frames, events };
+    });
+    expect(out[0]).toEqual(out[1]);
+    return out[0];
+  };
+  const idle = (sample: number, endSample: number) => ({ link: 'L', channel: 'L', kind: 'idle', sample, endSample });
+
+  it('takes a run of exactly fifteen ones as idle and fourteen as not, inside the input and at its end', () => {
+    expect(both(bitsOf(FLAG + '1'.repeat(15) + FLAG)).events).toEqual([idle(8, 22)]);
+    expect(both(bitsOf(FLAG + '1'.repeat(14) + FLAG)).events).toEqual([]);
+    expect(both(bitsOf(FLAG + '1'.repeat(15))).events).toEqual([idle(8, 22)]);
+    expect(both(bitsOf(FLAG + '1'.repeat(14))).events).toEqual([]);
+  });
+
+  it('keeps the bits of a frame cut off by the end of the input up to its last zero, when they make an octet', () => {
+    // ends in a 0: every bit is kept, the frame ends at its last bit
+    expect(both(bitsOf(FLAG + '10101010' + '11001100')).frames).toEqual([
+      { link: 'L', seq: 0, firstSample: 8, lastSample: 23, bytes: new Uint8Array([0x55, 0x33]), bitLength: 16, stuffed: [], status: 'abort' },
+    ]);
+    // six 1s after the last 0 (a flag's start, or an abort): the frame ends at that 0
+    expect(both(bitsOf(FLAG + '10101010' + '111111')).frames).toEqual([
+      { link: 'L', seq: 0, firstSample: 8, lastSample: 15, bytes: new Uint8Array([0x55]), bitLength: 8, stuffed: [], status: 'abort' },
+    ]);
+    expect(both(bitsOf(FLAG + '10101010' + '111')).frames.map((f) => [f.bitLength, f.lastSample])).toEqual([[8, 15]]);
+    // seven bits are no octet: the start of a flag, dropped
+    expect(both(bitsOf(FLAG + '0101010')).frames).toEqual([]);
+  });
+
+  it('ends an aborted frame at the zero before the seven ones and finds the next frame after them', () => {
+    const { frames } = both(bitsOf(FLAG + '10101010' + '1111111' + '0' + FLAG + '10000000'.repeat(4) + FLAG));
+    expect(frames.map((f) => [f.status, f.firstSample, f.lastSample, f.bitLength, Array.from(f.bytes)])).toEqual([
+      ['abort', 8, 15, 8, [0x55]],
+      ['ok', 32, 63, 32, [1, 1, 1, 1]],
+    ]);
+  });
+
+  it('closes a frame growing past the longest allowed at the bit that would start the octet too many', () => {
+    const { frames } = both(bitsOf(FLAG + '10101010'.repeat(5) + FLAG + '10000000'.repeat(2) + FLAG), { maxFrameOctets: 2 });
+    expect(frames.map((f) => [f.status, f.firstSample, f.lastSample, Array.from(f.bytes)])).toEqual([
+      ['abort', 8, 30, [0x55, 0x55]],
+      ['short', 56, 71, [1, 1]],
+    ]);
+  });
+
+  it('records every stuffed zero of a frame with more than sixty-four of them', () => {
+    const { bits, frames: sent } = encodeLineBits([{ kind: 'frame', bytes: new Uint8Array(60).fill(0xff), faults: { noFcs: true } }]);
+    expect(sent[0].stuffedPositions).toHaveLength(96); // 480 ones, a 0 after every five
+    const { frames } = both(bits);
+    expect(frames).toHaveLength(1);
+    expect(frames[0].stuffed).toEqual(sent[0].stuffedPositions);
+    expect(Array.from(frames[0].bytes)).toEqual(new Array(60).fill(0xff));
+  });
+});
