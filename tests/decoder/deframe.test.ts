@@ -284,9 +284,9 @@ describe('Deframer rule edges', () => {
 
   it('ends an aborted frame at the zero before the seven ones and finds the next frame after them', () => {
     const { frames } = both(bitsOf(FLAG + '10101010' + '1111111' + '0' + FLAG + '10000000'.repeat(4) + FLAG));
-    expect(frames.map((f) => [f.status, f.firstSample, f.lastSample, f.bitLength, Array.from(f.bytes)])).toEqual([
-      ['abort', 8, 15, 8, [0x55]],
-      ['ok', 32, 63, 32, [1, 1, 1, 1]],
+    expect(frames.map((f) => [f.seq, f.status, f.firstSample, f.lastSample, f.bitLength, Array.from(f.bytes)])).toEqual([
+      [0, 'abort', 8, 15, 8, [0x55]],
+      [1, 'ok', 32, 63, 32, [1, 1, 1, 1]],
     ]);
   });
 
@@ -305,5 +305,119 @@ describe('Deframer rule edges', () => {
     expect(frames).toHaveLength(1);
     expect(frames[0].stuffed).toEqual(sent[0].stuffedPositions);
     expect(Array.from(frames[0].bytes)).toEqual(new Array(60).fill(0xff));
+  });
+
+  it('takes nothing for a flag before the first zero of the input: a flag has a zero on each side', () => {
+    // the input starts with six 1s and a 0 (no zero before them): no flag there, so no frame before the real one
+    const { frames } = both(bitsOf('1111110' + '10000000'.repeat(4) + FLAG + '01000000'.repeat(4) + FLAG));
+    expect(frames.map((f) => [f.status, f.firstSample, Array.from(f.bytes)])).toEqual([['ok', 47, [2, 2, 2, 2]]]);
+  });
+
+  it('reports a stretch of exactly two flags between frames', () => {
+    const { events } = both(bitsOf(FLAG + '10000000'.repeat(4) + FLAG + FLAG + '10000000'.repeat(4) + FLAG));
+    expect(events).toEqual([{ link: 'L', channel: 'L', kind: 'flags', sample: 40, endSample: 55, count: 2 }]);
+  });
+
+  it('ignores line bits after an abort until the next flag, however many', () => {
+    // after the abort the line carries 0110 for 800 bits: no 6 ones, no flag, so nothing is a frame,
+    // not even past the longest frame allowed (16 octets)
+    const line = FLAG + '10101010' + '1111111' + '0110'.repeat(200) + FLAG + '10000000'.repeat(4) + FLAG;
+    const { frames } = both(bitsOf(line), { maxFrameOctets: 16 });
+    expect(frames.map((f) => [f.seq, f.status, Array.from(f.bytes)])).toEqual([
+      [0, 'abort', [0x55]],
+      [1, 'ok', [1, 1, 1, 1]],
+    ]);
+  });
+
+  it('keeps a frame longer than its first buffer (256 octets) whole, in any chunking', () => {
+    const rng = seededRng(256);
+    const bytes = Uint8Array.from({ length: 700 }, () => Math.floor(rng() * 256));
+    // the first octet past the buffer (octet 256) ends in a 1 in one frame and in a 0 in the other
+    bytes[256] |= 0x80;
+    bytes[356] &= 0x7f;
+    const { bits, frames: sent } = encodeLineBits([{ kind: 'frame', bytes }, { kind: 'frame', bytes: bytes.subarray(100, 400), sharedFlag: true }]);
+    for (const sizes of [[bits.length], [1], [7, 64, 3], [8]]) {
+      for (const bitwise of [false, true]) {
+        const frames: RawFrame[] = [];
+        const d = new Deframer('L', { frame: (f) => frames.push(f), event: () => {} }, { bitwise });
+        const samples = Float64Array.from(bits, (_, i) => i);
+        for (let at = 0, k = 0; at < bits.length; ) {
+          const end = Math.min(bits.length, at + sizes[k++ % sizes.length]);
+          d.push({ bits: bits.subarray(at, end), samples: samples.subarray(at, end), n: end - at });
+          at = end;
+        }
+        d.finish();
+        expect(frames.map((f) => [f.status, f.bitLength, f.firstSample, f.lastSample])).toEqual(sent.map((s) => ['ok', s.wire.length * 8, s.startBit, s.lastBit]));
+        expect(frames.map((f) => Array.from(f.bytes))).toEqual(sent.map((s) => Array.from(s.wire)));
+        expect(frames.map((f) => f.stuffed)).toEqual(sent.map((s) => s.stuffedPositions));
+      }
+    }
+  });
+});
+
+// Where one chunk of line bits ends and the next begins must not change what is found; these
+// chunk ends fall right after a line byte the deframer takes whole (ISO/IEC 13239:2002 zero
+// insertion and flag, from memory).
+describe('Deframer chunk ends after a whole line byte', () => {
+  const run = (line: string, sizes: number[], bitwise: boolean) => {
+    const frames: RawFrame[] = [];
+    const events: unknown[] = [];
+    const d = new Deframer('L', { frame: (f) => frames.push(f), event: (e) => events.push(e) }, { bitwise });
+    const bits = bitsOf(line);
+    const samples = Float64Array.from(bits, (_, i) => i);
+    for (let at = 0, k = 0; at < bits.length; ) {
+      const end = Math.min(bits.length, at + sizes[k++ % sizes.length]);
+      d.push({ bits: bits.subarray(at, end), samples: samples.subarray(at, end), n: end - at });
+      at = end;
+    }
+    d.finish();
+    return { frames, events, bitsSeen: d.bitsSeen };
+  };
+  const all = (line: string, cut: number) => {
+    const ref = run(line, [line.length], true);
+    for (const bitwise of [false, true]) for (const sizes of [[line.length], [cut, line.length]]) expect(run(line, sizes, bitwise)).toEqual(ref);
+    expect(ref.bitsSeen).toBe(line.length);
+    return ref;
+  };
+
+  it('starts an idle run at its first one when the run begins inside the byte before the chunk end', () => {
+    // a frame byte ending in three 1s, the chunk ends, then 17 more 1s: an abort, then idle from bit 13
+    const { frames, events } = all(FLAG + '00000111' + '1'.repeat(17) + '0' + FLAG, 16);
+    expect(events).toContainEqual({ link: 'L', channel: 'L', kind: 'idle', sample: 13, endSample: 32 });
+    // the aborted frame keeps its five bits up to the last 0
+    expect(frames.map((f) => [f.status, f.lastSample, f.bitLength])).toEqual([['abort', 12, 5]]);
+  });
+
+  it('drops a stuffed zero that also opens the closing flag when the chunk ends right after it', () => {
+    // 11 | 0 (after five 1s: stuffed) 11111 | 1 0: six 1s after that zero make it the closing flag's first 0
+    const line = FLAG + '00000111' + '11011111' + '10' + '10000000'.repeat(4) + FLAG;
+    const { frames } = all(line, 24);
+    expect(frames.map((f) => [f.status, f.firstSample, f.lastSample, f.bitLength, f.stuffed])).toEqual([
+      ['short', 8, 17, 10, []],
+      ['ok', 26, 57, 32, []],
+    ]);
+  });
+
+  it('ends a frame at its last data bit when two zeros are stuffed in the line byte before the closing flag', () => {
+    // data 000 11111 11111 is sent 000 11111 0 11111 0, then the flag: the line byte from bit 16 is
+    // 0 11111 0 0 (both zeros it stuffs and the flag's first 0)
+    const line = FLAG + '00011111' + '0111110' + FLAG + '10000000'.repeat(4) + FLAG;
+    const { frames } = all(line, 16);
+    expect(frames.map((f) => [f.status, f.lastSample, f.bitLength, f.stuffed])).toEqual([
+      ['short', 21, 13, [8, 14]],
+      ['ok', 62, 32, []],
+    ]);
+  });
+});
+
+describe('Deframer.pendingFrom before any bit and after the end', () => {
+  it('holds back everything before the first bit and nothing after finish', () => {
+    const d = new Deframer('L', { frame: () => {}, event: () => {} });
+    expect(d.pendingFrom()).toBe(-0.5);
+    const bits = bitsOf(FLAG + '10101010' + '111');
+    d.push({ bits, samples: Float64Array.from(bits, (_, i) => 100 + i), n: bits.length });
+    expect(d.pendingFrom()).toBe(100);
+    d.finish();
+    expect(d.pendingFrom()).toBe(100 + bits.length - 1 + 0.5);
   });
 });
