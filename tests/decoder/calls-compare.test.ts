@@ -159,6 +159,43 @@ describe('comparison margins at their edges (binary fractions, so the sums are e
     expect(rows.map((r) => [r.kind, r.rttDeltaSeconds])).toEqual([['answered-differently', 0.25]]);
   });
 
+  it('pairs requests by their own file, so another file is another request', () => {
+    const named = (at: number, file: string) => {
+      const e = ex(at, 0.5);
+      return { ...e, fileName: file, requestCall: { ...e.requestCall, fileName: file } } as Exchange;
+    };
+    expect(compareExchanges([named(1, 'A.B')], [named(1, 'C.D')]).rows.map((r) => [r.kind, r.fileName])).toEqual([
+      ['only-in-a', 'A.B'],
+      ['only-in-b', 'C.D'],
+    ]);
+  });
+
+  it('calls two unanswered sends of the same request the same, with no round-trip difference', () => {
+    expect(compareExchanges([ex(1, null)], [ex(1, null)]).rows.map((r) => [r.kind, r.rttDeltaSeconds])).toEqual([['same', null]]);
+  });
+
+  it('tells apart answers whose fields would read alike run together', () => {
+    const answer = (fields: { id: string; display: string }[]) => ({ ...ex(1, 0.5), responseCall: { fields } }) as unknown as Exchange;
+    const a = answer([{ id: 'x', display: '1' }, { id: 'y', display: '2' }]);
+    const b = answer([{ id: 'x', display: '1y=2' }]);
+    expect(compareExchanges([a], [b]).rows[0].kind).toBe('answered-differently');
+  });
+
+  it('pairs the k-th send of a request in time order whatever order the lists come in, and lists rows by time', () => {
+    const { rows } = compareExchanges([ex(1, 0.5), ex(1, 0.5)].map((e, k) => ({ ...e, firstSample: 20 - 10 * k, request: { link: 'x', seq: k } })), [
+      { ...ex(1, 0.5), firstSample: 11 },
+      { ...ex(1, 0.75), firstSample: 21 },
+      { ...ex(9, 0.5), firstSample: 5 },
+      { ...ex(8, 0.5), firstSample: 3 },
+    ]);
+    expect(rows.map((r) => [r.a?.firstSample ?? null, r.b?.firstSample ?? null, r.kind])).toEqual([
+      [null, 3, 'only-in-b'],
+      [null, 5, 'only-in-b'],
+      [10, 11, 'same'],
+      [20, 21, 'slower'],
+    ]);
+  });
+
   it('pairs requests by their own file and record, so another record is another request', () => {
     const { rows } = compareExchanges([ex(1, 0.5)], [ex(2, 0.5)]);
     expect(rows.map((r) => [r.kind, r.recordNumber])).toEqual([

@@ -1,8 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import { type DecodedCall, BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT, callLayerRoles, ExchangeTracker, pairExchanges, type CallFrame, type Exchange, parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls';
+import { type DecodedCall, BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT, CallLayer, callLayerRoles, ExchangeTracker, pairExchanges, type CallFrame, type Exchange, parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls';
 import { handshakeRoleSchema, linkRoleSchema } from '../../shared/schemas/captures';
 import { bootCalls, directoryCalls, readFileCalls, readRandomCalls, requestInfo, Tags, type SessionScript } from '../../shared/decoder/encode';
 import { BIT_RATE, decodeScript, framesOfSession, pairDecoded, type DecodedSession } from './calls-helpers';
+import { checkFrame, type DecodedFrame } from '../../shared/decoder';
+import { encodeLineBits, responseInfo } from '../../shared/decoder/encode';
 
 const BIT = 1 / BIT_RATE;
 const text = (n: number) => new TextEncoder().encode('The Lord is my shepherd. '.repeat(Math.ceil(n / 25)).slice(0, n));
@@ -393,7 +395,10 @@ describe('capture settings and frames the call layer ignores', () => {
     // without the station's port 3 links its exchanges are gone
     const fewer = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles.filter((r) => !r.link.startsWith('p3')), samplePeriodSeconds: fast.period });
     expect(fewer.exchanges.length).toBe(base.exchanges.filter((e) => e.station !== 0x23).length);
-    expect(fewer.calls.every((c) => !c.ref.link.startsWith('p3'))).toBe(true);
+    // every frame on a link it was told about comes out with its call decode, and no other
+    const told = (f: { link: string }) => fast.roles.some((r) => r.link === f.link && !r.link.startsWith('p3'));
+    expect(fewer.calls.map((c) => c.ref)).toEqual(fast.frames.filter(told).map((f) => ({ link: f.link, seq: f.seq })));
+    expect(fewer.calls.length).toBeGreaterThan(10);
     // a link without a station takes the frame's address; a frame without one (too short) is left out
     const byAddress = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles.map((r) => ({ ...r, station: undefined })), samplePeriodSeconds: fast.period });
     expect(byAddress.exchanges.map((e) => e.station)).toEqual(base.exchanges.map((e) => e.station));
@@ -555,5 +560,152 @@ describe('pairing rules: what a response, a retry and a timeout change', () => {
       [20, []],
       [33, [guess.ref]],
     ]);
+  });
+});
+
+// The call layer on hand-made frames of one station (address 0x21): I frames with control 0x10,
+// RR polls with control 0x11 (ISO/IEC 13239:2002 I and S frame formats, from memory); the call
+// envelope is ours (shared/decoder/calls/cpm-envelope.ts), BDOS function numbers from the CP/M 2.2
+// manual, section 5.
+describe('the call layer on hand-made frames', () => {
+  const roles = [
+    { link: 'up', direction: 'to-server' as const, station: 0x21 },
+    { link: 'down', direction: 'from-server' as const, station: 0x21 },
+  ];
+  const count = { up: 0, down: 0 };
+  const frame = (link: 'up' | 'down', at: number, bytes: number[], damaged = false): DecodedFrame => {
+    const f = encodeLineBits([{ kind: 'frame', bytes: Uint8Array.from(bytes), faults: damaged ? { wrongFcs: true } : {} }]).frames[0];
+    return checkFrame({ link, seq: count[link]++, firstSample: at, lastSample: at + 50, bytes: f.wire, bitLength: f.bitLength, stuffed: [], status: 'ok' });
+  };
+  const open = (at: number, tag: number, name: string) => frame('up', at, [0x21, 0x10, ...requestInfo(BDOS.OPEN_FILE, tag, 0, { fcb: { name } })]);
+  const opened = (at: number, tag: number, status: number, name: string, damaged = false) =>
+    frame('down', at, [0x21, 0x10, ...responseInfo(BDOS.OPEN_FILE, tag, status, { fcb: { name } })], damaged);
+  const poll = (at: number, damaged = false) => frame('down', at, [0x21, 0x11], damaged);
+  const pair = (frames: DecodedFrame[], map = CPM_ENVELOPE, samplePeriodSeconds = 1e-6) => pairExchanges(frames, [], { map, links: roles, samplePeriodSeconds });
+
+  it('pairs answers that come out of order by their tag, and reads each answer as a response', () => {
+    const a = open(0, 1, 'A.B');
+    const b = open(100, 2, 'C.D');
+    const toB = opened(300, 2, 0xff, 'C.D');
+    const toA = opened(400, 1, 0, 'A.B');
+    const { exchanges } = pair([a, b, toB, toA]);
+    expect(toB.status).toBe('ok');
+    expect(exchanges.map((e) => [e.tag, e.fileName, e.responses, e.status, e.statusMeaning])).toEqual([
+      [1, 'A.B', [{ link: 'down', seq: toA.seq }], 0, 'ok: directory code 0'],
+      [2, 'C.D', [{ link: 'down', seq: toB.seq }], 0xff, 'file not found'],
+    ]);
+  });
+
+  it('pairs by tag when any layout of the map has a tag field, not only when all have', () => {
+    const doc: FieldMapInput = JSON.parse(JSON.stringify(CPM_ENVELOPE_DOCUMENT));
+    const last = doc.layouts[doc.layouts.length - 1];
+    for (const f of last.fields) if (f.role === 'tag') delete f.role;
+    const toB = opened(300, 2, 0, 'C.D');
+    const toA = opened(400, 1, 0, 'A.B');
+    const { exchanges } = pair([open(0, 1, 'A.B'), open(100, 2, 'C.D'), toB, toA], parseFieldMap(doc));
+    expect(exchanges.map((e) => [e.tag, e.responses])).toEqual([
+      [1, [{ link: 'down', seq: toA.seq }]],
+      [2, [{ link: 'down', seq: toB.seq }]],
+    ]);
+  });
+
+  it('pairs in order per call, file and record when the map has no tag, so two opens of different files are two exchanges', () => {
+    const doc: FieldMapInput = JSON.parse(JSON.stringify(CPM_ENVELOPE_DOCUMENT));
+    for (const l of doc.layouts) for (const f of l.fields) if (f.role === 'tag') delete f.role;
+    const map = parseFieldMap(doc);
+    const { exchanges } = pair([open(0, 1, 'A.B'), open(100, 2, 'C.D'), opened(300, 1, 0, 'A.B'), opened(400, 2, 0, 'C.D')], map);
+    expect(exchanges.map((e) => [e.fileName, e.outcome, e.retries.length, e.tag])).toEqual([
+      ['A.B', 'answered', 0, null],
+      ['C.D', 'answered', 0, null],
+    ]);
+  });
+
+  it('takes neither a good poll nor a damaged poll for a damaged answer', () => {
+    const { exchanges } = pair([open(0, 1, 'A.B'), poll(200), poll(300, true), open(5000, 1, 'A.B'), opened(5500, 1, 0, 'A.B')]);
+    expect(exchanges.map((e) => [e.outcome, e.damagedResponses])).toEqual([['retried', []]]);
+  });
+
+  it('reads a damaged I frame’s bytes to find which of two waiting exchanges it answered', () => {
+    const bad = opened(300, 2, 0, 'C.D', true);
+    expect(bad.status).toBe('bad-fcs');
+    const { exchanges } = pair([open(0, 1, 'A.B'), open(100, 2, 'C.D'), bad, open(5000, 2, 'C.D'), opened(5500, 2, 0, 'C.D'), opened(5800, 1, 0, 'A.B')]);
+    expect(exchanges.map((e) => [e.tag, e.damagedResponses])).toEqual([
+      [1, []],
+      [2, [{ link: 'down', seq: bad.seq }]],
+    ]);
+  });
+
+  it('lists exchanges by their first send even when a later one closes first', () => {
+    // 1 ms samples, 0.5 s timeout = 500 samples: tag 2 is given up at the poll (600 − 60 > 500), tag 1 later
+    const { exchanges } = pair([open(0, 1, 'A.B'), open(10, 2, 'C.D'), opened(400, 1, 0, 'A.B'), poll(600)], CPM_ENVELOPE, 1e-3);
+    expect(exchanges.map((e) => [e.tag, e.outcome])).toEqual([
+      [1, 'answered'],
+      [2, 'unanswered'],
+    ]);
+  });
+
+  it('works with a sink that takes exchanges only', () => {
+    const got: number[] = [];
+    const layer = new CallLayer({ map: CPM_ENVELOPE, links: roles, samplePeriodSeconds: 1e-6 }, { exchange: (e) => got.push(e.tag!) });
+    for (const f of [open(0, 1, 'A.B'), opened(300, 1, 0, 'A.B'), opened(400, 7, 0, 'X.Y')]) layer.frame(f);
+    layer.finish();
+    expect(got).toEqual([1]);
+  });
+});
+
+describe('pairing rules: more edges', () => {
+  const p = 2 ** -20; // a binary fraction, so timeout / period is exact
+  it('keeps a request open for exactly the timeout after its last send', () => {
+    const at = (answer: number) => {
+      const out: Exchange[] = [];
+      const t = new ExchangeTracker({ samplePeriodSeconds: p, timeoutSeconds: 100 * p }, { exchange: (e) => out.push(e) });
+      t.push(req(0, 20, 1));
+      t.push(resp(answer, 20, 1));
+      t.finish();
+      return out.map((e) => e.outcome);
+    };
+    expect(at(200)).toEqual(['answered']);
+    expect(at(201)).toEqual(['unanswered']);
+  });
+
+  it('lists a damaged answer once however many retries follow it', () => {
+    const lost = { ...resp(300, 20, 1), call: null, damagedCall: null } as CallFrame;
+    const { exchanges } = run([req(0, 20, 1), lost, req(5000, 20, 1), req(10000, 20, 1), resp(10500, 20, 1)]);
+    expect(exchanges.map((e) => [e.retries.length, e.damagedResponses])).toEqual([[2, [lost.ref]]]);
+  });
+
+  it('keeps a whole first send when a whole retry says something else', () => {
+    const first = { ...req(0, 20, 1) };
+    first.call = { ...first.call!, recordNumber: 9, fileName: 'A.B' };
+    const again = { ...req(5000, 20, 1) };
+    again.call = { ...again.call!, recordNumber: 10, fileName: 'C.D' };
+    const { exchanges } = run([first, again, resp(6000, 20, 1)]);
+    expect(exchanges[0]).toMatchObject({ requestCall: first.call, recordNumber: 9, fileName: 'A.B' });
+  });
+
+  it('gives an unreadable damaged answer to the one exchange still waiting, not to one already answered', () => {
+    const lost = { ...resp(400, 20, 0), call: null, damagedCall: null } as CallFrame;
+    const { exchanges } = run([req(0, 20, 1), resp(200, 20, 1), req(300, 20, 2), lost, req(5000, 20, 2), resp(5500, 20, 2)]);
+    expect(exchanges.map((e) => [e.tag, e.damagedResponses])).toEqual([
+      [1, []],
+      [2, [lost.ref]],
+    ]);
+  });
+
+  it('works with a sink that takes no orphans', () => {
+    const out: Exchange[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: (e) => out.push(e) });
+    t.push(resp(0, 20, 1));
+    t.finish();
+    expect(out).toEqual([]);
+  });
+
+  it('finds no RTS line in settings without handshake lines, and takes only lines named RTS exactly', () => {
+    expect(callLayerRoles({ links: [{ channel: 'tx', direction: 'to-server', stationAddress: 1 }] })).toEqual({ links: [{ link: 'tx', direction: 'to-server', station: 1 }], rts: [] });
+    const named = callLayerRoles({
+      links: [{ channel: 'tx', direction: 'to-server', stationAddress: 1 }],
+      handshake: ['RTS2', 'NRTS', 'rts'].map((name, k) => ({ channel: `h${k}`, name, link: 'tx' })),
+    });
+    expect(named.rts).toEqual([{ channel: 'h2', station: 1 }]);
   });
 });
