@@ -580,4 +580,31 @@ describe('field-map rules where a slip changes a decoded value', () => {
     const d = decodeCpmName(Uint8Array.of(0x41 | 0x80, 0x42));
     expect(d).toEqual({ text: 'AB', attributes: { f1: true, f2: false, f3: false, f4: false, readOnly: false, system: false, archive: false } });
   });
+
+  it('gives a left-out field its name, role and meaning, and its id as name when it has none', () => {
+    const m = parseFieldMap({
+      name: 'named',
+      version: 1,
+      layouts: [
+        {
+          id: 'a',
+          fields: [
+            { id: 'st', type: 'u8', role: 'status' },
+            { id: 'rec', type: 'bytes', length: 4, name: 'Record', role: 'record-data', meaning: 'the data read', onlyIfStatus: [0] },
+            { id: 'pad', type: 'u8', onlyIfStatus: [0] },
+          ],
+        },
+      ],
+    });
+    const c = applyFieldMap(m, Uint8Array.of(1), 'response');
+    expect(c.fields.slice(1).map((f) => [f.id, f.name, f.role, f.meaning, f.absent])).toEqual([
+      ['rec', 'Record', 'record-data', 'the data read', true],
+      ['pad', 'pad', null, null, true],
+    ]);
+  });
+
+  it('gives no record number from a current record without an extent', () => {
+    const m = parseFieldMap({ name: 'cr only', version: 1, layouts: [{ id: 'a', fields: [{ id: 'cr', type: 'u8', role: 'current-record' }] }] });
+    expect(applyFieldMap(m, Uint8Array.of(5), 'request').recordNumber).toBeNull();
+  });
 });
