@@ -171,16 +171,29 @@ describe('frames shorter than the map says', () => {
     expect(short.unexplained).toBe(0);
   });
 
-  it('never throws on random information fields, and its spans stay inside the frame', () => {
+  it('never throws on random information fields; every field holds exactly the octets that are there', () => {
     const rng = seededRng(11);
+    const seen = { truncated: 0, whole: 0 };
     for (let k = 0; k < 2000; k++) {
       const info = Uint8Array.from({ length: Math.floor(rng() * 200) }, () => Math.floor(rng() * 256));
       const c = applyFieldMap(CPM_ENVELOPE, info, rng() < 0.5 ? 'request' : 'response');
+      // the envelope's call code is octet 0 without the response bit, its tag octet 1 (our envelope, cpm-envelope.ts)
+      expect(c.callCode).toBe(info.length > 0 ? info[0] & 0x7f : null);
+      if (c.layout !== null) expect(c.tag).toBe(info.length > 1 ? info[1] : null);
+      let end = 0;
       for (const f of c.fields) {
-        if (f.available > 0) expect(f.offset + f.available).toBeLessThanOrEqual(info.length);
-        expect(f.available).toBeLessThanOrEqual(f.length);
+        // the envelope places every field right after the one before, so each starts where the last ended
+        expect([f.id, f.offset]).toEqual([f.id, end]);
+        end = f.offset + f.length;
+        expect(f.available).toBe(Math.max(0, Math.min(f.length, info.length - f.offset)));
+        expect(f.truncated).toBe(f.available < f.length);
+        if (f.value !== null && f.type === 'u8') expect(f.value).toBe(info[f.offset]);
       }
+      expect(c.truncated).toBe(c.fields.some((f) => f.truncated));
+      seen[c.truncated ? 'truncated' : 'whole']++;
     }
+    expect(seen.truncated).toBeGreaterThan(100);
+    expect(seen.whole).toBeGreaterThan(100);
   });
 });
 
@@ -443,5 +456,155 @@ describe('placing fields and reading roles', () => {
     expect(f.txt).toMatchObject({ text: 'A.', display: '"A." (truncated: 2 of 4 octets)' });
     expect(f.sized).toMatchObject({ truncated: true, length: 0, display: '(truncated: 0 of ? octets)' });
     expect(c.unexplained).toBe(0);
+  });
+});
+
+// Our field-map rules (shared/decoder/calls/field-map.ts and the comment of apply.ts are their spec).
+describe('field-map rules where a slip changes a decoded value', () => {
+  it('reads a 24-bit big-endian number with its first octet most significant', () => {
+    const m = parseFieldMap({ name: 'be', version: 1, layouts: [{ id: 'a', fields: [{ id: 'n', type: 'u24be', role: 'record-number' }, { id: 'm', type: 'u24le' }] }] });
+    const c = applyFieldMap(m, Uint8Array.of(0x01, 0x02, 0x03, 0x01, 0x02, 0x03), 'request');
+    expect(c.fields.map((f) => f.value)).toEqual([0x010203, 0x030201]);
+    expect(c.recordNumber).toBe(0x010203);
+  });
+
+  it('checks a length field against the octets after it, less its lengthAdd, wherever it sits', () => {
+    const m = parseFieldMap({
+      name: 'counted',
+      version: 1,
+      layouts: [{ id: 'a', fields: [{ id: 'op', type: 'u8' }, { id: 'len', type: 'u16le', role: 'length', lengthAdd: 2 }, { id: 'body', type: 'bytes', length: 'rest' }] }],
+    });
+    // three octets follow the length field; with lengthAdd 2 it says 5
+    expect(applyFieldMap(m, Uint8Array.of(9, 5, 0, 1, 2, 3), 'request').problems).toEqual([]);
+    expect(applyFieldMap(m, Uint8Array.of(9, 4, 0, 1, 2, 3), 'request').problems).toEqual(['the length field “len” says 2 octets follow it, the frame has 3']);
+    // without lengthAdd the value is the count itself
+    const plain = parseFieldMap({ name: 'plain', version: 1, layouts: [{ id: 'a', fields: [{ id: 'len', type: 'u8', role: 'length' }, { id: 'body', type: 'bytes', length: 'rest' }] }] });
+    expect(applyFieldMap(plain, Uint8Array.of(2, 7, 7), 'request').problems).toEqual([]);
+    expect(applyFieldMap(plain, Uint8Array.of(3, 7, 7), 'request').problems).toEqual(['the length field “len” says 3 octets follow it, the frame has 2']);
+    // a length field cut off says nothing
+    expect(applyFieldMap(m, Uint8Array.of(9, 5), 'request').problems).toEqual(['the frame ends inside field “len”: 2 octets, the layout needs more']);
+  });
+
+  it('gives a field sized by another one no octets when the count plus its add is below zero', () => {
+    const m = parseFieldMap({ name: 'neg', version: 1, layouts: [{ id: 'a', fields: [{ id: 'n', type: 'u8' }, { id: 'label', type: 'ascii', length: { field: 'n', add: -1 } }, { id: 'tail', type: 'u8' }] }] });
+    const c = applyFieldMap(m, Uint8Array.of(0, 0x41), 'request');
+    expect(c.fields.map((f) => [f.id, f.offset, f.length, f.truncated, f.value ?? f.text])).toEqual([
+      ['n', 0, 1, false, 0],
+      ['label', 1, 0, false, ''],
+      ['tail', 1, 1, false, 0x41],
+    ]);
+  });
+
+  it('gives a rest field that starts past the end of the frame no octets', () => {
+    const m = parseFieldMap({ name: 'rest', version: 1, layouts: [{ id: 'a', fields: [{ id: 'n', type: 'u16le' }, { id: 'data', type: 'bytes', length: 'rest', role: 'record-data' }] }] });
+    const c = applyFieldMap(m, Uint8Array.of(1), 'request');
+    expect(c.fields.map((f) => [f.id, f.offset, f.length, f.available, f.truncated])).toEqual([
+      ['n', 0, 2, 1, true],
+      ['data', 2, 0, 0, false],
+    ]);
+    expect(c.recordData).toBeNull();
+  });
+
+  it('moves the fields after one the status leaves out up to where it would have started', () => {
+    const m = parseFieldMap({
+      name: 'status',
+      version: 1,
+      layouts: [
+        {
+          id: 'a',
+          fields: [
+            { id: 'st', type: 'u8', role: 'status' },
+            { id: 'extra', type: 'u16le', onlyIfStatus: [0] },
+            { id: 'next', type: 'u8' },
+            { id: 'after', type: 'u8', offset: { after: 'extra' } },
+          ],
+        },
+      ],
+    });
+    const absent = applyFieldMap(m, Uint8Array.of(1, 7), 'response');
+    expect(absent.fields.map((f) => [f.id, f.offset, f.length, f.absent, f.value])).toEqual([
+      ['st', 0, 1, false, 1],
+      ['extra', 1, 0, true, null],
+      ['next', 1, 1, false, 7],
+      ['after', 1, 1, false, 7],
+    ]);
+    expect(absent).toMatchObject({ truncated: false, unexplained: 0, status: 1 });
+    const present = applyFieldMap(m, Uint8Array.of(0, 0x34, 0x12, 7), 'response');
+    expect(present.fields.map((f) => [f.id, f.offset, f.value])).toEqual([
+      ['st', 0, 0],
+      ['extra', 1, 0x1234],
+      ['next', 3, 7],
+      ['after', 3, 7],
+    ]);
+  });
+
+  it('places a left-out field after an unplaced one at the end of the frame', () => {
+    const m = parseFieldMap({
+      name: 'unplaced',
+      version: 1,
+      layouts: [
+        {
+          id: 'a',
+          fields: [
+            { id: 'st', type: 'u8', role: 'status' },
+            { id: 'n', type: 'u8' },
+            { id: 'data', type: 'bytes', length: { field: 'n' } },
+            { id: 'opt', type: 'u8', onlyIfStatus: [0], offset: { after: 'data' } },
+          ],
+        },
+      ],
+    });
+    // n is missing, so data has no length and ends nowhere, and opt (left out for status 1) sits at the frame's end
+    const c = applyFieldMap(m, Uint8Array.of(1), 'response');
+    expect(c.fields.map((f) => [f.id, f.offset, f.absent, f.truncated])).toEqual([
+      ['st', 0, false, false],
+      ['n', 1, false, true],
+      ['data', 2, false, true],
+      ['opt', 1, true, false],
+    ]);
+  });
+
+  it('gives each attribute bit of a CP/M name its own flag (CP/M 3 Programmer’s Guide 2.3: f1’–f4’; CP/M 2.2 manual 5.2 Table 5-2: t1’, t2’)', () => {
+    const names = ['f1', 'f2', 'f3', 'f4', 'readOnly', 'system', 'archive'] as const;
+    const at = [0, 1, 2, 3, 8, 9, 10];
+    names.forEach((name, k) => {
+      const raw = cpmName('ABCDEFGH.IJK');
+      raw[at[k]] |= 0x80;
+      const d = decodeCpmName(raw);
+      expect(d.text).toBe('ABCDEFGH.IJK');
+      expect(Object.entries(d.attributes).filter(([, v]) => v).map(([n]) => n), name).toEqual([name]);
+    });
+  });
+
+  it('reads a short name as if padded with spaces and with no attributes past its end', () => {
+    const d = decodeCpmName(Uint8Array.of(0x41 | 0x80, 0x42));
+    expect(d).toEqual({ text: 'AB', attributes: { f1: true, f2: false, f3: false, f4: false, readOnly: false, system: false, archive: false } });
+  });
+
+  it('gives a left-out field its name, role and meaning, and its id as name when it has none', () => {
+    const m = parseFieldMap({
+      name: 'named',
+      version: 1,
+      layouts: [
+        {
+          id: 'a',
+          fields: [
+            { id: 'st', type: 'u8', role: 'status' },
+            { id: 'rec', type: 'bytes', length: 4, name: 'Record', role: 'record-data', meaning: 'the data read', onlyIfStatus: [0] },
+            { id: 'pad', type: 'u8', onlyIfStatus: [0] },
+          ],
+        },
+      ],
+    });
+    const c = applyFieldMap(m, Uint8Array.of(1), 'response');
+    expect(c.fields.slice(1).map((f) => [f.id, f.name, f.role, f.meaning, f.absent])).toEqual([
+      ['rec', 'Record', 'record-data', 'the data read', true],
+      ['pad', 'pad', null, null, true],
+    ]);
+  });
+
+  it('gives no record number from a current record without an extent', () => {
+    const m = parseFieldMap({ name: 'cr only', version: 1, layouts: [{ id: 'a', fields: [{ id: 'cr', type: 'u8', role: 'current-record' }] }] });
+    expect(applyFieldMap(m, Uint8Array.of(5), 'request').recordNumber).toBeNull();
   });
 });

@@ -123,3 +123,84 @@ describe('comparison thresholds and summary', () => {
     expect(compareExchanges(a, [ex(1, 0, 0.001, { responseCall: answer('1', '7') })]).rows[0].kind).toBe('answered-differently');
   });
 });
+
+describe('comparison margins at their edges (binary fractions, so the sums are exact)', () => {
+  const ex = (at: number, rtt: number | null, answer = '0'): Exchange =>
+    ({
+      station: 1,
+      request: { link: 'x', seq: at },
+      requestCall: { fileName: 'A.B', recordNumber: at },
+      responseCall: rtt === null ? null : { fields: [{ id: 'status', role: 'status', display: answer }] },
+      callCode: 20,
+      callName: 'read random',
+      fileName: 'A.B',
+      recordNumber: at,
+      firstSample: at,
+      rttSeconds: rtt,
+      outcome: rtt === null ? 'unanswered' : 'answered',
+    }) as unknown as Exchange;
+
+  it('calls a round trip slower only when it is more than the absolute margin longer, not when it is exactly that', () => {
+    // 0.5 s → 0.625 s: 0.125 s longer, 25 % (past the 10 % relative margin)
+    const at = (absolute: number) => compareExchanges([ex(1, 0.5)], [ex(1, 0.625)], { absolute, relative: 0.1 }).rows[0].kind;
+    expect(at(0.125)).toBe('same');
+    expect(at(0.0625)).toBe('slower');
+  });
+
+  it('calls a round trip faster only when it is more than the relative margin shorter, not when it is exactly that', () => {
+    // 0.5 s → 0.375 s: 0.125 s = 25 % shorter (past the 0.01 s absolute margin)
+    const at = (relative: number) => compareExchanges([ex(1, 0.5)], [ex(1, 0.375)], { absolute: 0.01, relative }).rows[0].kind;
+    expect(at(0.25)).toBe('same');
+    expect(at(0.125)).toBe('faster');
+  });
+
+  it('gives the round-trip difference of two answered exchanges even when their answers differ', () => {
+    const { rows } = compareExchanges([ex(1, 0.5, '0')], [ex(1, 0.75, '255')]);
+    expect(rows.map((r) => [r.kind, r.rttDeltaSeconds])).toEqual([['answered-differently', 0.25]]);
+  });
+
+  it('pairs requests by their own file, so another file is another request', () => {
+    const named = (at: number, file: string) => {
+      const e = ex(at, 0.5);
+      return { ...e, fileName: file, requestCall: { ...e.requestCall, fileName: file } } as Exchange;
+    };
+    expect(compareExchanges([named(1, 'A.B')], [named(1, 'C.D')]).rows.map((r) => [r.kind, r.fileName])).toEqual([
+      ['only-in-a', 'A.B'],
+      ['only-in-b', 'C.D'],
+    ]);
+  });
+
+  it('calls two unanswered sends of the same request the same, with no round-trip difference', () => {
+    expect(compareExchanges([ex(1, null)], [ex(1, null)]).rows.map((r) => [r.kind, r.rttDeltaSeconds])).toEqual([['same', null]]);
+  });
+
+  it('tells apart answers whose fields would read alike run together', () => {
+    const answer = (fields: { id: string; display: string }[]) => ({ ...ex(1, 0.5), responseCall: { fields } }) as unknown as Exchange;
+    const a = answer([{ id: 'x', display: '1' }, { id: 'y', display: '2' }]);
+    const b = answer([{ id: 'x', display: '1y=2' }]);
+    expect(compareExchanges([a], [b]).rows[0].kind).toBe('answered-differently');
+  });
+
+  it('pairs the k-th send of a request in time order whatever order the lists come in, and lists rows by time', () => {
+    const { rows } = compareExchanges([ex(1, 0.5), ex(1, 0.5)].map((e, k) => ({ ...e, firstSample: 20 - 10 * k, request: { link: 'x', seq: k } })), [
+      { ...ex(1, 0.5), firstSample: 11 },
+      { ...ex(1, 0.75), firstSample: 21 },
+      { ...ex(9, 0.5), firstSample: 5 },
+      { ...ex(8, 0.5), firstSample: 3 },
+    ]);
+    expect(rows.map((r) => [r.a?.firstSample ?? null, r.b?.firstSample ?? null, r.kind])).toEqual([
+      [null, 3, 'only-in-b'],
+      [null, 5, 'only-in-b'],
+      [10, 11, 'same'],
+      [20, 21, 'slower'],
+    ]);
+  });
+
+  it('pairs requests by their own file and record, so another record is another request', () => {
+    const { rows } = compareExchanges([ex(1, 0.5)], [ex(2, 0.5)]);
+    expect(rows.map((r) => [r.kind, r.recordNumber])).toEqual([
+      ['only-in-a', 1],
+      ['only-in-b', 2],
+    ]);
+  });
+});

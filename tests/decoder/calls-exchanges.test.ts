@@ -1,8 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import { type DecodedCall, BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT, callLayerRoles, ExchangeTracker, pairExchanges, type CallFrame, type Exchange, parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls';
+import { type DecodedCall, BDOS, CPM_ENVELOPE, CPM_ENVELOPE_DOCUMENT, CallLayer, callLayerRoles, ExchangeTracker, pairExchanges, type CallFrame, type Exchange, parseFieldMap, type FieldMapInput } from '../../shared/decoder/calls';
 import { handshakeRoleSchema, linkRoleSchema } from '../../shared/schemas/captures';
 import { bootCalls, directoryCalls, readFileCalls, readRandomCalls, requestInfo, Tags, type SessionScript } from '../../shared/decoder/encode';
 import { BIT_RATE, decodeScript, framesOfSession, pairDecoded, type DecodedSession } from './calls-helpers';
+import { checkFrame, type DecodedFrame } from '../../shared/decoder';
+import { encodeLineBits, responseInfo } from '../../shared/decoder/encode';
 
 const BIT = 1 / BIT_RATE;
 const text = (n: number) => new TextEncoder().encode('The Lord is my shepherd. '.repeat(Math.ceil(n / 25)).slice(0, n));
@@ -246,12 +248,15 @@ describe('pairing rules', () => {
   });
 
   it('pairs in order per call code when the map has no tag', () => {
-    const { exchanges } = run([req(0, 20, null), req(150, 33, null), resp(300, 33, null), resp(400, 20, null)], false);
-    expect(exchanges.map((e) => [e.callCode, e.responses[0].seq])).toEqual([
-      [20, exchanges[0].responses[0].seq],
-      [33, exchanges[1].responses[0].seq],
+    const answer33 = resp(300, 33, null);
+    const answer20 = resp(400, 20, null);
+    const { exchanges } = run([req(0, 20, null), req(150, 33, null), answer33, answer20], false);
+    // each request gets the answer of its own call code, not the next answer in time
+    expect(exchanges.map((e) => [e.callCode, e.responses])).toEqual([
+      [20, [answer20.ref]],
+      [33, [answer33.ref]],
     ]);
-    expect(exchanges[0].rttSeconds).toBeCloseTo((400 - 100) * period);
+    expect(exchanges.map((e) => e.rttSeconds)).toEqual([(400 - 100) * period, (300 - 250) * period]);
   });
 
   const damaged = (at: number, guess: DecodedCall | null, station = 1): CallFrame => ({
@@ -298,7 +303,12 @@ describe('pairing rules', () => {
     const { session } = decodeScript(script(), { clocked: true });
     const fast = framesOfSession(session);
     const { exchanges } = pairExchanges(fast.frames, [], { map, links: fast.roles, samplePeriodSeconds: fast.period });
-    expect(exchanges.map((e) => e.outcome).filter((o) => o !== 'unanswered').length).toBe(session.exchanges.filter((e) => e.outcome !== 'unanswered').length);
+    // the same requests as by tag, each with its own answer (the encoded session says which)
+    const got = exchanges.map((e) => [e.request.link, e.request.seq, e.callCode, e.outcome, e.responses[0]?.seq ?? null]);
+    const want = session.exchanges.map((e) => [e.link, e.requestSeq, e.callCode, e.outcome, e.responseSeq]);
+    const order = (a: (string | number | null)[], b: (string | number | null)[]) => String(a[0]).localeCompare(String(b[0])) || Number(a[1]) - Number(b[1]);
+    expect(got.sort(order)).toEqual(want.sort(order));
+    expect(exchanges.every((e) => e.tag === null)).toBe(true);
   });
 });
 
@@ -385,7 +395,10 @@ describe('capture settings and frames the call layer ignores', () => {
     // without the station's port 3 links its exchanges are gone
     const fewer = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles.filter((r) => !r.link.startsWith('p3')), samplePeriodSeconds: fast.period });
     expect(fewer.exchanges.length).toBe(base.exchanges.filter((e) => e.station !== 0x23).length);
-    expect(fewer.calls.every((c) => !c.ref.link.startsWith('p3'))).toBe(true);
+    // every frame on a link it was told about comes out with its call decode, and no other
+    const told = (f: { link: string }) => fast.roles.some((r) => r.link === f.link && !r.link.startsWith('p3'));
+    expect(fewer.calls.map((c) => c.ref)).toEqual(fast.frames.filter(told).map((f) => ({ link: f.link, seq: f.seq })));
+    expect(fewer.calls.length).toBeGreaterThan(10);
     // a link without a station takes the frame's address; a frame without one (too short) is left out
     const byAddress = pairExchanges(fast.frames, [], { map: CPM_ENVELOPE, links: fast.roles.map((r) => ({ ...r, station: undefined })), samplePeriodSeconds: fast.period });
     expect(byAddress.exchanges.map((e) => e.station)).toEqual(base.exchanges.map((e) => e.station));
@@ -403,5 +416,296 @@ describe('capture settings and frames the call layer ignores', () => {
     const measured = pairExchanges(fast.frames, rise, { map: CPM_ENVELOPE, links: fast.roles, rts, samplePeriodSeconds: fast.period }).serviceDelays;
     // the rise at the poll's own first sample counts before the frame: a delay of 0
     expect(measured.map((d) => [d.station, d.seconds, d.serverFrame])).toEqual([[0x23, 0, { link: 'p3_rxd', seq: poll.seq }]]);
+  });
+});
+
+// Our pairing rules (the module comment of shared/decoder/calls/exchanges.ts is their spec), each
+// checked on hand-made call frames where a wrong pairing changes an exchange's values.
+describe('pairing rules: what a response, a retry and a timeout change', () => {
+  const withCall = (f: CallFrame, over: Partial<DecodedCall>): CallFrame => ({ ...f, call: { ...f.call!, ...over } });
+
+  it('pairs by tag unless told otherwise', () => {
+    const exchanges: Exchange[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: (e) => exchanges.push(e) });
+    const late = resp(400, 20, 1);
+    const early = resp(300, 20, 2);
+    for (const f of [req(0, 20, 1), req(100, 20, 2), early, late]) t.push(f);
+    t.finish();
+    exchanges.sort((a, b) => a.firstSample - b.firstSample);
+    expect(exchanges.map((e) => [e.tag, e.responses])).toEqual([
+      [1, [late.ref]],
+      [2, [early.ref]],
+    ]);
+  });
+
+  it('takes the same tag with another call code as a new request, not a retry', () => {
+    const a20 = resp(400, 20, 5);
+    const a33 = resp(300, 33, 5);
+    const { exchanges, orphans } = run([req(0, 20, 5), req(150, 33, 5), a33, a20]);
+    expect(orphans).toEqual([]);
+    expect(exchanges.map((e) => [e.callCode, e.outcome, e.retries.length, e.responses, e.rttSeconds])).toEqual([
+      [20, 'answered', 0, [a20.ref], (400 - 100) * period],
+      [33, 'answered', 0, [a33.ref], (300 - 250) * period],
+    ]);
+  });
+
+  it('ignores a call whose code the map cannot read', () => {
+    const { exchanges, orphans } = run([withCall(req(0, 20, 1), { callCode: null }), withCall(resp(200, 20, 1), { callCode: null })]);
+    expect(exchanges).toEqual([]);
+    expect(orphans).toEqual([]);
+  });
+
+  it('takes the status, its meaning and the first answer’s time from the first response only', () => {
+    const first = withCall(resp(300, 15, 3), { status: 0xff, statusMeaning: 'file not found' });
+    const second = withCall(resp(700, 15, 3), { status: 0, statusMeaning: 'ok' });
+    const { exchanges } = run([req(0, 15, 3), first, second]);
+    expect(exchanges).toHaveLength(1);
+    expect(exchanges[0]).toMatchObject({
+      status: 0xff,
+      statusMeaning: 'file not found',
+      responseCall: first.call,
+      responseFirstSample: 300,
+      rttSeconds: (300 - 100) * period,
+      responses: [first.ref, second.ref],
+    });
+  });
+
+  it('takes record and file from the response only when the request has none (boot load names its record in the answer)', () => {
+    const bare = run([req(0, 40, 1), withCall(resp(300, 40, 1), { recordNumber: 6, fileName: 'WRENBOOT.SYS' })]).exchanges;
+    expect(bare[0]).toMatchObject({ recordNumber: 6, fileName: 'WRENBOOT.SYS' });
+    const named = run([withCall(req(0, 40, 1), { recordNumber: 2, fileName: 'A.B' }), withCall(resp(300, 40, 1), { recordNumber: 6, fileName: 'C.D' })]).exchanges;
+    expect(named[0]).toMatchObject({ recordNumber: 2, fileName: 'A.B' });
+  });
+
+  it('makes a cut-short first send whole by its retry, and keeps a whole first send over a cut-short retry', () => {
+    const cut = withCall(req(0, 20, 1), { truncated: true, recordNumber: null, fileName: null });
+    const whole = withCall(req(5000, 20, 1), { recordNumber: 9, fileName: 'HYMNS.TXT' });
+    const mended = run([cut, whole, resp(6000, 20, 1)]).exchanges;
+    expect(mended).toHaveLength(1);
+    expect(mended[0]).toMatchObject({ requestCall: whole.call, recordNumber: 9, fileName: 'HYMNS.TXT', request: cut.ref, retries: [whole.ref] });
+    const first = withCall(req(0, 20, 1), { recordNumber: 9, fileName: 'HYMNS.TXT' });
+    const kept = run([first, withCall(req(5000, 20, 1), { truncated: true, recordNumber: null, fileName: null }), resp(6000, 20, 1)]).exchanges;
+    expect(kept[0]).toMatchObject({ requestCall: first.call, recordNumber: 9, fileName: 'HYMNS.TXT' });
+  });
+
+  it('times the timeout from the latest send, so a retry keeps its exchange open', () => {
+    // 100 µs timeout: the retry ends at 250, the answer at 300 is 50 after it (200 after the first send)
+    const { exchanges, orphans } = run([req(0, 20, 1), req(150, 20, 1), resp(300, 20, 1)], true, 100e-6);
+    expect(orphans).toEqual([]);
+    expect(exchanges.map((e) => [e.outcome, e.rttSeconds])).toEqual([['retried', (300 - 250) * period]]);
+  });
+
+  it('keeps an answered exchange open for the timeout after its latest answer, for a second answer', () => {
+    // 100 µs timeout: the answer ends at 280; a second answer at 300 still joins (200 after the send)
+    const again = resp(300, 20, 1);
+    const { exchanges, orphans } = run([req(0, 20, 1), resp(180, 20, 1), again], true, 100e-6);
+    expect(orphans).toEqual([]);
+    expect(exchanges[0].responses.at(-1)).toEqual(again.ref);
+    // and no longer: 101 samples after the latest answer it is over
+    expect(run([req(0, 20, 1), resp(180, 20, 1), resp(381, 20, 1)], true, 100e-6).orphans).toHaveLength(1);
+  });
+
+  it('ends an answered exchange only on a new request with its own tag', () => {
+    const late = resp(600, 20, 1);
+    const { exchanges, orphans } = run([req(0, 20, 1), resp(300, 20, 1), req(500, 20, 2), late, resp(800, 20, 2)]);
+    expect(orphans).toEqual([]);
+    expect(exchanges.map((e) => [e.tag, e.responses.length])).toEqual([
+      [1, 2],
+      [2, 1],
+    ]);
+    expect(exchanges[0].responses[1]).toEqual(late.ref);
+  });
+
+  it('without tags, lets a new request leave an answered exchange of another call open for a late second answer', () => {
+    const late = resp(600, 20, null);
+    const { exchanges, orphans } = run([req(0, 20, null), resp(300, 20, null), req(500, 33, null), late, resp(800, 33, null)], false);
+    expect(orphans).toEqual([]);
+    expect(exchanges.map((e) => [e.callCode, e.responses.length])).toEqual([
+      [20, 2],
+      [33, 1],
+    ]);
+  });
+
+  it('gives a station’s service delay to its next request only', () => {
+    const exchanges: Exchange[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: (e) => exchanges.push(e) });
+    t.rts(1, 0);
+    t.push({ ...resp(40, 20, 1), call: null }); // the server's poll
+    for (const f of [req(100, 20, 1), resp(300, 20, 1), req(500, 20, 2), resp(700, 20, 2)]) t.push(f);
+    t.finish();
+    exchanges.sort((a, b) => a.firstSample - b.firstSample);
+    expect(exchanges.map((e) => e.serviceDelaySeconds)).toEqual([40 * period, null]);
+  });
+
+  it('measures a service delay to the server’s frame, not to the station’s own frame after the rise', () => {
+    const delays: { seconds: number; serverFrame: unknown }[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: () => {}, serviceDelay: (d) => delays.push(d) });
+    t.rts(1, 0);
+    t.push({ ...req(10, 20, 1), call: null });
+    const poll = { ...resp(60, 20, 1), call: null };
+    t.push(poll);
+    expect(delays).toEqual([expect.objectContaining({ seconds: 60 * period, serverFrame: poll.ref })]);
+  });
+
+  it('takes a damaged frame from the station as no answer of anything', () => {
+    const damagedRequest: CallFrame = { ...req(300, 20, 1), call: null, damagedCall: callOf(20, 1, 'request') };
+    const { exchanges } = run([req(0, 20, 1), damagedRequest, req(5000, 20, 1), resp(5500, 20, 1)]);
+    expect(exchanges.map((e) => [e.outcome, e.damagedResponses])).toEqual([['retried', []]]);
+  });
+
+  it('without tags, gives a damaged answer to the waiting exchange of the call code its bytes name', () => {
+    const guess: CallFrame = { ref: { link: 'down', seq: seq++ }, station: 1, direction: 'from-server', firstSample: 300, lastSample: 400, call: null, damagedCall: callOf(33, null, 'response') };
+    const { exchanges } = run([req(0, 20, null), req(100, 33, null), guess, req(5000, 20, null), req(5100, 33, null), resp(5500, 20, null), resp(5600, 33, null)], false);
+    expect(exchanges.map((e) => [e.callCode, e.damagedResponses])).toEqual([
+      [20, []],
+      [33, [guess.ref]],
+    ]);
+  });
+});
+
+// The call layer on hand-made frames of one station (address 0x21): I frames with control 0x10,
+// RR polls with control 0x11 (ISO/IEC 13239:2002 I and S frame formats, from memory); the call
+// envelope is ours (shared/decoder/calls/cpm-envelope.ts), BDOS function numbers from the CP/M 2.2
+// manual, section 5.
+describe('the call layer on hand-made frames', () => {
+  const roles = [
+    { link: 'up', direction: 'to-server' as const, station: 0x21 },
+    { link: 'down', direction: 'from-server' as const, station: 0x21 },
+  ];
+  const count = { up: 0, down: 0 };
+  const frame = (link: 'up' | 'down', at: number, bytes: number[], damaged = false): DecodedFrame => {
+    const f = encodeLineBits([{ kind: 'frame', bytes: Uint8Array.from(bytes), faults: damaged ? { wrongFcs: true } : {} }]).frames[0];
+    return checkFrame({ link, seq: count[link]++, firstSample: at, lastSample: at + 50, bytes: f.wire, bitLength: f.bitLength, stuffed: [], status: 'ok' });
+  };
+  const open = (at: number, tag: number, name: string) => frame('up', at, [0x21, 0x10, ...requestInfo(BDOS.OPEN_FILE, tag, 0, { fcb: { name } })]);
+  const opened = (at: number, tag: number, status: number, name: string, damaged = false) =>
+    frame('down', at, [0x21, 0x10, ...responseInfo(BDOS.OPEN_FILE, tag, status, { fcb: { name } })], damaged);
+  const poll = (at: number, damaged = false) => frame('down', at, [0x21, 0x11], damaged);
+  const pair = (frames: DecodedFrame[], map = CPM_ENVELOPE, samplePeriodSeconds = 1e-6) => pairExchanges(frames, [], { map, links: roles, samplePeriodSeconds });
+
+  it('pairs answers that come out of order by their tag, and reads each answer as a response', () => {
+    const a = open(0, 1, 'A.B');
+    const b = open(100, 2, 'C.D');
+    const toB = opened(300, 2, 0xff, 'C.D');
+    const toA = opened(400, 1, 0, 'A.B');
+    const { exchanges } = pair([a, b, toB, toA]);
+    expect(toB.status).toBe('ok');
+    expect(exchanges.map((e) => [e.tag, e.fileName, e.responses, e.status, e.statusMeaning])).toEqual([
+      [1, 'A.B', [{ link: 'down', seq: toA.seq }], 0, 'ok: directory code 0'],
+      [2, 'C.D', [{ link: 'down', seq: toB.seq }], 0xff, 'file not found'],
+    ]);
+  });
+
+  it('pairs by tag when any layout of the map has a tag field, not only when all have', () => {
+    const doc: FieldMapInput = JSON.parse(JSON.stringify(CPM_ENVELOPE_DOCUMENT));
+    const last = doc.layouts[doc.layouts.length - 1];
+    for (const f of last.fields) if (f.role === 'tag') delete f.role;
+    const toB = opened(300, 2, 0, 'C.D');
+    const toA = opened(400, 1, 0, 'A.B');
+    const { exchanges } = pair([open(0, 1, 'A.B'), open(100, 2, 'C.D'), toB, toA], parseFieldMap(doc));
+    expect(exchanges.map((e) => [e.tag, e.responses])).toEqual([
+      [1, [{ link: 'down', seq: toA.seq }]],
+      [2, [{ link: 'down', seq: toB.seq }]],
+    ]);
+  });
+
+  it('pairs in order per call, file and record when the map has no tag, so two opens of different files are two exchanges', () => {
+    const doc: FieldMapInput = JSON.parse(JSON.stringify(CPM_ENVELOPE_DOCUMENT));
+    for (const l of doc.layouts) for (const f of l.fields) if (f.role === 'tag') delete f.role;
+    const map = parseFieldMap(doc);
+    const { exchanges } = pair([open(0, 1, 'A.B'), open(100, 2, 'C.D'), opened(300, 1, 0, 'A.B'), opened(400, 2, 0, 'C.D')], map);
+    expect(exchanges.map((e) => [e.fileName, e.outcome, e.retries.length, e.tag])).toEqual([
+      ['A.B', 'answered', 0, null],
+      ['C.D', 'answered', 0, null],
+    ]);
+  });
+
+  it('takes neither a good poll nor a damaged poll for a damaged answer', () => {
+    const { exchanges } = pair([open(0, 1, 'A.B'), poll(200), poll(300, true), open(5000, 1, 'A.B'), opened(5500, 1, 0, 'A.B')]);
+    expect(exchanges.map((e) => [e.outcome, e.damagedResponses])).toEqual([['retried', []]]);
+  });
+
+  it('reads a damaged I frame’s bytes to find which of two waiting exchanges it answered', () => {
+    const bad = opened(300, 2, 0, 'C.D', true);
+    expect(bad.status).toBe('bad-fcs');
+    const { exchanges } = pair([open(0, 1, 'A.B'), open(100, 2, 'C.D'), bad, open(5000, 2, 'C.D'), opened(5500, 2, 0, 'C.D'), opened(5800, 1, 0, 'A.B')]);
+    expect(exchanges.map((e) => [e.tag, e.damagedResponses])).toEqual([
+      [1, []],
+      [2, [{ link: 'down', seq: bad.seq }]],
+    ]);
+  });
+
+  it('lists exchanges by their first send even when a later one closes first', () => {
+    // 1 ms samples, 0.5 s timeout = 500 samples: tag 2 is given up at the poll (600 − 60 > 500), tag 1 later
+    const { exchanges } = pair([open(0, 1, 'A.B'), open(10, 2, 'C.D'), opened(400, 1, 0, 'A.B'), poll(600)], CPM_ENVELOPE, 1e-3);
+    expect(exchanges.map((e) => [e.tag, e.outcome])).toEqual([
+      [1, 'answered'],
+      [2, 'unanswered'],
+    ]);
+  });
+
+  it('works with a sink that takes exchanges only', () => {
+    const got: number[] = [];
+    const layer = new CallLayer({ map: CPM_ENVELOPE, links: roles, samplePeriodSeconds: 1e-6 }, { exchange: (e) => got.push(e.tag!) });
+    for (const f of [open(0, 1, 'A.B'), opened(300, 1, 0, 'A.B'), opened(400, 7, 0, 'X.Y')]) layer.frame(f);
+    layer.finish();
+    expect(got).toEqual([1]);
+  });
+});
+
+describe('pairing rules: more edges', () => {
+  const p = 2 ** -20; // a binary fraction, so timeout / period is exact
+  it('keeps a request open for exactly the timeout after its last send', () => {
+    const at = (answer: number) => {
+      const out: Exchange[] = [];
+      const t = new ExchangeTracker({ samplePeriodSeconds: p, timeoutSeconds: 100 * p }, { exchange: (e) => out.push(e) });
+      t.push(req(0, 20, 1));
+      t.push(resp(answer, 20, 1));
+      t.finish();
+      return out.map((e) => e.outcome);
+    };
+    expect(at(200)).toEqual(['answered']);
+    expect(at(201)).toEqual(['unanswered']);
+  });
+
+  it('lists a damaged answer once however many retries follow it', () => {
+    const lost = { ...resp(300, 20, 1), call: null, damagedCall: null } as CallFrame;
+    const { exchanges } = run([req(0, 20, 1), lost, req(5000, 20, 1), req(10000, 20, 1), resp(10500, 20, 1)]);
+    expect(exchanges.map((e) => [e.retries.length, e.damagedResponses])).toEqual([[2, [lost.ref]]]);
+  });
+
+  it('keeps a whole first send when a whole retry says something else', () => {
+    const first = { ...req(0, 20, 1) };
+    first.call = { ...first.call!, recordNumber: 9, fileName: 'A.B' };
+    const again = { ...req(5000, 20, 1) };
+    again.call = { ...again.call!, recordNumber: 10, fileName: 'C.D' };
+    const { exchanges } = run([first, again, resp(6000, 20, 1)]);
+    expect(exchanges[0]).toMatchObject({ requestCall: first.call, recordNumber: 9, fileName: 'A.B' });
+  });
+
+  it('gives an unreadable damaged answer to the one exchange still waiting, not to one already answered', () => {
+    const lost = { ...resp(400, 20, 0), call: null, damagedCall: null } as CallFrame;
+    const { exchanges } = run([req(0, 20, 1), resp(200, 20, 1), req(300, 20, 2), lost, req(5000, 20, 2), resp(5500, 20, 2)]);
+    expect(exchanges.map((e) => [e.tag, e.damagedResponses])).toEqual([
+      [1, []],
+      [2, [lost.ref]],
+    ]);
+  });
+
+  it('works with a sink that takes no orphans', () => {
+    const out: Exchange[] = [];
+    const t = new ExchangeTracker({ samplePeriodSeconds: period }, { exchange: (e) => out.push(e) });
+    t.push(resp(0, 20, 1));
+    t.finish();
+    expect(out).toEqual([]);
+  });
+
+  it('finds no RTS line in settings without handshake lines, and takes only lines named RTS exactly', () => {
+    expect(callLayerRoles({ links: [{ channel: 'tx', direction: 'to-server', stationAddress: 1 }] })).toEqual({ links: [{ link: 'tx', direction: 'to-server', station: 1 }], rts: [] });
+    const named = callLayerRoles({
+      links: [{ channel: 'tx', direction: 'to-server', stationAddress: 1 }],
+      handshake: ['RTS2', 'NRTS', 'rts'].map((name, k) => ({ channel: `h${k}`, name, link: 'tx' })),
+    });
+    expect(named.rts).toEqual([{ channel: 'h2', station: 1 }]);
   });
 });

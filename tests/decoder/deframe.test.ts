@@ -242,3 +242,182 @@ describe('Deframer.pendingFrom (the time-order watermark)', () => {
     expect(d.pendingFrom()).toBe(21.5);
   });
 });
+
+// Edges of the deframer's rules (the comment at the top of shared/decoder/deframe.ts states them;
+// flag, abort and zero insertion are ISO/IEC 13239:2002, from memory; where a cut-off frame ends and
+// the idle threshold of fifteen 1s are common practice). Each runs bit-at-a-time and byte-at-a-time.
+describe('Deframer rule edges', () => {
+  const both = (bits: Uint8Array, options: { maxFrameOctets?: number } = {}) => {
+    const out = [false, true].map((bitwise) => {
+      const frames: RawFrame[] = [];
+      const events: unknown[] = [];
+      const d = new Deframer('L', { frame: (f) => frames.push(f), event: (e) => events.push(e) }, { ...options, bitwise });
+      d.push({ bits, samples: Float64Array.from(bits, (_, i) => i), n: bits.length });
+      d.finish();
+      return { frames, events };
+    });
+    expect(out[0]).toEqual(out[1]);
+    return out[0];
+  };
+  const idle = (sample: number, endSample: number) => ({ link: 'L', channel: 'L', kind: 'idle', sample, endSample });
+
+  it('takes a run of exactly fifteen ones as idle and fourteen as not, inside the input and at its end', () => {
+    expect(both(bitsOf(FLAG + '1'.repeat(15) + FLAG)).events).toEqual([idle(8, 22)]);
+    expect(both(bitsOf(FLAG + '1'.repeat(14) + FLAG)).events).toEqual([]);
+    expect(both(bitsOf(FLAG + '1'.repeat(15))).events).toEqual([idle(8, 22)]);
+    expect(both(bitsOf(FLAG + '1'.repeat(14))).events).toEqual([]);
+  });
+
+  it('keeps the bits of a frame cut off by the end of the input up to its last zero, when they make an octet', () => {
+    // ends in a 0: every bit is kept, the frame ends at its last bit
+    expect(both(bitsOf(FLAG + '10101010' + '11001100')).frames).toEqual([
+      { link: 'L', seq: 0, firstSample: 8, lastSample: 23, bytes: new Uint8Array([0x55, 0x33]), bitLength: 16, stuffed: [], status: 'abort' },
+    ]);
+    // six 1s after the last 0 (a flag's start, or an abort): the frame ends at that 0
+    expect(both(bitsOf(FLAG + '10101010' + '111111')).frames).toEqual([
+      { link: 'L', seq: 0, firstSample: 8, lastSample: 15, bytes: new Uint8Array([0x55]), bitLength: 8, stuffed: [], status: 'abort' },
+    ]);
+    expect(both(bitsOf(FLAG + '10101010' + '111')).frames.map((f) => [f.bitLength, f.lastSample])).toEqual([[8, 15]]);
+    // seven bits are no octet: the start of a flag, dropped
+    expect(both(bitsOf(FLAG + '0101010')).frames).toEqual([]);
+  });
+
+  it('ends an aborted frame at the zero before the seven ones and finds the next frame after them', () => {
+    const { frames } = both(bitsOf(FLAG + '10101010' + '1111111' + '0' + FLAG + '10000000'.repeat(4) + FLAG));
+    expect(frames.map((f) => [f.seq, f.status, f.firstSample, f.lastSample, f.bitLength, Array.from(f.bytes)])).toEqual([
+      [0, 'abort', 8, 15, 8, [0x55]],
+      [1, 'ok', 32, 63, 32, [1, 1, 1, 1]],
+    ]);
+  });
+
+  it('closes a frame growing past the longest allowed at the bit that would start the octet too many', () => {
+    const { frames } = both(bitsOf(FLAG + '10101010'.repeat(5) + FLAG + '10000000'.repeat(2) + FLAG), { maxFrameOctets: 2 });
+    expect(frames.map((f) => [f.status, f.firstSample, f.lastSample, Array.from(f.bytes)])).toEqual([
+      ['abort', 8, 30, [0x55, 0x55]],
+      ['short', 56, 71, [1, 1]],
+    ]);
+  });
+
+  it('records every stuffed zero of a frame with more than sixty-four of them', () => {
+    const { bits, frames: sent } = encodeLineBits([{ kind: 'frame', bytes: new Uint8Array(60).fill(0xff), faults: { noFcs: true } }]);
+    expect(sent[0].stuffedPositions).toHaveLength(96); // 480 ones, a 0 after every five
+    const { frames } = both(bits);
+    expect(frames).toHaveLength(1);
+    expect(frames[0].stuffed).toEqual(sent[0].stuffedPositions);
+    expect(Array.from(frames[0].bytes)).toEqual(new Array(60).fill(0xff));
+  });
+
+  it('takes nothing for a flag before the first zero of the input: a flag has a zero on each side', () => {
+    // the input starts with six 1s and a 0 (no zero before them): no flag there, so no frame before the real one
+    const { frames } = both(bitsOf('1111110' + '10000000'.repeat(4) + FLAG + '01000000'.repeat(4) + FLAG));
+    expect(frames.map((f) => [f.status, f.firstSample, Array.from(f.bytes)])).toEqual([['ok', 47, [2, 2, 2, 2]]]);
+  });
+
+  it('reports a stretch of exactly two flags between frames', () => {
+    const { events } = both(bitsOf(FLAG + '10000000'.repeat(4) + FLAG + FLAG + '10000000'.repeat(4) + FLAG));
+    expect(events).toEqual([{ link: 'L', channel: 'L', kind: 'flags', sample: 40, endSample: 55, count: 2 }]);
+  });
+
+  it('ignores line bits after an abort until the next flag, however many', () => {
+    // after the abort the line carries 0110 for 800 bits: no 6 ones, no flag, so nothing is a frame,
+    // not even past the longest frame allowed (16 octets)
+    const line = FLAG + '10101010' + '1111111' + '0110'.repeat(200) + FLAG + '10000000'.repeat(4) + FLAG;
+    const { frames } = both(bitsOf(line), { maxFrameOctets: 16 });
+    expect(frames.map((f) => [f.seq, f.status, Array.from(f.bytes)])).toEqual([
+      [0, 'abort', [0x55]],
+      [1, 'ok', [1, 1, 1, 1]],
+    ]);
+  });
+
+  it('keeps a frame longer than its first buffer (256 octets) whole, in any chunking', () => {
+    const rng = seededRng(256);
+    const bytes = Uint8Array.from({ length: 700 }, () => Math.floor(rng() * 256));
+    // the first octet past the buffer (octet 256) ends in a 1 in one frame and in a 0 in the other
+    bytes[256] |= 0x80;
+    bytes[356] &= 0x7f;
+    const { bits, frames: sent } = encodeLineBits([{ kind: 'frame', bytes }, { kind: 'frame', bytes: bytes.subarray(100, 400), sharedFlag: true }]);
+    for (const sizes of [[bits.length], [1], [7, 64, 3], [8]]) {
+      for (const bitwise of [false, true]) {
+        const frames: RawFrame[] = [];
+        const d = new Deframer('L', { frame: (f) => frames.push(f), event: () => {} }, { bitwise });
+        const samples = Float64Array.from(bits, (_, i) => i);
+        for (let at = 0, k = 0; at < bits.length; ) {
+          const end = Math.min(bits.length, at + sizes[k++ % sizes.length]);
+          d.push({ bits: bits.subarray(at, end), samples: samples.subarray(at, end), n: end - at });
+          at = end;
+        }
+        d.finish();
+        expect(frames.map((f) => [f.status, f.bitLength, f.firstSample, f.lastSample])).toEqual(sent.map((s) => ['ok', s.wire.length * 8, s.startBit, s.lastBit]));
+        expect(frames.map((f) => Array.from(f.bytes))).toEqual(sent.map((s) => Array.from(s.wire)));
+        expect(frames.map((f) => f.stuffed)).toEqual(sent.map((s) => s.stuffedPositions));
+      }
+    }
+  });
+});
+
+// Where one chunk of line bits ends and the next begins must not change what is found; these
+// chunk ends fall right after a line byte the deframer takes whole (ISO/IEC 13239:2002 zero
+// insertion and flag, from memory).
+describe('Deframer chunk ends after a whole line byte', () => {
+  const run = (line: string, sizes: number[], bitwise: boolean) => {
+    const frames: RawFrame[] = [];
+    const events: unknown[] = [];
+    const d = new Deframer('L', { frame: (f) => frames.push(f), event: (e) => events.push(e) }, { bitwise });
+    const bits = bitsOf(line);
+    const samples = Float64Array.from(bits, (_, i) => i);
+    for (let at = 0, k = 0; at < bits.length; ) {
+      const end = Math.min(bits.length, at + sizes[k++ % sizes.length]);
+      d.push({ bits: bits.subarray(at, end), samples: samples.subarray(at, end), n: end - at });
+      at = end;
+    }
+    d.finish();
+    return { frames, events, bitsSeen: d.bitsSeen };
+  };
+  const all = (line: string, cut: number) => {
+    const ref = run(line, [line.length], true);
+    for (const bitwise of [false, true]) for (const sizes of [[line.length], [cut, line.length]]) expect(run(line, sizes, bitwise)).toEqual(ref);
+    expect(ref.bitsSeen).toBe(line.length);
+    return ref;
+  };
+
+  it('starts an idle run at its first one when the run begins inside the byte before the chunk end', () => {
+    // a frame byte ending in three 1s, the chunk ends, then 17 more 1s: an abort, then idle from bit 13
+    const { frames, events } = all(FLAG + '00000111' + '1'.repeat(17) + '0' + FLAG, 16);
+    expect(events).toContainEqual({ link: 'L', channel: 'L', kind: 'idle', sample: 13, endSample: 32 });
+    // the aborted frame keeps its five bits up to the last 0
+    expect(frames.map((f) => [f.status, f.lastSample, f.bitLength])).toEqual([['abort', 12, 5]]);
+  });
+
+  it('drops a stuffed zero that also opens the closing flag when the chunk ends right after it', () => {
+    // 11 | 0 (after five 1s: stuffed) 11111 | 1 0: six 1s after that zero make it the closing flag's first 0
+    const line = FLAG + '00000111' + '11011111' + '10' + '10000000'.repeat(4) + FLAG;
+    const { frames } = all(line, 24);
+    expect(frames.map((f) => [f.status, f.firstSample, f.lastSample, f.bitLength, f.stuffed])).toEqual([
+      ['short', 8, 17, 10, []],
+      ['ok', 26, 57, 32, []],
+    ]);
+  });
+
+  it('ends a frame at its last data bit when two zeros are stuffed in the line byte before the closing flag', () => {
+    // data 000 11111 11111 is sent 000 11111 0 11111 0, then the flag: the line byte from bit 16 is
+    // 0 11111 0 0 (both zeros it stuffs and the flag's first 0)
+    const line = FLAG + '00011111' + '0111110' + FLAG + '10000000'.repeat(4) + FLAG;
+    const { frames } = all(line, 16);
+    expect(frames.map((f) => [f.status, f.lastSample, f.bitLength, f.stuffed])).toEqual([
+      ['short', 21, 13, [8, 14]],
+      ['ok', 62, 32, []],
+    ]);
+  });
+});
+
+describe('Deframer.pendingFrom before any bit and after the end', () => {
+  it('holds back everything before the first bit and nothing after finish', () => {
+    const d = new Deframer('L', { frame: () => {}, event: () => {} });
+    expect(d.pendingFrom()).toBe(-0.5);
+    const bits = bitsOf(FLAG + '10101010' + '111');
+    d.push({ bits, samples: Float64Array.from(bits, (_, i) => 100 + i), n: bits.length });
+    expect(d.pendingFrom()).toBe(100);
+    d.finish();
+    expect(d.pendingFrom()).toBe(100 + bits.length - 1 + 0.5);
+  });
+});
