@@ -4,6 +4,8 @@
 import fs from 'node:fs';
 import { parentPort, workerData } from 'node:worker_threads';
 import Database from 'better-sqlite3';
+import { and, eq, sql } from 'drizzle-orm';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
 import { createDecoder, type Decoder } from '../../shared/decoder';
 import type { DecodeIssue } from '../../shared/decoder';
 import type { Exchange } from '../../shared/decoder/calls';
@@ -19,6 +21,10 @@ import { threadCpuMs } from '../runs/thread-cpu';
 import { CsvSeekTracker } from '../runs/seek/csv-seek';
 import { type SeekPoint, VcdSeekTracker } from '../runs/seek/vcd-seek';
 import { raceDeskOptions } from '../services/timing/fault-races';
+import * as schema from '../db/schema';
+import { callRuns, captures, decodeJobs, seekPoints } from '../db/schema';
+
+const ph = sql.placeholder;
 
 export interface DecodeWorkerData {
   dbPath: string;
@@ -80,6 +86,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
   // steps. Durability is unchanged: the run becomes visible only in its final transaction.
   db.pragma('temp_store = MEMORY');
   db.pragma('wal_autocheckpoint = 4096');
+  const d = drizzle(db, { schema });
   try {
     const cpuStart = threadCpuMs();
     let period = 0;
@@ -131,17 +138,22 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     let sinkFaults = 0;
     let sinkCalls = 0;
     const started = performance.now();
-    const addSeek = db.prepare('insert into seek_points (job_id, byte_offset, sample, levels) values (?, ?, ?, ?)');
-    const addPoint = (p: SeekPoint) => addSeek.run(data.jobId, p.byteOffset, p.sample, JSON.stringify(p.levels));
+    const addSeek = d.insert(seekPoints).values({ jobId: data.jobId, byteOffset: ph('byteOffset'), sample: ph('sample'), levels: ph('levels') }).prepare();
+    const addPoint = (p: SeekPoint) => addSeek.run({ byteOffset: p.byteOffset, sample: p.sample, levels: JSON.stringify(p.levels) });
     const seek =
       data.inputs.capture.format === 'vcd'
         ? new VcdSeekTracker(addPoint)
         : data.inputs.capture.format === 'csv'
           ? new CsvSeekTracker({ sampleRate: data.inputs.capture.sampleRate ?? undefined }, addPoint)
           : null;
-    const progress = db.prepare("update decode_jobs set bytes_read = ?, frames = ?, events = ?, stage = ? where id = ? and state = 'running'");
+    const progressUpdate = d
+      .update(decodeJobs)
+      .set({ bytesRead: sql`${ph('bytesRead')}`, frames: sql`${ph('frames')}`, events: sql`${ph('events')}`, stage: sql`${ph('stage')}` })
+      .where(and(eq(decodeJobs.id, data.jobId), eq(decodeJobs.state, 'running')))
+      .prepare();
+    const progress = { run: (bytesRead: number, frames: number, events: number, stage: string) => progressUpdate.run({ bytesRead, frames, events, stage }) };
     const bytesTotal = fs.statSync(data.filePath).size;
-    db.prepare("update decode_jobs set stage = 'decoding', bytes_total = ? where id = ?").run(bytesTotal, data.jobId);
+    d.update(decodeJobs).set({ stage: 'decoding', bytesTotal }).where(eq(decodeJobs.id, data.jobId)).run();
     let bytes = 0;
     const heartbeat = () =>
       parentPort?.postMessage({
@@ -163,7 +175,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       if (now - lastReport >= PROGRESS_MS) {
         // the rows reported are the rows stored: a run stopped here leaves exactly these to clear
         writer.flush();
-        progress.run(bytes, writer.frames, writer.events, 'decoding', data.jobId);
+        progress.run(bytes, writer.frames, writer.events, 'decoding');
         heartbeat();
         lastReport = now;
       }
@@ -176,7 +188,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     writer.afterFlush = null;
     const decoded = performance.now();
     const cpuDecoded = threadCpuMs();
-    progress.run(bytes, writer.frames, writer.events, 'calls', data.jobId);
+    progress.run(bytes, writer.frames, writer.events, 'calls');
     heartbeat();
     // the call layer's exchanges reach the fault desk (receiver over-run symptoms) before its report is stored
     const callCounts = await finishCalls(db, data, callRun, calls as InStreamCalls | null, callsPeriod, period, heartbeat, (e) => faults.exchange(e));
@@ -188,28 +200,27 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     const committed = db.transaction(() => {
       // the search index is built after the switch: frames above search_indexed_to up to
       // last_frame_id are searched directly until it is (search-index.ts)
-      const done = db
-        .prepare(
-          `update decode_jobs set state = 'done', stage = ?, bytes_read = ?, frames = ?, events = ?, sample_period = ?, links = ?,
-             last_sample = ?, issues = ?, finished_at = ?, search_indexed_to = ?, last_frame_id = ? where id = ? and state = 'running'`,
-        )
-        .run(
-          writer.frames > 0 ? 'search index' : 'done',
-          bytes,
-          writer.frames,
-          writer.events,
-          period,
-          JSON.stringify(decoder.links),
-          writer.lastSample,
-          JSON.stringify(issues),
-          Date.now(),
-          Math.max(0, writer.firstId - 1),
-          writer.lastId,
-          data.jobId,
-        );
+      const done = d
+        .update(decodeJobs)
+        .set({
+          state: 'done',
+          stage: writer.frames > 0 ? 'search index' : 'done',
+          bytesRead: bytes,
+          frames: writer.frames,
+          events: writer.events,
+          samplePeriod: period,
+          links: JSON.stringify(decoder.links),
+          lastSample: writer.lastSample,
+          issues: JSON.stringify(issues),
+          finishedAt: new Date(),
+          searchIndexedTo: Math.max(0, writer.firstId - 1),
+          lastFrameId: writer.lastId,
+        })
+        .where(and(eq(decodeJobs.id, data.jobId), eq(decodeJobs.state, 'running')))
+        .run();
       // cancelled meanwhile: the rows stay invisible and the runner clears them
       if (done.changes === 0) return false;
-      db.prepare('update captures set current_job_id = ? where id = ?').run(data.jobId, data.captureId);
+      d.update(captures).set({ currentJobId: data.jobId }).where(eq(captures.id, data.captureId)).run();
       // the call layer's exchanges and files appear together with the frames they came from
       if (callCounts && callRun.runId !== null) switchToCallRun(db, data.captureId, callRun.runId, callCounts);
       return true;
@@ -220,7 +231,7 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     parentPort?.postMessage({ type: 'visible' } satisfies DecodeWorkerVisible);
     if (writer.frames > 0) {
       indexSearch(db, data.jobId, { range: { lo: writer.firstId, hi: writer.lastId }, onChunk: heartbeat });
-      db.prepare("update decode_jobs set stage = 'done' where id = ? and stage = 'search index'").run(data.jobId);
+      d.update(decodeJobs).set({ stage: 'done' }).where(and(eq(decodeJobs.id, data.jobId), eq(decodeJobs.stage, 'search index'))).run();
     }
     // row building time includes the inserts of the batches it filled
     const rows = sinkRows - writer.insertMs;
@@ -275,7 +286,12 @@ async function finishCalls(
   onExchange: (e: Exchange) => void,
 ): Promise<{ exchanges: number; files: number } | null> {
   const fail = (message: string) => {
-    if (run.runId !== null) db.prepare("update call_runs set state = 'failed', error = ?, finished_at = ? where id = ?").run(`The call layer stopped: ${message}`, Date.now(), run.runId);
+    if (run.runId !== null)
+      drizzle(db, { schema })
+        .update(callRuns)
+        .set({ state: 'failed', error: `The call layer stopped: ${message}`, finishedAt: new Date() })
+        .where(eq(callRuns.id, run.runId))
+        .run();
     return null;
   };
   if (run.runId === null || run.map === null) return fail(run.error ?? 'no call run');

@@ -3,6 +3,10 @@
 // has its own inputs snapshot (call_runs.inputs). The previous call run stays visible until the
 // new one switches over in one transaction.
 import type Database from 'better-sqlite3';
+import { and, eq, gt, inArray } from 'drizzle-orm';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
+import * as schema from '../db/schema';
+import { callRuns, decodeJobs } from '../db/schema';
 import { switchToCallRun } from './call-runs';
 import { runCallStage } from './call-stage';
 import type { DecodeQueue } from './decode-queue';
@@ -13,11 +17,14 @@ export class CallQueue {
   private running = false;
   private closed = false;
   private readonly idleWaiters: (() => void)[] = [];
+  private readonly d: ReturnType<typeof drizzle<typeof schema>>;
 
   constructor(
     private readonly sqlite: Database.Database,
     private readonly jobs: DecodeQueue,
-  ) {}
+  ) {
+    this.d = drizzle(sqlite, { schema });
+  }
 
   enqueue(runId: number): void {
     this.queue.push(runId);
@@ -55,24 +62,39 @@ export class CallQueue {
   }
 
   private fail(runId: number, error: string): void {
-    this.sqlite.prepare("update call_runs set state = 'failed', error = ?, finished_at = ? where id = ? and state in ('queued', 'running')").run(error, Date.now(), runId);
+    this.d
+      .update(callRuns)
+      .set({ state: 'failed', error, finishedAt: new Date() })
+      .where(and(eq(callRuns.id, runId), inArray(callRuns.state, ['queued', 'running'])))
+      .run();
   }
 
   private async run(runId: number): Promise<void> {
-    const run = this.sqlite
-      .prepare(
-        `select r.id, r.capture_id as captureId, r.decode_job_id as decodeJobId, r.map_id as mapId, r.map_version as mapVersion, r.state,
-                r.inputs, j.settings, j.sample_period as samplePeriod
-         from call_runs r join decode_jobs j on j.id = r.decode_job_id where r.id = ?`,
-      )
-      .get(runId) as
-      | { id: number; captureId: number; decodeJobId: number; mapId: number; mapVersion: number; state: string; inputs: string | null; settings: string; samplePeriod: number | null }
-      | undefined;
+    const run = this.d
+      .select({
+        id: callRuns.id,
+        captureId: callRuns.captureId,
+        decodeJobId: callRuns.decodeJobId,
+        mapId: callRuns.mapId,
+        mapVersion: callRuns.mapVersion,
+        state: callRuns.state,
+        inputs: callRuns.inputs,
+        settings: decodeJobs.settings,
+        samplePeriod: decodeJobs.samplePeriod,
+      })
+      .from(callRuns)
+      .innerJoin(decodeJobs, eq(decodeJobs.id, callRuns.decodeJobId))
+      .where(eq(callRuns.id, runId))
+      .get();
     if (!run || run.state !== 'queued') return;
     // a later choice for the same capture replaces this one before it starts
-    const newer = this.sqlite.prepare("select 1 from call_runs where capture_id = ? and id > ? and state = 'queued'").get(run.captureId, run.id);
+    const newer = this.d
+      .select({ id: callRuns.id })
+      .from(callRuns)
+      .where(and(eq(callRuns.captureId, run.captureId), gt(callRuns.id, run.id), eq(callRuns.state, 'queued')))
+      .get();
     if (newer) return this.fail(runId, 'A later map choice replaced this run before it started.');
-    this.sqlite.prepare("update call_runs set state = 'running' where id = ?").run(runId);
+    this.d.update(callRuns).set({ state: 'running' }).where(eq(callRuns.id, runId)).run();
     const inputs = parseRunInputs(run.inputs, { settings: run.settings, fieldMap: { mapId: run.mapId, version: run.mapVersion } });
     const m = loadMapVersion(this.sqlite, inputs.fieldMap.mapId, inputs.fieldMap.version);
     const counts = await runCallStage(this.sqlite, {

@@ -3,6 +3,10 @@
 // exchanges. Reading a few hundred thousand rows takes a moment, so the result is kept per
 // (decode run, call run) for the next request: the schedule view asks for many windows of it.
 import type Database from 'better-sqlite3';
+import { and, asc, eq, inArray } from 'drizzle-orm';
+import { drizzle } from 'drizzle-orm/better-sqlite3';
+import * as schema from '../../db/schema';
+import { decodeJobs, exchanges as exchangesTable, frames as framesTable, lineEvents } from '../../db/schema';
 import { callLayerRoles } from '../../../shared/decoder/calls';
 import { LineTiming, type Schedule, type ServiceReport } from '../../../shared/decoder/timing';
 import { captureSettingsSchema, type CaptureSettings } from '../../../shared/schemas';
@@ -40,7 +44,10 @@ export function timingOf(db: Database.Database, jobId: number, callRunId: number
 type FrameTuple = [number, string, number, number, string, number | null, string | null, number | null];
 
 export function buildTiming(db: Database.Database, jobId: number, callRunId: number | null, rigStations: number[]): BuiltTiming {
-  const raw = db.prepare('select settings from decode_jobs where id = ?').pluck().get(jobId) as string | undefined;
+  const d = drizzle(db, { schema });
+  // Drizzle builds the SQL; the driver streams its rows as arrays (Drizzle's sync selects have no
+  // iterator, and a run has up to millions of frames)
+  const raw = d.select({ settings: decodeJobs.settings }).from(decodeJobs).where(eq(decodeJobs.id, jobId)).get()?.settings;
   const settings: CaptureSettings = captureSettingsSchema.parse(raw ? JSON.parse(raw) : {});
   const { links, rts } = callLayerRoles(settings);
   const roles = new Map(links.map((l) => [l.link, l]));
@@ -51,10 +58,16 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
   const known = new Set<number>();
   let frames = 0;
   let unattributed = 0;
+  const frameQuery = d
+    .select({ id: framesTable.id, link: framesTable.link, t: framesTable.t, tEnd: framesTable.tEnd, status: framesTable.status, address: framesTable.address, kind: framesTable.kind, pf: framesTable.pf })
+    .from(framesTable)
+    .where(eq(framesTable.jobId, jobId))
+    .orderBy(asc(framesTable.t), asc(framesTable.id))
+    .toSQL();
   const rows = db
-    .prepare('select id, link, t, t_end, status, address, kind, pf from frames where job_id = ? order by t, id')
+    .prepare(frameQuery.sql)
     .raw()
-    .iterate(jobId) as IterableIterator<FrameTuple>;
+    .iterate(...frameQuery.params) as IterableIterator<FrameTuple>;
   for (const [id, link, t, tEnd, status, address, kind, pf] of rows) {
     frames++;
     const role = roles.get(link);
@@ -77,18 +90,38 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
   }
   if (rts.length > 0) {
     const lineOf = new Map(rts.map((r) => [r.channel, r.station]));
+    const edgeQuery = d
+      .select({ channel: lineEvents.channel, kind: lineEvents.kind, t: lineEvents.t })
+      .from(lineEvents)
+      .where(and(eq(lineEvents.jobId, jobId), inArray(lineEvents.kind, ['rise', 'fall']), inArray(lineEvents.channel, rts.map((r) => r.channel))))
+      .orderBy(asc(lineEvents.t), asc(lineEvents.id))
+      .toSQL();
     const edges = db
-      .prepare(`select channel, kind, t from line_events where job_id = ? and kind in ('rise', 'fall') and channel in (${rts.map(() => '?').join(', ')}) order by t, id`)
+      .prepare(edgeQuery.sql)
       .raw()
-      .all(jobId, ...rts.map((r) => r.channel)) as [string, 'rise' | 'fall', number][];
+      .all(...edgeQuery.params) as [string, 'rise' | 'fall', number][];
     for (const [channel, kind, t] of edges) timing.requestLine(lineOf.get(channel)!, kind === 'rise', t);
   }
   let exchanges = 0;
   if (callRunId !== null) {
+    const exchangeQuery = d
+      .select({
+        id: exchangesTable.id,
+        station: exchangesTable.station,
+        tRequest: exchangesTable.tRequest,
+        tRequestEnd: exchangesTable.tRequestEnd,
+        tResponse: exchangesTable.tResponse,
+        rtt: exchangesTable.rtt,
+        outcome: exchangesTable.outcome,
+      })
+      .from(exchangesTable)
+      .where(eq(exchangesTable.runId, callRunId))
+      .orderBy(asc(exchangesTable.tRequest), asc(exchangesTable.id))
+      .toSQL();
     const xs = db
-      .prepare('select id, station, t_request, t_request_end, t_response, rtt, outcome from exchanges where run_id = ? order by t_request, id')
+      .prepare(exchangeQuery.sql)
       .raw()
-      .iterate(callRunId) as IterableIterator<[number, number, number, number, number | null, number | null, 'answered' | 'retried' | 'unanswered']>;
+      .iterate(...exchangeQuery.params) as IterableIterator<[number, number, number, number, number | null, number | null, 'answered' | 'retried' | 'unanswered']>;
     for (const [id, station, tRequest, tRequestEnd, tResponse, rtt, outcome] of xs) {
       if (roster && !roster.has(station)) continue;
       exchanges++;

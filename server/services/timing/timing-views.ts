@@ -1,7 +1,9 @@
 // The line-timing views of a capture's visible run: service statistics, and one window of the
 // schedule at a given width (level of detail by scheduleWindow: spans narrower than two pixels,
 // or more than four per pixel in a row, come as counts per pixel column).
+import { and, eq } from 'drizzle-orm';
 import { scheduleWindow } from '../../../shared/decoder/timing';
+import { callRuns, captureCallLayers, stations } from '../../db/schema';
 import type { scheduleQuerySchema, ScheduleQuery, ScheduleView, ServiceView, TimingExtent, TimingUnavailable } from '../../../shared/schemas';
 
 import type { z } from 'zod';
@@ -21,14 +23,13 @@ function load(m: CaptureModule, c: CaptureRow): Loaded {
   const job = currentJob(m, c);
   if (!job || job.state !== 'done') return { reason: 'not-decoded' };
   // the call run whose exchanges the lists show: the capture's current one, if it belongs to this decode run
-  const callRunId = m.sqlite
-    .prepare(
-      `select r.id from capture_call_layers l join call_runs r on r.id = l.current_run_id
-        where l.capture_id = ? and r.decode_job_id = ? and r.state = 'done'`,
-    )
-    .pluck()
-    .get(c.id, job.id) as number | undefined;
-  const named = m.sqlite.prepare("select address, name, role from stations where rig_id = ?").all(c.rigId) as { address: number; name: string; role: string }[];
+  const callRunId = m.db
+    .select({ id: callRuns.id })
+    .from(captureCallLayers)
+    .innerJoin(callRuns, eq(callRuns.id, captureCallLayers.currentRunId))
+    .where(and(eq(captureCallLayers.captureId, c.id), eq(callRuns.decodeJobId, job.id), eq(callRuns.state, 'done')))
+    .get()?.id;
+  const named = m.db.select({ address: stations.address, name: stations.name, role: stations.role }).from(stations).where(eq(stations.rigId, c.rigId)).all();
   const built = timingOf(
     m.sqlite,
     job.id,
