@@ -82,7 +82,8 @@ export interface BitChunk {
   n: number;
 }
 
-export type FrameStatus = 'ok' | 'bad-fcs' | 'abort' | 'short' | 'residue';
+export const FRAME_STATUSES = ['ok', 'bad-fcs', 'abort', 'short', 'residue'] as const;
+export type FrameStatus = (typeof FRAME_STATUSES)[number];
 
 /** One frame between flags as the deframer found it, before FCS and link decode. */
 export interface RawFrame {
@@ -107,7 +108,8 @@ export interface RawFrame {
   status: FrameStatus;
 }
 
-export type FrameKind = 'I' | 'S' | 'U';
+export const FRAME_KINDS = ['I', 'S', 'U'] as const;
+export type FrameKind = (typeof FRAME_KINDS)[number];
 
 export interface LinkDecode {
   address: number;

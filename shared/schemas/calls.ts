@@ -2,6 +2,7 @@
 // decode of one frame, and the comparison of two captures. Request schemas (zod) and the shapes
 // of the answers. The field-map document itself is validated by shared/decoder/calls/field-map.ts.
 import { z } from 'zod';
+import { EXCHANGE_OUTCOMES } from '../decoder/calls';
 import type { FieldMapInput } from '../decoder/calls';
 
 const csvList = <T extends z.ZodTypeAny>(item: T) =>
@@ -102,7 +103,7 @@ export interface CaptureCallLayer {
 
 // ---- exchanges ----
 
-export const exchangeOutcomeSchema = z.enum(['answered', 'retried', 'unanswered']);
+export const exchangeOutcomeSchema = z.enum(EXCHANGE_OUTCOMES);
 export type ExchangeOutcomeName = z.infer<typeof exchangeOutcomeSchema>;
 
 export const exchangeQuerySchema = z.object({

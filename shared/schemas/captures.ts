@@ -1,12 +1,13 @@
 import { z } from 'zod';
+import { FRAME_KINDS, FRAME_STATUSES } from '../decoder';
 import type { ExchangeOutcomeName } from './calls';
 import { clockEdgeSchema, encodingSchema } from './rigs';
 
 export const captureFormatSchema = z.enum(['vcd', 'csv', 'raw', 'octets', 'framelog']);
 export type CaptureFormatName = z.infer<typeof captureFormatSchema>;
 
-export const frameStatusSchema = z.enum(['ok', 'bad-fcs', 'abort', 'short', 'residue']);
-export const frameKindSchema = z.enum(['I', 'S', 'U']);
+export const frameStatusSchema = z.enum(FRAME_STATUSES);
+export const frameKindSchema = z.enum(FRAME_KINDS);
 
 /** Which direction a link carries, relative to the rig's stations. */
 export const linkDirectionSchema = z.enum(['to-server', 'from-server', 'unknown']);

@@ -1,27 +1,15 @@
 import { z } from 'zod';
-import type { RaceDetail, RaceSummary } from '../decoder/faults';
+import { ANOMALY_KINDS, DAMAGE_CAUSES, type RaceDetail, type RaceSummary } from '../decoder/faults';
 import { frameStatusSchema } from './captures';
 
 // The fault desk of a capture (GET …/captures/:captureId/faults): damaged frames grouped by cause,
 // line anomalies, and counts over time. Causes and anomaly kinds are the decoder's
 // (shared/decoder/faults).
 
-export const damageCauseSchema = z.enum([
-  'bad-fcs-explained',
-  'bad-fcs-unexplained',
-  'abort',
-  'short',
-  'residue',
-  'line-anomaly',
-  // race signatures (shared/decoder/faults/races.ts)
-  'tx-underrun',
-  'underrun-fragment',
-  'rx-overrun',
-  'octet-timing',
-]);
+export const damageCauseSchema = z.enum(DAMAGE_CAUSES);
 export type DamageCauseName = z.infer<typeof damageCauseSchema>;
 
-export const anomalyKindSchema = z.enum(['glitch', 'clock-missing', 'clock-extra', 'clock-stretch', 'silence', 'unknown']);
+export const anomalyKindSchema = z.enum(ANOMALY_KINDS);
 export type AnomalyKindName = z.infer<typeof anomalyKindSchema>;
 
 export const faultQuerySchema = z.object({

@@ -45,7 +45,8 @@ export interface CallFrame {
   damagedCall?: DecodedCall | null;
 }
 
-export type ExchangeOutcome = 'answered' | 'retried' | 'unanswered';
+export const EXCHANGE_OUTCOMES = ['answered', 'retried', 'unanswered'] as const;
+export type ExchangeOutcome = (typeof EXCHANGE_OUTCOMES)[number];
 
 export interface Exchange {
   station: number;

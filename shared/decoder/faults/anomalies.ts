@@ -28,9 +28,9 @@
 import { ClockPeriodHistogram, type ClockSpread } from '../timing/clock-spread';
 import type { Transitions } from '../types';
 
-export type AnomalyKind = 'glitch' | 'clock-missing' | 'clock-extra' | 'clock-stretch' | 'unknown' | 'silence';
 
-export const ANOMALY_KINDS: readonly AnomalyKind[] = ['glitch', 'clock-missing', 'clock-extra', 'clock-stretch', 'silence', 'unknown'];
+export const ANOMALY_KINDS = ['glitch', 'clock-missing', 'clock-extra', 'clock-stretch', 'silence', 'unknown'] as const;
+export type AnomalyKind = (typeof ANOMALY_KINDS)[number];
 
 export interface LineAnomaly {
   kind: AnomalyKind;

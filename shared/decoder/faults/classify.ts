@@ -18,30 +18,20 @@ import type { DecodedFrame, FrameStatus } from '../types';
  *   rx-overrun           a request that crossed the line intact and was lost in the receiver
  *   octet-timing         a good frame with stretched or missing clock periods inside
  */
-export type DamageCause =
-  | 'bad-fcs-explained'
-  | 'bad-fcs-unexplained'
-  | 'abort'
-  | 'short'
-  | 'residue'
-  | 'line-anomaly'
-  | 'tx-underrun'
-  | 'underrun-fragment'
-  | 'rx-overrun'
-  | 'octet-timing';
-
-export const DAMAGE_CAUSES: readonly DamageCause[] = [
+export const DAMAGE_CAUSES = [
   'bad-fcs-explained',
   'bad-fcs-unexplained',
   'abort',
   'short',
   'residue',
   'line-anomaly',
+  // race signatures (races.ts)
   'tx-underrun',
   'underrun-fragment',
   'rx-overrun',
   'octet-timing',
-];
+] as const;
+export type DamageCause = (typeof DAMAGE_CAUSES)[number];
 
 /** The race signatures among the causes. */
 export const RACE_CAUSES: readonly DamageCause[] = ['tx-underrun', 'underrun-fragment', 'rx-overrun', 'octet-timing'];
