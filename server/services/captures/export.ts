@@ -5,31 +5,13 @@ import type { CaptureDeps } from './deps';
 import { frameSummary } from './summaries';
 import { prepared } from '../../db/prepared';
 import { allRows } from '../../db/rows';
-import { f as frameTable, frameFilters, type SelectiveProbe } from './timeline';
+import { f as frameTable, frameFilters, frameRowColumns, type SelectiveProbe } from './timeline';
 import { csvCell } from '../../http/csv';
 
 const COLUMNS = ['id', 'link', 'seq', 't', 'tEnd', 'status', 'address', 'station', 'kind', 'command', 'ns', 'nr', 'pf', 'infoLength', 'fcsReceived', 'fcsComputed', 'flippedBit', 'hex', 'summary'] as const;
 
 const f = frameTable;
-const exportColumns = {
-  id: f.id,
-  link: f.link,
-  seq: f.seq,
-  t: f.t,
-  tEnd: f.tEnd,
-  status: f.status,
-  address: f.address,
-  kind: f.kind,
-  command: f.command,
-  ns: f.ns,
-  nr: f.nr,
-  pf: f.pf,
-  infoLength: f.infoLength,
-  fcsReceived: f.fcsReceived,
-  fcsComputed: f.fcsComputed,
-  flippedBit: f.flippedBit,
-  hex: f.hex,
-};
+const exportColumns = { ...frameRowColumns, fcsReceived: f.fcsReceived, fcsComputed: f.fcsComputed, hex: f.hex };
 
 const PAGE = 2000;
 

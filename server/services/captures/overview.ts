@@ -1,6 +1,7 @@
 import { and, asc, count, eq, isNotNull, sql } from 'drizzle-orm';
 import type { CaptureOverview, LinkStats } from '../../../shared/schemas';
 import { frames } from '../../db/schema';
+import { iterateValues } from '../../db/rows';
 import type { CaptureDeps } from './deps';
 import { currentJob, parseSettings, toSummary, type CaptureRow } from './rows';
 import type { TimelineReader } from './timeline';
@@ -94,14 +95,15 @@ export function captureOverview(deps: CaptureDeps, timeline: TimelineReader, c: 
 
   // gaps between consecutive frames on one link: end of one to start of the next
   const gapCounts = GAP_EDGES.slice(1).map(() => 0);
-  // streamed through the driver (Drizzle's sync selects have no iterator): a run's gaps never sit in memory at once
-  const gapQuery = deps.db
-    .select({ gap: sql<number | null>`${frames.t} - lag(${frames.tEnd}) over (partition by ${frames.link} order by ${frames.t}, ${frames.id})` })
-    .from(frames)
-    .where(ofRun)
-    .toSQL();
-  const gaps = deps.sqlite.prepare(gapQuery.sql).pluck();
-  for (const g of gaps.iterate(...gapQuery.params) as Iterable<number | null>) {
+  // streamed: a run's gaps never sit in memory at once
+  const gaps = iterateValues<[number | null]>(
+    deps.sqlite,
+    deps.db
+      .select({ gap: sql<number | null>`${frames.t} - lag(${frames.tEnd}) over (partition by ${frames.link} order by ${frames.t}, ${frames.id})` })
+      .from(frames)
+      .where(ofRun),
+  );
+  for (const [g] of gaps) {
     if (g === null) continue;
     let b = GAP_EDGES.findIndex((e) => g < e) - 1;
     if (b < 0) b = g < 0 ? 0 : gapCounts.length - 1;

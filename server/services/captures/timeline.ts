@@ -155,7 +155,8 @@ function withNotesAndCall(fr: TimelineFrame, counts: Map<string, number>, calls:
   return notesOn || call ? { ...fr, ...(notesOn ? { notes: notesOn } : {}), ...(call ? { call } : {}) } : fr;
 }
 
-const frameColumns = {
+/** the stored fields of a frame that both a timeline row and the frames export carry */
+export const frameRowColumns = {
   id: f.id,
   link: f.link,
   seq: f.seq,
@@ -169,9 +170,12 @@ const frameColumns = {
   nr: f.nr,
   pf: f.pf,
   infoLength: f.infoLength,
+  flippedBit: f.flippedBit,
+};
+const frameColumns = {
+  ...frameRowColumns,
   // a list shows 64 octets at most
   hex: sql<string>`substr(${f.hex}, 1, 128)`,
-  flippedBit: f.flippedBit,
 };
 const eventColumns = { id: e.id, link: e.link, channel: e.channel, kind: e.kind, t: e.t, tEnd: e.tEnd, count: e.count };
 

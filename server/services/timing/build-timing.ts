@@ -5,6 +5,7 @@
 import type Database from 'better-sqlite3';
 import { and, asc, eq, inArray } from 'drizzle-orm';
 import { drizzle } from 'drizzle-orm/better-sqlite3';
+import { iterateValues } from '../../db/rows';
 import * as schema from '../../db/schema';
 import { decodeJobs, exchanges as exchangesTable, frames as framesTable, lineEvents } from '../../db/schema';
 import { callLayerRoles } from '../../../shared/decoder/calls';
@@ -45,8 +46,6 @@ type FrameTuple = [number, string, number, number, string, number | null, string
 
 export function buildTiming(db: Database.Database, jobId: number, callRunId: number | null, rigStations: number[]): BuiltTiming {
   const d = drizzle(db, { schema });
-  // Drizzle builds the SQL; the driver streams its rows as arrays (Drizzle's sync selects have no
-  // iterator, and a run has up to millions of frames)
   const raw = d.select({ settings: decodeJobs.settings }).from(decodeJobs).where(eq(decodeJobs.id, jobId)).get()?.settings;
   const settings: CaptureSettings = captureSettingsSchema.parse(raw ? JSON.parse(raw) : {});
   const { links, rts } = callLayerRoles(settings);
@@ -58,16 +57,14 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
   const known = new Set<number>();
   let frames = 0;
   let unattributed = 0;
-  const frameQuery = d
-    .select({ id: framesTable.id, link: framesTable.link, t: framesTable.t, tEnd: framesTable.tEnd, status: framesTable.status, address: framesTable.address, kind: framesTable.kind, pf: framesTable.pf })
-    .from(framesTable)
-    .where(eq(framesTable.jobId, jobId))
-    .orderBy(asc(framesTable.t), asc(framesTable.id))
-    .toSQL();
-  const rows = db
-    .prepare(frameQuery.sql)
-    .raw()
-    .iterate(...frameQuery.params) as IterableIterator<FrameTuple>;
+  const rows = iterateValues<FrameTuple>(
+    db,
+    d
+      .select({ id: framesTable.id, link: framesTable.link, t: framesTable.t, tEnd: framesTable.tEnd, status: framesTable.status, address: framesTable.address, kind: framesTable.kind, pf: framesTable.pf })
+      .from(framesTable)
+      .where(eq(framesTable.jobId, jobId))
+      .orderBy(asc(framesTable.t), asc(framesTable.id)),
+  );
   for (const [id, link, t, tEnd, status, address, kind, pf] of rows) {
     frames++;
     const role = roles.get(link);
@@ -90,21 +87,21 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
   }
   if (rts.length > 0) {
     const lineOf = new Map(rts.map((r) => [r.channel, r.station]));
-    const edgeQuery = d
-      .select({ channel: lineEvents.channel, kind: lineEvents.kind, t: lineEvents.t })
-      .from(lineEvents)
-      .where(and(eq(lineEvents.jobId, jobId), inArray(lineEvents.kind, ['rise', 'fall']), inArray(lineEvents.channel, rts.map((r) => r.channel))))
-      .orderBy(asc(lineEvents.t), asc(lineEvents.id))
-      .toSQL();
-    const edges = db
-      .prepare(edgeQuery.sql)
-      .raw()
-      .all(...edgeQuery.params) as [string, 'rise' | 'fall', number][];
+    const edges = iterateValues<[string, 'rise' | 'fall', number]>(
+      db,
+      d
+        .select({ channel: lineEvents.channel, kind: lineEvents.kind, t: lineEvents.t })
+        .from(lineEvents)
+        .where(and(eq(lineEvents.jobId, jobId), inArray(lineEvents.kind, ['rise', 'fall']), inArray(lineEvents.channel, rts.map((r) => r.channel))))
+        .orderBy(asc(lineEvents.t), asc(lineEvents.id)),
+    );
     for (const [channel, kind, t] of edges) timing.requestLine(lineOf.get(channel)!, kind === 'rise', t);
   }
   let exchanges = 0;
   if (callRunId !== null) {
-    const exchangeQuery = d
+    const xs = iterateValues<[number, number, number, number, number | null, number | null, 'answered' | 'retried' | 'unanswered']>(
+      db,
+      d
       .select({
         id: exchangesTable.id,
         station: exchangesTable.station,
@@ -116,12 +113,8 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
       })
       .from(exchangesTable)
       .where(eq(exchangesTable.runId, callRunId))
-      .orderBy(asc(exchangesTable.tRequest), asc(exchangesTable.id))
-      .toSQL();
-    const xs = db
-      .prepare(exchangeQuery.sql)
-      .raw()
-      .iterate(...exchangeQuery.params) as IterableIterator<[number, number, number, number, number | null, number | null, 'answered' | 'retried' | 'unanswered']>;
+      .orderBy(asc(exchangesTable.tRequest), asc(exchangesTable.id)),
+    );
     for (const [id, station, tRequest, tRequestEnd, tResponse, rtt, outcome] of xs) {
       if (roster && !roster.has(station)) continue;
       exchanges++;
