@@ -90,8 +90,9 @@ describe('field-map editor', () => {
 
       await page.getByRole('button', { name: 'Save version 2' }).click();
       await page.getByText('Saved version 2.').waitFor();
+      // the version list is fetched again after the save: the selects show it once it arrives
+      await expect.poll(() => page.getByLabel('Diff to version').inputValue(), { timeout: 15_000 }).toBe('2');
       expect(await page.getByLabel('Diff from version').inputValue()).toBe('1');
-      expect(await page.getByLabel('Diff to version').inputValue()).toBe('2');
       const diff = page.getByLabel('Differences');
       await diff.getByText('Field added').waitFor();
       expect(await diff.textContent()).toMatch(/Field added\s*probe/);
