@@ -262,7 +262,8 @@ async function main(): Promise<void> {
   const counts = new Map<string, Record<FrameStatus, number>>();
   let lastSample = 0;
   const out = new NdjsonWriter(writeOut, fcsDigits);
-  const decoder = createDecoder(options, {
+  // the writer is done with a frame when its line is written: frames may share their octets' buffers
+  const decoder = createDecoder({ ...options, sharedFrameBytes: true }, {
     frame(f) {
       let c = counts.get(f.link);
       if (!c) counts.set(f.link, (c = { ok: 0, 'bad-fcs': 0, abort: 0, short: 0, residue: 0 }));

@@ -44,7 +44,17 @@ export interface DeframerOptions {
    * reference the table steps are tested against.
    */
   bitwise?: boolean;
+  /**
+   * Frames' octets may share one ArrayBuffer (views into blocks of SHARED_BLOCK bytes, each
+   * written once): no buffer allocated and swept per frame. For a consumer that lets go of frames
+   * soon after it gets them (the decode CLI); one that keeps a few frames of many would keep
+   * their whole blocks alive, so the default is a buffer per frame.
+   */
+  sharedBytes?: boolean;
 }
+
+/** octets per shared block of frame bytes (DeframerOptions.sharedBytes) */
+const SHARED_BLOCK = 1 << 16;
 
 /**
  * Byte-at-a-time tables, built once: for a run of `o` 1s already seen (0–5) and the next eight
@@ -132,6 +142,10 @@ export class Deframer {
   private stuffedAt = new Int32Array(64);
   private stuffedCount = 0;
   private readonly bitwise: boolean;
+  private readonly sharedBytes: boolean;
+  /** the shared block frames' octets are copied into, and where the next frame's go */
+  private block = new Uint8Array(0);
+  private blockAt = 0;
   private scratch = new Uint8Array(1024);
 
   // The current stretch of adjacent flags.
@@ -151,6 +165,7 @@ export class Deframer {
     this.maxOctets = Math.max(1, options.maxFrameOctets ?? 1 << 20);
     this.buf = new Uint8Array(Math.min(256, this.maxOctets));
     this.bitwise = options.bitwise ?? false;
+    this.sharedBytes = options.sharedBytes ?? false;
   }
 
   /**
@@ -199,135 +214,119 @@ export class Deframer {
   }
 
   /**
-   * Packed line bits, one at a time by the rules above; inside a frame, a whole line byte without a
-   * sixth 1 in a row goes in at once through the tables (unless `bitwise`).
+   * Packed line bits. The common bits run on locals in the loop below; inside a frame, a whole line
+   * byte without a sixth 1 in a row goes in at once through the tables (unless `bitwise`). A bit
+   * that needs one of the rare steps (a flag, an abort, idle, a frame outgrowing its buffer) ends
+   * the loop before it changes anything: the locals go back to `this`, slowBit() takes that one bit
+   * by the plain rules, and the loop starts again from `this`. So the loop holds no call or
+   * property access that only a rare bit reaches: the optimizing compiler sees all of it run from
+   * the first chunk, and the first abort or idle line does not throw the compiled loop away
+   * (each recompilation of this loop cost more CPU than thousands of frames). With `bitwise`,
+   * every bit goes through slowBit(): the plain reference both loops are tested against.
    */
   private pushPacked(chunk: BitChunk, packed: Uint8Array): void {
     const samples = chunk.samples;
     const n = chunk.n;
-    const table = !this.bitwise;
-    // Hot loop on locals only (no closures: captured locals would live on the heap). They are
-    // written back to `this` before each rare call out (flag, abort, idle, buffer growth) and
-    // read again after it. Data bits gather in `acc` and reach the buffer a whole octet at a time.
-    let ones = this.ones;
-    let inFrame = this.inFrame;
-    let len = this.len;
-    let acc = this.acc;
-    let lineCount = this.lineCount;
-    let prev = this.prevSample;
-    let runStart = this.runStart;
-    let seenZero = this.seenZero;
-    let zeroSample = this.zeroSample;
-    let lenBeforeZero = this.lenBeforeZero;
-    let sampleBeforeZero = this.sampleBeforeZero;
-    let firstSample = this.firstSample;
-    let stuffedBeforeZero = this.stuffedBeforeZero;
-    // the last byte taken whole, its table entry and the data length before it; -1 when none is pending
-    let fastAt = -1;
-    let fastE = 0;
-    let fastLen = 0;
-    let fastSt = 0;
-    for (let i = 0; i < n; i++) {
-      if (inFrame && (i & 7) === 0 && ones < 6 && i + 8 <= n && table) {
-        // whole line bytes without a flag or abort in them: their data bits go in a byte at a time,
-        // in a loop of their own (a frame's body is almost all such bytes)
-        const buf = this.buf;
-        const room = buf.length;
-        const whole = n >> 3;
-        let j = i >> 3;
-        while (j < whole && len >> 3 < room) {
-          const b = packed[j];
-          const e = FAST[(ones << 8) | b];
-          if (e === 0) break;
-          const count = (e >> 8) & 15;
-          if (lineCount === 0) firstSample = samples[j << 3];
-          const st = STUFFED[(ones << 8) | b];
-          if (st !== 0) {
-            this.stuffedPush(lineCount + (st & 15) - 1);
-            if (st > 15) this.stuffedPush(lineCount + (st >> 4) - 1);
-          }
-          lineCount += 8;
-          // where the last 0 and the trailing 1s are is worked out once the run of such bytes ends
-          fastE = e;
-          fastSt = st;
-          fastLen = len;
-          const r = len & 7;
-          acc |= (e & 0xff) << r;
-          if (r + count >= 8) {
-            buf[len >> 3] = acc;
-            acc >>>= 8;
-          }
-          len += count;
-          ones = (e >> 12) & 15;
-          j++;
-        }
-        if (j > i >> 3) {
-          fastAt = (j - 1) << 3;
-          i = (j << 3) - 1;
-          continue;
-        }
-      }
-      if (fastAt >= 0) {
-        const z = (fastE >> 16) & 7;
-        const onesOut = (fastE >> 12) & 15;
-        lenBeforeZero = fastLen + ((fastE >> 19) & 15);
-        sampleBeforeZero = fastEndSample(samples, fastAt, fastE, fastSt, prev);
-        stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffedCount - 1 : this.stuffedCount;
-        zeroSample = samples[fastAt + z];
-        if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
-        prev = samples[fastAt + 7];
-        seenZero = true;
-        fastAt = -1;
-      }
-      const s = samples[i];
-      if (((packed[i >> 3] >> (i & 7)) & 1) !== 0) {
-        if (ones === 0) runStart = s;
-        ones++;
-        if (inFrame) {
-          if (lineCount === 0) firstSample = s;
-          lineCount++;
-          if (ones <= 5) {
-            acc |= 1 << (len & 7);
-            if ((len & 7) === 7) {
-              if (len >> 3 >= this.buf.length) {
-                this.len = len;
-                this.prevSample = prev;
-                this.firstSample = firstSample;
-                if (!this.room()) {
-                  ({ inFrame, len, lineCount, acc } = this);
-                  prev = s;
-                  continue;
-                }
-              }
-              this.buf[len >> 3] = acc;
-              acc = 0;
+    if (this.bitwise) {
+      for (let i = 0; i < n; i++) this.slowBit((packed[i >> 3] >> (i & 7)) & 1, samples[i]);
+      this.bitsSeen += n;
+      return;
+    }
+    let i = 0;
+    for (;;) {
+      // Locals only in the loop (no closures: captured locals would live on the heap). Data bits
+      // gather in `acc` and reach the buffer a whole octet at a time.
+      let ones = this.ones;
+      let inFrame = this.inFrame;
+      let len = this.len;
+      let acc = this.acc;
+      let lineCount = this.lineCount;
+      let prev = this.prevSample;
+      let runStart = this.runStart;
+      let seenZero = this.seenZero;
+      let zeroSample = this.zeroSample;
+      let lenBeforeZero = this.lenBeforeZero;
+      let sampleBeforeZero = this.sampleBeforeZero;
+      let firstSample = this.firstSample;
+      let stuffedBeforeZero = this.stuffedBeforeZero;
+      const buf = this.buf;
+      const room = buf.length;
+      // the last byte taken whole, its table entry and the data length before it; -1 when none is pending
+      let fastAt = -1;
+      let fastE = 0;
+      let fastLen = 0;
+      let fastSt = 0;
+      for (; i < n; i++) {
+        if (inFrame && (i & 7) === 0 && ones < 6 && i + 8 <= n) {
+          // whole line bytes without a flag or abort in them: their data bits go in a byte at a time,
+          // in a loop of their own (a frame's body is almost all such bytes)
+          const whole = n >> 3;
+          let j = i >> 3;
+          while (j < whole && len >> 3 < room) {
+            const b = packed[j];
+            const e = FAST[(ones << 8) | b];
+            if (e === 0) break;
+            const count = (e >> 8) & 15;
+            if (lineCount === 0) firstSample = samples[j << 3];
+            const st = STUFFED[(ones << 8) | b];
+            if (st !== 0) {
+              this.stuffedPush(lineCount + (st & 15) - 1);
+              if (st > 15) this.stuffedPush(lineCount + (st >> 4) - 1);
             }
-            len++;
-          } else if (ones === 7) {
-            this.len = len;
-            this.lineCount = lineCount;
-            this.zeroSample = zeroSample;
-            this.firstSample = firstSample;
-            this.prevSample = prev;
-            this.abort();
-            ({ inFrame, len, lineCount, acc } = this);
+            lineCount += 8;
+            // where the last 0 and the trailing 1s are is worked out once the run of such bytes ends
+            fastE = e;
+            fastSt = st;
+            fastLen = len;
+            const r = len & 7;
+            acc |= (e & 0xff) << r;
+            if (r + count >= 8) {
+              buf[len >> 3] = acc;
+              acc >>>= 8;
+            }
+            len += count;
+            ones = (e >> 12) & 15;
+            j++;
+          }
+          if (j > i >> 3) {
+            fastAt = (j - 1) << 3;
+            i = (j << 3) - 1;
+            continue;
           }
         }
-      } else {
-        if (ones === 6 && seenZero) {
-          this.inFrame = inFrame;
-          this.zeroSample = zeroSample;
-          this.lenBeforeZero = lenBeforeZero;
-          this.stuffedBeforeZero = stuffedBeforeZero;
-          this.sampleBeforeZero = sampleBeforeZero;
-          this.firstSample = firstSample;
-          this.flag(s);
-          ({ inFrame, len, lineCount, acc, zeroSample, lenBeforeZero, stuffedBeforeZero, sampleBeforeZero } = this);
-        } else {
-          if (ones >= 15) {
-            this.runStart = runStart;
-            this.idle(prev);
+        if (fastAt >= 0) {
+          const z = (fastE >> 16) & 7;
+          const onesOut = (fastE >> 12) & 15;
+          lenBeforeZero = fastLen + ((fastE >> 19) & 15);
+          sampleBeforeZero = fastEndSample(samples, fastAt, fastE, fastSt, prev);
+          stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffedCount - 1 : this.stuffedCount;
+          zeroSample = samples[fastAt + z];
+          if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
+          prev = samples[fastAt + 7];
+          seenZero = true;
+          fastAt = -1;
+        }
+        const s = samples[i];
+        if (((packed[i >> 3] >> (i & 7)) & 1) !== 0) {
+          // the rare steps: an abort, or a data bit completing an octet the buffer has no room for
+          if (inFrame && (ones === 6 || (ones < 5 && (len & 7) === 7 && len >> 3 >= room))) break;
+          if (ones === 0) runStart = s;
+          ones++;
+          if (inFrame) {
+            if (lineCount === 0) firstSample = s;
+            lineCount++;
+            if (ones <= 5) {
+              acc |= 1 << (len & 7);
+              if ((len & 7) === 7) {
+                buf[len >> 3] = acc;
+                acc = 0;
+              }
+              len++;
+            }
           }
+        } else {
+          // the rare steps: a flag, the end of idle, or a data bit completing an octet the buffer has no room for
+          if ((ones === 6 && seenZero) || ones >= 15 || (inFrame && ones !== 5 && (len & 7) === 7 && len >> 3 >= room)) break;
           if (inFrame) {
             if (lineCount === 0) firstSample = s;
             lenBeforeZero = len;
@@ -339,20 +338,7 @@ export class Deframer {
               this.stuffedPush(lineCount);
             } else {
               if ((len & 7) === 7) {
-                if (len >> 3 >= this.buf.length) {
-                  this.len = len;
-                  this.prevSample = prev;
-                  this.firstSample = firstSample;
-                  if (!this.room()) {
-                    ({ inFrame, len, lineCount, acc } = this);
-                    zeroSample = s;
-                    seenZero = true;
-                    ones = 0;
-                    prev = s;
-                    continue;
-                  }
-                }
-                this.buf[len >> 3] = acc;
+                buf[len >> 3] = acc;
                 acc = 0;
               }
               len++;
@@ -360,37 +346,103 @@ export class Deframer {
             lineCount++;
           }
           zeroSample = s;
+          seenZero = true;
+          ones = 0;
         }
-        seenZero = true;
-        ones = 0;
+        prev = s;
       }
-      prev = s;
+      if (fastAt >= 0) {
+        const z = (fastE >> 16) & 7;
+        const onesOut = (fastE >> 12) & 15;
+        lenBeforeZero = fastLen + ((fastE >> 19) & 15);
+        sampleBeforeZero = fastEndSample(samples, fastAt, fastE, fastSt, prev);
+        stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffedCount - 1 : this.stuffedCount;
+        zeroSample = samples[fastAt + z];
+        if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
+        prev = samples[fastAt + 7];
+        seenZero = true;
+      }
+      this.ones = ones;
+      this.inFrame = inFrame;
+      this.len = len;
+      this.acc = acc;
+      this.lineCount = lineCount;
+      this.prevSample = prev;
+      this.runStart = runStart;
+      this.seenZero = seenZero;
+      this.zeroSample = zeroSample;
+      this.lenBeforeZero = lenBeforeZero;
+      this.sampleBeforeZero = sampleBeforeZero;
+      this.firstSample = firstSample;
+      this.stuffedBeforeZero = stuffedBeforeZero;
+      if (i >= n) break;
+      this.slowBit((packed[i >> 3] >> (i & 7)) & 1, samples[i]);
+      i++;
     }
-    if (fastAt >= 0) {
-      const z = (fastE >> 16) & 7;
-      const onesOut = (fastE >> 12) & 15;
-      lenBeforeZero = fastLen + ((fastE >> 19) & 15);
-      sampleBeforeZero = fastEndSample(samples, fastAt, fastE, fastSt, prev);
-      stuffedBeforeZero = (fastE & 0x800000) !== 0 ? this.stuffedCount - 1 : this.stuffedCount;
-      zeroSample = samples[fastAt + z];
-      if (onesOut > 0) runStart = samples[fastAt + 8 - onesOut];
-      prev = samples[fastAt + 7];
-      seenZero = true;
-    }
-    this.ones = ones;
-    this.inFrame = inFrame;
-    this.len = len;
-    this.acc = acc;
-    this.lineCount = lineCount;
-    this.prevSample = prev;
-    this.runStart = runStart;
-    this.seenZero = seenZero;
-    this.zeroSample = zeroSample;
-    this.lenBeforeZero = lenBeforeZero;
-    this.sampleBeforeZero = sampleBeforeZero;
-    this.firstSample = firstSample;
-    this.stuffedBeforeZero = stuffedBeforeZero;
     this.bitsSeen += n;
+  }
+
+  /** One line bit by the plain rules above, on the state in `this`. */
+  private slowBit(bit: number, s: number): void {
+    if (bit !== 0) {
+      if (this.ones === 0) this.runStart = s;
+      this.ones++;
+      if (this.inFrame) {
+        if (this.lineCount === 0) this.firstSample = s;
+        this.lineCount++;
+        if (this.ones <= 5) {
+          const len = this.len;
+          this.acc |= 1 << (len & 7);
+          if ((len & 7) === 7) {
+            if (len >> 3 >= this.buf.length && !this.room()) {
+              this.prevSample = s;
+              return;
+            }
+            this.buf[len >> 3] = this.acc;
+            this.acc = 0;
+          }
+          this.len = len + 1;
+        } else if (this.ones === 7) {
+          this.abort();
+        }
+      }
+    } else {
+      if (this.ones === 6 && this.seenZero) {
+        this.flag(s);
+      } else {
+        if (this.ones >= 15) this.idle(this.prevSample);
+        if (this.inFrame) {
+          if (this.lineCount === 0) this.firstSample = s;
+          const len = this.len;
+          this.lenBeforeZero = len;
+          // right after a stuffed 0 keep the sample it took: the frame's last data bit
+          const st = this.stuffedCount;
+          if (this.ones === 5 || st === 0 || this.stuffedAt[st - 1] !== this.lineCount - 1) this.sampleBeforeZero = this.prevSample;
+          this.stuffedBeforeZero = st;
+          if (this.ones === 5) {
+            this.stuffedPush(this.lineCount);
+          } else {
+            if ((len & 7) === 7) {
+              if (len >> 3 >= this.buf.length && !this.room()) {
+                this.zeroSample = s;
+                this.seenZero = true;
+                this.ones = 0;
+                this.prevSample = s;
+                return;
+              }
+              this.buf[len >> 3] = this.acc;
+              this.acc = 0;
+            }
+            this.len = len + 1;
+          }
+          this.lineCount++;
+        }
+        this.zeroSample = s;
+      }
+      this.seenZero = true;
+      this.ones = 0;
+    }
+    this.prevSample = s;
   }
 
   /** Makes room for one more octet; false when the frame grew too long and was closed. */
@@ -533,6 +585,20 @@ export class Deframer {
     return 'ok';
   }
 
+  /** the first `whole` octets of the frame buffer, copied into the shared block */
+  private shared(whole: number): Uint8Array {
+    if (this.blockAt + whole > this.block.length) {
+      this.block = new Uint8Array(Math.max(SHARED_BLOCK, whole));
+      this.blockAt = 0;
+    }
+    const block = this.block;
+    const at = this.blockAt;
+    const buf = this.buf;
+    for (let k = 0; k < whole; k++) block[at + k] = buf[k];
+    this.blockAt = at + whole;
+    return block.subarray(at, at + whole);
+  }
+
   private emit(status: FrameStatus, lastSample: number): void {
     const len = this.len;
     const whole = len >> 3;
@@ -541,7 +607,7 @@ export class Deframer {
       seq: this.seq++,
       firstSample: this.firstSample,
       lastSample,
-      bytes: this.buf.slice(0, whole),
+      bytes: this.sharedBytes ? this.shared(whole) : this.buf.slice(0, whole),
       bitLength: len,
       stuffed: this.positions(),
       status,

@@ -60,6 +60,8 @@ export interface DecoderOptions {
    * or extra, unknown levels, silences. The fused raw path feeds them from the edges it sees.
    */
   anomalies?: AnomalySink;
+  /** frames' octets may share ArrayBuffers (DeframerOptions.sharedBytes): for a sink that keeps no frame long */
+  sharedFrameBytes?: boolean;
 }
 
 export interface Decoder {
@@ -120,7 +122,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
   };
 
   const addLink = (name: string) => {
-    const d = new Deframer(name, toOrder, { minOctets });
+    const d = new Deframer(name, toOrder, { minOctets, sharedBytes: options.sharedFrameBytes === true });
     deframers.set(name, d);
     deframerList.push(d);
     links.push(name);

@@ -53,6 +53,11 @@ describe('byte-at-a-time deframing', () => {
           expect(got.pending).toBe(reference.pending);
         }
       }
+      // frames' octets in shared blocks (the CLI's way): every frame still holds its own octets
+      // once all later frames are written
+      const shared = deframe(bits, samples, sizes, 'packed', { sharedBytes: true });
+      expect(shared.frames).toEqual(reference.frames);
+      expect(new Set(shared.frames.map((f) => f.bytes.buffer)).size).toBeLessThan(shared.frames.length);
     }
   });
 
