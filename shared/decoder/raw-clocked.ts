@@ -6,6 +6,13 @@ import type { BitChunk, BitRecoveryOptions, BitRecoverySink } from './types';
 const BIT_CHUNK_SIZE = CHUNK;
 /** samples scanned per call while an anomaly tap listens: the stretch the tap takes at once */
 const TAP_SLICE = 65536;
+/**
+ * The first scans take at most this many samples each (WARM_SCANS of them): the scan loops are then
+ * compiled once, with every path through them already run, instead of being compiled on the fly in
+ * the first long scan (on-stack replacement) and again after each exit they had not yet seen.
+ */
+const WARM_SLICE = 2048;
+const WARM_SCANS = 64;
 
 /**
  * Raw binary samples with a clock channel, straight to packed line bits: one pass over the
@@ -42,6 +49,8 @@ export class ClockedRawBits {
   private readonly handshake: { channel: number; name: string; link: string | null }[];
   /** the previous sample, -1 before the first */
   private prev = -1;
+  /** scans still to be kept to WARM_SLICE samples */
+  private warm = WARM_SCANS;
 
   // ---- the anomaly tap's feed (see the class comment) ----
   /** data lines whose changes are looked at (0 without a tap) */
@@ -112,7 +121,11 @@ export class ClockedRawBits {
     }
     const tap = this.tap;
     while (i < end) {
-      const stop = tap ? Math.min(end, i + TAP_SLICE * width) : end;
+      let stop = tap ? Math.min(end, i + TAP_SLICE * width) : end;
+      if (this.warm > 0) {
+        this.warm--;
+        stop = Math.min(stop, i + WARM_SLICE * width);
+      }
       const from = i;
       const prevBefore = this.prev;
       i = width === 1 ? this.scan8(bytes, i, stop, base) : this.scan16(bytes, i, stop, base);
