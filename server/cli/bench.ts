@@ -407,7 +407,7 @@ function runStage(stage: Stage, file: string, spb: number): void {
     const write = stage === 'ndjson';
     const tap = stage === 'tap' || stage === 'tap-general';
     // frames and ndjson as the CLI decodes; the taps as the app's worker (a buffer per frame)
-    const dec = createDecoder({ ...options, anomalies: tap ? { anomaly: () => {} } : undefined, rawFastPath: stage !== 'tap-general', sharedFrameBytes: !tap }, {
+    const dec = createDecoder({ ...options, anomalies: tap ? { anomaly: () => {} } : undefined, rawFastPath: stage !== 'tap-general', sharedFrameBytes: !tap, lineEvents: tap }, {
       frame: (f) => {
         frames++;
         if (write) out.frame(f, period);

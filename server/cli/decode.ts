@@ -262,8 +262,9 @@ async function main(): Promise<void> {
   const counts = new Map<string, Record<FrameStatus, number>>();
   let lastSample = 0;
   const out = new NdjsonWriter(writeOut, fcsDigits);
-  // the writer is done with a frame when its line is written: frames may share their octets' buffers
-  const decoder = createDecoder({ ...options, sharedFrameBytes: true }, {
+  // the writer is done with a frame when its line is written: frames may share their octets' buffers;
+  // line events are only made when they are printed
+  const decoder = createDecoder({ ...options, sharedFrameBytes: true, lineEvents: cli.events }, {
     frame(f) {
       let c = counts.get(f.link);
       if (!c) counts.set(f.link, (c = { ok: 0, 'bad-fcs': 0, abort: 0, short: 0, residue: 0 }));

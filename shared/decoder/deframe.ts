@@ -51,6 +51,8 @@ export interface DeframerOptions {
    * their whole blocks alive, so the default is a buffer per frame.
    */
   sharedBytes?: boolean;
+  /** false: no line events are made (a consumer that drops them); frames are the same either way */
+  events?: boolean;
 }
 
 /** octets per shared block of frame bytes (DeframerOptions.sharedBytes) */
@@ -143,6 +145,7 @@ export class Deframer {
   private stuffedCount = 0;
   private readonly bitwise: boolean;
   private readonly sharedBytes: boolean;
+  private readonly events: boolean;
   /** the shared block frames' octets are copied into, and where the next frame's go */
   private block = new Uint8Array(0);
   private blockAt = 0;
@@ -166,6 +169,7 @@ export class Deframer {
     this.buf = new Uint8Array(Math.min(256, this.maxOctets));
     this.bitwise = options.bitwise ?? false;
     this.sharedBytes = options.sharedBytes ?? false;
+    this.events = options.events ?? true;
   }
 
   /**
@@ -562,11 +566,11 @@ export class Deframer {
 
   private idle(endSample: number): void {
     this.closeStretch();
-    this.sink.event({ link: this.link, channel: this.link, kind: 'idle', sample: this.runStart, endSample });
+    if (this.events) this.sink.event({ link: this.link, channel: this.link, kind: 'idle', sample: this.runStart, endSample });
   }
 
   private closeStretch(): void {
-    if (this.stretchCount >= 2) {
+    if (this.stretchCount >= 2 && this.events) {
       this.sink.event({
         link: this.link,
         channel: this.link,

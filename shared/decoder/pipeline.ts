@@ -62,6 +62,8 @@ export interface DecoderOptions {
   anomalies?: AnomalySink;
   /** frames' octets may share ArrayBuffers (DeframerOptions.sharedBytes): for a sink that keeps no frame long */
   sharedFrameBytes?: boolean;
+  /** false: line events (idle, fill flags, handshake changes) are neither made nor passed to the sink; frames are the same */
+  lineEvents?: boolean;
 }
 
 export interface Decoder {
@@ -116,13 +118,16 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
   };
   const fatal = () => ownFatal ?? reader?.fatal() ?? null;
 
+  const lineEvents = options.lineEvents !== false;
   const toOrder = {
     frame: (raw: RawFrame) => order.frame(checkFrame(raw, checkOptions)),
-    event: (e: LineEvent) => order.event(e),
+    event: (e: LineEvent) => {
+      if (lineEvents) order.event(e);
+    },
   };
 
   const addLink = (name: string) => {
-    const d = new Deframer(name, toOrder, { minOctets, sharedBytes: options.sharedFrameBytes === true });
+    const d = new Deframer(name, toOrder, { minOctets, sharedBytes: options.sharedFrameBytes === true, events: lineEvents });
     deframers.set(name, d);
     deframerList.push(d);
     links.push(name);
@@ -193,7 +198,7 @@ export function createDecoder(options: DecoderOptions, sink: FrameSink): Decoder
       };
       const bitSink = {
         bits: (link: string, chunk: BitChunk) => deframers.get(link)!.push(chunk),
-        event: (e: LineEvent) => order.event(e),
+        event: toOrder.event,
       };
       if (options.anomalies) tap = new AnomalyTap({ ...opts, clockName: clock?.name }, options.anomalies);
       recovery = canFuse(opts) ? new ClockedRawBits(opts, bitSink, tap) : new BitRecovery(opts, bitSink);

@@ -49,6 +49,20 @@ describe('createDecoder', () => {
     expect(split).toEqual(whole);
   });
 
+  it("gives the same frames with the CLI's options (line events off, frames' octets in shared blocks) for any split", () => {
+    const { w } = twoLinks();
+    const raw = collect(rawChunks(w));
+    const opts = { format: 'raw' as const, sampleRate: 1e7, channelNames: ['clk', 'tx', 'rx'], clock: 'clk', data: ['tx', 'rx'] };
+    for (const rawFastPath of [true, false]) {
+      const reference = runDecoder({ ...opts, rawFastPath }, raw, [raw.length]);
+      expect(reference.events.length).toBeGreaterThan(0);
+      const rng = seededRng(9);
+      const lean = runDecoder({ ...opts, rawFastPath, lineEvents: false, sharedFrameBytes: true }, raw, Array.from({ length: 9 }, () => 1 + Math.floor(rng() * 5000)));
+      expect(lean.events).toEqual([]);
+      expect(lean.frames).toEqual(reference.frames);
+    }
+  });
+
   it('detects a VCD capture and decodes it like the raw one', () => {
     const { w } = twoLinks();
     const raw = runDecoder({ format: 'raw', sampleRate: 1e7, channelNames: ['clk', 'tx', 'rx'], clock: 'clk', data: ['tx', 'rx'] }, collect(rawChunks(w)));
