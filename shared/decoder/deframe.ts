@@ -24,9 +24,10 @@
 //
 // Speed: line bits are taken packed, eight at a time, through tables built once (see FAST): inside
 // a frame, eight line bits without a sixth 1 in a row go in as their data bits in one step, with
-// any stuffed 0s deleted. Flags, aborts and idle go through the bit-at-a-time rules above.
-// One-bit-per-element chunks are packed first; `bitwise` turns the table steps off, leaving the
-// plain bit-at-a-time rules the fast steps are tested against (tests/decoder/fast-path-deframe.test.ts).
+// any stuffed 0s deleted. Other bits go one at a time through a loop on locals, and the rare ones
+// (flags, aborts, idle, a full buffer) through slowBit(), the rules above on the state in `this`.
+// One-bit-per-element chunks are packed first; `bitwise` sends every bit through slowBit(), the
+// plain reference both loops are tested against (tests/decoder/fast-path-deframe.test.ts).
 import type { BitChunk, FrameStatus, LineEvent, RawFrame } from './types';
 
 export interface DeframerSink {
@@ -40,8 +41,8 @@ export interface DeframerOptions {
   /** longest frame kept; longer ones are closed as 'abort' */
   maxFrameOctets?: number;
   /**
-   * Take every line bit one at a time, never a whole byte through the tables: the plain
-   * reference the table steps are tested against.
+   * Take every line bit one at a time by the plain rules (slowBit), never through the tables or
+   * the loop on locals: the reference those are tested against.
    */
   bitwise?: boolean;
   /**
@@ -241,7 +242,8 @@ export class Deframer {
       // Locals only in the loop (no closures: captured locals would live on the heap). Data bits
       // gather in `acc` and reach the buffer a whole octet at a time.
       let ones = this.ones;
-      let inFrame = this.inFrame;
+      // only slowBit() opens or closes a frame
+      const inFrame = this.inFrame;
       let len = this.len;
       let acc = this.acc;
       let lineCount = this.lineCount;
@@ -367,7 +369,6 @@ export class Deframer {
         seenZero = true;
       }
       this.ones = ones;
-      this.inFrame = inFrame;
       this.len = len;
       this.acc = acc;
       this.lineCount = lineCount;
