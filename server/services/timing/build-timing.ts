@@ -8,7 +8,8 @@ import { drizzle } from 'drizzle-orm/better-sqlite3';
 import { iterateValues } from '../../db/rows';
 import * as schema from '../../db/schema';
 import { decodeJobs, exchanges as exchangesTable, frames as framesTable, lineEvents } from '../../db/schema';
-import { callLayerRoles } from '../../../shared/decoder/calls';
+import type { FrameKind, LineEventKind } from '../../../shared/decoder';
+import { callLayerRoles, type ExchangeOutcome } from '../../../shared/decoder/calls';
 import { LineTiming, type Schedule, type ServiceReport } from '../../../shared/decoder/timing';
 import { captureSettingsSchema, type CaptureSettings } from '../../../shared/schemas';
 
@@ -80,14 +81,14 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
       first: t,
       last: tEnd,
       status: status as never,
-      kind: kind as 'I' | 'S' | 'U' | null,
+      kind: kind as FrameKind | null,
       pf: pf === 1,
       id,
     });
   }
   if (rts.length > 0) {
     const lineOf = new Map(rts.map((r) => [r.channel, r.station]));
-    const edges = iterateValues<[string, 'rise' | 'fall', number]>(
+    const edges = iterateValues<[string, Extract<LineEventKind, 'rise' | 'fall'>, number]>(
       db,
       d
         .select({ channel: lineEvents.channel, kind: lineEvents.kind, t: lineEvents.t })
@@ -99,7 +100,7 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
   }
   let exchanges = 0;
   if (callRunId !== null) {
-    const xs = iterateValues<[number, number, number, number, number | null, number | null, 'answered' | 'retried' | 'unanswered']>(
+    const xs = iterateValues<[number, number, number, number, number | null, number | null, ExchangeOutcome]>(
       db,
       d
       .select({

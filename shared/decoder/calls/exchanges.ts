@@ -415,7 +415,8 @@ export function pairExchanges(
 
 // ---- Compare: two captures of the same rig side by side at exchange level ----
 
-export type ComparisonKind = 'same' | 'answered-differently' | 'outcome-differs' | 'slower' | 'faster' | 'only-in-a' | 'only-in-b';
+export const COMPARISON_KINDS = ['same', 'answered-differently', 'outcome-differs', 'slower', 'faster', 'only-in-a', 'only-in-b'] as const;
+export type ComparisonKind = (typeof COMPARISON_KINDS)[number];
 
 export interface ExchangeComparison {
   station: number;
