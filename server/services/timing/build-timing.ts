@@ -6,7 +6,7 @@ import { and, asc, eq, inArray } from 'drizzle-orm';
 import type { Db } from '../../db/client';
 import { iterateValues } from '../../db/rows';
 import { decodeJobs, exchanges as exchangesTable, frames as framesTable, lineEvents } from '../../db/schema';
-import type { FrameKind, LineEventKind } from '../../../shared/decoder';
+import type { FrameKind, FrameStatus, LineEventKind } from '../../../shared/decoder';
 import { callLayerRoles, type ExchangeOutcome } from '../../../shared/decoder/calls';
 import { LineTiming, type Schedule, type ServiceReport } from '../../../shared/decoder/timing';
 import { captureSettingsSchema, type CaptureSettings } from '../../../shared/schemas';
@@ -41,7 +41,8 @@ export function timingOf(db: Db, jobId: number, callRunId: number | null, rigSta
   return built;
 }
 
-type FrameTuple = [number, string, number, number, string, number | null, string | null, number | null];
+/** the driver's values of a frame row: id, link, t, tEnd, status, address, kind, pf (0/1: no column decoders) */
+type FrameTuple = [number, string, number, number, FrameStatus, number | null, FrameKind | null, number | null];
 
 export function buildTiming(db: Db, jobId: number, callRunId: number | null, rigStations: number[]): BuiltTiming {
   const raw = db.select({ settings: decodeJobs.settings }).from(decodeJobs).where(eq(decodeJobs.id, jobId)).get()?.settings;
@@ -77,8 +78,8 @@ export function buildTiming(db: Db, jobId: number, callRunId: number | null, rig
       direction: role.direction,
       first: t,
       last: tEnd,
-      status: status as never,
-      kind: kind as FrameKind | null,
+      status,
+      kind,
       pf: pf === 1,
       id,
     });
