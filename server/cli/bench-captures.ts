@@ -114,7 +114,7 @@ async function main() {
     // worker threads count in process.cpuUsage: CPU seconds show the cost on a shared machine
     const cpu0 = process.cpuUsage();
     const load0 = os.loadavg()[0];
-    m.jobs.enqueue(1, decodeRunInputs(sqlite, 1, settings), size);
+    m.jobs.enqueue(1, decodeRunInputs(handle.db, 1, settings), size);
     await m.jobs.idle();
     const ingest = (performance.now() - t0) / 1000;
     const visible = (m.jobs.visibleAt - wallStart) / 1000;
@@ -201,7 +201,7 @@ async function main() {
         .prepare("insert into captures (id, rig_id, name, size, sha256, format, settings, uploaded_by, created_at) values (2, 1, 'bench.vcd', ?, ?, 'vcd', ?, 1, 0)")
         .run(vcd.length, stored.sha256, JSON.stringify(vcdSettings));
       t0 = performance.now();
-      m.jobs.enqueue(2, decodeRunInputs(sqlite, 2, vcdSettings), vcd.length);
+      m.jobs.enqueue(2, decodeRunInputs(handle.db, 2, vcdSettings), vcd.length);
       await m.jobs.idle();
       line(`ingest of a ${(vcd.length / 1e6).toFixed(0)} MB clocked VCD (${vcdFrames} frames)`, `${((performance.now() - t0) / 1000).toFixed(1)} s`, '');
       const vcdJob = findCapture(m, 1, 2).currentJobId!;

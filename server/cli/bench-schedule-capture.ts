@@ -6,6 +6,7 @@
 // a capture this long through the encoder would take minutes of the bench's time for no more truth
 // about drawing it.
 import Database from 'better-sqlite3';
+import { dbOf } from '../db/client';
 import { ensureBuiltInMap } from '../services/calls/field-map-store';
 
 const STATIONS = [0x21, 0x22, 0x23, 0x24];
@@ -50,7 +51,7 @@ export function addScheduleBenchCapture(dbPath: string, rigId: number, exchanges
          values (?, ?, ?, ?, ?, ?, ?, ?, 'ok', ?, 0, 'I', 'I', 0, 0, 1, 20, 192, ?, '[]', ?, '')`,
       );
       const event = db.prepare('insert into line_events (job_id, capture_id, link, channel, kind, sample, t) values (?, ?, null, ?, ?, ?, ?)');
-      const mapId = ensureBuiltInMap(db, rigId);
+      const mapId = ensureBuiltInMap(dbOf(db), rigId);
       const version = db.prepare('select latest_version from field_maps where id = ?').pluck().get(mapId) as number;
       const runId = Number(
         db

@@ -9,6 +9,30 @@ import * as schema from './schema';
 
 /** the database or a transaction on it: services take either, so they compose inside one transaction */
 export type Db = BaseSQLiteDatabase<'sync', Database.RunResult, typeof schema>;
+/** the driver's own handle under a Db: for raw statements (FTS5, bulk inserts) and streamed reads */
+export type Driver = Database.Database;
+
+/**
+ * The seam while the decode worker hands its driver handle to the run functions it shares with
+ * the services (map versions, call run life): those take either and run their Drizzle queries
+ * on what this returns, so a service passes its Db. Drop the driver arm once the worker passes a Db.
+ */
+export function dbOf(h: Db | Driver): Db {
+  return h instanceof Database ? drizzle(h, { schema }) : h;
+}
+
+/**
+ * The driver under a Db opened by openDb, for what Drizzle cannot do: streamed reads
+ * (iterateValues), FTS5 statements, and the run stages that still take the driver (the run
+ * writer, call stage, fault rows, sweep). A transaction's Db carries no driver: take it outside.
+ */
+export function driverOf(h: Db | Driver): Driver {
+  if (h instanceof Database) return h;
+  const client = (h as { $client?: unknown }).$client;
+  if (!(client instanceof Database)) throw new Error('driverOf: this Db has no driver handle (a transaction?); take it from the database itself');
+  return client;
+}
+
 export interface DbHandle {
   db: Db;
   sqlite: Database.Database;

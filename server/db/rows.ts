@@ -2,9 +2,9 @@
 // (mapResultRow: type checks and a path walk per cell) cost 0.7 ms on a 201-row timeline page
 // here, twice the query itself; the hot reads take `.values()` and map each row with a function
 // made once per selection, calling a column's decoder only where it has one (booleans, dates, JSON).
-import type Database from 'better-sqlite3';
 import { Column, is, SQL } from 'drizzle-orm';
 import type { SelectResultFields } from 'drizzle-orm/query-builders/select.types';
+import { driverOf, type Db, type Driver } from './client';
 
 /** what a hot select may list: columns and typed `sql` fragments, flat */
 export type FlatSelection = Record<string, Column | SQL>;
@@ -61,7 +61,7 @@ export function allRows<S extends FlatSelection>(stmt: ValuesQuery, selection: S
  * Drizzle's synchronous selects have no iterator, and some reads (a run's frames) are too long to
  * hold at once. The values come as the driver gives them (no column decoders).
  */
-export function iterateValues<T extends unknown[]>(sqlite: Database.Database, query: { toSQL(): { sql: string; params: unknown[] } }): IterableIterator<T> {
+export function iterateValues<T extends unknown[]>(db: Db | Driver, query: { toSQL(): { sql: string; params: unknown[] } }): IterableIterator<T> {
   const { sql, params } = query.toSQL();
-  return sqlite.prepare(sql).raw().iterate(...params) as IterableIterator<T>;
+  return driverOf(db).prepare(sql).raw().iterate(...params) as IterableIterator<T>;
 }

@@ -1,5 +1,7 @@
 import { sql } from 'drizzle-orm';
-import { DEFAULT_TIMEOUT_SECONDS } from '../../shared/decoder/calls';
+import { CAPTURE_FORMATS, CLOCK_EDGES, FRAME_KINDS, FRAME_STATUSES, LINE_ENCODINGS, LINE_EVENT_KINDS } from '../../shared/decoder';
+import { DEFAULT_TIMEOUT_SECONDS, EXCHANGE_OUTCOMES } from '../../shared/decoder/calls';
+import { DAMAGE_CAUSES } from '../../shared/decoder/faults';
 import { blob, check, index, integer, real, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
 
 // Timestamps are integer milliseconds (Drizzle maps them to Date); the API sends ISO strings.
@@ -32,8 +34,8 @@ export const rigs = sqliteTable('rigs', {
   name: text('name').notNull(),
   description: text('description').notNull().default(''),
   bitRate: integer('bit_rate').notNull(),
-  encoding: text('encoding', { enum: ['nrz', 'nrzi'] }).notNull(),
-  clockEdge: text('clock_edge', { enum: ['rising', 'falling'] }).notNull(),
+  encoding: text('encoding', { enum: LINE_ENCODINGS }).notNull(),
+  clockEdge: text('clock_edge', { enum: CLOCK_EDGES }).notNull(),
   bitOrder: text('bit_order', { enum: ['lsb-first', 'msb-first'] }).notNull(),
   /** a request with no answer within this many milliseconds counts as unanswered */
   responseTimeoutMs: integer('response_timeout_ms').notNull().default(DEFAULT_TIMEOUT_SECONDS * 1000),
@@ -136,7 +138,7 @@ export const captures = sqliteTable(
     size: integer('size').notNull(),
     sha256: text('sha256').notNull(),
     /** detected at upload; the settings may override it */
-    format: text('format', { enum: ['vcd', 'csv', 'raw', 'octets', 'framelog'] }),
+    format: text('format', { enum: CAPTURE_FORMATS }),
     detectReason: text('detect_reason').notNull().default(''),
     /** CaptureSettings as JSON, null until the channel roles are set */
     settings: text('settings'),
@@ -208,10 +210,10 @@ export const frames = sqliteTable(
     lastSample: real('last_sample').notNull(),
     t: real('t').notNull(),
     tEnd: real('t_end').notNull(),
-    status: text('status', { enum: ['ok', 'bad-fcs', 'abort', 'short', 'residue'] }).notNull(),
+    status: text('status', { enum: FRAME_STATUSES }).notNull(),
     address: integer('address'),
     control: integer('control'),
-    kind: text('kind', { enum: ['I', 'S', 'U'] }),
+    kind: text('kind', { enum: FRAME_KINDS }),
     command: text('command'),
     ns: integer('ns'),
     nr: integer('nr'),
@@ -246,7 +248,7 @@ export const lineEvents = sqliteTable(
     captureId: integer('capture_id').notNull(),
     link: text('link'),
     channel: text('channel').notNull(),
-    kind: text('kind', { enum: ['rise', 'fall', 'idle', 'flags', 'unknown'] }).notNull(),
+    kind: text('kind', { enum: LINE_EVENT_KINDS }).notNull(),
     sample: real('sample').notNull(),
     endSample: real('end_sample'),
     count: integer('count'),
@@ -289,9 +291,7 @@ export const faultRows = sqliteTable(
     frameId: integer('frame_id'),
     firstSample: real('first_sample').notNull(),
     // every cause the fault desk gives (the column holds text; the list types it)
-    cause: text('cause', {
-      enum: ['bad-fcs-explained', 'bad-fcs-unexplained', 'abort', 'short', 'residue', 'line-anomaly', 'tx-underrun', 'underrun-fragment', 'rx-overrun', 'octet-timing'],
-    }).notNull(),
+    cause: text('cause', { enum: DAMAGE_CAUSES }).notNull(),
     station: integer('station'),
     corrected: integer('corrected', { mode: 'boolean' }).notNull().default(false),
     flippedBit: integer('flipped_bit'),
@@ -424,7 +424,7 @@ export const exchanges = sqliteTable(
     tRequestEnd: real('t_request_end').notNull(),
     tResponse: real('t_response'),
     rtt: real('rtt'),
-    outcome: text('outcome', { enum: ['answered', 'retried', 'unanswered'] }).notNull(),
+    outcome: text('outcome', { enum: EXCHANGE_OUTCOMES }).notNull(),
     retries: integer('retries').notNull(),
     serviceDelay: real('service_delay'),
     /** the request's user number, for compare and recovered files */

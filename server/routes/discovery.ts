@@ -20,7 +20,7 @@ export function discoveryRoutes(m: CaptureModule, guard: Guard): Router {
 
   router.get(`${base}/field-hints`, guard.requireRigRole('viewer'), (req, res) => {
     const c = capture(req, rigAccess(res).rigId);
-    res.json(captureFieldHints(m.sqlite, c, parseBody(fieldHintsQuerySchema, req.query)));
+    res.json(captureFieldHints(m.db, c, parseBody(fieldHintsQuerySchema, req.query)));
   });
 
   return router;

@@ -2,10 +2,8 @@
 // call_runs.inputs as JSON): later edits of the capture's roles, the rig's answer timeout or the
 // chosen field map do not change what an existing run's rows mean, and a run re-read after a
 // restart behaves as it did when it was queued.
-import type Database from 'better-sqlite3';
 import { and, eq } from 'drizzle-orm';
-import { drizzle } from 'drizzle-orm/better-sqlite3';
-import * as schema from '../db/schema';
+import { dbOf, type Db, type Driver } from '../db/client';
 import { fieldMaps, fieldMapVersions } from '../db/schema';
 import { parseFieldMap, type FieldMap } from '../../shared/decoder/calls';
 import { DEFAULT_TIMEOUT_SECONDS } from '../../shared/decoder/calls';
@@ -32,8 +30,8 @@ export interface ResolvedMap extends MapRef {
 }
 
 /** A stored map version, parsed; `version` null means the map's latest. */
-export function loadMapVersion(sqlite: Database.Database, mapId: number, version: number | null): ResolvedMap {
-  const db = drizzle(sqlite, { schema });
+export function loadMapVersion(handle: Db | Driver, mapId: number, version: number | null): ResolvedMap {
+  const db = dbOf(handle);
   const v = version ?? db.select({ v: fieldMaps.latestVersion }).from(fieldMaps).where(eq(fieldMaps.id, mapId)).get()?.v;
   if (v === undefined) throw new Error(`field map ${mapId} no longer exists`);
   const row = db

@@ -3,7 +3,7 @@ import path from 'node:path';
 import { parseFieldMap } from '../../shared/decoder/calls';
 import { captureSettingsSchema } from '../../shared/schemas';
 import { captures } from '../db/schema';
-import { repoRoot } from '../db/client';
+import { driverOf, repoRoot } from '../db/client';
 import { startDecode } from '../services/captures/jobs';
 import type { CaptureModule } from '../services/captures/module';
 import { findCapture } from '../services/captures/rows';
@@ -50,13 +50,14 @@ export async function seedOtherDemoCaptures(m: CaptureModule, key: string, rigId
     const doc = JSON.parse(fs.readFileSync(path.join(samplesDir(), scenario.fieldMap), 'utf8')) as { name: string };
     parseFieldMap(doc); // a reference map that does not validate is an error in the samples
     const now = Date.now();
-    mapId = m.sqlite.transaction(() => {
+    const sqlite = driverOf(m.db);
+    mapId = sqlite.transaction(() => {
       const id = Number(
-        m.sqlite
+        sqlite
           .prepare('insert into field_maps (rig_id, name, built_in, latest_version, created_at, updated_at) values (?, ?, 0, 1, ?, ?)')
           .run(rigId, doc.name, now, now).lastInsertRowid,
       );
-      m.sqlite.prepare('insert into field_map_versions (map_id, version, document, created_by, created_at) values (?, 1, ?, ?, ?)').run(id, JSON.stringify({ ...doc, version: 1 }), uploadedBy, now);
+      sqlite.prepare('insert into field_map_versions (map_id, version, document, created_by, created_at) values (?, 1, ?, ?, ?)').run(id, JSON.stringify({ ...doc, version: 1 }), uploadedBy, now);
       return id;
     })();
   }
@@ -77,7 +78,7 @@ async function addCaptures(m: CaptureModule, rigId: number, uploadedBy: number, 
       .get();
     saveSettings(m, row, settings);
     // the map is chosen before the decode, whose call stage then uses it
-    if (mapId !== null) m.sqlite.prepare('insert into capture_call_layers (capture_id, map_id, map_version, current_run_id) values (?, ?, null, null)').run(row.id, mapId);
+    if (mapId !== null) driverOf(m.db).prepare('insert into capture_call_layers (capture_id, map_id, map_version, current_run_id) values (?, ?, null, null)').run(row.id, mapId);
     startDecode(m, findCapture(m, rigId, row.id));
     ids.push(row.id);
   }

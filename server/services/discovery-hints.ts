@@ -1,12 +1,10 @@
 // Field hints over a decoded capture: its good information frames, told request or answer by the
 // link directions of the decode's settings, through the hints engine (shared/decoder/hints).
-import type Database from 'better-sqlite3';
 import { and, eq, gt, or, sql } from 'drizzle-orm';
-import { drizzle } from 'drizzle-orm/better-sqlite3';
+import type { Db } from '../db/client';
 import { callLayerRoles } from '../../shared/decoder/calls';
 import { FieldHints, hintFrameOf } from '../../shared/decoder/hints';
 import type { CaptureFieldHints, FieldHintsQuery } from '../../shared/schemas';
-import * as schema from '../db/schema';
 import { decodeJobs, frames } from '../db/schema';
 import { frameFromRow, storedFrameColumns } from '../runs/stored-frame';
 import { conflict } from '../http/errors';
@@ -18,8 +16,7 @@ export const HINT_FRAME_LIMIT = 200_000;
 const PAGE = 5000;
 
 
-export function captureFieldHints(sqlite: Database.Database, c: CaptureRow, q: FieldHintsQuery): CaptureFieldHints {
-  const db = drizzle(sqlite, { schema });
+export function captureFieldHints(db: Db, c: CaptureRow, q: FieldHintsQuery): CaptureFieldHints {
   const job =
     c.currentJobId === null
       ? undefined

@@ -1,7 +1,6 @@
 // The settings finder run for a capture of the app: started on the first request, run beside the
 // request thread (its reads are asynchronous and it reads at most 16 MB), its progress and answer
 // kept in memory per capture, so the upload and channel-roles pages can poll it.
-import type Database from 'better-sqlite3';
 import type { FieldMap } from '../../shared/decoder/calls';
 import { suggestedSettings, type Discovery } from '../../shared/decoder/finder';
 import type { CaptureDiscovery, CaptureSettingsInput, DiscoveryCandidate } from '../../shared/schemas';
@@ -114,8 +113,6 @@ export function discoveryView(d: Discovery, mapName: string | null, given: { sam
 
 export interface DiscoveryDeps {
   db: Db;
-  /** the field-map store reads through the driver's handle */
-  sqlite: Database.Database;
   store: CaptureStore;
 }
 
@@ -137,7 +134,7 @@ export function captureDiscovery(deps: DiscoveryDeps, c: CaptureRow): CaptureDis
   const given = { sampleRate: saved?.format === 'raw' ? saved.sampleRate : null, channelNames: saved?.format === 'raw' ? saved.channelNames : [] };
   let resolved: { mapId: number; version: number; map: FieldMap } | null;
   try {
-    resolved = chosenMap(deps.sqlite, c.id);
+    resolved = chosenMap(deps.db, c.id);
   } catch {
     resolved = null; // a capture without a map still has its settings found; directions then use link-level clues only
   }

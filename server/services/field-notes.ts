@@ -13,7 +13,7 @@ type NoteRow = typeof notes.$inferSelect;
 
 /** The map's latest document; 404 when the rig has no such map. */
 export function latestFieldMap(deps: CaptureDeps, rigId: number, mapId: number): FieldMap {
-  ensureBuiltInMap(deps.sqlite, rigId);
+  ensureBuiltInMap(deps.db, rigId);
   const doc = deps.db
     .select({ document: fieldMapVersions.document })
     .from(fieldMaps)

@@ -1,4 +1,4 @@
-import type { BitChunk, BitRecoverySink } from './types';
+import type { BitChunk, BitRecoverySink, LineEncoding } from './types';
 
 export const BIT_CHUNK_SIZE = 8192;
 
@@ -18,7 +18,7 @@ export class LinkBits {
 
   constructor(
     readonly link: string,
-    encoding: 'nrz' | 'nrzi',
+    encoding: LineEncoding,
     invert: boolean,
     private readonly sink: BitRecoverySink,
   ) {

@@ -21,8 +21,10 @@ import type {
   CaptureFormat,
   CaptureReader,
   ChannelInfo,
+  ClockEdge,
   DecodeIssue,
   FrameSink,
+  LineEncoding,
   LineEvent,
   RawFrame,
   ReaderOptions,
@@ -42,8 +44,8 @@ export interface DecoderOptions {
   /** one link per data channel; for octet streams and frame logs, the links to keep (default all) */
   data?: string[];
   handshake?: string[];
-  edge?: 'rising' | 'falling';
-  encoding?: 'nrz' | 'nrzi';
+  edge?: ClockEdge;
+  encoding?: LineEncoding;
   invert?: boolean;
   bitRate?: number;
   fcs?: 16 | 32;

@@ -42,7 +42,8 @@ export class DecodeError extends Error {
   }
 }
 
-export type CaptureFormat = 'vcd' | 'csv' | 'raw' | 'octets' | 'framelog';
+export const CAPTURE_FORMATS = ['vcd', 'csv', 'raw', 'octets', 'framelog'] as const;
+export type CaptureFormat = (typeof CAPTURE_FORMATS)[number];
 
 export interface ChannelInfo {
   /** index used in Transitions.channel */
@@ -141,11 +142,14 @@ export interface DecodedFrame extends RawFrame {
   decode: LinkDecode | null;
 }
 
+export const LINE_EVENT_KINDS = ['rise', 'fall', 'idle', 'flags', 'unknown'] as const;
+export type LineEventKind = (typeof LINE_EVENT_KINDS)[number];
+
 /** A change on a handshake line, an idle period or a stretch of fill flags. */
 export interface LineEvent {
   link: string | null;
   channel: string;
-  kind: 'rise' | 'fall' | 'idle' | 'flags' | 'unknown';
+  kind: LineEventKind;
   sample: number;
   /** for idle and flags: sample index where the stretch ended */
   endSample?: number;
@@ -200,6 +204,13 @@ export interface CaptureReader {
   fatal(): DecodeIssue | null;
 }
 
+/** line coding of the data channel: NRZ, or NRZI (a 0 bit toggles the line) */
+export const LINE_ENCODINGS = ['nrz', 'nrzi'] as const;
+export type LineEncoding = (typeof LINE_ENCODINGS)[number];
+/** the clock edge on which a data bit is taken */
+export const CLOCK_EDGES = ['rising', 'falling'] as const;
+export type ClockEdge = (typeof CLOCK_EDGES)[number];
+
 export interface BitRecoveryOptions {
   samplePeriodSeconds: number;
   /** channel index of the clock; omit to recover the clock from data transitions */
@@ -208,8 +219,8 @@ export interface BitRecoveryOptions {
   data: { channel: number; link: string }[];
   /** handshake channels (RTS/CTS/DCD…) that become line events */
   handshake?: { channel: number; name: string; link?: string }[];
-  edge: 'rising' | 'falling';
-  encoding: 'nrz' | 'nrzi';
+  edge: ClockEdge;
+  encoding: LineEncoding;
   invert: boolean;
   /** nominal bit/s, required when clock is omitted */
   bitRate?: number;

@@ -2,8 +2,8 @@
 // decode of one frame, and the comparison of two captures. Request schemas (zod) and the shapes
 // of the answers. The field-map document itself is validated by shared/decoder/calls/field-map.ts.
 import { z } from 'zod';
-import { EXCHANGE_OUTCOMES } from '../decoder/calls';
-import type { FieldMapInput } from '../decoder/calls';
+import { COMPARISON_KINDS, EXCHANGE_OUTCOMES } from '../decoder/calls';
+import type { FieldMapInput, FileSizeSource, LockConflictOutcome as DecodedLockOutcome, RecordCoverage, RecoveredFileKind } from '../decoder/calls';
 
 const csvList = <T extends z.ZodTypeAny>(item: T) =>
   z.preprocess((v) => (typeof v === 'string' ? (v === '' ? [] : v.split(',')) : v), z.array(item));
@@ -168,7 +168,7 @@ export interface ExchangeLockConflict {
   outcome: LockConflictOutcome;
 }
 
-export type LockConflictOutcome = 'granted' | 'refused' | 'unanswered';
+export type LockConflictOutcome = DecodedLockOutcome;
 
 export interface ExchangePage {
   rows: ExchangeRow[];
@@ -211,20 +211,20 @@ export interface ExchangeStats {
 
 // ---- recovered files ----
 
-export type RecordCoverageName = 'seen' | 'missing' | 'conflict';
+export type RecordCoverageName = RecordCoverage;
 
 /**
  * Where a recovered file's size came from (decoder: FileSizeSource): an end-of-file answer,
  * the compute-file-size (35) answer, an open answer's rc with ex and s2, writes to a file made or
  * extended in the capture (end known once closed), or only the highest record seen.
  */
-export type FileSizeSourceName = 'end-of-file' | 'compute-file-size' | 'open' | 'written' | 'records-seen';
+export type FileSizeSourceName = FileSizeSource;
 
 export interface RecoveredFileSummary {
   id: number;
   /** "NAME.TYP" */
   name: string;
-  kind: 'file' | 'boot-image';
+  kind: RecoveredFileKind;
   /** CP/M user number; null for boot images */
   user: number | null;
   stations: number[];
@@ -319,14 +319,16 @@ export interface FrameCall {
 
 // ---- compare ----
 
+export const comparisonKindSchema = z.enum(COMPARISON_KINDS);
+
 export const compareQuerySchema = z.object({
   a: z.coerce.number().int().positive(),
   b: z.coerce.number().int().positive(),
   /** only rows of these kinds (default all) */
-  kind: csvList(z.enum(['same', 'answered-differently', 'outcome-differs', 'slower', 'faster', 'only-in-a', 'only-in-b'])).optional(),
+  kind: csvList(comparisonKindSchema).optional(),
 });
 
-export type ComparisonKindName = 'same' | 'answered-differently' | 'outcome-differs' | 'slower' | 'faster' | 'only-in-a' | 'only-in-b';
+export type ComparisonKindName = z.infer<typeof comparisonKindSchema>;
 
 export interface ComparedExchange {
   id: number;

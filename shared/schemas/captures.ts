@@ -1,16 +1,17 @@
 import { z } from 'zod';
-import { FRAME_KINDS, FRAME_STATUSES } from '../decoder';
+import { CAPTURE_FORMATS, FRAME_KINDS, FRAME_STATUSES, LINE_EVENT_KINDS, LINK_DIRECTIONS } from '../decoder';
 import type { ExchangeOutcomeName } from './calls';
 import { clockEdgeSchema, encodingSchema } from './rigs';
 
-export const captureFormatSchema = z.enum(['vcd', 'csv', 'raw', 'octets', 'framelog']);
+export const captureFormatSchema = z.enum(CAPTURE_FORMATS);
 export type CaptureFormatName = z.infer<typeof captureFormatSchema>;
 
 export const frameStatusSchema = z.enum(FRAME_STATUSES);
 export const frameKindSchema = z.enum(FRAME_KINDS);
+export const lineEventKindSchema = z.enum(LINE_EVENT_KINDS);
 
 /** Which direction a link carries, relative to the rig's stations. */
-export const linkDirectionSchema = z.enum(['to-server', 'from-server', 'unknown']);
+export const linkDirectionSchema = z.enum(LINK_DIRECTIONS);
 
 export const linkRoleSchema = z.object({
   /** data channel name as the capture names it */
@@ -204,7 +205,7 @@ export interface TimelineEvent {
   id: number;
   link: string | null;
   channel: string;
-  kind: 'rise' | 'fall' | 'idle' | 'flags' | 'unknown';
+  kind: z.infer<typeof lineEventKindSchema>;
   t: number;
   tEnd: number | null;
   count: number | null;

@@ -7,7 +7,8 @@
 //   end       the counts of the lines above, so a truncated file is refused rather than half stored
 // Our own format; the server validates every line with these schemas.
 import { z } from 'zod';
-import { captureSettingsSchema } from './captures';
+import { captureSettingsSchema, frameStatusSchema, lineEventKindSchema } from './captures';
+import { anomalyKindSchema } from './faults';
 
 export const DECODED_FORMAT = 'flagline-decoded';
 export const DECODED_VERSION = 1;
@@ -56,7 +57,7 @@ export const decodedFrameLineSchema = z.object({
   /** positions of the deleted stuffing zeros */
   stuffed: z.array(z.number().int().nonnegative()).max(DECODED_MAX_FRAME_OCTETS * 2),
   /** the deframer's verdict; ok or bad FCS is decided again by the server */
-  status: z.enum(['ok', 'abort', 'short', 'residue']),
+  status: frameStatusSchema.exclude(['bad-fcs']),
 });
 export type DecodedFrameLine = z.infer<typeof decodedFrameLineSchema>;
 
@@ -64,7 +65,7 @@ export const decodedEventLineSchema = z.object({
   type: z.literal('event'),
   link: z.string().min(1).max(80).nullable(),
   channel: z.string().min(1).max(80),
-  kind: z.enum(['rise', 'fall', 'idle', 'flags', 'unknown']),
+  kind: lineEventKindSchema,
   sample: sampleIndex,
   end: sampleIndex.optional(),
   count: z.number().int().nonnegative().optional(),
@@ -73,7 +74,7 @@ export type DecodedEventLine = z.infer<typeof decodedEventLineSchema>;
 
 export const decodedAnomalyLineSchema = z.object({
   type: z.literal('anomaly'),
-  kind: z.enum(['glitch', 'clock-missing', 'clock-extra', 'clock-stretch', 'unknown', 'silence']),
+  kind: anomalyKindSchema,
   link: z.string().min(1).max(80).nullable(),
   channel: z.string().min(1).max(80),
   sample: sampleIndex,

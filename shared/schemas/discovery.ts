@@ -1,9 +1,10 @@
 // What the settings finder found in a capture, as the API returns it (server/services/discovery-runs.ts).
 import { z } from 'zod';
+import type { ClockEdge, LineEncoding } from '../decoder';
 import type { HintReport } from '../decoder/hints';
-import type { CaptureSettingsInput } from './captures';
+import type { CaptureSettingsInput, linkDirectionSchema } from './captures';
 
-export type LinkDirectionName = 'to-server' | 'from-server' | 'unknown';
+export type LinkDirectionName = z.infer<typeof linkDirectionSchema>;
 
 export interface DiscoveryCandidate {
   key: string;
@@ -16,8 +17,8 @@ export interface DiscoveryCandidate {
   good: number;
   goodShare: number;
   rateText: string | null;
-  encoding: 'nrz' | 'nrzi' | null;
-  edge: 'rising' | 'falling' | null;
+  encoding: LineEncoding | null;
+  edge: ClockEdge | null;
   invert: boolean;
   clock: string | null;
   fcs: 16 | 32;

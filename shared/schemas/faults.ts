@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { ANOMALY_KINDS, DAMAGE_CAUSES, type RaceDetail, type RaceSummary } from '../decoder/faults';
+import { ANOMALY_KINDS, DAMAGE_CAUSES, type FaultRow, type RaceCause, type RaceDetail, type RaceSummary } from '../decoder/faults';
 import { frameStatusSchema } from './captures';
 
 // The fault desk of a capture (GET …/captures/:captureId/faults): damaged frames grouped by cause,
@@ -55,8 +55,8 @@ export interface FaultFrameRow {
   nextFrameId: number | null;
   retransmissionFrameId: number | null;
   /** how the retransmission was found: same call-layer key, or the same N(S) */
-  retransmissionBy: 'call' | 'ns' | null;
-  retransmissionSearch: 'found' | 'not-found' | 'capture-ended' | 'not-applicable';
+  retransmissionBy: NonNullable<FaultRow['retransmission']>['by'] | null;
+  retransmissionSearch: FaultRow['retransmissionSearch'];
   /** what shows a race signature on this row (under-run offset, over-run symptom, octet timing), else null */
   race: RaceDetail | null;
 }
@@ -91,5 +91,5 @@ export interface FaultDeskView {
   /** the capture-wide race signatures with the budget line; null for runs decoded before they were recorded */
   races: RaceSummary | null;
   /** title and explanation of each race cause, as the desk shows them */
-  raceWords: Record<'tx-underrun' | 'underrun-fragment' | 'rx-overrun' | 'octet-timing', { title: string; explanation: string }>;
+  raceWords: Record<RaceCause, { title: string; explanation: string }>;
 }

@@ -1,9 +1,10 @@
 import { z } from 'zod';
+import { CLOCK_EDGES, LINE_ENCODINGS } from '../decoder';
 import { DEFAULT_TIMEOUT_SECONDS } from '../decoder/calls';
 import { roleSchema } from './common';
 
-export const encodingSchema = z.enum(['nrz', 'nrzi']);
-export const clockEdgeSchema = z.enum(['rising', 'falling']);
+export const encodingSchema = z.enum(LINE_ENCODINGS);
+export const clockEdgeSchema = z.enum(CLOCK_EDGES);
 export const bitOrderSchema = z.enum(['lsb-first', 'msb-first']);
 
 export const lineSettingsSchema = z.object({

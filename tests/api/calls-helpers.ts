@@ -10,7 +10,7 @@ import { ensureBuiltInMap } from '../../server/services/calls/field-map-store';
  */
 export function seedCallLayer(app: FlaglineApp, rigId: number, captureId: number, userId: number): { builtInMapId: number; mapId: number; fileId: number } {
   const sqlite = app.db.sqlite;
-  const builtInMapId = ensureBuiltInMap(sqlite, rigId);
+  const builtInMapId = ensureBuiltInMap(app.db.db, rigId);
   const now = Date.now();
   const mapId = Number(
     sqlite.prepare("insert into field_maps (rig_id, name, built_in, latest_version, created_at, updated_at) values (?, 'Bench copy', 0, 1, ?, ?)").run(rigId, now, now)

@@ -154,6 +154,23 @@ export async function buildWorld(env = tempDataDir(), maxUploadBytes?: number): 
   };
 }
 
+/**
+ * A new app on the world's database and data folder, as a server restarted after the old one
+ * stopped (the caller closes the old app and handle first, the way its test needs).
+ */
+export async function reopenWorld(old: World): Promise<World> {
+  const handle = openDb(old.env.dbPath);
+  const app = await testApp({ db: handle, dataDir: old.env.dir });
+  return {
+    ...old,
+    app,
+    handle,
+    owner: await signedIn(app, 'owner@example.test'),
+    analyst: await signedIn(app, 'analyst@example.test'),
+    viewer: await signedIn(app, 'viewer@example.test'),
+  };
+}
+
 export async function closeWorld(w: World, keepFiles = false) {
   await w.app.jobs.close();
   w.app.close();

@@ -2,8 +2,7 @@ import fs from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { DecodeJob } from '../../shared/schemas';
-import { buildWorld, clockedVcd, closeWorld, put, recoveredRaw, tempDataDir, upload, waitForJob, type World } from './captures-helpers';
-import { signedIn } from './helpers';
+import { buildWorld, clockedVcd, closeWorld, put, recoveredRaw, reopenWorld, tempDataDir, upload, waitForJob, type World } from './captures-helpers';
 
 const rawSettings = {
   format: 'raw',
@@ -74,7 +73,7 @@ describe('decode runs that stop part way', () => {
     // restart: a new app on the same database and data folder recovers
     w.app.close();
     w.handle.close();
-    const restarted = await buildRestarted(w);
+    const restarted = await reopenWorld(w);
     const job = (await restarted.viewer.get(`${url}/job`)).body as DecodeJob;
     expect(job).toMatchObject({ id: started.id, state: 'interrupted' });
     expect(job.error).toMatch(/server stopped/);
@@ -93,21 +92,6 @@ describe('decode runs that stop part way', () => {
     w = restarted;
   });
 });
-
-async function buildRestarted(old: World): Promise<World> {
-  const { openDb } = await import('../../server/db/client');
-  const { testApp } = await import('./helpers');
-  const handle = openDb(old.env.dbPath);
-  const app = await testApp({ db: handle, dataDir: old.env.dir });
-  return {
-    ...old,
-    app,
-    handle,
-    owner: await signedIn(app, 'owner@example.test'),
-    analyst: await signedIn(app, 'analyst@example.test'),
-    viewer: await signedIn(app, 'viewer@example.test'),
-  };
-}
 
 describe('input that is refused', () => {
   let w: World;

@@ -3,10 +3,8 @@
 // directly), a server started after a worker stopped half way finishes the index, and removing
 // the run removes exactly the entries that exist.
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { openDb } from '../../server/db/client';
 import { dropSearchEntries, indexSearch } from '../../server/runs/search-index';
-import { buildWorld, closeWorld, put, recoveredRaw, upload, waitForJob, type World } from './captures-helpers';
-import { signedIn, testApp } from './helpers';
+import { buildWorld, closeWorld, put, recoveredRaw, reopenWorld, upload, waitForJob, type World } from './captures-helpers';
 
 const rawSettings = {
   format: 'raw',
@@ -101,10 +99,8 @@ describe('search while the index is being built', () => {
     await w.app.jobs.close();
     w.app.close();
     w.handle.close();
-    const handle = openDb(w.env.dbPath);
-    const app = await testApp({ db: handle, dataDir: w.env.dir });
-    w = { ...w, app, handle, viewer: await signedIn(app, 'viewer@example.test'), owner: await signedIn(app, 'owner@example.test') };
-    await app.jobs.idle();
+    w = await reopenWorld(w);
+    await w.app.jobs.idle();
     expect(run().indexedTo).toBe(r.hi);
     expect(indexHits('file0042')).toBe(expected.get('text=file0042'));
     for (const q of searches) expect(await count(q), q).toBe(expected.get(q));

@@ -55,7 +55,7 @@ export function captureCallLayer(m: CallsModule, capture: CaptureRow): CaptureCa
       .where(eq(captureCallLayers.captureId, ph('captureId')))
       .prepare(),
   ).get({ captureId: capture.id });
-  const resolved = chosenMap(m.sqlite, capture.id);
+  const resolved = chosenMap(m.db, capture.id);
   const mapName = mapNameOf(m, resolved.mapId) as string;
   const visible = visibleRun(m, capture.id);
   let current: CaptureCallLayer['current'] = null;
@@ -122,7 +122,7 @@ export function chooseCaptureMap(m: CallsModule, rigId: number, capture: Capture
     .where(and(eq(captures.id, capture.id), eq(decodeJobs.state, 'done')))
     .get()?.id;
   if (decoded !== undefined && !m.jobs.isBusy(capture.id)) {
-    const v = loadMapVersion(m.sqlite, body.mapId, body.version ?? null);
+    const v = loadMapVersion(m.db, body.mapId, body.version ?? null);
     queueCallRun(m, capture.id, decoded, { mapId: v.mapId, version: v.version });
   }
   return captureCallLayer(m, capture);
@@ -136,7 +136,7 @@ const runInputsOf = (m: Pick<CallsModule, 'db'>, decodeJobId: number) =>
 function queueCallRun(m: CallsModule, captureId: number, decodeJobId: number, fieldMap: { mapId: number; version: number }): void {
   const row = runInputsOf(m, decodeJobId)!;
   const decodeInputs = parseRunInputs(row.inputs, { settings: row.settings, fieldMap });
-  m.calls.enqueue(createCallRun(m.sqlite, captureId, decodeJobId, callRunInputs(m.sqlite, captureId, decodeInputs, fieldMap), 'queued'));
+  m.calls.enqueue(createCallRun(m.db, captureId, decodeJobId, callRunInputs(m.db, captureId, decodeInputs, fieldMap), 'queued'));
 }
 
 /**
@@ -147,6 +147,6 @@ export function applyMapChosenDuringDecode(m: CallsModule, captureId: number, de
   const inputs = runInputsOf(m, decodeJobId)?.inputs;
   if (!inputs) return;
   const used = (JSON.parse(inputs) as RunInputs).fieldMap;
-  const now = chosenMap(m.sqlite, captureId);
+  const now = chosenMap(m.db, captureId);
   if (now.mapId !== used.mapId || now.version !== used.version) queueCallRun(m, captureId, decodeJobId, { mapId: now.mapId, version: now.version });
 }

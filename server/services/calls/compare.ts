@@ -1,5 +1,5 @@
 // Two captures of one rig side by side at exchange level, through the engine's compareExchanges.
-import { type DecodedCall, compareExchanges, type Exchange } from '../../../shared/decoder/calls';
+import { compareExchanges, type ComparableExchange } from '../../../shared/decoder/calls';
 import type { ComparedExchange, CompareResult, ComparisonKindName } from '../../../shared/schemas';
 import { asc, eq, sql } from 'drizzle-orm';
 import { prepared } from '../../db/prepared';
@@ -17,57 +17,42 @@ const compareColumns = {
   station: exchanges.station,
   callCode: exchanges.callCode,
   callName: exchanges.callName,
-  tag: exchanges.tag,
   fileName: exchanges.fileName,
   recordNumber: exchanges.recordNumber,
   status: exchanges.status,
   statusMeaning: exchanges.statusMeaning,
   tRequest: exchanges.tRequest,
-  tRequestEnd: exchanges.tRequestEnd,
-  tResponse: exchanges.tResponse,
   rtt: exchanges.rtt,
   outcome: exchanges.outcome,
   retries: exchanges.retries,
-  user: exchanges.user,
   answer: exchanges.answer,
 };
 type Row = RowOf<typeof compareColumns>;
 
-const callOf = (r: Row, fields: DecodedCall['fields']): DecodedCall =>
-  ({ fileName: r.fileName, recordNumber: r.recordNumber, user: r.user, fields }) as unknown as DecodedCall;
+type StoredExchange = ComparableExchange & { rowId: number };
 
 /**
- * A stored exchange in the engine's shape, as far as compareExchanges reads it: the answer is the
- * stored signature of the response's fields (tag left out), times stand in for samples.
+ * A stored exchange as compareExchanges reads it: the answer is the stored signature of the
+ * response's fields (tag left out), the request time stands in for its sample.
  */
-function asExchange(r: Row): Exchange & { rowId: number } {
-  const answerField = r.answer === null ? [] : [{ id: 'answer', role: null, display: r.answer } as unknown as DecodedCall['fields'][number]];
+function asExchange(r: Row): StoredExchange {
+  const answerFields = r.answer === null ? [] : [{ id: 'answer', role: null, display: r.answer }];
   return {
     rowId: r.id,
     station: r.station,
-    request: { link: '', seq: r.id },
-    requestCall: callOf(r, []),
-    retries: [],
-    responses: [],
-    damagedResponses: [],
-    responseCall: r.answer === null && r.outcome === 'unanswered' ? null : callOf(r, answerField),
+    requestCall: { fileName: r.fileName, recordNumber: r.recordNumber },
+    responseCall: r.answer === null && r.outcome === 'unanswered' ? null : { fields: answerFields },
     callCode: r.callCode,
     callName: r.callName,
-    tag: r.tag,
     recordNumber: r.recordNumber,
     fileName: r.fileName,
-    status: r.status,
-    statusMeaning: r.statusMeaning,
     firstSample: r.tRequest,
-    answeredSendLastSample: r.tRequestEnd,
-    responseFirstSample: r.tResponse,
     rttSeconds: r.rtt,
     outcome: r.outcome,
-    serviceDelaySeconds: null,
   };
 }
 
-function loadExchanges(m: CallsModule, rigId: number, captureId: number, which: 'a' | 'b'): { name: string; rows: Map<number, Row>; list: (Exchange & { rowId: number })[] } {
+function loadExchanges(m: CallsModule, rigId: number, captureId: number, which: 'a' | 'b'): { name: string; rows: Map<number, Row>; list: StoredExchange[] } {
   const c = findCapture(m, rigId, captureId);
   const run = visibleRun(m, captureId);
   if (!run) throw new HttpError(422, `Capture ${which.toUpperCase()} (“${c.name}”) has no exchanges yet: decode it first`);
@@ -105,8 +90,8 @@ export function compareCaptures(m: CallsModule, rigId: number, q: { a: number; b
         recordNumber: r.recordNumber,
         kind: r.kind,
         rttDeltaSeconds: r.rttDeltaSeconds,
-        a: r.a ? brief(a.rows.get((r.a as Exchange & { rowId: number }).rowId)!) : null,
-        b: r.b ? brief(b.rows.get((r.b as Exchange & { rowId: number }).rowId)!) : null,
+        a: r.a ? brief(a.rows.get(r.a.rowId)!) : null,
+        b: r.b ? brief(b.rows.get(r.b.rowId)!) : null,
       })),
     summary,
   };

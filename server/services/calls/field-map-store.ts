@@ -1,10 +1,7 @@
 // The rig's field maps as the call layer reads them: the built-in map (created on first use,
 // a new version when the shipped document changes) and each capture's chosen map.
-// Takes the raw connection so a decode worker's own connection can call it too.
-import type Database from 'better-sqlite3';
 import { and, eq } from 'drizzle-orm';
-import { drizzle } from 'drizzle-orm/better-sqlite3';
-import * as schema from '../../db/schema';
+import type { Db } from '../../db/client';
 import { captureCallLayers, captures, fieldMaps, fieldMapVersions } from '../../db/schema';
 import { CPM_ENVELOPE_DOCUMENT } from '../../../shared/decoder/calls';
 import { loadMapVersion, type ResolvedMap } from '../../runs/inputs';
@@ -17,8 +14,7 @@ export const BUILT_IN_MAP_NAME = 'CP/M call envelope';
  * The rig's built-in map row, created on first use; when the shipped document changed since,
  * the new one becomes the next version (older versions stay, captures pinned to them keep them).
  */
-export function ensureBuiltInMap(sqlite: Database.Database, rigId: number): number {
-  const db = drizzle(sqlite, { schema });
+export function ensureBuiltInMap(db: Db, rigId: number): number {
   const doc = JSON.stringify(CPM_ENVELOPE_DOCUMENT);
   // the usual case reads only; a write takes the lock first (IMMEDIATE), so the server and a
   // decode worker creating the row at the same moment wait for each other instead of failing
@@ -31,9 +27,9 @@ export function ensureBuiltInMap(sqlite: Database.Database, rigId: number): numb
     .limit(1)
     .get();
   if (existing !== undefined) return existing.id;
-  return sqlite
-    .transaction(() => {
-      const row = db
+  return db.transaction(
+    (tx) => {
+      const row = tx
         .select({ id: fieldMaps.id, v: fieldMaps.latestVersion })
         .from(fieldMaps)
         .where(and(eq(fieldMaps.rigId, rigId), eq(fieldMaps.builtIn, true)))
@@ -42,31 +38,31 @@ export function ensureBuiltInMap(sqlite: Database.Database, rigId: number): numb
         .get();
       const now = new Date();
       if (!row) {
-        const id = db
+        const id = tx
           .insert(fieldMaps)
           .values({ rigId, name: BUILT_IN_MAP_NAME, builtIn: true, latestVersion: 1, createdAt: now, updatedAt: now })
           .returning({ id: fieldMaps.id })
           .get().id;
-        db.insert(fieldMapVersions).values({ mapId: id, version: 1, document: doc, createdBy: null, createdAt: now }).run();
+        tx.insert(fieldMapVersions).values({ mapId: id, version: 1, document: doc, createdBy: null, createdAt: now }).run();
         return id;
       }
-      const latest = db
+      const latest = tx
         .select({ document: fieldMapVersions.document })
         .from(fieldMapVersions)
         .where(and(eq(fieldMapVersions.mapId, row.id), eq(fieldMapVersions.version, row.v)))
         .get();
       if (latest?.document !== doc) {
-        db.insert(fieldMapVersions).values({ mapId: row.id, version: row.v + 1, document: doc, createdBy: null, createdAt: now }).run();
-        db.update(fieldMaps).set({ latestVersion: row.v + 1, updatedAt: now }).where(eq(fieldMaps.id, row.id)).run();
+        tx.insert(fieldMapVersions).values({ mapId: row.id, version: row.v + 1, document: doc, createdBy: null, createdAt: now }).run();
+        tx.update(fieldMaps).set({ latestVersion: row.v + 1, updatedAt: now }).where(eq(fieldMaps.id, row.id)).run();
       }
       return row.id;
-    })
-    .immediate();
+    },
+    { behavior: 'immediate' },
+  );
 }
 
 /** The capture's chosen map (the rig's built-in when none was chosen or the chosen one is gone). */
-export function chosenMap(sqlite: Database.Database, captureId: number): ResolvedMap {
-  const db = drizzle(sqlite, { schema });
+export function chosenMap(db: Db, captureId: number): ResolvedMap {
   const choice = db
     .select({ mapId: captureCallLayers.mapId, mapVersion: captureCallLayers.mapVersion })
     .from(captureCallLayers)
@@ -74,8 +70,8 @@ export function chosenMap(sqlite: Database.Database, captureId: number): Resolve
     .get();
   if (choice?.mapId != null) {
     const exists = db.select({ id: fieldMaps.id }).from(fieldMaps).where(eq(fieldMaps.id, choice.mapId)).get();
-    if (exists) return loadMapVersion(sqlite, choice.mapId, choice.mapVersion);
+    if (exists) return loadMapVersion(db, choice.mapId, choice.mapVersion);
   }
   const capture = db.select({ rigId: captures.rigId }).from(captures).where(eq(captures.id, captureId)).get()!;
-  return loadMapVersion(sqlite, ensureBuiltInMap(sqlite, capture.rigId), null);
+  return loadMapVersion(db, ensureBuiltInMap(db, capture.rigId), null);
 }

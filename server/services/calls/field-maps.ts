@@ -22,7 +22,7 @@ type MapRow = { [K in keyof typeof mapColumns]: (typeof fieldMaps.$inferSelect)[
 const ph = sql.placeholder;
 
 export function findMap(m: CallsModule, rigId: number, mapId: number): MapRow {
-  ensureBuiltInMap(m.sqlite, rigId);
+  ensureBuiltInMap(m.db, rigId);
   const row = prepared(m.db, 'field map of a rig', () =>
     m.db
       .select(mapColumns)
@@ -47,7 +47,7 @@ function versionDocument(m: CallsModule, mapId: number, version: number): string
 }
 
 export function listFieldMaps(m: CallsModule, rigId: number): FieldMapSummary[] {
-  ensureBuiltInMap(m.sqlite, rigId);
+  ensureBuiltInMap(m.db, rigId);
   // who saved the latest version: (map, version) is unique, so the join keeps one row per map
   const rows = m.db
     .select({ ...mapColumns, updatedBy: users.name })

@@ -38,7 +38,7 @@ export function frameCall(m: CallsModule, capture: CaptureRow, frameId: number):
   const frame = frameFromRow(row);
   const run = visibleRun(m, capture.id);
   // the map of the visible results, so the inspector agrees with the exchange list
-  const resolved = run ? loadMapVersion(m.sqlite, run.mapId, run.mapVersion) : chosenMap(m.sqlite, capture.id);
+  const resolved = run ? loadMapVersion(m.db, run.mapId, run.mapVersion) : chosenMap(m.db, capture.id);
   const mapName = mapNameOf(m, resolved.mapId) ?? '';
   const exchangeId = run ? (exchangeOfFrame(m, run.runId, frameId) ?? null) : null;
   // the whole exchange, so the inspector links its request, retries and answers without another request

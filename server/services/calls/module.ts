@@ -1,3 +1,4 @@
+import { driverOf } from '../../db/client';
 import { CallQueue } from '../../runs/call-queue';
 import type { CaptureModule } from '../captures/module';
 import { applyMapChosenDuringDecode } from './capture-layer';
@@ -8,7 +9,7 @@ export interface CallsModule extends CaptureModule {
 }
 
 export function createCallsModule(captures: CaptureModule): CallsModule {
-  const m: CallsModule = { ...captures, calls: new CallQueue(captures.sqlite, captures.jobs) };
+  const m: CallsModule = { ...captures, calls: new CallQueue(driverOf(captures.db), captures.jobs) };
   captures.jobs.onVisible = (captureId, jobId) => applyMapChosenDuringDecode(m, captureId, jobId);
   return m;
 }

@@ -1,17 +1,15 @@
 // The inputs snapshot of a new run (server/runs/inputs.ts), read from the capture, its chosen
 // field map and its rig at the moment the run is created.
-import type Database from 'better-sqlite3';
 import { eq } from 'drizzle-orm';
-import { drizzle } from 'drizzle-orm/better-sqlite3';
-import * as schema from '../../db/schema';
+import type { Db } from '../../db/client';
 import { captures, rigs } from '../../db/schema';
 import type { CaptureSettings } from '../../../shared/schemas';
 import type { MapRef, RunInputs } from '../../runs/inputs';
 import { chosenMap } from './field-map-store';
 
 /** The capture's rig settings a run uses: how long a request may wait before it counts as unanswered, and its CPU clock. */
-function rigRunSettings(sqlite: Database.Database, captureId: number): { answerTimeoutSeconds: number; cpuHz: number } {
-  const row = drizzle(sqlite, { schema })
+function rigRunSettings(db: Db, captureId: number): { answerTimeoutSeconds: number; cpuHz: number } {
+  const row = db
     .select({ ms: rigs.responseTimeoutMs, cpuHz: rigs.cpuHz })
     .from(captures)
     .innerJoin(rigs, eq(rigs.id, captures.rigId))
@@ -21,12 +19,12 @@ function rigRunSettings(sqlite: Database.Database, captureId: number): { answerT
 }
 
 /** A decode run: the capture's roles as given, its chosen map's version now, the rig's timeout and CPU clock now. */
-export function decodeRunInputs(db: Database.Database, captureId: number, capture: CaptureSettings): RunInputs {
+export function decodeRunInputs(db: Db, captureId: number, capture: CaptureSettings): RunInputs {
   const m = chosenMap(db, captureId);
   return { capture, fieldMap: { mapId: m.mapId, version: m.version }, ...rigRunSettings(db, captureId) };
 }
 
 /** A call-only re-run over a decode run's frames: that run's roles, the newly chosen map, the rig's settings now. */
-export function callRunInputs(db: Database.Database, captureId: number, decodeRun: RunInputs, fieldMap: MapRef): RunInputs {
+export function callRunInputs(db: Db, captureId: number, decodeRun: RunInputs, fieldMap: MapRef): RunInputs {
   return { capture: decodeRun.capture, fieldMap, ...rigRunSettings(db, captureId) };
 }

@@ -17,6 +17,7 @@ import { anomalyOf, lineEventOf, rawFrameOf } from '../../../shared/decoded-capt
 import { checkFrame } from '../../../shared/decoder';
 import type { CaptureSummaryRow } from '../../../shared/schemas';
 import { decodedBodyLineSchema, decodedHeaderSchema, type DecodedHeader } from '../../../shared/schemas/decoded-upload';
+import { driverOf, type Db } from '../../db/client';
 import { callRuns, captures, decodeJobs } from '../../db/schema';
 import { badRequest, HttpError } from '../../http/errors';
 import { createCallRun, switchToCallRun } from '../../runs/call-runs';
@@ -124,12 +125,13 @@ async function validate(file: string): Promise<DecodedHeader> {
 }
 
 /** Second pass: the run's rows, as the decode worker writes them. */
-async function storeRun(deps: Pick<CaptureDeps, 'db' | 'sqlite'>, file: string, h: DecodedHeader, inputs: RunInputs, captureId: number, jobId: number): Promise<void> {
-  // the run writer and the stages after it take the driver's handle; the job and capture rows go through Drizzle on the same connection
-  const { db, sqlite } = deps;
+async function storeRun(db: Db, file: string, h: DecodedHeader, inputs: RunInputs, captureId: number, jobId: number): Promise<void> {
+  // the run writer, search index, call stage and fault rows take the driver's handle (as in the
+  // decode worker); the job, capture and call run rows go through Drizzle on the same connection
+  const sqlite = driverOf(db);
   const period = h.samplePeriod;
   const writer = new RunWriter(sqlite, jobId, captureId, () => period);
-  const faults = new FaultRecorder(() => period, faultCallKey(sqlite, inputs), raceDeskOptions(sqlite, inputs));
+  const faults = new FaultRecorder(() => period, faultCallKey(sqlite, inputs), raceDeskOptions(db, inputs));
   let n = 0;
   let first = true;
   for await (const text of lines(file)) {
@@ -158,8 +160,8 @@ async function storeRun(deps: Pick<CaptureDeps, 'db' | 'sqlite'>, file: string, 
   let calls: { runId: number; counts: Awaited<ReturnType<typeof runCallStage>> } | null = null;
   let runId: number | null = null;
   try {
-    runId = createCallRun(sqlite, captureId, jobId, inputs, 'running');
-    const { map } = loadMapVersion(sqlite, inputs.fieldMap.mapId, inputs.fieldMap.version);
+    runId = createCallRun(db, captureId, jobId, inputs, 'running');
+    const { map } = loadMapVersion(db, inputs.fieldMap.mapId, inputs.fieldMap.version);
     const counts = await runCallStage(sqlite, { captureId, decodeJobId: jobId, runId, map, inputs, samplePeriod: period, pause: yieldTurn, onExchange: (e) => faults.exchange(e) });
     calls = { runId, counts };
   } catch (err) {
@@ -169,25 +171,28 @@ async function storeRun(deps: Pick<CaptureDeps, 'db' | 'sqlite'>, file: string, 
   }
   // as in a server decode: the fault desk has seen the call layer's exchanges (receiver over-run symptoms)
   storeFaultReport(sqlite, jobId, captureId, period, faults.report(writer.lastSample));
-  sqlite.transaction(() => {
-    db.update(decodeJobs)
-      .set({
-        state: 'done',
-        stage: 'done',
-        bytesRead: h.bytesRead,
-        frames: writer.frames,
-        events: writer.events,
-        samplePeriod: period,
-        links: JSON.stringify(h.links),
-        lastSample: writer.lastSample,
-        issues: JSON.stringify(h.issues),
-        finishedAt: new Date(),
-      })
-      .where(eq(decodeJobs.id, jobId))
-      .run();
-    db.update(captures).set({ currentJobId: jobId }).where(eq(captures.id, captureId)).run();
-    if (calls) switchToCallRun(sqlite, captureId, calls.runId, calls.counts);
-  }).immediate();
+  db.transaction(
+    (tx) => {
+      tx.update(decodeJobs)
+        .set({
+          state: 'done',
+          stage: 'done',
+          bytesRead: h.bytesRead,
+          frames: writer.frames,
+          events: writer.events,
+          samplePeriod: period,
+          links: JSON.stringify(h.links),
+          lastSample: writer.lastSample,
+          issues: JSON.stringify(h.issues),
+          finishedAt: new Date(),
+        })
+        .where(eq(decodeJobs.id, jobId))
+        .run();
+      tx.update(captures).set({ currentJobId: jobId }).where(eq(captures.id, captureId)).run();
+      if (calls) switchToCallRun(tx, captureId, calls.runId, calls.counts);
+    },
+    { behavior: 'immediate' },
+  );
 }
 
 /**
@@ -215,17 +220,17 @@ export async function storeDecodedUpload(deps: CaptureDeps, rigId: number, userI
       .returning()
       .get();
     // the run's inputs snapshot, as a server decode records it
-    const inputs = decodeRunInputs(deps.sqlite, row.id, h.settings);
+    const inputs = decodeRunInputs(deps.db, row.id, h.settings);
     const jobId = deps.db
       .insert(decodeJobs)
       .values({ captureId: row.id, state: 'running', stage: 'storing', bytesTotal: h.size, settings: JSON.stringify(h.settings), inputs: JSON.stringify(inputs), startedAt: new Date() })
       .returning({ id: decodeJobs.id })
       .get().id;
     try {
-      await storeRun(deps, temp, h, inputs, row.id, jobId);
+      await storeRun(deps.db, temp, h, inputs, row.id, jobId);
     } catch (err) {
       // nothing half-stored: the capture and its rows go
-      clearRunRows(deps.sqlite, jobId);
+      clearRunRows(driverOf(deps.db), jobId);
       deps.db.delete(captures).where(eq(captures.id, row.id)).run();
       throw err;
     }

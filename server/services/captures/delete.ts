@@ -1,4 +1,5 @@
 import { and, eq } from 'drizzle-orm';
+import { driverOf } from '../../db/client';
 import { captures, decodeJobs } from '../../db/schema';
 import { clearRunRows } from '../../runs/sweep';
 import type { CaptureDeps } from './deps';
@@ -11,11 +12,12 @@ import type { CaptureRow } from './rows';
 export async function deleteCapture(deps: CaptureDeps, c: CaptureRow): Promise<void> {
   await deps.jobs.stop(c.id);
   const jobIds = deps.db.select({ id: decodeJobs.id }).from(decodeJobs).where(eq(decodeJobs.captureId, c.id)).all();
-  // the run rows are cleared on the driver's handle; Drizzle's delete runs on the same connection, so in this transaction
-  deps.sqlite.transaction(() => {
-    for (const { id } of jobIds) clearRunRows(deps.sqlite, id);
-    deps.db.delete(captures).where(eq(captures.id, c.id)).run();
-  })();
+  // the sweep clears run rows on the driver's handle (its search-index deletes are raw FTS5): the same connection, so in this transaction
+  const sqlite = driverOf(deps.db);
+  deps.db.transaction((tx) => {
+    for (const { id } of jobIds) clearRunRows(sqlite, id);
+    tx.delete(captures).where(eq(captures.id, c.id)).run();
+  });
   // a capture decoded in the browser shares the hash of its original but holds no file
   const others = deps.db
     .select({ id: captures.id })

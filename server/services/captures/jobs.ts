@@ -10,7 +10,7 @@ export function startDecode(deps: CaptureDeps, c: CaptureRow): DecodeJob {
   const settings = parseSettings(c.settings);
   if (!settings) throw new HttpError(422, 'Set the channel roles (PUT …/settings) before decoding this capture');
   if (deps.jobs.isBusy(c.id)) throw conflict('This capture is already being decoded; wait for the run to finish or cancel it');
-  const jobId = deps.jobs.enqueue(c.id, decodeRunInputs(deps.sqlite, c.id, settings), c.size);
+  const jobId = deps.jobs.enqueue(c.id, decodeRunInputs(deps.db, c.id, settings), c.size);
   return toDecodeJob(deps.db.select().from(decodeJobs).where(eq(decodeJobs.id, jobId)).get()!);
 }
 

@@ -25,6 +25,6 @@ export function createCaptureModule(opts: { db: Db; sqlite: Database.Database; d
   );
   const jobs = new DecodeQueue(opts.sqlite, opts.dbPath, store);
   jobs.recover();
-  const deps: CaptureDeps = { db: opts.db, sqlite: opts.sqlite, store, jobs, maxUploadBytes: opts.maxUploadBytes ?? defaultMaxUploadBytes() };
+  const deps: CaptureDeps = { db: opts.db, store, jobs, maxUploadBytes: opts.maxUploadBytes ?? defaultMaxUploadBytes() };
   return { ...deps, timeline: new TimelineReader(deps) };
 }

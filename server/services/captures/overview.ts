@@ -97,7 +97,7 @@ export function captureOverview(deps: CaptureDeps, timeline: TimelineReader, c: 
   const gapCounts = GAP_EDGES.slice(1).map(() => 0);
   // streamed: a run's gaps never sit in memory at once
   const gaps = iterateValues<[number | null]>(
-    deps.sqlite,
+    deps.db,
     deps.db
       .select({ gap: sql<number | null>`${frames.t} - lag(${frames.tEnd}) over (partition by ${frames.link} order by ${frames.t}, ${frames.id})` })
       .from(frames)

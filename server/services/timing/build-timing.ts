@@ -2,13 +2,12 @@
 // run's channel roles), request-line edges from the line events, and the visible call run's
 // exchanges. Reading a few hundred thousand rows takes a moment, so the result is kept per
 // (decode run, call run) for the next request: the schedule view asks for many windows of it.
-import type Database from 'better-sqlite3';
 import { and, asc, eq, inArray } from 'drizzle-orm';
-import { drizzle } from 'drizzle-orm/better-sqlite3';
+import type { Db } from '../../db/client';
 import { iterateValues } from '../../db/rows';
-import * as schema from '../../db/schema';
 import { decodeJobs, exchanges as exchangesTable, frames as framesTable, lineEvents } from '../../db/schema';
-import { callLayerRoles } from '../../../shared/decoder/calls';
+import type { FrameKind, FrameStatus, LineEventKind } from '../../../shared/decoder';
+import { callLayerRoles, type ExchangeOutcome } from '../../../shared/decoder/calls';
 import { LineTiming, type Schedule, type ServiceReport } from '../../../shared/decoder/timing';
 import { captureSettingsSchema, type CaptureSettings } from '../../../shared/schemas';
 
@@ -27,7 +26,7 @@ const KEEP = 4;
 const cache = new Map<string, BuiltTiming>();
 
 /** The run's line timing, from the cache when the same decode and call runs were built before. */
-export function timingOf(db: Database.Database, jobId: number, callRunId: number | null, rigStations: number[]): BuiltTiming {
+export function timingOf(db: Db, jobId: number, callRunId: number | null, rigStations: number[]): BuiltTiming {
   const key = `${jobId}:${callRunId ?? '-'}:${rigStations.join(',')}`;
   const hit = cache.get(key);
   if (hit) {
@@ -42,11 +41,11 @@ export function timingOf(db: Database.Database, jobId: number, callRunId: number
   return built;
 }
 
-type FrameTuple = [number, string, number, number, string, number | null, string | null, number | null];
+/** the driver's values of a frame row: id, link, t, tEnd, status, address, kind, pf (0/1: no column decoders) */
+type FrameTuple = [number, string, number, number, FrameStatus, number | null, FrameKind | null, number | null];
 
-export function buildTiming(db: Database.Database, jobId: number, callRunId: number | null, rigStations: number[]): BuiltTiming {
-  const d = drizzle(db, { schema });
-  const raw = d.select({ settings: decodeJobs.settings }).from(decodeJobs).where(eq(decodeJobs.id, jobId)).get()?.settings;
+export function buildTiming(db: Db, jobId: number, callRunId: number | null, rigStations: number[]): BuiltTiming {
+  const raw = db.select({ settings: decodeJobs.settings }).from(decodeJobs).where(eq(decodeJobs.id, jobId)).get()?.settings;
   const settings: CaptureSettings = captureSettingsSchema.parse(raw ? JSON.parse(raw) : {});
   const { links, rts } = callLayerRoles(settings);
   const roles = new Map(links.map((l) => [l.link, l]));
@@ -59,7 +58,7 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
   let unattributed = 0;
   const rows = iterateValues<FrameTuple>(
     db,
-    d
+    db
       .select({ id: framesTable.id, link: framesTable.link, t: framesTable.t, tEnd: framesTable.tEnd, status: framesTable.status, address: framesTable.address, kind: framesTable.kind, pf: framesTable.pf })
       .from(framesTable)
       .where(eq(framesTable.jobId, jobId))
@@ -79,17 +78,17 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
       direction: role.direction,
       first: t,
       last: tEnd,
-      status: status as never,
-      kind: kind as 'I' | 'S' | 'U' | null,
+      status,
+      kind,
       pf: pf === 1,
       id,
     });
   }
   if (rts.length > 0) {
     const lineOf = new Map(rts.map((r) => [r.channel, r.station]));
-    const edges = iterateValues<[string, 'rise' | 'fall', number]>(
+    const edges = iterateValues<[string, Extract<LineEventKind, 'rise' | 'fall'>, number]>(
       db,
-      d
+      db
         .select({ channel: lineEvents.channel, kind: lineEvents.kind, t: lineEvents.t })
         .from(lineEvents)
         .where(and(eq(lineEvents.jobId, jobId), inArray(lineEvents.kind, ['rise', 'fall']), inArray(lineEvents.channel, rts.map((r) => r.channel))))
@@ -99,9 +98,9 @@ export function buildTiming(db: Database.Database, jobId: number, callRunId: num
   }
   let exchanges = 0;
   if (callRunId !== null) {
-    const xs = iterateValues<[number, number, number, number, number | null, number | null, 'answered' | 'retried' | 'unanswered']>(
+    const xs = iterateValues<[number, number, number, number, number | null, number | null, ExchangeOutcome]>(
       db,
-      d
+      db
       .select({
         id: exchangesTable.id,
         station: exchangesTable.station,

@@ -1,14 +1,14 @@
 // The decode run's side of the race signatures: what the fault desk needs to find them (the field
 // map's shape of each call, the rig's CPU clock and the capture's bit rate) and where their
-// details go once found (fault_rows.race, fault_summaries.races, written by server/runs/fault-rows.ts). Raw better-sqlite3: the decode
-// worker has no Drizzle handle.
-import type Database from 'better-sqlite3';
+// details go once found (fault_rows.race, fault_summaries.races, written by server/runs/fault-rows.ts). Takes the decode
+// worker's driver handle too (dbOf in server/db/client.ts).
+import type { Db, Driver } from '../../db/client';
 import { callShapeFromFieldMap, type FaultDeskOptions } from '../../../shared/decoder/faults';
 import { DEFAULT_CPU_HZ } from '../../../shared/decoder/timing';
 import { loadMapVersion, type RunInputs } from '../../runs/inputs';
 
 /** Options the fault desk of a decode run takes beyond the sample period and call key, from the run's inputs snapshot. */
-export function raceDeskOptions(db: Database.Database, inputs: RunInputs): Partial<FaultDeskOptions> {
+export function raceDeskOptions(db: Db | Driver, inputs: RunInputs): Partial<FaultDeskOptions> {
   const settings = inputs.capture;
   const options: Partial<FaultDeskOptions> = { cpuHz: inputs.cpuHz ?? DEFAULT_CPU_HZ, bitRate: settings.bitRate ?? undefined };
   try {

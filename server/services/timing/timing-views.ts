@@ -31,7 +31,7 @@ function load(m: CaptureModule, c: CaptureRow): Loaded {
     .get()?.id;
   const named = m.db.select({ address: stations.address, name: stations.name, role: stations.role }).from(stations).where(eq(stations.rigId, c.rigId)).all();
   const built = timingOf(
-    m.sqlite,
+    m.db,
     job.id,
     callRunId ?? null,
     named.filter((s) => s.role === 'station').map((s) => s.address).sort((a, b) => a - b),

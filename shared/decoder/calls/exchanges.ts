@@ -415,16 +415,34 @@ export function pairExchanges(
 
 // ---- Compare: two captures of the same rig side by side at exchange level ----
 
-export type ComparisonKind = 'same' | 'answered-differently' | 'outcome-differs' | 'slower' | 'faster' | 'only-in-a' | 'only-in-b';
+export const COMPARISON_KINDS = ['same', 'answered-differently', 'outcome-differs', 'slower', 'faster', 'only-in-a', 'only-in-b'] as const;
+export type ComparisonKind = (typeof COMPARISON_KINDS)[number];
 
-export interface ExchangeComparison {
+/**
+ * What compareExchanges reads of an exchange: an Exchange has it, and so has a stored exchange
+ * row shaped to it (its answer as one field), with no decoder objects to forge.
+ */
+export interface ComparableExchange {
   station: number;
   callCode: number | null;
   callName: string | null;
   fileName: string | null;
   recordNumber: number | null;
-  a: Exchange | null;
-  b: Exchange | null;
+  firstSample: number;
+  rttSeconds: number | null;
+  outcome: ExchangeOutcome;
+  requestCall: { fileName: string | null; recordNumber: number | null };
+  responseCall: { fields: readonly { id: string; role: string | null; display: string }[] } | null;
+}
+
+export interface ExchangeComparison<E extends ComparableExchange = Exchange> {
+  station: number;
+  callCode: number | null;
+  callName: string | null;
+  fileName: string | null;
+  recordNumber: number | null;
+  a: E | null;
+  b: E | null;
   kind: ComparisonKind;
   /** b's round trip minus a's, when both were answered */
   rttDeltaSeconds: number | null;
@@ -451,12 +469,12 @@ export interface CompareOptions {
 }
 
 /** What identifies "the same request" in two captures: station, call, file and record, in order of occurrence. */
-function requestKey(e: Exchange): string {
+function requestKey(e: ComparableExchange): string {
   return `${e.station}|${e.callCode}|${e.requestCall.fileName ?? ''}|${e.requestCall.recordNumber ?? ''}`;
 }
 
 /** The answer without its tag: status and every other response field's value. */
-function answerSignature(e: Exchange): string | null {
+function answerSignature(e: ComparableExchange): string | null {
   const r = e.responseCall;
   if (!r) return null;
   return r.fields
@@ -470,11 +488,15 @@ function answerSignature(e: Exchange): string | null {
  * k-th in capture B, then says how B's answer differs: a different answer, a different outcome
  * (answered vs unanswered), slower or faster, or present in one capture only.
  */
-export function compareExchanges(a: readonly Exchange[], b: readonly Exchange[], options: CompareOptions = {}): { rows: ExchangeComparison[]; summary: ComparisonSummary } {
+export function compareExchanges<E extends ComparableExchange>(
+  a: readonly E[],
+  b: readonly E[],
+  options: CompareOptions = {},
+): { rows: ExchangeComparison<E>[]; summary: ComparisonSummary } {
   const relative = options.relative ?? 0.2;
   const absolute = options.absolute ?? 0.0002;
-  const byKey = (list: readonly Exchange[]) => {
-    const m = new Map<string, Exchange[]>();
+  const byKey = (list: readonly E[]) => {
+    const m = new Map<string, E[]>();
     for (const e of [...list].sort((x, y) => x.firstSample - y.firstSample)) {
       const k = requestKey(e);
       const l = m.get(k);
@@ -485,8 +507,8 @@ export function compareExchanges(a: readonly Exchange[], b: readonly Exchange[],
   };
   const ma = byKey(a);
   const mb = byKey(b);
-  const rows: ExchangeComparison[] = [];
-  const row = (ea: Exchange | null, eb: Exchange | null): ExchangeComparison => {
+  const rows: ExchangeComparison<E>[] = [];
+  const row = (ea: E | null, eb: E | null): ExchangeComparison<E> => {
     const e = (ea ?? eb)!;
     let kind: ComparisonKind;
     let delta: number | null = null;

@@ -45,6 +45,9 @@ export type RecordCoverage = 'seen' | 'missing' | 'conflict';
 /** Where a recovered file's size came from (see above). */
 export type FileSizeSource = 'end-of-file' | 'compute-file-size' | 'open' | 'written' | 'records-seen';
 
+/** the server's answer to a request for a lock another station holds */
+export type LockConflictOutcome = 'granted' | 'refused' | 'unanswered';
+
 export interface LockConflict {
   /** the record both stations locked or asked to lock */
   record: number;
@@ -53,14 +56,16 @@ export interface LockConflict {
   /** the other station, and the request of its lock exchange */
   requester: { station: number; lock: FrameRef };
   /** the server's answer to the requester: granted (both hold it), refused, or none */
-  outcome: 'granted' | 'refused' | 'unanswered';
+  outcome: LockConflictOutcome;
 }
+
+export type RecoveredFileKind = 'file' | 'boot-image';
 
 export interface RecoveredFile {
   /** "0:HYMNS.TXT" (user number and name) or "boot:WRENBOOT.SYS" */
   key: string;
   name: string;
-  kind: 'file' | 'boot-image';
+  kind: RecoveredFileKind;
   /** CP/M user number of the calls, null when unknown (boot images) */
   user: number | null;
   /** stations that transferred records of the file */

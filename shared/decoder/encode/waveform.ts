@@ -1,4 +1,4 @@
-import type { ChannelInfo, Transitions } from '../types';
+import type { ChannelInfo, ClockEdge, LineEncoding, Transitions } from '../types';
 
 /**
  * The signal side of the encoder: line bits → line levels (NRZ/NRZI, inversion) → sampled
@@ -60,11 +60,11 @@ export interface WaveformOptions {
   /** samples per bit cell at the nominal rate (fractional allowed; at least 4 with a clock) */
   samplesPerBit: number;
   samplePeriodSeconds: number;
-  encoding: 'nrz' | 'nrzi';
+  encoding: LineEncoding;
   /** invert the line levels (NRZI data is unchanged by this; NRZ bits flip) */
   invert?: boolean;
   /** the clock channel and its active edge; omit for a capture without a clock */
-  clock?: { name?: string; edge: 'rising' | 'falling' };
+  clock?: { name?: string; edge: ClockEdge };
   handshake?: HandshakeLine[];
   /** idle bit periods before bit 0 (default 2) */
   leadBits?: number;

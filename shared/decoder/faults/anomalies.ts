@@ -26,7 +26,7 @@
 // Per transition the state is a handful of numbers in typed arrays; objects are made only for an
 // anomaly found.
 import { ClockPeriodHistogram, type ClockSpread } from '../timing/clock-spread';
-import type { Transitions } from '../types';
+import type { ClockEdge, LineEncoding, Transitions } from '../types';
 
 
 export const ANOMALY_KINDS = ['glitch', 'clock-missing', 'clock-extra', 'clock-stretch', 'silence', 'unknown'] as const;
@@ -65,9 +65,9 @@ export interface AnomalyTapOptions {
   /** display name of the clock channel (default "clock") */
   clockName?: string;
   /** edge the bits are sampled on (default rising); clock intervals are measured between these */
-  edge?: 'rising' | 'falling';
+  edge?: ClockEdge;
   data: { channel: number; link: string }[];
-  encoding?: 'nrz' | 'nrzi';
+  encoding?: LineEncoding;
   /** nominal bit/s; without it the period is learned from the clock (no clock and no rate: no period-based checks) */
   bitRate?: number;
   /** bit times without activity that make a silence (default 16: beyond any flag, abort or stuffed run) */

@@ -4,7 +4,7 @@
 import { decodeFrameCall, type CallDirection } from '../calls/apply';
 import type { FieldMap } from '../calls/field-map';
 import { decodeLink } from '../link';
-import type { DecodedFrame, FrameStatus } from '../types';
+import type { DecodedFrame, FrameKind, FrameStatus } from '../types';
 
 /**
  * Causes, from the frame status:
@@ -145,7 +145,7 @@ export interface FrameDiagnosis {
   /** address octet: from the corrected bytes when one bit explains the FCS, else as received (may itself be damaged) */
   station: number | null;
   /** link fields from the same bytes */
-  kind: 'I' | 'S' | 'U' | null;
+  kind: FrameKind | null;
   command: string | null;
   ns: number | null;
   /** true when station/kind/N(S) come from the corrected bytes */

@@ -12,7 +12,7 @@ import type { Exchange } from '../calls/exchanges';
 import { octetBudget, BitRateMeter, DEFAULT_CPU_HZ, type OctetBudget } from '../timing/budget';
 import type { ClockSpread } from '../timing/clock-spread';
 import { countValues } from '../timing/stats';
-import type { DecodedFrame, FrameStatus, LineEvent } from '../types';
+import type { DecodedFrame, FrameKind, FrameStatus, LineEvent } from '../types';
 import { ANOMALY_KINDS, FrameWindowIndex, type AnomalyKind, type FrameRef, type LineAnomaly } from './anomalies';
 import {
   binFaults,
@@ -71,7 +71,7 @@ export interface FaultRow {
    */
   focusSample: number | null;
   station: number | null;
-  kind: 'I' | 'S' | 'U' | null;
+  kind: FrameKind | null;
   command: string | null;
   ns: number | null;
   /** station and link fields read from the bytes with the flipped bit put back */

@@ -14,7 +14,9 @@
 import type { FieldMap } from '../calls/field-map';
 import type { DecodedFrame } from '../types';
 
-export type InferredDirection = 'to-server' | 'from-server' | 'unknown';
+/** which way a link carries, relative to the server: also the channel-role form's link direction */
+export const LINK_DIRECTIONS = ['to-server', 'from-server', 'unknown'] as const;
+export type InferredDirection = (typeof LINK_DIRECTIONS)[number];
 
 export interface DirectionEvidence {
   /** positive: from the server; negative: to the server */

@@ -3,7 +3,7 @@
 // direction with its reasons, the station roster, and capture settings to prefill the form.
 import type { FieldMap } from '../calls/field-map';
 import { createDecoder, type DecoderOptions } from '../pipeline';
-import type { DecodedFrame } from '../types';
+import type { ClockEdge, DecodedFrame, LineEncoding } from '../types';
 import { inferDirections, stationRoster, type DirectionVerdict, type InferredDirection, type RosterStation } from './directions';
 import { findSettings, type CaptureSource, type FinderOptions, type FinderProgress, type FinderResult, type SettingsFinder } from './finder';
 import type { FinderCandidate } from './rank';
@@ -18,8 +18,8 @@ export interface SuggestedSettings {
   links: { channel: string; direction: InferredDirection; stationAddress: number | null; label: string }[];
   handshake: { channel: string; name: string; link: string | null }[];
   bitRate: number | null;
-  encoding: 'nrz' | 'nrzi';
-  edge: 'rising' | 'falling';
+  encoding: LineEncoding;
+  edge: ClockEdge;
   invert: boolean;
   fcs: 16 | 32;
 }

@@ -1,7 +1,7 @@
 // One way of reading the capture's bytes (a format, and for raw samples a sample width) and the
 // trial decodes of each window under it. Counts add up over the windows the finder reads.
 import { createReader } from '../readers';
-import type { CaptureFormat, CaptureReader, ChannelInfo, DecodeIssue, ReaderOptions, Transitions } from '../types';
+import type { CaptureFormat, CaptureReader, ChannelInfo, ClockEdge, DecodeIssue, LineEncoding, ReaderOptions, Transitions } from '../types';
 import { ChannelProbe, type EdgeTiming } from './probe';
 import type { BitTimeEstimate, ClockEstimate } from './rate';
 import { FrameTrial, LineBitTrial, LINE_VARIANTS, linkCounts, RecoveryTrial, TransitionFanOut, VariantCount, type LineVariant, type RecoveryPlan } from './trial';
@@ -22,8 +22,8 @@ export interface TrialConstraints {
   /** a clock channel; null: the capture has no clock */
   clock?: string | null;
   data?: string[];
-  edge?: 'rising' | 'falling';
-  encoding?: 'nrz' | 'nrzi';
+  edge?: ClockEdge;
+  encoding?: LineEncoding;
   invert?: boolean;
   fcs?: 16 | 32;
 }
@@ -32,7 +32,7 @@ export interface TrialConstraints {
 export interface PlanInfo {
   key: string;
   clock: string | null;
-  edge: 'rising' | 'falling' | null;
+  edge: ClockEdge | null;
   /** samples per bit: from the clock's period, or the recovered bit time */
   samplesPerBit: number | null;
   spread: number | null;
@@ -363,7 +363,7 @@ export class Family {
     data = data.filter((d) => !clocks.includes(d));
     if (data.length === 0) return [];
     const plans: RecoveryPlan[] = [];
-    const edges: ('rising' | 'falling')[] = c.edge ? [c.edge] : ['rising', 'falling'];
+    const edges: ClockEdge[] = c.edge ? [c.edge] : ['rising', 'falling'];
     for (const ck of clocks) {
       const est = this.clocks.get(ck.name);
       for (const edge of edges) {

@@ -5,4 +5,4 @@ export type { FinderCandidate } from './rank';
 export { estimateBitTime, estimateClock, formatBitRate, formatSpread, type BitTimeEstimate, type ClockEstimate } from './rate';
 export { DEFAULT_BUDGET, type FinderBudget } from './windows';
 export { decoderOptionsOf, discover, discoveryOf, framesUnder, linksOf, suggestedSettings, type Discovery, type DiscoverOptions, type SuggestedSettings } from './discover';
-export { directionConflicts, inferDirections, stationRoster, type DirectionEvidence, type DirectionOptions, type DirectionVerdict, type InferredDirection, type RosterStation } from './directions';
+export { directionConflicts, inferDirections, LINK_DIRECTIONS, stationRoster, type DirectionEvidence, type DirectionOptions, type DirectionVerdict, type InferredDirection, type RosterStation } from './directions';

@@ -2,7 +2,7 @@
 // frames are told apart by what the line itself shows: a captured clock beats a recovered one,
 // the edge at which the data is stable beats the edge at which it changes, and the format the
 // content was detected as comes first.
-import type { CaptureFormat } from '../types';
+import type { CaptureFormat, ClockEdge, LineEncoding } from '../types';
 import type { Family, FamilyCounts } from './family';
 import { formatBitRate, formatSpread, groupDigits } from './rate';
 
@@ -12,9 +12,9 @@ export interface FinderCandidate {
   format: CaptureFormat;
   rawWidth: 1 | 2 | null;
   clock: string | null;
-  edge: 'rising' | 'falling' | null;
+  edge: ClockEdge | null;
   /** null for frame logs (the frames are already cut) */
-  encoding: 'nrz' | 'nrzi' | null;
+  encoding: LineEncoding | null;
   invert: boolean;
   fcs: 16 | 32;
   /** samples per bit: the clock's period, or the recovered bit time */

@@ -11,7 +11,7 @@ import { BitRecovery } from '../bits';
 import { Deframer } from '../deframe';
 import { FCS16_GOOD_RESIDUE, fcs16Register, fcs32 } from '../fcs';
 import { BIT_CHUNK_SIZE } from '../link-bits';
-import type { BitChunk, ChannelInfo, RawFrame, TransitionSink, Transitions } from '../types';
+import type { BitChunk, ChannelInfo, ClockEdge, RawFrame, TransitionSink, Transitions } from '../types';
 
 export type LineVariant = 'nrz' | 'nrz-inv' | 'nrzi';
 export const LINE_VARIANTS: readonly LineVariant[] = ['nrz', 'nrz-inv', 'nrzi'];
@@ -92,7 +92,7 @@ function countFrame(f: RawFrame, c: VariantCount): void {
 export interface RecoveryPlan {
   /** key shared by all candidates this recovery feeds */
   key: string;
-  clock: { channel: ChannelInfo; edge: 'rising' | 'falling' } | null;
+  clock: { channel: ChannelInfo; edge: ClockEdge } | null;
   /** samples per bit for a recovered clock */
   samplesPerBit: number | null;
   data: ChannelInfo[];

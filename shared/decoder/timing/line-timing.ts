@@ -24,7 +24,7 @@
 // Everything is kept in typed arrays (a million frames are a few arrays) and worked out once in
 // finish(); frames and events may come in any order (they are put in time order there).
 import type { ExchangeOutcome, LinkDirection } from '../calls/exchanges';
-import type { FrameStatus } from '../types';
+import type { FrameKind, FrameStatus } from '../types';
 import { SpanBuilder, type SpanColumns } from './span-columns';
 import { durationStats, Float64List, Int32List, type DurationStats } from './stats';
 
@@ -35,7 +35,7 @@ export interface TimingFrame {
   first: number;
   last: number;
   status: FrameStatus;
-  kind: 'I' | 'S' | 'U' | null;
+  kind: FrameKind | null;
   /** the P/F bit */
   pf: boolean;
   /** the caller's id (a database id, or the decoder's running number); -1 when none */

@@ -1,11 +1,11 @@
-import type { CaptureSettingsInput, CaptureSummaryRow, Detection, LineSettings } from '../../../../shared/schemas';
+import type { CaptureSettings, CaptureSettingsInput, CaptureSummaryRow, Detection, LineSettings } from '../../../../shared/schemas';
 
 export type ChannelUse = 'data' | 'handshake' | 'unused';
 
 export interface ChannelRow {
   name: string;
   use: ChannelUse;
-  direction: 'to-server' | 'from-server' | 'unknown';
+  direction: CaptureSettings['links'][number]['direction'];
   /** station address as a string ('' = not known), straight from the select */
   station: string;
   label: string;
@@ -29,8 +29,8 @@ export interface RoleFormState {
   clock: string;
   rows: ChannelRow[];
   bitRate: string;
-  encoding: 'nrz' | 'nrzi';
-  edge: 'rising' | 'falling';
+  encoding: CaptureSettings['encoding'];
+  edge: CaptureSettings['edge'];
   invert: boolean;
   fcs: '16' | '32';
 }
