@@ -8,6 +8,7 @@ import { FieldHintsView } from '../../features/discovery/components/field-hints-
 import { useRig } from '../../features/rigs/api/get-rig';
 import { queryClient } from '../query-client';
 import { whenSignedIn } from './session-loaders';
+import { captureScope } from '../../lib/scope';
 
 // Views of what a capture reveals about its protocol, mounted under the capture route by router.tsx.
 
@@ -28,7 +29,7 @@ function FieldHintsRoute() {
       <Card>
         <CardTitle>Not decoded yet</CardTitle>
         <p className="mb-4 text-sm text-muted">Field hints are counted over a capture's decoded frames. Set its channel roles and decode it first.</p>
-        <ButtonLink to={`/rigs/${rigId}/captures/${capture.id}/setup`}>Channel roles and decode</ButtonLink>
+        <ButtonLink to={`${captureScope(rigId, capture.id).page}/setup`}>Channel roles and decode</ButtonLink>
       </Card>
     );
   }

@@ -11,6 +11,7 @@ import { useCallLayer } from '../../lib/call-layer';
 import { useDiscovery } from './get-discovery';
 import { diagnose } from './diagnose';
 import { NothingFound } from './finder-panel';
+import { captureScope } from '../../lib/scope';
 
 /**
  * After a decode: what is wrong in plain words (wrong line settings, directions not known or
@@ -37,10 +38,10 @@ export function DecodeDiagnosis({ rig, capture, onRedecode }: { rig: RigDetail; 
     save.mutate(settings, {
       onSuccess: () =>
         start.mutate(undefined, {
-          onSuccess: () => (onRedecode ? onRedecode() : navigate(`/rigs/${rig.id}/captures/${capture.id}/setup`)),
+          onSuccess: () => (onRedecode ? onRedecode() : navigate(`${captureScope(rig.id, capture.id).page}/setup`)),
         }),
     });
-  const base = `/rigs/${rig.id}/captures/${capture.id}`;
+  const base = captureScope(rig.id, capture.id).page;
   return (
     <section aria-label="What is wrong with this decode" className="space-y-3 rounded-md border border-flare-500/50 bg-flare-500/10 px-4 py-3 text-sm" data-testid="decode-diagnosis">
       {problems.map((p) => (

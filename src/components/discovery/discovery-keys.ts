@@ -1,3 +1,4 @@
+import { captureScope } from '../../lib/scope';
 /** What a capture reveals about itself: keyed [view, rigId, captureId, …] like the other capture views, so a new decode drops them. */
 export const discoveryKeys = {
   all: ['discovery'] as const,
@@ -11,5 +12,5 @@ export const fieldHintKeys = {
 };
 
 export function discoveryPath(rigId: number, captureId: number): string {
-  return `/api/rigs/${rigId}/captures/${captureId}`;
+  return captureScope(rigId, captureId).path;
 }

@@ -4,6 +4,7 @@ import type { RigDetail } from '../../../shared/schemas';
 import { decodedNewestFirst, previewCapturesQueryOptions } from '../../lib/preview-frame';
 import { useFieldHints } from './get-field-hints';
 import { GroupCard } from '../../features/discovery/components/field-hints-view';
+import { captureScope } from '../../lib/scope';
 
 /** The field-map editor's hints panel: the hints of the preview capture (or the newest decoded one), one group at a time. */
 export function FieldHintsPanel({ rig, captureId }: { rig: RigDetail; captureId: number | null }) {
@@ -12,7 +13,7 @@ export function FieldHintsPanel({ rig, captureId }: { rig: RigDetail; captureId:
   const capture = decoded.find((c) => c.id === captureId) ?? decoded[0] ?? null;
   const hints = useFieldHints(rig.id, capture?.id ?? 0, 0, capture !== null);
   if (!capture) return <p className="text-sm text-muted">No decoded capture on this rig yet: field hints are counted over a capture's frames.</p>;
-  const base = `/rigs/${rig.id}/captures/${capture.id}`;
+  const base = captureScope(rig.id, capture.id).page;
   const frameLink = (ref: { link: string; seq: number }) => {
     const id = hints.data?.frameIds[`${ref.link}:${ref.seq}`];
     return id === undefined ? null : `${base}/frames/${id}`;

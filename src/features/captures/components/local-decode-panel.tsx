@@ -13,6 +13,7 @@ import { useUploadDecoded } from '../api/upload-decoded';
 import type { LocalHints } from '../local-decode/messages';
 import { LocalFrames, statusWords } from './local-frames';
 import { parseRate } from './parse-rate';
+import { captureScope } from '../../../lib/scope';
 
 function settingsLine(s: { format: string; clock: string | null; links: { channel: string }[]; encoding: string; edge: string; invert: boolean; bitRate: number | null; sampleRate: number | null }): string {
   const clock = s.clock ? `clock ${s.clock} (${s.edge} edge)` : `clock recovered at ${s.bitRate ?? '?'} bit/s`;
@@ -138,7 +139,7 @@ export function LocalDecodePanel({ rigId }: { rigId: number }) {
             <Button
               busy={uploadDecoded.isPending}
               disabled={uploadCapture.isPending}
-              onClick={() => uploadDecoded.mutate(s.result.file, { onSuccess: (row) => navigate(`/rigs/${rigId}/captures/${row.id}/timeline`) })}
+              onClick={() => uploadDecoded.mutate(s.result.file, { onSuccess: (row) => navigate(`${captureScope(rigId, row.id).page}/timeline`) })}
             >
               Upload only the decoded frames ({formatBytes(s.result.file.size)})
             </Button>
@@ -146,7 +147,7 @@ export function LocalDecodePanel({ rigId }: { rigId: number }) {
               variant="secondary"
               busy={uploadCapture.isPending}
               disabled={uploadDecoded.isPending}
-              onClick={() => uploadCapture.mutate(file, { onSuccess: (row) => navigate(`/rigs/${rigId}/captures/${row.id}/setup`) })}
+              onClick={() => uploadCapture.mutate(file, { onSuccess: (row) => navigate(`${captureScope(rigId, row.id).page}/setup`) })}
             >
               Upload the capture ({formatBytes(file.size)})
             </Button>

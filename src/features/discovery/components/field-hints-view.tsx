@@ -11,6 +11,7 @@ import { isApiError } from '../../../lib/api';
 import { canCapture } from '../../../lib/permissions';
 import { useCreateFieldMap } from '../../../lib/create-field-map';
 import { useFieldHints } from '../../../components/discovery/get-field-hints';
+import { captureScope } from '../../../lib/scope';
 
 const hex = (v: number) => `0x${v.toString(16).toUpperCase().padStart(2, '0')}`;
 const kindWords: Record<FieldHint['kind'], string> = {
@@ -54,7 +55,7 @@ export function FieldHintsView({ rig, capture }: { rig: RigDetail; capture: Capt
 
 function HintReportView({ rig, capture, data, selector }: { rig: RigDetail; capture: CaptureSummaryRow; data: CaptureFieldHints; selector: number | 'none' }) {
   const r = data.report;
-  const base = `/rigs/${rig.id}/captures/${capture.id}`;
+  const base = captureScope(rig.id, capture.id).page;
   const frameLink = (ref: { link: string; seq: number }) => {
     const id = data.frameIds[`${ref.link}:${ref.seq}`];
     return id === undefined ? null : `${base}/frames/${id}`;

@@ -4,6 +4,7 @@ import { formatDuration } from '../../../components/units';
 import { formatAddress } from '../../../lib/format';
 import { useFaults } from '../../../lib/faults';
 import { useService } from '../api/get-service';
+import { captureScope } from '../../../lib/scope';
 
 /**
  * The overview's way into line timing: the server's round, the starved stations and the
@@ -12,7 +13,7 @@ import { useService } from '../api/get-service';
 export function TimingCard({ rigId, captureId }: { rigId: number; captureId: number }) {
   const service = useService(rigId, captureId);
   const underruns = useFaults(rigId, captureId, 'tx-underrun', 0);
-  const base = `/rigs/${rigId}/captures/${captureId}`;
+  const base = captureScope(rigId, captureId).page;
   const report = service.data?.report ?? null;
   const names = service.data?.extent?.stationNames ?? {};
   const name = (a: number) => names[a] ?? `station ${formatAddress(a)}`;

@@ -1,5 +1,5 @@
 import { infiniteQueryOptions, keepPreviousData, queryOptions, useInfiniteQuery, useQuery } from '@tanstack/react-query';
-import type { TimelinePage, TimelineRow } from '../../../../shared/schemas';
+import type { TimelinePage, TimelineQuery, TimelineRow } from '../../../../shared/schemas';
 import { api } from '../../../lib/api';
 import { filterSearch, type TimelineFilters } from './timeline-filters';
 import { timelineKeys } from './timeline-keys';
@@ -13,13 +13,13 @@ export const MAX_PAGES = 8;
 
 interface PageParam {
   cursor: string | null;
-  direction: 'forward' | 'backward';
+  direction: TimelineQuery['direction'];
   /** rows to ask for (PAGE_ROWS unless said) */
   limit?: number;
 }
 
 export interface LoadedPage extends TimelinePage {
-  direction: 'forward' | 'backward';
+  direction: TimelineQuery['direction'];
 }
 
 export async function fetchTimelinePage(
