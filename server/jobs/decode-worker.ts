@@ -20,7 +20,7 @@ import { indexSearch } from '../runs/search-index';
 import { threadCpuMs } from '../runs/thread-cpu';
 import { CsvSeekTracker } from '../runs/seek/csv-seek';
 import { type SeekPoint, VcdSeekTracker } from '../runs/seek/vcd-seek';
-import { raceDeskOptions } from '../services/timing/fault-races';
+import { raceDeskOptions } from '../runs/fault-races';
 import * as schema from '../db/schema';
 import { callRuns, captures, decodeJobs, seekPoints } from '../db/schema';
 

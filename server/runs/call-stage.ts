@@ -11,7 +11,7 @@ import type { FieldMap } from '../../shared/decoder/calls';
 import { fileCallsOf, recoverFiles } from '../../shared/decoder/calls';
 import type { DecodedFrame, LineEvent } from '../../shared/decoder';
 import type { CallLayerFrame } from '../../shared/decoder/calls';
-import { FileResultsWriter, storeDamagedAnswers } from '../services/calls/call-results';
+import { FileResultsWriter, storeDamagedAnswers } from './call-results-writer';
 import type { RunInputs } from './inputs';
 import { drizzle } from 'drizzle-orm/better-sqlite3';
 import { and, eq, inArray } from 'drizzle-orm';
@@ -141,7 +141,7 @@ class CallStageWriter {
           serviceDelay: e.serviceDelaySeconds,
           user: e.requestCall.user,
           answer: answerSignature(e),
-          // filled in below and by the file results writer (server/services/calls/call-results.ts)
+          // filled in below and by the file results writer (server/runs/call-results-writer.ts)
           damagedResponseFrameIds: '[]',
           lockConflicts: '[]',
         };

@@ -26,7 +26,7 @@ export class FaultRecorder {
   constructor(
     private readonly period: () => number,
     private readonly callKey?: CallKeyLookup,
-    /** race-signature options (server/services/timing/fault-races.ts) */
+    /** race-signature options (server/runs/fault-races.ts) */
     private readonly extra: Partial<FaultDeskOptions> = {},
   ) {}
 

@@ -28,7 +28,7 @@ import { RunWriter } from '../../runs/run-writer';
 import { indexSearch } from '../../runs/search-index';
 import { clearRunRows } from '../../runs/sweep';
 import { decodeRunInputs } from '../calls/run-inputs';
-import { raceDeskOptions } from '../timing/fault-races';
+import { raceDeskOptions } from '../../runs/fault-races';
 import type { CaptureDeps } from './deps';
 import { toSummary } from './rows';
 

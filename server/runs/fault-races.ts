@@ -2,10 +2,10 @@
 // map's shape of each call, the rig's CPU clock and the capture's bit rate) and where their
 // details go once found (fault_rows.race, fault_summaries.races, written by server/runs/fault-rows.ts). Takes the decode
 // worker's driver handle too (dbOf in server/db/client.ts).
-import type { Db, Driver } from '../../db/client';
-import { callShapeFromFieldMap, type FaultDeskOptions } from '../../../shared/decoder/faults';
-import { DEFAULT_CPU_HZ } from '../../../shared/decoder/timing';
-import { loadMapVersion, type RunInputs } from '../../runs/inputs';
+import type { Db, Driver } from '../db/client';
+import { callShapeFromFieldMap, type FaultDeskOptions } from '../../shared/decoder/faults';
+import { DEFAULT_CPU_HZ } from '../../shared/decoder/timing';
+import { loadMapVersion, type RunInputs } from './inputs';
 
 /** Options the fault desk of a decode run takes beyond the sample period and call key, from the run's inputs snapshot. */
 export function raceDeskOptions(db: Db | Driver, inputs: RunInputs): Partial<FaultDeskOptions> {
