@@ -47,6 +47,7 @@ export default tseslint.config(
           zones: [
             { target: './src', from: './server', message: 'The client talks to the server over HTTP only (src/lib/api.ts); shared types live in shared/.' },
             { target: './shared', from: './server', message: 'shared/ is used by client and server alike.' },
+            { target: ['./server/runs', './server/jobs'], from: './server/services', message: 'A decode run (runs/, jobs/) does not depend on the request services: move what both need into runs/ or db/.' },
             { target: './shared', from: './src', message: 'shared/ is used by client and server alike.' },
             {
               // tests/decoder are the decoder's own unit tests and may reach its parts; everyone else uses the entry points
