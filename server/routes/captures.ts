@@ -1,5 +1,5 @@
 import { randomUUID } from 'node:crypto';
-import { Router, type RequestHandler } from 'express';
+import { Router, type RequestHandler, type Response } from 'express';
 import multer from 'multer';
 import { z } from 'zod';
 import { captureSettingsSchema, timelineQuerySchema, waveformQuerySchema } from '../../shared/schemas';
@@ -23,6 +23,9 @@ import { waveformWindow } from '../services/captures/waveform';
 
 const atQuerySchema = z.object({ t: z.coerce.number({ error: 'Give the time in seconds' }).min(0, 'The time cannot be negative') });
 const damagedQuerySchema = z.object({ dir: z.enum(['next', 'prev']).default('next') });
+
+/** a JSON answer already in text (a read worker built it): sent as res.json would send it */
+const sendJson = (res: Response, json: string) => res.type('application/json').send(json);
 
 const megabytes = (n: number) => (n >= 1024 ** 3 ? `${(n / 1024 ** 3).toFixed(1)} GB` : `${Math.round(n / 1024 ** 2)} MB`);
 
@@ -106,15 +109,18 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
     res.json(captureOverview(m, m.timeline, capture(req, rigAccess(res).rigId)));
   });
 
-  router.get(`${base}/timeline`, guard.requireRigRole('viewer'), (req, res) => {
+  // the long reads run in the read pool and come back as their JSON text (server/db/read-pool.ts)
+  router.get(`${base}/timeline`, guard.requireRigRole('viewer'), async (req, res) => {
     const { rigId } = rigAccess(res);
     const c = capture(req, rigId);
-    res.json(m.timeline.page(rigId, c.currentJobId, parseBody(timelineQuerySchema, req.query)));
+    const q = parseBody(timelineQuerySchema, req.query);
+    sendJson(res, await m.reads.page({ rigId, captureId: c.id, q }));
   });
 
-  router.get(`${base}/timeline/count`, guard.requireRigRole('viewer'), (req, res) => {
+  router.get(`${base}/timeline/count`, guard.requireRigRole('viewer'), async (req, res) => {
     const c = capture(req, rigAccess(res).rigId);
-    res.json({ count: m.timeline.count(c.currentJobId, parseBody(timelineQuerySchema, req.query)) });
+    const q = parseBody(timelineQuerySchema, req.query);
+    sendJson(res, await m.reads.count({ captureId: c.id, q }));
   });
 
   router.get(`${base}/timeline/at`, guard.requireRigRole('viewer'), (req, res) => {
@@ -154,7 +160,7 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
       const { rigId } = rigAccess(res);
       const c = capture(req, rigId);
       const q = parseBody(timelineQuerySchema, req.query);
-      await exportFrames(m, res, { jobId: c.currentJobId, q, names: m.timeline.stationNames(rigId), fileName: c.name, format, selective: m.timeline.selective });
+      await exportFrames(res, { rigId, jobId: c.currentJobId, q, fileName: c.name, format, next: (a) => m.reads.exportChunk(a) });
     });
   }
 
