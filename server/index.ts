@@ -175,6 +175,8 @@ export async function createApp(opts: AppOptions = {}) {
     jobs: captureModule.jobs,
     /** the queue of call-only re-runs after a map change (tests wait on it) */
     calls: callsModule.calls,
+    /** the timeline's long reads: the read pool, or in-thread (tests check which) */
+    reads: captureModule.reads,
     close() {
       callsModule.calls.close();
       void captureModule.jobs.close();

@@ -7,8 +7,11 @@ import os from 'node:os';
 import { Worker } from 'node:worker_threads';
 import { HttpError } from '../http/errors';
 
-/** what a read worker answers: the op's value, or the error it threw (HttpError's status and fields kept) */
-export type ReadReply = { id: number; value: unknown } | { id: number; error: { status: number; message: string; fields?: Record<string, string> } };
+/** what a read worker answers: the op's value, or the error it threw (HttpError's status and fields kept); `ready` once, when it can take reads */
+export type ReadReply =
+  | { id: number; value: unknown }
+  | { id: number; error: { status: number; message: string; fields?: Record<string, string> } }
+  | { ready: true };
 export interface ReadRequest {
   id: number;
   op: string;
@@ -27,10 +30,10 @@ interface Task {
 }
 interface Slot {
   worker: Worker;
+  /** has loaded its code and opened its connection: reads go only to ready workers, so the budget times the read alone */
+  ready: boolean;
   task: Task | null;
   timer: NodeJS.Timeout | null;
-  /** has answered at least once: a worker that dies before that cannot start at all */
-  answered: boolean;
 }
 
 /** FLAGLINE_READ_THREADS when set (0 = reads on the request thread, at most 8); else one per core, 1–4 */
@@ -50,7 +53,7 @@ export function readBudgetMs(): number {
   return (Number.isFinite(raw) && raw > 0 ? raw : 20) * 1000;
 }
 
-/** workers that die before their first answer this many times in a row: the pool stops starting them */
+/** workers that die before they are ready this many times in a row: the pool stops starting them */
 const MAX_START_FAILURES = 3;
 
 export class ReadPool {
@@ -101,15 +104,19 @@ export class ReadPool {
     const worker = new Worker(this.opts.workerUrl ?? workerModule(), { workerData: { dbPath: this.opts.dbPath } satisfies ReadWorkerData });
     // an idle pool does not keep the process alive; close() ends the workers
     worker.unref();
-    const slot: Slot = { worker, task: null, timer: null, answered: false };
+    const slot: Slot = { worker, ready: false, task: null, timer: null };
     worker.on('message', (reply: ReadReply) => {
+      if ('ready' in reply) {
+        slot.ready = true;
+        this.startFailures = 0;
+        this.pump();
+        return;
+      }
       const task = slot.task;
       if (!task || reply.id !== task.id) return;
       if (slot.timer) clearTimeout(slot.timer);
       slot.task = null;
       slot.timer = null;
-      slot.answered = true;
-      this.startFailures = 0;
       if ('error' in reply) {
         const e = reply.error;
         // a refusal (400, 404) keeps its status; anything else is a server error, logged as such
@@ -123,7 +130,7 @@ export class ReadPool {
       const task = slot.task;
       slot.task = null;
       if (this.closed) return;
-      if (!slot.answered && ++this.startFailures >= MAX_START_FAILURES) {
+      if (!slot.ready && ++this.startFailures >= MAX_START_FAILURES) {
         this.broken = `The server's read workers cannot start (${why}); see the server log`;
         console.error(`[flagline] read workers stopped starting: ${why}`);
       }
@@ -151,7 +158,7 @@ export class ReadPool {
   private pump(): void {
     for (const slot of this.slots) {
       if (this.queue.length === 0) return;
-      if (slot.task) continue;
+      if (slot.task || !slot.ready) continue;
       const task = this.queue.shift()!;
       slot.task = task;
       // the watchdog: a read that has not answered within the budget is stuck (or far too long

@@ -37,4 +37,5 @@ if (parentPort && workerData) {
     }
     port.postMessage(reply);
   });
+  port.postMessage({ ready: true } satisfies ReadReply);
 }
