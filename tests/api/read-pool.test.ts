@@ -101,8 +101,12 @@ describe('timeline reads in the pool and on the request thread', () => {
   let viaPool: Client;
   let url: string;
   let frameCount: number;
+  const savedThreads = process.env.FLAGLINE_READ_THREADS;
   beforeAll(async () => {
+    // the world's app reads on the request thread whatever the environment asks
+    delete process.env.FLAGLINE_READ_THREADS;
     w = await buildWorld();
+    if (savedThreads !== undefined) process.env.FLAGLINE_READ_THREADS = savedThreads;
     const cap = clockedVcd(60);
     frameCount = cap.sent.length;
     const c = (await upload(w.analyst, w.rigId, cap.file, 'pooled.vcd')).body as { id: number };
