@@ -29,6 +29,8 @@ const { values } = parseArgs({
     /** which load phases to run: idle, decode or both */
     phases: { type: 'string', default: 'idle,decode' },
     keep: { type: 'boolean', default: false },
+    /** a folder for the server's CPU profiles (node --cpu-prof: one file per thread, written when it stops) */
+    profile: { type: 'string' },
   },
   strict: true,
 });
@@ -152,7 +154,8 @@ async function prepareDatabase(dbPath: string): Promise<number> {
 
 function startServer(dir: string, dbPath: string): Promise<{ child: ChildProcess; url: string }> {
   // the server as `npm start` runs it: the compiled build (made first when stale)
-  const child = spawn(process.execPath, [path.join(repoRoot, 'bin/flagline.mjs')], {
+  const profile = values.profile ? ['--cpu-prof', `--cpu-prof-dir=${path.resolve(values.profile)}`] : [];
+  const child = spawn(process.execPath, [...profile, path.join(repoRoot, 'bin/flagline.mjs')], {
     cwd: repoRoot,
     env: {
       ...process.env,

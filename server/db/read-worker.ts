@@ -11,6 +11,12 @@ import { HttpError } from '../http/errors';
 import type { ReadReply, ReadRequest, ReadWorkerData } from './read-pool';
 import * as schema from './schema';
 
+/** the bytes of an answer ({ body: Uint8Array }) move to the request thread instead of being copied */
+function transferable(reply: ReadReply): ArrayBuffer[] {
+  const v = 'value' in reply ? (reply.value as { body?: unknown } | null) : null;
+  return v && typeof v === 'object' && v.body instanceof Uint8Array && v.body.buffer instanceof ArrayBuffer ? [v.body.buffer] : [];
+}
+
 function open(data: ReadWorkerData): TimelineReadOps {
   const sqlite = new Database(data.dbPath, { readonly: true, fileMustExist: true });
   // a reader waits out a checkpoint's brief lock rather than failing
@@ -35,7 +41,7 @@ if (parentPort && workerData) {
           ? { id: m.id, error: { status: err.status, message: err.message, fields: err.fields } }
           : { id: m.id, error: { status: 500, message: err instanceof Error ? err.message : String(err) } };
     }
-    port.postMessage(reply);
+    port.postMessage(reply, transferable(reply));
   });
   port.postMessage({ ready: true } satisfies ReadReply);
 }

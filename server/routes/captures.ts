@@ -20,12 +20,21 @@ import { requireSamples } from '../services/captures/samples-kept';
 import { storeUpload } from '../services/captures/upload';
 import { DECODED_MEDIA_TYPE } from '../../shared/schemas/decoded-upload';
 import { waveformWindow } from '../services/captures/waveform';
+import type { JsonAnswer } from '../services/captures/timeline-reads';
 
 const atQuerySchema = z.object({ t: z.coerce.number({ error: 'Give the time in seconds' }).min(0, 'The time cannot be negative') });
 const damagedQuerySchema = z.object({ dir: z.enum(['next', 'prev']).default('next') });
 
-/** a JSON answer already in text (a read worker built it): sent as res.json would send it */
-const sendJson = (res: Response, json: string) => res.type('application/json').send(json);
+/**
+ * A JSON answer a read built (server/services/captures/timeline-reads.ts): sent with the headers
+ * res.json gives the same text. Its ETag is set only where the app makes them (Express then
+ * checks freshness with it as with its own).
+ */
+function sendJson(res: Response, answer: JsonAnswer): void {
+  res.set('Content-Type', 'application/json; charset=utf-8');
+  if (res.req.app.get('etag fn')) res.set('ETag', answer.etag);
+  res.send(Buffer.from(answer.body.buffer, answer.body.byteOffset, answer.body.byteLength));
+}
 
 const megabytes = (n: number) => (n >= 1024 ** 3 ? `${(n / 1024 ** 3).toFixed(1)} GB` : `${Math.round(n / 1024 ** 2)} MB`);
 

@@ -14,6 +14,7 @@ const f = frameTable;
 const exportColumns = { ...frameRowColumns, fcsReceived: f.fcsReceived, fcsComputed: f.fcsComputed, hex: f.hex };
 
 const PAGE = 2000;
+const utf8 = new TextEncoder();
 
 /** where an export goes on: after the last frame written (keyset), and whether anything was written yet */
 export interface ExportChunkArgs {
@@ -25,7 +26,8 @@ export interface ExportChunkArgs {
   first: boolean;
 }
 export interface ExportChunk {
-  text: string;
+  /** the rows as UTF-8 text (bytes, so a read worker hands them over without a copy) */
+  body: Uint8Array;
   after: { t: number; id: number };
   /** fewer rows than a page: the export has all its rows */
   done: boolean;
@@ -62,7 +64,7 @@ export function exportChunk(deps: Pick<CaptureDeps, 'db'>, timeline: TimelineRea
     after = { t: r.t, id: r.id };
     n++;
   }
-  return { text, after, done: n < PAGE };
+  return { body: utf8.encode(text), after, done: n < PAGE };
 }
 
 /**
@@ -78,7 +80,7 @@ export async function exportFrames(
   const base = opts.fileName.replace(/[^A-Za-z0-9._-]+/g, '_').replace(/\.[^.]*$/, '') || 'capture';
   res.setHeader('Content-Type', opts.format === 'csv' ? 'text/csv; charset=utf-8' : 'application/json; charset=utf-8');
   res.setHeader('Content-Disposition', `attachment; filename="${base}-frames.${opts.format}"`);
-  const write = async (s: string) => {
+  const write = async (s: string | Uint8Array) => {
     if (!res.write(s)) await new Promise((r) => res.once('drain', r));
   };
   if (opts.format === 'csv') await write(COLUMNS.join(',') + '\n');
@@ -87,7 +89,7 @@ export async function exportFrames(
     let at: ExportChunkArgs = { rigId: opts.rigId, jobId: opts.jobId, q: opts.q, format: opts.format, after: { t: -1, id: 0 }, first: true };
     for (;;) {
       const chunk = await opts.next(at);
-      if (chunk.text) await write(chunk.text);
+      if (chunk.body.length > 0) await write(chunk.body);
       if (chunk.done || res.destroyed) break;
       at = { ...at, after: chunk.after, first: false };
     }
