@@ -60,6 +60,8 @@ export interface AppOptions {
   dataDir?: string;
   /** upload size limit in bytes (default FLAGLINE_MAX_UPLOAD_BYTES or 2 GB) */
   maxUploadBytes?: number;
+  /** read pool threads for the timeline's long reads (default FLAGLINE_READ_THREADS, else from the cores; 0: on the request thread) */
+  readThreads?: number;
   /** with `demo`: load samples/ into the demo rig and decode them (default: on when the database is a file) */
   demoCaptures?: boolean;
 }
@@ -100,7 +102,7 @@ export async function createApp(opts: AppOptions = {}) {
     demo: opts.demo ?? false,
   };
   const seeded = ctx.demo ? await seedDemo(handle.db, hasher) : null;
-  const captureModule = createCaptureModule({ db: handle.db, sqlite: handle.sqlite, dbPath: handle.path, dataDir: opts.dataDir, maxUploadBytes: opts.maxUploadBytes });
+  const captureModule = createCaptureModule({ db: handle.db, sqlite: handle.sqlite, dbPath: handle.path, dataDir: opts.dataDir, maxUploadBytes: opts.maxUploadBytes, readThreads: opts.readThreads });
   // decode workers open the database by path, so an in-memory database cannot take the demo captures
   if (seeded && (opts.demoCaptures ?? handle.path !== ':memory:')) {
     // the main rig's captures first: the one decode queue takes them in order
@@ -173,9 +175,12 @@ export async function createApp(opts: AppOptions = {}) {
     jobs: captureModule.jobs,
     /** the queue of call-only re-runs after a map change (tests wait on it) */
     calls: callsModule.calls,
+    /** the timeline's long reads: the read pool, or in-thread (tests check which) */
+    reads: captureModule.reads,
     close() {
       callsModule.calls.close();
       void captureModule.jobs.close();
+      void captureModule.reads.close();
       sessionStore.close();
       void vite?.close();
       if (ownsDb) handle.close();

@@ -29,6 +29,8 @@ const { values } = parseArgs({
     /** which load phases to run: idle, decode or both */
     phases: { type: 'string', default: 'idle,decode' },
     keep: { type: 'boolean', default: false },
+    /** a folder for the server's CPU profiles (node --cpu-prof: one file per thread, written when it stops) */
+    profile: { type: 'string' },
   },
   strict: true,
 });
@@ -152,7 +154,8 @@ async function prepareDatabase(dbPath: string): Promise<number> {
 
 function startServer(dir: string, dbPath: string): Promise<{ child: ChildProcess; url: string }> {
   // the server as `npm start` runs it: the compiled build (made first when stale)
-  const child = spawn(process.execPath, [path.join(repoRoot, 'bin/flagline.mjs')], {
+  const profile = values.profile ? ['--cpu-prof', `--cpu-prof-dir=${path.resolve(values.profile)}`] : [];
+  const child = spawn(process.execPath, [...profile, path.join(repoRoot, 'bin/flagline.mjs')], {
     cwd: repoRoot,
     env: {
       ...process.env,
@@ -265,23 +268,70 @@ async function runLoad(clients: Client[], base: string, duration: number): Promi
   return { samples, seconds: (performance.now() - t0) / 1000 };
 }
 
-/** CPU seconds the server process (with its decode worker threads) has used, from /proc (Linux; 0 elsewhere) */
-function cpuSeconds(pid: number | undefined): number {
+/** utime + stime of a /proc stat line, in seconds (clock ticks: USER_HZ, 100 on Linux) */
+function statSeconds(file: string): number {
   try {
-    const stat = fs.readFileSync(`/proc/${pid}/stat`, 'utf8');
+    const stat = fs.readFileSync(file, 'utf8');
     const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
-    // utime and stime, in clock ticks (USER_HZ, 100 on Linux)
     return (Number(f[11]) + Number(f[12])) / 100;
   } catch {
     return 0;
   }
 }
 
+/**
+ * CPU seconds of the server process (with every thread it has had, ended ones included) and of its
+ * live threads by name (Linux /proc; zeros elsewhere): the request thread is the main one, the
+ * read pool's and decode's threads name themselves (server/jobs/thread-priority.ts), the rest are
+ * Node's own (garbage collection, compilation, file I/O).
+ */
+interface ServerCpu {
+  total: number;
+  threads: Map<number, { name: string; seconds: number }>;
+}
+function serverCpu(pid: number | undefined): ServerCpu {
+  const threads = new Map<number, { name: string; seconds: number }>();
+  if (pid === undefined) return { total: 0, threads };
+  try {
+    for (const tid of fs.readdirSync(`/proc/${pid}/task`)) {
+      try {
+        const name = fs.readFileSync(`/proc/${pid}/task/${tid}/comm`, 'utf8').trim();
+        threads.set(Number(tid), { name: Number(tid) === pid ? 'request' : name, seconds: statSeconds(`/proc/${pid}/task/${tid}/stat`) });
+      } catch {
+        // the thread ended meanwhile
+      }
+    }
+  } catch {
+    // not Linux
+  }
+  return { total: statSeconds(`/proc/${pid}/stat`), threads };
+}
+
+/**
+ * The CPU a phase used, split: the request thread, the read pool, Node's helper threads (their
+ * time while they lived), and the decode as the rest (its threads come and go with each run, and
+ * an ended thread's time only shows in the process total).
+ */
+function cpuSplit(a: ServerCpu, b: ServerCpu): { total: number; request: number; read: number; helpers: number; decode: number } {
+  let request = 0;
+  let read = 0;
+  let helpers = 0;
+  for (const [tid, t] of b.threads) {
+    if (t.name === 'flagline-decode') continue;
+    const used = t.seconds - (a.threads.get(tid)?.seconds ?? 0);
+    if (t.name === 'request') request += used;
+    else if (t.name.startsWith('flagline-read')) read += used;
+    else helpers += used;
+  }
+  const total = b.total - a.total;
+  return { total, request, read, helpers, decode: Math.max(0, total - request - read - helpers) };
+}
+
 function percentile(sorted: number[], p: number): number {
   return sorted.length ? sorted[Math.min(sorted.length - 1, Math.ceil(p * sorted.length) - 1)] : NaN;
 }
 
-function report(title: string, samples: Sample[], reqPerS: number, target: string, serverCpu: number): void {
+function report(title: string, samples: Sample[], reqPerS: number, target: string, cpu: ReturnType<typeof cpuSplit>): void {
   const line = (name: string, xs: Sample[], rate?: number) => {
     const ms = xs.map((s) => s.ms).sort((a, b) => a - b);
     const errors = xs.filter((s) => !s.ok).length;
@@ -291,9 +341,15 @@ function report(title: string, samples: Sample[], reqPerS: number, target: strin
         `  ${rate === undefined ? '' : `${rate.toFixed(1)} req/s  `}errors ${errors}\n`,
     );
   };
-  process.stdout.write(`\n${title}  (target: ${target})\n`);
+  process.stdout.write(`\n${title}  (target: ${target}; load average at its end ${os.loadavg().map((l) => l.toFixed(1)).join(' ')})\n`);
   // on a shared machine wall times swing with the neighbours; CPU per request is the steadier figure
-  if (serverCpu > 0) process.stdout.write(`  server CPU ${serverCpu.toFixed(1)} s over the phase, ${((serverCpu * 1000) / samples.length).toFixed(1)} ms per request\n`);
+  if (cpu.total > 0) {
+    const per = (x: number) => `${((x * 1000) / samples.length).toFixed(1)} ms`;
+    process.stdout.write(
+      `  server CPU ${cpu.total.toFixed(1)} s over the phase, ${per(cpu.total)} per request: request thread ${per(cpu.request)}, read pool ${per(cpu.read)}, ` +
+        `Node's helper threads ${per(cpu.helpers)}, decode ${per(cpu.decode)}\n`,
+    );
+  }
   line('all requests', samples, reqPerS);
   const kinds = [...new Set(samples.map((s) => s.kind))];
   for (const kind of kinds) line(kind, samples.filter((s) => s.kind === kind));
@@ -329,9 +385,9 @@ async function main(): Promise<void> {
     process.stdout.write(`${CLIENTS} clients × ${REQUESTS} requests; machine: ${os.cpus().length} cores, load ${os.loadavg().map((l) => l.toFixed(1)).join(' ')}\n`);
 
     if (PHASES.has('idle')) {
-      const cpu0 = cpuSeconds(server.pid);
+      const cpu0 = serverCpu(server.pid);
       const idle = await runLoad(clients, base, duration);
-      report('Idle server', idle.samples, idle.samples.length / idle.seconds, 'p95 < 150 ms, 0 errors', cpuSeconds(server.pid) - cpu0);
+      report('Idle server', idle.samples, idle.samples.length / idle.seconds, 'p95 < 150 ms, 0 errors', cpuSplit(cpu0, serverCpu(server.pid)));
     }
 
     if (DECODE_MB > 0) {
@@ -382,9 +438,9 @@ async function main(): Promise<void> {
           await new Promise((r) => setTimeout(r, 100));
         }
       })();
-      const cpu0 = cpuSeconds(server.pid);
+      const cpu0 = serverCpu(server.pid);
       const busy = await runLoad(clients, base, duration);
-      const busyCpu = cpuSeconds(server.pid) - cpu0;
+      const busyCpu = cpuSplit(cpu0, serverCpu(server.pid));
       stop = true;
       await watcher;
       if (since !== null) running.push([since, performance.now()]);
@@ -394,7 +450,6 @@ async function main(): Promise<void> {
         during,
         busy.samples.length / busy.seconds,
         'p95 < 300 ms, 0 errors',
-        // includes the decode worker's CPU
         busyCpu,
       );
     }

@@ -3,8 +3,8 @@
 // `npm start` and the decode CLI need no TypeScript loader at run time.
 //   node server/cli/server-build.mjs          builds (npm run build:server)
 // All outputs sit flat in dist/server/, two levels below the repository like their sources:
-// server/db/client.ts finds the repository from its own file's URL, and the decode queue (server/runs/decode-queue.ts) starts
-// the bundled worker beside itself, whose name this build gives it (`define` below).
+// server/db/client.ts finds the repository from its own file's URL, and the decode queue (server/runs/decode-queue.ts) and
+// the read pool (server/db/read-pool.ts) start their bundled workers beside themselves, whose names this build gives them (`define` below).
 import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -19,6 +19,7 @@ export const SERVER_ENTRIES = {
   start: 'server/cli/start.ts',
   decode: 'server/cli/decode.ts',
   'decode-worker-entry': 'server/jobs/decode-worker.ts',
+  'read-worker-entry': 'server/db/read-worker.ts',
 };
 
 /** Besides the bundled sources, a change to these makes the build stale (dependencies, options). */
@@ -73,8 +74,9 @@ export async function buildServer() {
       splitting: true,
       chunkNames: '[name]-[hash]',
       packages: 'external',
-      // the decode queue starts the bundled worker that sits beside it (server/runs/decode-queue.ts)
-      define: { BUNDLED_DECODE_WORKER: JSON.stringify('./decode-worker-entry.mjs') },
+      // the decode queue and the read pool start the bundled workers that sit beside them
+      // (server/runs/decode-queue.ts, server/db/read-pool.ts)
+      define: { BUNDLED_DECODE_WORKER: JSON.stringify('./decode-worker-entry.mjs'), BUNDLED_READ_WORKER: JSON.stringify('./read-worker-entry.mjs') },
     }),
     // The CLI is one file with its one small package (crc) inside: every module node resolves
     // and loads is start-up time, and the CLI must answer within 150 ms.

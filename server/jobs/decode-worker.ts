@@ -18,6 +18,7 @@ import { loadMapVersion, type RunInputs } from '../runs/inputs';
 import { RunWriter } from '../runs/run-writer';
 import { indexSearch } from '../runs/search-index';
 import { threadCpuMs } from '../runs/thread-cpu';
+import { decodeNice, lowerThreadPriority, nameThread } from './thread-priority';
 import { CsvSeekTracker } from '../runs/seek/csv-seek';
 import { type SeekPoint, VcdSeekTracker } from '../runs/seek/vcd-seek';
 import { raceDeskOptions } from '../runs/fault-races';
@@ -311,6 +312,9 @@ async function finishCalls(
 }
 
 if (parentPort && workerData) {
+  // before the first byte: the decode, its call layer and the search index all yield to requests
+  lowerThreadPriority(decodeNice());
+  nameThread('flagline-decode');
   run(workerData as DecodeWorkerData).then(
     (msg) => parentPort!.postMessage(msg),
     (err: unknown) => parentPort!.postMessage({ type: 'failed', error: err instanceof Error ? err.message : String(err) } satisfies DecodeWorkerMessage),

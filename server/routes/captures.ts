@@ -1,5 +1,5 @@
 import { randomUUID } from 'node:crypto';
-import { Router, type RequestHandler } from 'express';
+import { Router, type RequestHandler, type Response } from 'express';
 import multer from 'multer';
 import { z } from 'zod';
 import { captureSettingsSchema, timelineQuerySchema, waveformQuerySchema } from '../../shared/schemas';
@@ -20,9 +20,21 @@ import { requireSamples } from '../services/captures/samples-kept';
 import { storeUpload } from '../services/captures/upload';
 import { DECODED_MEDIA_TYPE } from '../../shared/schemas/decoded-upload';
 import { waveformWindow } from '../services/captures/waveform';
+import type { JsonAnswer } from '../services/captures/timeline-reads';
 
 const atQuerySchema = z.object({ t: z.coerce.number({ error: 'Give the time in seconds' }).min(0, 'The time cannot be negative') });
 const damagedQuerySchema = z.object({ dir: z.enum(['next', 'prev']).default('next') });
+
+/**
+ * A JSON answer a read built (server/services/captures/timeline-reads.ts): sent with the headers
+ * res.json gives the same text. Its ETag is set only where the app makes them (Express then
+ * checks freshness with it as with its own).
+ */
+function sendJson(res: Response, answer: JsonAnswer): void {
+  res.set('Content-Type', 'application/json; charset=utf-8');
+  if (res.req.app.get('etag fn')) res.set('ETag', answer.etag);
+  res.send(Buffer.from(answer.body.buffer, answer.body.byteOffset, answer.body.byteLength));
+}
 
 const megabytes = (n: number) => (n >= 1024 ** 3 ? `${(n / 1024 ** 3).toFixed(1)} GB` : `${Math.round(n / 1024 ** 2)} MB`);
 
@@ -106,15 +118,18 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
     res.json(captureOverview(m, m.timeline, capture(req, rigAccess(res).rigId)));
   });
 
-  router.get(`${base}/timeline`, guard.requireRigRole('viewer'), (req, res) => {
+  // the long reads run in the read pool and come back as their JSON text (server/db/read-pool.ts)
+  router.get(`${base}/timeline`, guard.requireRigRole('viewer'), async (req, res) => {
     const { rigId } = rigAccess(res);
     const c = capture(req, rigId);
-    res.json(m.timeline.page(rigId, c.currentJobId, parseBody(timelineQuerySchema, req.query)));
+    const q = parseBody(timelineQuerySchema, req.query);
+    sendJson(res, await m.reads.page({ rigId, captureId: c.id, q }));
   });
 
-  router.get(`${base}/timeline/count`, guard.requireRigRole('viewer'), (req, res) => {
+  router.get(`${base}/timeline/count`, guard.requireRigRole('viewer'), async (req, res) => {
     const c = capture(req, rigAccess(res).rigId);
-    res.json({ count: m.timeline.count(c.currentJobId, parseBody(timelineQuerySchema, req.query)) });
+    const q = parseBody(timelineQuerySchema, req.query);
+    sendJson(res, await m.reads.count({ captureId: c.id, q }));
   });
 
   router.get(`${base}/timeline/at`, guard.requireRigRole('viewer'), (req, res) => {
@@ -154,7 +169,7 @@ export function captureRoutes(m: CaptureModule, guard: Guard): Router {
       const { rigId } = rigAccess(res);
       const c = capture(req, rigId);
       const q = parseBody(timelineQuerySchema, req.query);
-      await exportFrames(m, res, { jobId: c.currentJobId, q, names: m.timeline.stationNames(rigId), fileName: c.name, format, selective: m.timeline.selective });
+      await exportFrames(res, { rigId, jobId: c.currentJobId, q, fileName: c.name, format, next: (a) => m.reads.exportChunk(a) });
     });
   }
 

@@ -36,3 +36,10 @@ export function hexMatches(hex: string, normalised: string): boolean {
   }
   return re.test(hex);
 }
+
+/** Adds hex_match(hex, pattern) to a connection: the timeline's hex search checks alignment and ?? wildcards with it after the trigram prefilter. */
+export function registerHexMatch(sqlite: { function(name: string, options: { deterministic: boolean }, fn: (a: unknown, b: unknown) => number): unknown }): void {
+  sqlite.function('hex_match', { deterministic: true }, (hex: unknown, pattern: unknown) =>
+    typeof hex === 'string' && typeof pattern === 'string' && hexMatches(hex, pattern) ? 1 : 0,
+  );
+}

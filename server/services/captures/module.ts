@@ -3,8 +3,10 @@ import type { Db } from '../../db/client';
 import { DecodeQueue } from '../../runs/decode-queue';
 import { createCaptureStore } from '../../storage/capture-store';
 import type { CaptureDeps } from './deps';
-import { hexMatches } from './hex-pattern';
+import { registerHexMatch } from './hex-pattern';
 import { TimelineReader } from './timeline';
+import { createTimelineReads, type TimelineReads } from './timeline-reads';
+import { readThreads } from '../../db/read-pool';
 
 /** default upload limit: 2 GB, or FLAGLINE_MAX_UPLOAD_BYTES */
 export function defaultMaxUploadBytes(): number {
@@ -14,17 +16,21 @@ export function defaultMaxUploadBytes(): number {
 
 export interface CaptureModule extends CaptureDeps {
   timeline: TimelineReader;
+  /** the timeline's long reads (pages, counts, exports): in the read pool, or in-thread */
+  reads: TimelineReads;
 }
 
-/** Wires the capture services: file store, decode queue (recovering runs a crash left behind), timeline reader. */
-export function createCaptureModule(opts: { db: Db; sqlite: Database.Database; dbPath: string; dataDir?: string; maxUploadBytes?: number }): CaptureModule {
+/**
+ * Wires the capture services: file store, decode queue (recovering runs a crash left behind),
+ * timeline reader, and the read pool (`readThreads` workers; default from FLAGLINE_READ_THREADS
+ * or the cores, 0 for reads on the request thread).
+ */
+export function createCaptureModule(opts: { db: Db; sqlite: Database.Database; dbPath: string; dataDir?: string; maxUploadBytes?: number; readThreads?: number }): CaptureModule {
   const store = createCaptureStore(opts.dataDir);
-  // hex pattern search: alignment and ?? wildcards are checked here, after the trigram prefilter
-  opts.sqlite.function('hex_match', { deterministic: true }, (hex: unknown, pattern: unknown) =>
-    typeof hex === 'string' && typeof pattern === 'string' && hexMatches(hex, pattern) ? 1 : 0,
-  );
+  registerHexMatch(opts.sqlite);
   const jobs = new DecodeQueue(opts.sqlite, opts.dbPath, store);
   jobs.recover();
   const deps: CaptureDeps = { db: opts.db, store, jobs, maxUploadBytes: opts.maxUploadBytes ?? defaultMaxUploadBytes() };
-  return { ...deps, timeline: new TimelineReader(deps) };
+  const threads = opts.dbPath === ':memory:' ? 0 : (opts.readThreads ?? readThreads(opts.dbPath));
+  return { ...deps, timeline: new TimelineReader(deps), reads: createTimelineReads({ db: opts.db, sqlite: opts.sqlite, dbPath: opts.dbPath, threads }) };
 }
