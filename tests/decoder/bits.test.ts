@@ -363,8 +363,20 @@ describe('clocked bit recovery: edge cases of the sampled level', () => {
   });
 
   it('takes the level from before the sample of the edge when the data changes twice at that sample (setup time, common practice)', () => {
-    // data 0, then at sample 4: up, down again, the clock edge, up: the edge sees 0 (the level before sample 4)
+    // data 0, then at sample 4: up, down again, the clock edge; up at 5: the edge at 4 sees 0 (the level before sample 4)
     const rows: [number, number, number][] = [
+      [0, 0, 0],
+      [1, 0, 0],
+      [1, 4, 1],
+      [1, 4, 0],
+      [0, 4, 1],
+      [1, 5, 1],
+      [0, 6, 0],
+      [0, 8, 1],
+    ];
+    expect(run({}, [rows]).bits.get('d')).toEqual([0, 1]);
+    // three changes at 4 (up, down, up) before the edge: still the level before sample 4
+    const three: [number, number, number][] = [
       [0, 0, 0],
       [1, 0, 0],
       [1, 4, 1],
@@ -374,7 +386,7 @@ describe('clocked bit recovery: edge cases of the sampled level', () => {
       [0, 6, 0],
       [0, 8, 1],
     ];
-    expect(run({}, [rows]).bits.get('d')).toEqual([0, 1]);
+    expect(run({}, [three]).bits.get('d')).toEqual([0, 1]);
     // the same with the level before sample 4 at 1 and three changes after the edge
     const high: [number, number, number][] = [
       [0, 0, 0],
