@@ -258,6 +258,8 @@ describe('clocked bit recovery: more than two links, names of line events', () =
     const opts = { samplePeriodSeconds: 1e-6, data: [{ channel: 1, link: 'd' }], edge: 'rising' as const, encoding: 'nrz' as const, invert: false };
     expect(() => new BitRecovery(opts, recoverySink())).toThrow(/clock channel or a nominal bit rate/);
     expect(() => new BitRecovery({ ...opts, bitRate: 0 }, recoverySink())).toThrow(/nominal bit rate/);
+    expect(() => new BitRecovery({ ...opts, bitRate: -9600 }, recoverySink())).toThrow(/nominal bit rate/);
+    expect(() => new BitRecovery({ ...opts, bitRate: Number.NaN }, recoverySink())).toThrow(/nominal bit rate/);
     expect(() => new BitRecovery({ ...opts, bitRate: 9600 }, recoverySink())).not.toThrow();
   });
 });
@@ -517,5 +519,105 @@ describe('bit recovery without a clock: batches and the end of the capture', () 
     expect(sink.r.samples.get('a')).toEqual([105, 115, 125, 135, 145]);
     expect(sink.r.bits.get('b')).toEqual([1, 1, 0, 0, 0]);
     expect(sink.r.samples.get('b')).toEqual([108, 118, 128, 138, 148]);
+  });
+});
+
+describe('bit recovery: lines without a level, repeated levels, channels not in use', () => {
+  it('gives a link no bits for clock edges before its data line has a level, for one, two and three links', () => {
+    for (const links of [1, 2, 3]) {
+      const sink = recoverySink();
+      const br = new BitRecovery(
+        { samplePeriodSeconds: 1e-6, clock: 0, data: Array.from({ length: links }, (_, k) => ({ channel: k + 1, link: `l${k}` })), edge: 'rising', encoding: 'nrz', invert: false },
+        sink,
+      );
+      // the last link's line only gets a level at sample 5, between the edges at 2 and 6
+      const rows: [number, number, number][] = [[0, 0, 0]];
+      for (let k = 0; k < links - 1; k++) rows.push([k + 1, 0, 0]);
+      rows.push([0, 2, 1], [0, 4, 0], [links, 5, 1], [0, 6, 1]);
+      br.transitions(tr(rows));
+      br.finish();
+      for (let k = 0; k < links - 1; k++) expect(sink.r.samples.get(`l${k}`)).toEqual([2, 6]);
+      expect(sink.r.bits.get(`l${links - 1}`)).toEqual([1]);
+      expect(sink.r.samples.get(`l${links - 1}`)).toEqual([6]);
+    }
+  });
+
+  it('gives no second line event when the capture ends with a line at the same level (readers repeat each level there)', () => {
+    // clocked: the clock and the data line end unknown, the handshake line high; each level is repeated at 20
+    const clocked = run({ handshake: [{ channel: 2, name: 'rts', link: 'd' }] }, [
+      [
+        [0, 0, 0],
+        [1, 0, 1],
+        [2, 0, 0],
+        [0, 2, 1],
+        [2, 3, 1],
+        [1, 4, 2],
+        [0, 5, 2],
+      ],
+      [
+        [0, 20, 2],
+        [1, 20, 2],
+        [2, 20, 1],
+      ],
+    ]);
+    expect(clocked.events).toEqual([
+      { link: 'd', channel: 'rts', kind: 'rise', sample: 3 },
+      { link: 'd', channel: 'd', kind: 'unknown', sample: 4 },
+      { link: null, channel: 'clock', kind: 'unknown', sample: 5 },
+    ]);
+    expect(clocked.bits.get('d')).toEqual([1]);
+    // clock recovered: the data line ends unknown and the handshake line low
+    const sink = recoverySink();
+    const br = new BitRecovery(
+      { samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], handshake: [{ channel: 2, name: 'rts', link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false },
+      sink,
+    );
+    br.transitions(
+      tr([
+        [1, 0, 1],
+        [2, 0, 1],
+        [1, 100, 0],
+        [2, 110, 0],
+        [1, 130, 2],
+        [1, 200, 2],
+        [2, 200, 0],
+      ]),
+    );
+    br.finish();
+    expect(sink.r.events).toEqual([
+      { link: 'd', channel: 'rts', kind: 'fall', sample: 110 },
+      { link: 'd', channel: 'd', kind: 'unknown', sample: 130 },
+    ]);
+  });
+
+  it('ignores channels that are neither clock, data nor handshake', () => {
+    const rows: [number, number, number][] = [
+      [0, 0, 0],
+      [1, 0, 1],
+      [7, 0, 0],
+      [0, 2, 1],
+      [7, 3, 1],
+      [0, 4, 0],
+      [7, 5, 2],
+      [0, 6, 1],
+      [7, 7, 0],
+    ];
+    const clocked = run({}, [rows]);
+    expect(clocked.bits.get('d')).toEqual([1, 1]);
+    expect(clocked.events).toEqual([]);
+    const recovered = run({ clock: undefined, bitRate: 1e5 }, [
+      [
+        [1, 0, 1],
+        [7, 0, 0],
+        [1, 10, 0],
+        [7, 12, 1],
+        [1, 30, 1],
+        [7, 35, 2],
+        [1, 40, 1],
+      ],
+    ]);
+    // 10 samples a bit: lock at 10, cells at 15, 25 (0), 35 (1)
+    expect(recovered.bits.get('d')).toEqual([0, 0, 1]);
+    expect(recovered.events).toEqual([]);
   });
 });
