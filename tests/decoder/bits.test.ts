@@ -348,6 +348,95 @@ describe('clocked bit recovery: batches longer than a chunk', () => {
   }
 });
 
+describe('clocked bit recovery: links that fill their chunks at different edges', () => {
+  // Built by hand: NRZ data changes at 4i + 1, the clock rises at 4i + 2 and falls at 4i + 4, so
+  // edge i samples bit i. One link's data line only gets a level just before edge `late`: it has
+  // no bits for the edges before (see "no bits for clock edges before its data line has a level").
+  function lateStart(links: number, lateLink: number, late: number, count: number) {
+    const sent = Array.from({ length: links }, (_, k) => randomBits(count, 40 + k));
+    const rows: [number, number, number][] = [[0, 0, 0]];
+    for (let k = 0; k < links; k++) if (k !== lateLink) rows.push([k + 1, 0, sent[k][0]]);
+    for (let i = 0; i < count; i++) {
+      for (let k = 0; k < links; k++) {
+        if (k === lateLink ? i >= late : i > 0) rows.push([k + 1, 4 * i + 1, sent[k][i]]);
+      }
+      rows.push([0, 4 * i + 2, 1], [0, 4 * i + 4, 0]);
+    }
+    const sink = orderSink();
+    const br = new BitRecovery(
+      { samplePeriodSeconds: 1e-6, clock: 0, data: sent.map((_, k) => ({ channel: k + 1, link: `l${k}` })), edge: 'rising', encoding: 'nrz', invert: false },
+      sink,
+    );
+    br.transitions(tr(rows));
+    br.finish();
+    return { sent, sink };
+  }
+
+  for (const [links, lateLink] of [
+    [2, 0],
+    [2, 1],
+    [3, 0],
+    [3, 2],
+  ]) {
+    it(`hands on each link's chunk when that link is full, ${links} links, link ${lateLink} starting 100 edges late`, () => {
+      const count = BIT_CHUNK_SIZE * 2 + 500;
+      const { sent, sink } = lateStart(links, lateLink, 100, count);
+      sent.forEach((bits, k) => {
+        const expected = Array.from(k === lateLink ? bits.slice(100) : bits);
+        expect(sink.r.bits.get(`l${k}`)).toEqual(expected);
+        const sizes = sink.log.filter((e) => e.kind === 'bits' && e.link === `l${k}`).map((e) => (e.kind === 'bits' ? e.n : 0));
+        expect(sizes).toEqual(k === lateLink ? [BIT_CHUNK_SIZE, BIT_CHUNK_SIZE, 400] : [BIT_CHUNK_SIZE, BIT_CHUNK_SIZE, 500]);
+      });
+    });
+  }
+
+  it('reads only the first n entries of a batch (readers hand on reused, longer arrays)', () => {
+    /** Transitions whose arrays hold `stale` entries after the n valid ones */
+    const padded = (rows: [number, number, number][], stale: [number, number, number][]): Transitions => {
+      const t = tr([...rows, ...stale]);
+      t.n = rows.length;
+      return t;
+    };
+    const stale: [number, number, number][] = [
+      [1, 40, 0],
+      [0, 41, 1],
+      [1, 42, 1],
+      [0, 43, 0],
+    ];
+    const clockedRows: [number, number, number][] = [
+      [0, 0, 0],
+      [1, 0, 1],
+      [0, 2, 1],
+      [0, 4, 0],
+      [1, 5, 0],
+      [0, 6, 1],
+    ];
+    const clocked = recoverySink();
+    const a = new BitRecovery({ samplePeriodSeconds: 1e-6, clock: 0, data: [{ channel: 1, link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false }, clocked);
+    a.transitions(padded(clockedRows, stale));
+    a.finish();
+    expect(clocked.r.bits.get('d')).toEqual([1, 0]);
+    expect(clocked.r.samples.get('d')).toEqual([2, 6]);
+    // clock recovered at 10 samples a bit: lock at 100, back to 1 at 130, the capture ends at 150
+    const recovered = recoverySink();
+    const b = new BitRecovery({ samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false }, recovered);
+    b.transitions(
+      padded(
+        [
+          [1, 0, 1],
+          [1, 100, 0],
+          [1, 130, 1],
+          [1, 150, 1],
+        ],
+        stale,
+      ),
+    );
+    b.finish();
+    expect(recovered.r.bits.get('d')).toEqual([0, 0, 0, 1, 1]);
+    expect(recovered.r.samples.get('d')).toEqual([105, 115, 125, 135, 145]);
+  });
+});
+
 describe('clocked bit recovery: edge cases of the sampled level', () => {
   it('takes the NRZI reference from the line level at capture start, also when the line changes before the first edge (ISO/IEC 13239:2002 NRZI, from memory)', () => {
     // line starts at 1, drops to 0 before the first edge: a change, so bit 0; then no change: 1
@@ -466,7 +555,6 @@ describe('bit recovery without a clock: batches and the end of the capture', () 
         [1, 160, 1],
       ]),
     );
-    br.transitions(tr([]));
     // rts rises at 170; the line goes back to 0 at 190; the capture ends at 220 (the reader repeats the level there)
     br.transitions(
       tr([
@@ -485,6 +573,33 @@ describe('bit recovery without a clock: batches and the end of the capture', () 
     expect(sink.r.samples.get('d')).toEqual([105, 115, 125, 135, 145, 155, 165, 175, 185, 195, 205, 215]);
   });
 
+  it('puts the cells up to a batch\'s last sample ahead of the next batch\'s line events also when no change is pending at the batch\'s end', () => {
+    const sink = orderSink();
+    const br = new BitRecovery({ ...opts, handshake: [{ channel: 4, name: 'rts', link: 'd' }] }, sink);
+    // lock at 100, back to 1 at 130; the batch ends with rts rising at 160, long after the last change
+    br.transitions(
+      tr([
+        [1, 0, 1],
+        [4, 0, 0],
+        [1, 100, 0],
+        [1, 130, 1],
+        [4, 160, 1],
+      ]),
+    );
+    br.transitions(
+      tr([
+        [4, 170, 0],
+        [1, 200, 1],
+      ]),
+    );
+    br.finish();
+    const at170 = sink.log.findIndex((e) => e.kind === 'event' && e.sample === 170);
+    const before = sink.log.slice(0, at170).flatMap((e) => (e.kind === 'bits' ? [e.last] : []));
+    expect(Math.max(...before)).toBe(155);
+    expect(sink.r.bits.get('d')).toEqual([0, 0, 0, 1, 1, 1, 1, 1, 1, 1]);
+    expect(sink.r.samples.get('d')).toEqual([105, 115, 125, 135, 145, 155, 165, 175, 185, 195]);
+  });
+
   it('drops a short pulse right at the end of the capture as a glitch: the cell it covers keeps the line level', () => {
     const r = run({ ...opts, clock: undefined }, [
       [
@@ -497,6 +612,21 @@ describe('bit recovery without a clock: batches and the end of the capture', () 
     ]);
     expect(r.bits.get('d')).toEqual([0, 0, 0, 0]);
     expect(r.samples.get('d')).toEqual([105, 115, 125, 135]);
+  });
+
+  it('drops a short pulse split across two batches as a glitch, as it would within one batch', () => {
+    const rows: [number, number, number][] = [
+      [1, 0, 1],
+      [1, 100, 0], // lock: cells at 105, 115, …
+      [1, 134, 1], // a 1-sample pulse over the middle of the cell at 135, its second edge in the next batch
+      [1, 135, 0],
+      [1, 160, 0], // the capture ends here (the reader repeats the level)
+    ];
+    const whole = run({ ...opts, clock: undefined }, [rows]);
+    const split = run({ ...opts, clock: undefined }, [rows.slice(0, 3), rows.slice(3)]);
+    expect(whole.bits.get('d')).toEqual([0, 0, 0, 0, 0, 0]);
+    expect(split.bits.get('d')).toEqual([0, 0, 0, 0, 0, 0]);
+    expect(split.samples.get('d')).toEqual([105, 115, 125, 135, 145, 155]);
   });
 
   it('keeps each link on its own recovered clock, locked to its own first transition', () => {
