@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { BitRecovery, type BitRecoveryOptions, type Transitions } from '../../shared/decoder';
+import { BitRecovery, type BitRecoveryOptions, type LineEvent, type Transitions } from '../../shared/decoder';
+import { BIT_CHUNK_SIZE } from '../../shared/decoder/link-bits';
 import { renderWaveform } from '../../shared/decoder/encode';
 import { randomBits, recoverFromWaveform, recoverySink, stuffed } from './support/signals';
 
@@ -257,6 +258,8 @@ describe('clocked bit recovery: more than two links, names of line events', () =
     const opts = { samplePeriodSeconds: 1e-6, data: [{ channel: 1, link: 'd' }], edge: 'rising' as const, encoding: 'nrz' as const, invert: false };
     expect(() => new BitRecovery(opts, recoverySink())).toThrow(/clock channel or a nominal bit rate/);
     expect(() => new BitRecovery({ ...opts, bitRate: 0 }, recoverySink())).toThrow(/nominal bit rate/);
+    expect(() => new BitRecovery({ ...opts, bitRate: -9600 }, recoverySink())).toThrow(/nominal bit rate/);
+    expect(() => new BitRecovery({ ...opts, bitRate: Number.NaN }, recoverySink())).toThrow(/nominal bit rate/);
     expect(() => new BitRecovery({ ...opts, bitRate: 9600 }, recoverySink())).not.toThrow();
   });
 });
@@ -286,5 +289,465 @@ describe('bit recovery without a clock: line events', () => {
       { link: 'd', channel: 'd', kind: 'unknown', sample: 50 },
       { link: 'd', channel: 'rts', kind: 'fall', sample: 80 },
     ]);
+  });
+});
+
+/** a sink that keeps every chunk and event in the order they arrive */
+function orderSink() {
+  const r = recoverySink().r;
+  const log: ({ kind: 'bits'; link: string; n: number; first: number; last: number } | { kind: 'event'; sample: number })[] = [];
+  return {
+    r,
+    log,
+    bits(link: string, chunk: { bits: Uint8Array; samples: Float64Array; n: number }) {
+      log.push({ kind: 'bits', link, n: chunk.n, first: chunk.samples[0], last: chunk.samples[chunk.n - 1] });
+      r.bits.set(link, r.bits.get(link) ?? []);
+      r.samples.set(link, r.samples.get(link) ?? []);
+      for (let i = 0; i < chunk.n; i++) {
+        r.bits.get(link)!.push(chunk.bits[i]);
+        r.samples.get(link)!.push(chunk.samples[i]);
+      }
+    },
+    event(e: LineEvent) {
+      log.push({ kind: 'event', sample: e.sample });
+      r.events.push({ ...e });
+    },
+  };
+}
+
+describe('clocked bit recovery: batches longer than a chunk', () => {
+  // The expected bits are the ones our own waveform encoder (shared/decoder/encode) was given.
+  for (const links of [1, 2, 3, 4]) {
+    it(`hands on full chunks mid-batch and loses no bit when one batch carries ${BIT_CHUNK_SIZE * 2 + 500} bits on each of ${links} link(s)`, () => {
+      const count = BIT_CHUNK_SIZE * 2 + 500;
+      const sent = Array.from({ length: links }, (_, k) => ({ name: `l${k}`, bits: randomBits(count - 37 * k, 20 + k) }));
+      const w = renderWaveform({ links: sent, samplesPerBit: 4, samplePeriodSeconds: 1e-8, encoding: 'nrz', clock: { edge: 'rising' } });
+      const sink = orderSink();
+      const br = new BitRecovery(
+        { samplePeriodSeconds: w.samplePeriodSeconds, clock: 0, data: sent.map((l, k) => ({ channel: k + 1, link: l.name })), edge: 'rising', encoding: 'nrz', invert: false },
+        sink,
+      );
+      // the whole capture in one batch
+      let batches = 0;
+      for (const t of w.batches(10_000_000)) {
+        br.transitions(t);
+        batches++;
+      }
+      expect(batches).toBe(1);
+      br.finish();
+      sent.forEach((l) => {
+        // a shorter link idles at 1 until the longest ends: its bits, then 1s
+        const expected = [...Array.from(l.bits), ...new Array(count - l.bits.length).fill(1)];
+        expect(sink.r.bits.get(l.name)).toEqual(expected);
+      });
+      const chunks = sink.log.filter((e) => e.kind === 'bits');
+      for (const c of chunks) expect(c.n).toBeLessThanOrEqual(BIT_CHUNK_SIZE);
+      // every link gets two full chunks and the rest
+      for (const l of sent) expect(chunks.filter((c) => c.link === l.name).map((c) => c.n)).toEqual([BIT_CHUNK_SIZE, BIT_CHUNK_SIZE, 500]);
+    });
+  }
+});
+
+describe('clocked bit recovery: links that fill their chunks at different edges', () => {
+  // Built by hand: NRZ data changes at 4i + 1, the clock rises at 4i + 2 and falls at 4i + 4, so
+  // edge i samples bit i. One link's data line only gets a level just before edge `late`: it has
+  // no bits for the edges before (see "no bits for clock edges before its data line has a level").
+  function lateStart(links: number, lateLink: number, late: number, count: number) {
+    const sent = Array.from({ length: links }, (_, k) => randomBits(count, 40 + k));
+    const rows: [number, number, number][] = [[0, 0, 0]];
+    for (let k = 0; k < links; k++) if (k !== lateLink) rows.push([k + 1, 0, sent[k][0]]);
+    for (let i = 0; i < count; i++) {
+      for (let k = 0; k < links; k++) {
+        if (k === lateLink ? i >= late : i > 0) rows.push([k + 1, 4 * i + 1, sent[k][i]]);
+      }
+      rows.push([0, 4 * i + 2, 1], [0, 4 * i + 4, 0]);
+    }
+    const sink = orderSink();
+    const br = new BitRecovery(
+      { samplePeriodSeconds: 1e-6, clock: 0, data: sent.map((_, k) => ({ channel: k + 1, link: `l${k}` })), edge: 'rising', encoding: 'nrz', invert: false },
+      sink,
+    );
+    br.transitions(tr(rows));
+    br.finish();
+    return { sent, sink };
+  }
+
+  for (const [links, lateLink] of [
+    [2, 0],
+    [2, 1],
+    [3, 0],
+    [3, 2],
+  ]) {
+    it(`hands on each link's chunk when that link is full, ${links} links, link ${lateLink} starting 100 edges late`, () => {
+      const count = BIT_CHUNK_SIZE * 2 + 500;
+      const { sent, sink } = lateStart(links, lateLink, 100, count);
+      sent.forEach((bits, k) => {
+        const expected = Array.from(k === lateLink ? bits.slice(100) : bits);
+        expect(sink.r.bits.get(`l${k}`)).toEqual(expected);
+        const sizes = sink.log.filter((e) => e.kind === 'bits' && e.link === `l${k}`).map((e) => (e.kind === 'bits' ? e.n : 0));
+        expect(sizes).toEqual(k === lateLink ? [BIT_CHUNK_SIZE, BIT_CHUNK_SIZE, 400] : [BIT_CHUNK_SIZE, BIT_CHUNK_SIZE, 500]);
+      });
+    });
+  }
+
+  it('reads only the first n entries of a batch (readers hand on reused, longer arrays)', () => {
+    /** Transitions whose arrays hold `stale` entries after the n valid ones */
+    const padded = (rows: [number, number, number][], stale: [number, number, number][]): Transitions => {
+      const t = tr([...rows, ...stale]);
+      t.n = rows.length;
+      return t;
+    };
+    const stale: [number, number, number][] = [
+      [1, 40, 0],
+      [0, 41, 1],
+      [1, 42, 1],
+      [0, 43, 0],
+    ];
+    const clockedRows: [number, number, number][] = [
+      [0, 0, 0],
+      [1, 0, 1],
+      [0, 2, 1],
+      [0, 4, 0],
+      [1, 5, 0],
+      [0, 6, 1],
+    ];
+    const clocked = recoverySink();
+    const a = new BitRecovery({ samplePeriodSeconds: 1e-6, clock: 0, data: [{ channel: 1, link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false }, clocked);
+    a.transitions(padded(clockedRows, stale));
+    a.finish();
+    expect(clocked.r.bits.get('d')).toEqual([1, 0]);
+    expect(clocked.r.samples.get('d')).toEqual([2, 6]);
+    // clock recovered at 10 samples a bit: lock at 100, back to 1 at 130, the capture ends at 150
+    const recovered = recoverySink();
+    const b = new BitRecovery({ samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false }, recovered);
+    b.transitions(
+      padded(
+        [
+          [1, 0, 1],
+          [1, 100, 0],
+          [1, 130, 1],
+          [1, 150, 1],
+        ],
+        stale,
+      ),
+    );
+    b.finish();
+    expect(recovered.r.bits.get('d')).toEqual([0, 0, 0, 1, 1]);
+    expect(recovered.r.samples.get('d')).toEqual([105, 115, 125, 135, 145]);
+  });
+});
+
+describe('clocked bit recovery: edge cases of the sampled level', () => {
+  it('takes the NRZI reference from the line level at capture start, also when the line changes before the first edge (ISO/IEC 13239:2002 NRZI, from memory)', () => {
+    // line starts at 1, drops to 0 before the first edge: a change, so bit 0; then no change: 1
+    const rows: [number, number, number][] = [
+      [0, 0, 0],
+      [1, 0, 1],
+      [1, 1, 0],
+      [0, 2, 1],
+      [0, 4, 0],
+      [0, 6, 1],
+    ];
+    expect(run({ encoding: 'nrzi' }, [rows]).bits.get('d')).toEqual([0, 1]);
+    // line starts at 0 and stays: no change, bit 1 each time
+    expect(run({ encoding: 'nrzi' }, [[[0, 0, 0], [1, 0, 0], [0, 2, 1], [0, 4, 0], [0, 6, 1]]]).bits.get('d')).toEqual([1, 1]);
+  });
+
+  it('takes the level from before the sample of the edge when the data changes twice at that sample (setup time, common practice)', () => {
+    // data 0, then at sample 4: up, down again, the clock edge; up at 5: the edge at 4 sees 0 (the level before sample 4)
+    const rows: [number, number, number][] = [
+      [0, 0, 0],
+      [1, 0, 0],
+      [1, 4, 1],
+      [1, 4, 0],
+      [0, 4, 1],
+      [1, 5, 1],
+      [0, 6, 0],
+      [0, 8, 1],
+    ];
+    expect(run({}, [rows]).bits.get('d')).toEqual([0, 1]);
+    // three changes at 4 (up, down, up) before the edge: still the level before sample 4
+    const three: [number, number, number][] = [
+      [0, 0, 0],
+      [1, 0, 0],
+      [1, 4, 1],
+      [1, 4, 0],
+      [1, 4, 1],
+      [0, 4, 1],
+      [0, 6, 0],
+      [0, 8, 1],
+    ];
+    expect(run({}, [three]).bits.get('d')).toEqual([0, 1]);
+    // the same with the level before sample 4 at 1 and three changes after the edge
+    const high: [number, number, number][] = [
+      [0, 0, 0],
+      [1, 0, 1],
+      [0, 4, 1],
+      [1, 4, 0],
+      [1, 4, 1],
+      [1, 4, 0],
+      [0, 6, 0],
+      [0, 8, 1],
+    ];
+    expect(run({}, [high]).bits.get('d')).toEqual([1, 0]);
+  });
+
+  it('gives no edge for the clock\'s first value, even when it starts at its active level', () => {
+    expect(run({}, [[[0, 0, 1], [1, 0, 1], [0, 2, 0], [0, 4, 1]]]).bits.get('d')).toEqual([1]);
+    expect(run({ edge: 'falling' }, [[[0, 0, 0], [1, 0, 1], [0, 2, 1], [0, 4, 0]]]).bits.get('d')).toEqual([1]);
+  });
+
+  it('hands on the bits sampled before a line event ahead of the event, for one, two and three links', () => {
+    for (const links of [1, 2, 3]) {
+      const sink = orderSink();
+      const br = new BitRecovery(
+        {
+          samplePeriodSeconds: 1e-6,
+          clock: 0,
+          data: Array.from({ length: links }, (_, k) => ({ channel: k + 1, link: `l${k}` })),
+          handshake: [{ channel: 9, name: 'rts' }],
+          edge: 'rising',
+          encoding: 'nrz',
+          invert: false,
+        },
+        sink,
+      );
+      const rows: [number, number, number][] = [[0, 0, 0], [9, 0, 0]];
+      for (let k = 0; k < links; k++) rows.push([k + 1, 0, 1]);
+      // edges at 2, 6, 10; rts rises at 7 and falls at 11
+      rows.push([0, 2, 1], [0, 4, 0], [0, 6, 1], [0, 8, 0], [9, 7, 1], [0, 10, 1], [9, 11, 0], [0, 12, 0]);
+      rows.sort((a, b) => a[1] - b[1]);
+      br.transitions(tr(rows));
+      br.finish();
+      expect(sink.log.filter((e) => e.kind === 'event').map((e) => e.sample)).toEqual([7, 11]);
+      // before each event, every link has handed on exactly the bits sampled before it
+      for (const [at, upTo] of [
+        [7, 6],
+        [11, 10],
+      ]) {
+        const idx = sink.log.findIndex((e) => e.kind === 'event' && e.sample === at);
+        for (let k = 0; k < links; k++) {
+          const last = sink.log.slice(0, idx).filter((e) => e.kind === 'bits' && e.link === `l${k}`).at(-1);
+          expect(last && last.kind === 'bits' ? last.last : null).toBe(upTo);
+        }
+      }
+      for (let k = 0; k < links; k++) expect(sink.r.samples.get(`l${k}`)).toEqual([2, 6, 10]);
+    }
+  });
+});
+
+describe('bit recovery without a clock: batches and the end of the capture', () => {
+  // 1 Mbit/s sampled at 10 MHz: 10 samples a bit. Per clock-recovery.ts the loop locks on the
+  // first transition and samples each cell in its middle (5 samples after a boundary), and a
+  // pulse shorter than 35 % of a bit (3.5 samples) is a glitch. The expected cells below are
+  // worked out by hand from those rules on transitions that fall exactly on cell boundaries.
+  const opts = { samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], edge: 'rising' as const, encoding: 'nrz' as const, invert: false };
+
+  it('puts every cell before the last sample of a batch ahead of a line event in the next batch (bits reach the sink in time order with events)', () => {
+    const sink = orderSink();
+    const br = new BitRecovery({ ...opts, handshake: [{ channel: 4, name: 'rts', link: 'd' }] }, sink);
+    // lock at 100 (line to 0), a change at 160 (to 1) still pending at the batch's end
+    br.transitions(
+      tr([
+        [1, 0, 1],
+        [4, 0, 0],
+        [1, 100, 0],
+        [1, 160, 1],
+      ]),
+    );
+    // rts rises at 170; the line goes back to 0 at 190; the capture ends at 220 (the reader repeats the level there)
+    br.transitions(
+      tr([
+        [4, 170, 1],
+        [1, 190, 0],
+        [1, 220, 0],
+      ]),
+    );
+    br.finish();
+    expect(sink.log.map((e) => (e.kind === 'event' ? ['event', e.sample] : ['bits', e.first, e.last]))).toEqual([
+      ['bits', 105, 155],
+      ['event', 170],
+      ['bits', 165, 215],
+    ]);
+    expect(sink.r.bits.get('d')).toEqual([0, 0, 0, 0, 0, 0, 1, 1, 1, 0, 0, 0]);
+    expect(sink.r.samples.get('d')).toEqual([105, 115, 125, 135, 145, 155, 165, 175, 185, 195, 205, 215]);
+  });
+
+  it('puts the cells up to a batch\'s last sample ahead of the next batch\'s line events also when no change is pending at the batch\'s end', () => {
+    const sink = orderSink();
+    const br = new BitRecovery({ ...opts, handshake: [{ channel: 4, name: 'rts', link: 'd' }] }, sink);
+    // lock at 100, back to 1 at 130; the batch ends with rts rising at 160, long after the last change
+    br.transitions(
+      tr([
+        [1, 0, 1],
+        [4, 0, 0],
+        [1, 100, 0],
+        [1, 130, 1],
+        [4, 160, 1],
+      ]),
+    );
+    br.transitions(
+      tr([
+        [4, 170, 0],
+        [1, 200, 1],
+      ]),
+    );
+    br.finish();
+    const at170 = sink.log.findIndex((e) => e.kind === 'event' && e.sample === 170);
+    const before = sink.log.slice(0, at170).flatMap((e) => (e.kind === 'bits' ? [e.last] : []));
+    expect(Math.max(...before)).toBe(155);
+    expect(sink.r.bits.get('d')).toEqual([0, 0, 0, 1, 1, 1, 1, 1, 1, 1]);
+    expect(sink.r.samples.get('d')).toEqual([105, 115, 125, 135, 145, 155, 165, 175, 185, 195]);
+  });
+
+  it('drops a short pulse right at the end of the capture as a glitch: the cell it covers keeps the line level', () => {
+    const r = run({ ...opts, clock: undefined }, [
+      [
+        [1, 0, 1],
+        [1, 100, 0], // lock: cells at 105, 115, 125, 135 …
+        [1, 134, 1], // a 1-sample pulse over the middle of the cell at 135
+        [1, 135, 0],
+        [1, 137, 0], // the capture ends here (the reader repeats the level)
+      ],
+    ]);
+    expect(r.bits.get('d')).toEqual([0, 0, 0, 0]);
+    expect(r.samples.get('d')).toEqual([105, 115, 125, 135]);
+  });
+
+  it('drops a short pulse split across two batches as a glitch, as it would within one batch', () => {
+    const rows: [number, number, number][] = [
+      [1, 0, 1],
+      [1, 100, 0], // lock: cells at 105, 115, …
+      [1, 134, 1], // a 1-sample pulse over the middle of the cell at 135, its second edge in the next batch
+      [1, 135, 0],
+      [1, 160, 0], // the capture ends here (the reader repeats the level)
+    ];
+    const whole = run({ ...opts, clock: undefined }, [rows]);
+    const split = run({ ...opts, clock: undefined }, [rows.slice(0, 3), rows.slice(3)]);
+    expect(whole.bits.get('d')).toEqual([0, 0, 0, 0, 0, 0]);
+    expect(split.bits.get('d')).toEqual([0, 0, 0, 0, 0, 0]);
+    expect(split.samples.get('d')).toEqual([105, 115, 125, 135, 145, 155]);
+  });
+
+  it('keeps each link on its own recovered clock, locked to its own first transition', () => {
+    const sink = recoverySink();
+    const br = new BitRecovery({ ...opts, data: [{ channel: 3, link: 'a' }, { channel: 1, link: 'b' }] }, sink);
+    br.transitions(
+      tr([
+        [3, 0, 1],
+        [1, 0, 0],
+        [3, 100, 0], // a locks at 100: cells 105, 115, …
+        [1, 103, 1], // b locks at 103: cells 108, 118, …
+        [3, 130, 1],
+        [1, 123, 0],
+        [3, 150, 1],
+        [1, 150, 0],
+      ].sort((x, y) => x[1] - y[1]) as [number, number, number][]),
+    );
+    br.finish();
+    expect(sink.r.bits.get('a')).toEqual([0, 0, 0, 1, 1]);
+    expect(sink.r.samples.get('a')).toEqual([105, 115, 125, 135, 145]);
+    expect(sink.r.bits.get('b')).toEqual([1, 1, 0, 0, 0]);
+    expect(sink.r.samples.get('b')).toEqual([108, 118, 128, 138, 148]);
+  });
+});
+
+describe('bit recovery: lines without a level, repeated levels, channels not in use', () => {
+  it('gives a link no bits for clock edges before its data line has a level, for one, two and three links', () => {
+    for (const links of [1, 2, 3]) {
+      const sink = recoverySink();
+      const br = new BitRecovery(
+        { samplePeriodSeconds: 1e-6, clock: 0, data: Array.from({ length: links }, (_, k) => ({ channel: k + 1, link: `l${k}` })), edge: 'rising', encoding: 'nrz', invert: false },
+        sink,
+      );
+      // the last link's line only gets a level at sample 5, between the edges at 2 and 6
+      const rows: [number, number, number][] = [[0, 0, 0]];
+      for (let k = 0; k < links - 1; k++) rows.push([k + 1, 0, 0]);
+      rows.push([0, 2, 1], [0, 4, 0], [links, 5, 1], [0, 6, 1]);
+      br.transitions(tr(rows));
+      br.finish();
+      for (let k = 0; k < links - 1; k++) expect(sink.r.samples.get(`l${k}`)).toEqual([2, 6]);
+      expect(sink.r.bits.get(`l${links - 1}`)).toEqual([1]);
+      expect(sink.r.samples.get(`l${links - 1}`)).toEqual([6]);
+    }
+  });
+
+  it('gives no second line event when the capture ends with a line at the same level (readers repeat each level there)', () => {
+    // clocked: the clock and the data line end unknown, the handshake line high; each level is repeated at 20
+    const clocked = run({ handshake: [{ channel: 2, name: 'rts', link: 'd' }] }, [
+      [
+        [0, 0, 0],
+        [1, 0, 1],
+        [2, 0, 0],
+        [0, 2, 1],
+        [2, 3, 1],
+        [1, 4, 2],
+        [0, 5, 2],
+      ],
+      [
+        [0, 20, 2],
+        [1, 20, 2],
+        [2, 20, 1],
+      ],
+    ]);
+    expect(clocked.events).toEqual([
+      { link: 'd', channel: 'rts', kind: 'rise', sample: 3 },
+      { link: 'd', channel: 'd', kind: 'unknown', sample: 4 },
+      { link: null, channel: 'clock', kind: 'unknown', sample: 5 },
+    ]);
+    expect(clocked.bits.get('d')).toEqual([1]);
+    // clock recovered: the data line ends unknown and the handshake line low
+    const sink = recoverySink();
+    const br = new BitRecovery(
+      { samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], handshake: [{ channel: 2, name: 'rts', link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false },
+      sink,
+    );
+    br.transitions(
+      tr([
+        [1, 0, 1],
+        [2, 0, 1],
+        [1, 100, 0],
+        [2, 110, 0],
+        [1, 130, 2],
+        [1, 200, 2],
+        [2, 200, 0],
+      ]),
+    );
+    br.finish();
+    expect(sink.r.events).toEqual([
+      { link: 'd', channel: 'rts', kind: 'fall', sample: 110 },
+      { link: 'd', channel: 'd', kind: 'unknown', sample: 130 },
+    ]);
+  });
+
+  it('ignores channels that are neither clock, data nor handshake', () => {
+    const rows: [number, number, number][] = [
+      [0, 0, 0],
+      [1, 0, 1],
+      [7, 0, 0],
+      [0, 2, 1],
+      [7, 3, 1],
+      [0, 4, 0],
+      [7, 5, 2],
+      [0, 6, 1],
+      [7, 7, 0],
+    ];
+    const clocked = run({}, [rows]);
+    expect(clocked.bits.get('d')).toEqual([1, 1]);
+    expect(clocked.events).toEqual([]);
+    const recovered = run({ clock: undefined, bitRate: 1e5 }, [
+      [
+        [1, 0, 1],
+        [7, 0, 0],
+        [1, 10, 0],
+        [7, 12, 1],
+        [1, 30, 1],
+        [7, 35, 2],
+        [1, 40, 1],
+      ],
+    ]);
+    // 10 samples a bit: lock at 10, cells at 15, 25 (0), 35 (1)
+    expect(recovered.bits.get('d')).toEqual([0, 0, 1]);
+    expect(recovered.events).toEqual([]);
   });
 });
