@@ -625,6 +625,26 @@ describe('the call layer on hand-made frames', () => {
     expect(exchanges.map((e) => [e.outcome, e.damagedResponses])).toEqual([['retried', []]]);
   });
 
+  it('takes a good I frame whose call cannot be read for no damaged answer: only a bad FCS makes one', () => {
+    // an I frame with an empty information field carries no call
+    const unreadable = frame('down', 200, [0x21, 0x10]);
+    expect(unreadable.status).toBe('ok');
+    const { exchanges, calls } = pair([open(0, 1, 'A.B'), unreadable, open(5000, 1, 'A.B'), opened(5500, 1, 0, 'A.B')]);
+    expect(calls.find((c) => c.ref.seq === unreadable.seq && c.ref.link === 'down')).toMatchObject({ call: null });
+    expect(calls.find((c) => c.ref.seq === unreadable.seq && c.ref.link === 'down')?.damagedCall).toBeUndefined();
+    expect(exchanges.map((e) => [e.outcome, e.damagedResponses])).toEqual([['retried', []]]);
+  });
+
+  it('counts an RTS rise before a frame that starts at its sample, in lists long enough to be sorted in runs', () => {
+    // 300 server frames, each at the very sample of a rise of the station's RTS: every service delay
+    // is 0, also in a list long enough that the sort merges runs instead of inserting one by one.
+    const frames = Array.from({ length: 300 }, (_, i) => poll(10_000 + i * 1000));
+    const events = frames.map((f) => ({ link: null, channel: 'rts', kind: 'rise' as const, sample: f.firstSample }));
+    const { serviceDelays } = pairExchanges(frames, events, { map: CPM_ENVELOPE, links: roles, rts: [{ channel: 'rts', station: 0x21 }], samplePeriodSeconds: 1e-6 });
+    expect(serviceDelays).toHaveLength(300);
+    expect(serviceDelays.every((d, i) => d.seconds === 0 && d.serverFrame.seq === frames[i].seq)).toBe(true);
+  });
+
   it('reads a damaged I frame’s bytes to find which of two waiting exchanges it answered', () => {
     const bad = opened(300, 2, 0, 'C.D', true);
     expect(bad.status).toBe('bad-fcs');
