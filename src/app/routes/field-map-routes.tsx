@@ -32,12 +32,14 @@ const editorLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs
     // the preview's chain (captures → frames → one frame) starts now rather than after the first paint; the page does not wait for it
     void prefetchDefaultPreview(queryClient, rig.data, num(search.get('capture')), num(search.get('frame'))).catch(() => undefined);
     await Promise.all([
-      queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data)).then(async () => {
-        // the version list diffs the latest version against the one before; both are fixed once saved
+      queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data)).then(() => {
+        // the version list (below the form) diffs the latest version against the one before: the
+        // latest is the answer just read, the one before loads while the page paints
         const latest = queryClient.getQueryData(fieldMapQueryOptions(rig.data, map.data).queryKey);
         if (latest) {
           const to = latest.latestVersion;
-          await Promise.all([to, Math.max(1, to - 1)].map((v) => queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data, v))));
+          if (latest.version === to) queryClient.setQueryData(fieldMapQueryOptions(rig.data, map.data, to).queryKey, (cached) => cached ?? latest);
+          if (to > 1) void queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data, to - 1));
         }
       }),
       queryClient.prefetchQuery(fieldNotesQueryOptions(rig.data, map.data)),

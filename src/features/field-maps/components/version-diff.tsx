@@ -1,3 +1,4 @@
+import { useDeferredValue, useMemo } from 'react';
 import type { FieldMapVersionInfo } from '../../../../shared/schemas';
 import { ErrorNotice } from '../../../components/notice';
 import { formatDateTime } from '../../../lib/format';
@@ -54,7 +55,11 @@ function FieldLine({ change }: { change: FieldChange }) {
 export function VersionDiff({ rigId, mapId, versions, from, to, onPick }: Props) {
   const a = useFieldMap(rigId, mapId, from);
   const b = useFieldMap(rigId, mapId, to);
-  const diff = a.data && b.data ? diffFieldMaps(a.data.document, b.data.document) : null;
+  // the list sits below the editor: its diff (tens of milliseconds on a large map) is worked out
+  // in a background render after the editor has painted
+  const older = useDeferredValue(a.data, undefined);
+  const newer = useDeferredValue(b.data, undefined);
+  const diff = useMemo(() => (older && newer ? diffFieldMaps(older.document, newer.document) : null), [older, newer]);
   const options = versions.map((v) => (
     <option key={v.version} value={v.version}>
       version {v.version}
