@@ -5,6 +5,7 @@ import { fieldMapQueryOptions } from '../../features/field-maps/api/get-field-ma
 import { fieldMapsQueryOptions } from '../../features/field-maps/api/get-field-maps';
 import { FieldMapEditor, type EditorViewState } from '../../features/field-maps/components/field-map-editor';
 import { FieldMapList } from '../../features/field-maps/components/field-map-list';
+import { checkDraft } from '../../features/field-maps/components/kept-results';
 import { prefetchDefaultPreview } from '../../lib/preview-frame';
 import { fieldNotesQueryOptions } from '../../features/notes/api/field-notes';
 import { FieldNotes } from '../../features/notes/components/field-notes';
@@ -37,6 +38,9 @@ const editorLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs
         // latest is the answer just read, the one before loads while the page paints
         const latest = queryClient.getQueryData(fieldMapQueryOptions(rig.data, map.data).queryKey);
         if (latest) {
+          // the form's check of the map (tens of milliseconds on a large one) runs while the notes
+          // and the preview's requests are out, not in the page's first render
+          checkDraft(latest.document);
           const to = latest.latestVersion;
           if (latest.version === to) queryClient.setQueryData(fieldMapQueryOptions(rig.data, map.data, to).queryKey, (cached) => cached ?? latest);
           if (to > 1) void queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data, to - 1));

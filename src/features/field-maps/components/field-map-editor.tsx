@@ -17,6 +17,7 @@ import { CallsEditor } from './calls-editor';
 import { FieldHintsPanel } from '../../../components/discovery/field-hints-panel';
 import { MapSettings } from './map-settings';
 import { VersionDiff } from './version-diff';
+import { checkDraft, isChecked } from './kept-results';
 
 export interface EditorViewState {
   layout: number;
@@ -72,9 +73,11 @@ export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: P
   }, [draft, latest.data]);
 
   // Checking a whole map takes tens of milliseconds on a large one: the form paints (and each
-  // keystroke shows) first, the check follows in a background render. Null: not checked yet.
-  const checked = useDeferredValue(draft, null);
-  const validation = useMemo(() => (checked ? validateFieldMap(checked) : null), [checked]);
+  // keystroke shows) first, the check follows in a background render. Null: not checked yet. The
+  // map as loaded was checked by the route's loader while the page's other requests were out.
+  const deferred = useDeferredValue(draft, null);
+  const checked = draft && isChecked(draft) ? draft : deferred;
+  const validation = checked ? checkDraft(checked) : null;
   if (validation?.ok) lastValid.current = validation.map;
   const errors: ErrorsByPath = useMemo(
     () => ({ ...(validation && !validation.ok ? errorsByPath(validation.errors) : {}), ...(serverErrors ?? {}) }),
@@ -113,7 +116,7 @@ export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: P
 
   const onSave = () => {
     // a click can land before the background check of the newest edit: check it here then
-    if (checked !== draft && !validateFieldMap(draft).ok) return;
+    if (!checkDraft(draft).ok) return;
     setNotice(null);
     save.mutate(
       { document: draft, baseVersion, name: draft.name },

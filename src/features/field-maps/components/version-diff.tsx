@@ -1,9 +1,10 @@
-import { useDeferredValue, useMemo } from 'react';
+import { useDeferredValue } from 'react';
 import type { FieldMapVersionInfo } from '../../../../shared/schemas';
 import { ErrorNotice } from '../../../components/notice';
 import { formatDateTime } from '../../../lib/format';
 import { useFieldMap, writeUpHref } from '../api/get-field-map';
-import { describeValue, diffFieldMaps, isEmptyDiff, type FieldChange, type PropertyChange } from './field-map-diff';
+import { diffVersions } from './kept-results';
+import { describeValue, isEmptyDiff, type FieldChange, type PropertyChange } from './field-map-diff';
 
 interface Props {
   rigId: number;
@@ -59,7 +60,7 @@ export function VersionDiff({ rigId, mapId, versions, from, to, onPick }: Props)
   // in a background render after the editor has painted
   const older = useDeferredValue(a.data, undefined);
   const newer = useDeferredValue(b.data, undefined);
-  const diff = useMemo(() => (older && newer ? diffFieldMaps(older.document, newer.document) : null), [older, newer]);
+  const diff = older && newer ? diffVersions(older.document, newer.document) : null;
   const options = versions.map((v) => (
     <option key={v.version} value={v.version}>
       version {v.version}
