@@ -16,8 +16,7 @@ export function jobQueryOptions(rigId: number, captureId: number) {
   return queryOptions({
     queryKey: captureKeys.job(rigId, captureId),
     queryFn: () => fetchJob(rigId, captureId),
-    // read again when a page opens, but not a second time right after the route's loader read it
-    staleTime: 1_000,
+    staleTime: 0,
     // poll while the decoder works; stop once it has an outcome
     refetchInterval: (query) => (isJobActive(query.state.data) ? 400 : false),
   });
