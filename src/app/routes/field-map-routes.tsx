@@ -5,6 +5,7 @@ import { fieldMapQueryOptions } from '../../features/field-maps/api/get-field-ma
 import { fieldMapsQueryOptions } from '../../features/field-maps/api/get-field-maps';
 import { FieldMapEditor, type EditorViewState } from '../../features/field-maps/components/field-map-editor';
 import { FieldMapList } from '../../features/field-maps/components/field-map-list';
+import { checkDraft } from '../../features/field-maps/components/kept-results';
 import { prefetchDefaultPreview } from '../../lib/preview-frame';
 import { fieldNotesQueryOptions } from '../../features/notes/api/field-notes';
 import { FieldNotes } from '../../features/notes/components/field-notes';
@@ -32,12 +33,17 @@ const editorLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs
     // the preview's chain (captures → frames → one frame) starts now rather than after the first paint; the page does not wait for it
     void prefetchDefaultPreview(queryClient, rig.data, num(search.get('capture')), num(search.get('frame'))).catch(() => undefined);
     await Promise.all([
-      queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data)).then(async () => {
-        // the version list diffs the latest version against the one before; both are fixed once saved
+      queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data)).then(() => {
+        // the version list (below the form) diffs the latest version against the one before: the
+        // latest is the answer just read, the one before loads while the page paints
         const latest = queryClient.getQueryData(fieldMapQueryOptions(rig.data, map.data).queryKey);
         if (latest) {
+          // the form's check of the map (tens of milliseconds on a large one) runs while the notes
+          // and the preview's requests are out, not in the page's first render
+          checkDraft(latest.document);
           const to = latest.latestVersion;
-          await Promise.all([to, Math.max(1, to - 1)].map((v) => queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data, v))));
+          if (latest.version === to) queryClient.setQueryData(fieldMapQueryOptions(rig.data, map.data, to).queryKey, (cached) => cached ?? latest);
+          if (to > 1) void queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data, to - 1));
         }
       }),
       queryClient.prefetchQuery(fieldNotesQueryOptions(rig.data, map.data)),

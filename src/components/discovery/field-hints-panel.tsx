@@ -1,3 +1,4 @@
+import { useState, type ReactNode } from 'react';
 import { useQuery } from '@tanstack/react-query';
 import { Link } from 'react-router';
 import type { RigDetail } from '../../../shared/schemas';
@@ -30,15 +31,30 @@ export function FieldHintsPanel({ rig, captureId }: { rig: RigDetail; captureId:
       {hints.error ? <p className="text-danger">{hints.error.message}</p> : null}
       {hints.data
         ? hints.data.report.groups.map((g) => (
-            <details key={`${g.direction}:${g.selector ?? 'all'}`}>
-              <summary className="cursor-pointer">
-                {g.direction === 'request' ? 'Requests' : 'Answers'}
-                {g.selector === null ? ', every frame' : `, selector 0x${g.selector.toString(16).toUpperCase().padStart(2, '0')}`} · {g.frames} frames · {g.hints.length} hints
-              </summary>
+            <Group
+              key={`${g.direction}:${g.selector ?? 'all'}`}
+              summary={
+                <>
+                  {g.direction === 'request' ? 'Requests' : 'Answers'}
+                  {g.selector === null ? ', every frame' : `, selector 0x${g.selector.toString(16).toUpperCase().padStart(2, '0')}`} · {g.frames} frames · {g.hints.length} hints
+                </>
+              }
+            >
               <GroupCard g={g} frameLink={frameLink} />
-            </details>
+            </Group>
           ))
         : null}
     </div>
+  );
+}
+
+/** One group, closed at first: its card (a table per group, many on a large capture) is built when opened. */
+function Group({ summary, children }: { summary: ReactNode; children: ReactNode }) {
+  const [open, setOpen] = useState(false);
+  return (
+    <details onToggle={(e) => setOpen(e.currentTarget.open)}>
+      <summary className="cursor-pointer">{summary}</summary>
+      {open ? children : null}
+    </details>
   );
 }

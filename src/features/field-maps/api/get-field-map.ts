@@ -12,8 +12,10 @@ export function fieldMapQueryOptions(rigId: number, mapId: number, version?: num
   return queryOptions({
     queryKey: fieldMapKeys.version(rigId, mapId, version ?? 'latest'),
     queryFn: () => fetchFieldMap(rigId, mapId, version),
-    // a saved version never changes
-    staleTime: version ? Infinity : 0,
+    // a saved version never changes; the latest is read again when the editor opens, but not a
+    // second time right after the route's loader read it (a save from elsewhere meanwhile is
+    // caught by the save's version check)
+    staleTime: version ? Infinity : 5_000,
   });
 }
 

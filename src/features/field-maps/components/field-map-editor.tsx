@@ -1,4 +1,4 @@
-import { useEffect, useMemo, useRef, useState, type ReactNode } from 'react';
+import { useDeferredValue, useEffect, useMemo, useRef, useState, type ReactNode } from 'react';
 import { type FieldMapInput, type FieldMap, validateFieldMap } from '../../../../shared/decoder/calls';
 import type { RigDetail } from '../../../../shared/schemas';
 import { Button, ButtonLink } from '../../../components/button';
@@ -17,6 +17,7 @@ import { CallsEditor } from './calls-editor';
 import { FieldHintsPanel } from '../../../components/discovery/field-hints-panel';
 import { MapSettings } from './map-settings';
 import { VersionDiff } from './version-diff';
+import { checkDraft, isChecked } from './kept-results';
 
 export interface EditorViewState {
   layout: number;
@@ -52,8 +53,9 @@ const slug = (s: string) => s.toLowerCase().replace(/[^a-z0-9]+/g, '-').replace(
 export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: Props) {
   const latest = useFieldMap(rig.id, mapId);
   const save = useSaveFieldMap(rig.id, mapId);
-  const [draft, setDraft] = useState<FieldMapInput | null>(null);
-  const [baseVersion, setBaseVersion] = useState(0);
+  // the route's loader has the map in the cache: the form starts from it in its first render
+  const [draft, setDraft] = useState<FieldMapInput | null>(() => latest.data?.document ?? null);
+  const [baseVersion, setBaseVersion] = useState(() => latest.data?.version ?? 0);
   const [dirty, setDirty] = useState(false);
   const [generation, setGeneration] = useState(0);
   const [serverErrors, setServerErrors] = useState<ErrorsByPath | null>(null);
@@ -70,7 +72,12 @@ export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: P
     }
   }, [draft, latest.data]);
 
-  const validation = useMemo(() => (draft ? validateFieldMap(draft) : null), [draft]);
+  // Checking a whole map takes tens of milliseconds on a large one: the form paints (and each
+  // keystroke shows) first, the check follows in a background render. Null: not checked yet. The
+  // map as loaded was checked by the route's loader while the page's other requests were out.
+  const deferred = useDeferredValue(draft, null);
+  const checked = draft && isChecked(draft) ? draft : deferred;
+  const validation = checked ? checkDraft(checked) : null;
   if (validation?.ok) lastValid.current = validation.map;
   const errors: ErrorsByPath = useMemo(
     () => ({ ...(validation && !validation.ok ? errorsByPath(validation.errors) : {}), ...(serverErrors ?? {}) }),
@@ -108,6 +115,8 @@ export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: P
   };
 
   const onSave = () => {
+    // a click can land before the background check of the newest edit: check it here then
+    if (!checkDraft(draft).ok) return;
     setNotice(null);
     save.mutate(
       { document: draft, baseVersion, name: draft.name },
@@ -269,7 +278,7 @@ export function FieldMapEditor({ rig, mapId, view, onView, renderFieldNotes }: P
         <FramePreview
           rigId={rig.id}
           map={validation?.ok ? validation.map : lastValid.current}
-          draftValid={validation?.ok ?? false}
+          draftValid={validation?.ok ?? true}
           captureId={view.captureId}
           frameId={view.frameId}
           onPick={(captureId, frameId) => onView({ captureId, frameId })}

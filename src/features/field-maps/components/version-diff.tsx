@@ -1,8 +1,10 @@
+import { useDeferredValue } from 'react';
 import type { FieldMapVersionInfo } from '../../../../shared/schemas';
 import { ErrorNotice } from '../../../components/notice';
 import { formatDateTime } from '../../../lib/format';
 import { useFieldMap, writeUpHref } from '../api/get-field-map';
-import { describeValue, diffFieldMaps, isEmptyDiff, type FieldChange, type PropertyChange } from './field-map-diff';
+import { diffVersions } from './kept-results';
+import { describeValue, isEmptyDiff, type FieldChange, type PropertyChange } from './field-map-diff';
 
 interface Props {
   rigId: number;
@@ -54,7 +56,11 @@ function FieldLine({ change }: { change: FieldChange }) {
 export function VersionDiff({ rigId, mapId, versions, from, to, onPick }: Props) {
   const a = useFieldMap(rigId, mapId, from);
   const b = useFieldMap(rigId, mapId, to);
-  const diff = a.data && b.data ? diffFieldMaps(a.data.document, b.data.document) : null;
+  // the list sits below the editor: its diff (tens of milliseconds on a large map) is worked out
+  // in a background render after the editor has painted
+  const older = useDeferredValue(a.data, undefined);
+  const newer = useDeferredValue(b.data, undefined);
+  const diff = older && newer ? diffVersions(older.document, newer.document) : null;
   const options = versions.map((v) => (
     <option key={v.version} value={v.version}>
       version {v.version}

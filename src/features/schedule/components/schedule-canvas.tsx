@@ -125,10 +125,15 @@ export function ScheduleCanvas({ win, view, width, height, selectedId, onPan, on
     // Counted columns first, written as pixels: a long capture seen whole has a column in every
     // pixel of every row (some 15 000 rectangles), which the canvas fills far slower than this loop
     // sets them. Everything else is drawn over them.
+    // A window with no counted columns (a short capture, or one zoomed in) skips the image: a
+    // canvas-sized one costs milliseconds to clear and put even when empty.
+    const counted = visitsRow[0].columns.length > 0 || laneRows.some((rows) => rows.some(([r]) => r.columns.length > 0));
     let img = pixels.current;
-    if (!img || img.width !== c.width || img.height !== c.height) img = pixels.current = g.createImageData(c.width, c.height);
-    else img.data.fill(0);
-    const px = img.data;
+    if (counted) {
+      if (!img || img.width !== c.width || img.height !== c.height) img = pixels.current = g.createImageData(c.width, c.height);
+      else img.data.fill(0);
+    }
+    const px = img?.data ?? new Uint8ClampedArray(0);
     const W = c.width;
     const columns = ([r, y, h, colour, order]: RowSpec) => {
       const cols = r.columns;
@@ -161,9 +166,11 @@ export function ScheduleCanvas({ win, view, width, height, selectedId, onPan, on
         }
       }
     };
-    columns(visitsRow);
-    for (const rows of laneRows) rows.forEach(columns);
-    g.putImageData(img, 0, 0);
+    if (counted && img) {
+      columns(visitsRow);
+      for (const rows of laneRows) rows.forEach(columns);
+      g.putImageData(img, 0, 0);
+    }
 
     // time axis
     const step = niceStep(view.to - view.from, width);

@@ -6,7 +6,9 @@ import { formatAddress } from '../../../lib/format';
 import { CallMarker } from './call-marker';
 
 export interface TimelineMeta {
+  /** every loaded row; the table holds a block of them starting at `offset` */
   rows: TimelineRow[];
+  offset: number;
   selectedT: number | null;
   linkLabels: Record<string, string>;
   /** frame id → its exchange (call layer), for the loaded exchanges */
@@ -44,7 +46,7 @@ export const timelineColumns = [
     header: () => <span title="Time since the row above">Gap</span>,
     cell: (c) => {
       const meta = c.table.options.meta as TimelineMeta;
-      const prev = meta.rows[c.row.index - 1];
+      const prev = meta.rows[meta.offset + c.row.index - 1];
       return prev ? <span className="tabular-nums text-muted">{formatDelta(c.row.original.t - prev.t)}</span> : null;
     },
   }),
