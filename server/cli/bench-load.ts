@@ -20,8 +20,20 @@ import { createPasswordHasher } from '../auth/passwords';
 import { openDb, repoRoot } from '../db/client';
 import { memberships, rigs, stations, users } from '../db/schema';
 
-const { values } = parseArgs({
+const USAGE = `npm run bench:load -- [options]
+  --frames N       frames in the browsed capture (76800)
+  --clients N      concurrent signed-in clients (20)
+  --requests N     requests per client and phase (200)
+  --decode-mb N    size of the raw capture decoded during the second phase (400)
+  --phases LIST    idle, decode or both (idle,decode)
+  --keep           keep the temp folder
+  --profile DIR    write the server's CPU profiles there (one per thread)`;
+
+function readArgs() {
+  try {
+    return parseArgs({
   options: {
+    help: { type: 'boolean', short: 'h', default: false },
     frames: { type: 'string', default: '76800' },
     clients: { type: 'string', default: '20' },
     requests: { type: 'string', default: '200' },
@@ -33,7 +45,17 @@ const { values } = parseArgs({
     profile: { type: 'string' },
   },
   strict: true,
-});
+    });
+  } catch (err) {
+    console.error(`${err instanceof Error ? err.message : String(err)}\n\n${USAGE}`);
+    process.exit(2);
+  }
+}
+const { values } = readArgs();
+if (values.help) {
+  console.log(USAGE);
+  process.exit(0);
+}
 const FRAMES = Number(values.frames);
 const CLIENTS = Number(values.clients);
 const REQUESTS = Number(values.requests);
