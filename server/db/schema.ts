@@ -1,7 +1,8 @@
 import { sql } from 'drizzle-orm';
 import { CAPTURE_FORMATS, CLOCK_EDGES, FRAME_KINDS, FRAME_STATUSES, LINE_ENCODINGS, LINE_EVENT_KINDS } from '../../shared/decoder';
-import { DEFAULT_TIMEOUT_SECONDS, EXCHANGE_OUTCOMES } from '../../shared/decoder/calls';
-import { DAMAGE_CAUSES } from '../../shared/decoder/faults';
+import { DEFAULT_TIMEOUT_SECONDS, EXCHANGE_OUTCOMES, FILE_SIZE_SOURCES, RECOVERED_FILE_KINDS } from '../../shared/decoder/calls';
+import { DAMAGE_CAUSES, RETRANSMISSION_MATCHES, RETRANSMISSION_SEARCHES } from '../../shared/decoder/faults';
+import { BIT_ORDERS, CALL_RUN_STATES, DECODE_JOB_STATES, NOTE_TARGET_KINDS, RIG_ROLES, STATION_ROLES } from '../../shared/schemas';
 import { blob, check, index, integer, real, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
 
 // Timestamps are integer milliseconds (Drizzle maps them to Date); the API sends ISO strings.
@@ -36,7 +37,7 @@ export const rigs = sqliteTable('rigs', {
   bitRate: integer('bit_rate').notNull(),
   encoding: text('encoding', { enum: LINE_ENCODINGS }).notNull(),
   clockEdge: text('clock_edge', { enum: CLOCK_EDGES }).notNull(),
-  bitOrder: text('bit_order', { enum: ['lsb-first', 'msb-first'] }).notNull(),
+  bitOrder: text('bit_order', { enum: BIT_ORDERS }).notNull(),
   /** a request with no answer within this many milliseconds counts as unanswered */
   responseTimeoutMs: integer('response_timeout_ms').notNull().default(DEFAULT_TIMEOUT_SECONDS * 1000),
   /** CPU clock of the rig's machines (Hz), for the fault desk's budget line: CPU cycles per octet */
@@ -54,7 +55,7 @@ export const stations = sqliteTable(
       .references(() => rigs.id, { onDelete: 'cascade' }),
     address: integer('address').notNull(),
     name: text('name').notNull(),
-    role: text('role', { enum: ['server', 'station'] }).notNull(),
+    role: text('role', { enum: STATION_ROLES }).notNull(),
   },
   (t) => [
     uniqueIndex('stations_rig_address_uq').on(t.rigId, t.address),
@@ -72,7 +73,7 @@ export const memberships = sqliteTable(
     userId: integer('user_id')
       .notNull()
       .references(() => users.id, { onDelete: 'cascade' }),
-    role: text('role', { enum: ['owner', 'analyst', 'viewer'] }).notNull(),
+    role: text('role', { enum: RIG_ROLES }).notNull(),
     createdAt: createdAt(),
   },
   (t) => [uniqueIndex('memberships_rig_user_uq').on(t.rigId, t.userId), index('memberships_user_idx').on(t.userId)],
@@ -86,7 +87,7 @@ export const invitations = sqliteTable(
       .notNull()
       .references(() => rigs.id, { onDelete: 'cascade' }),
     email: text('email').notNull(),
-    role: text('role', { enum: ['owner', 'analyst', 'viewer'] }).notNull(),
+    role: text('role', { enum: RIG_ROLES }).notNull(),
     tokenHash: text('token_hash').notNull().unique(),
     invitedBy: integer('invited_by')
       .notNull()
@@ -163,7 +164,7 @@ export const decodeJobs = sqliteTable(
     captureId: integer('capture_id')
       .notNull()
       .references(() => captures.id, { onDelete: 'cascade' }),
-    state: text('state', { enum: ['queued', 'running', 'done', 'failed', 'cancelled', 'interrupted'] }).notNull(),
+    state: text('state', { enum: DECODE_JOB_STATES }).notNull(),
     stage: text('stage').notNull().default('queued'),
     bytesRead: integer('bytes_read').notNull().default(0),
     bytesTotal: integer('bytes_total').notNull().default(0),
@@ -305,8 +306,8 @@ export const faultRows = sqliteTable(
     nextFrameId: integer('next_frame_id'),
     retransmissionSeq: integer('retransmission_seq'),
     retransmissionFrameId: integer('retransmission_frame_id'),
-    retransmissionBy: text('retransmission_by', { enum: ['call', 'ns'] }),
-    retransmissionSearch: text('retransmission_search', { enum: ['found', 'not-found', 'capture-ended', 'not-applicable'] }).notNull(),
+    retransmissionBy: text('retransmission_by', { enum: RETRANSMISSION_MATCHES }),
+    retransmissionSearch: text('retransmission_search', { enum: RETRANSMISSION_SEARCHES }).notNull(),
     /** JSON RaceDetail (shared/decoder/faults/races.ts) when the row shows a race signature */
     race: text('race'),
   },
@@ -391,7 +392,7 @@ export const callRuns = sqliteTable(
     mapVersion: integer('map_version').notNull(),
     /** the call run's own inputs snapshot (RunInputs, JSON): map version, answer timeout, roles */
     inputs: text('inputs'),
-    state: text('state', { enum: ['queued', 'running', 'done', 'failed'] }).notNull(),
+    state: text('state', { enum: CALL_RUN_STATES }).notNull(),
     error: text('error'),
     exchanges: integer('exchanges').notNull().default(0),
     files: integer('files').notNull().default(0),
@@ -462,7 +463,7 @@ export const recoveredFiles = sqliteTable(
     captureId: integer('capture_id').notNull(),
     key: text('key').notNull(),
     name: text('name').notNull(),
-    kind: text('kind', { enum: ['file', 'boot-image'] }).notNull(),
+    kind: text('kind', { enum: RECOVERED_FILE_KINDS }).notNull(),
     user: integer('user'),
     /** JSON array of station addresses */
     stations: text('stations').notNull(),
@@ -477,7 +478,7 @@ export const recoveredFiles = sqliteTable(
     /** JSON array of exchange ids, in time order */
     exchangeIds: text('exchange_ids').notNull(),
     /** where record_count came from (FileSizeSource); null on rows written before it was stored */
-    sizeSource: text('size_source', { enum: ['end-of-file', 'compute-file-size', 'open', 'written', 'records-seen'] }),
+    sizeSource: text('size_source', { enum: FILE_SIZE_SOURCES }),
     /** the exchange whose answer gave the size */
     sizeExchangeId: integer('size_exchange_id'),
     /** JSON StoredFileLockConflict[] (services/calls/lock-conflicts.ts); null on rows written before it was stored */
@@ -502,7 +503,7 @@ export const notes = sqliteTable(
       .references(() => rigs.id, { onDelete: 'cascade' }),
     /** null for a note on a field-map field: those belong to the rig, not to one capture */
     captureId: integer('capture_id').references(() => captures.id, { onDelete: 'cascade' }),
-    target: text('target', { enum: ['capture', 'frame', 'bytes', 'field'] }).notNull(),
+    target: text('target', { enum: NOTE_TARGET_KINDS }).notNull(),
     link: text('link'),
     seq: integer('seq'),
     /** offsets into the frame's octets between the flags (address first, FCS included); end inclusive */

@@ -86,7 +86,8 @@ export const captureFieldMapSchema = z.object({
 });
 export type CaptureFieldMapInput = z.infer<typeof captureFieldMapSchema>;
 
-export type CallRunState = 'queued' | 'running' | 'done' | 'failed';
+export const CALL_RUN_STATES = ['queued', 'running', 'done', 'failed'] as const;
+export type CallRunState = (typeof CALL_RUN_STATES)[number];
 
 export interface CaptureCallLayer {
   captureId: number;

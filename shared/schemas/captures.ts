@@ -100,10 +100,12 @@ export interface Detection {
   suggested: CaptureSettingsInput | null;
 }
 
+export const DECODE_JOB_STATES = ['queued', 'running', 'done', 'failed', 'cancelled', 'interrupted'] as const;
+
 export interface DecodeJob {
   id: number;
   captureId: number;
-  state: 'queued' | 'running' | 'done' | 'failed' | 'cancelled' | 'interrupted';
+  state: (typeof DECODE_JOB_STATES)[number];
   stage: string;
   bytesRead: number;
   bytesTotal: number;

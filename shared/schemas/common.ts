@@ -1,6 +1,8 @@
 import { z } from 'zod';
 
-export const roleSchema = z.enum(['owner', 'analyst', 'viewer']);
+/** a member's role in a rig (memberships and invitations store it: server/db/schema.ts) */
+export const RIG_ROLES = ['owner', 'analyst', 'viewer'] as const;
+export const roleSchema = z.enum(RIG_ROLES);
 export type Role = z.infer<typeof roleSchema>;
 
 /** Every error the API sends has this shape; `fields` maps a form field path to its message. */

@@ -59,7 +59,8 @@ export type FieldNoteInput = z.infer<typeof fieldNoteInputSchema>;
 export const fieldNoteQuerySchema = z.object({ fieldPath: z.string().trim().min(1).max(81).optional() });
 export type FieldNoteQuery = z.infer<typeof fieldNoteQuerySchema>;
 
-export type NoteTargetKind = 'capture' | 'frame' | 'bytes' | 'field';
+export const NOTE_TARGET_KINDS = ['capture', 'frame', 'bytes', 'field'] as const;
+export type NoteTargetKind = (typeof NOTE_TARGET_KINDS)[number];
 
 export interface Note {
   id: number;

@@ -5,7 +5,9 @@ import { roleSchema } from './common';
 
 export const encodingSchema = z.enum(LINE_ENCODINGS);
 export const clockEdgeSchema = z.enum(CLOCK_EDGES);
-export const bitOrderSchema = z.enum(['lsb-first', 'msb-first']);
+/** the order of a byte's bits on the line (stored with the rig: server/db/schema.ts) */
+export const BIT_ORDERS = ['lsb-first', 'msb-first'] as const;
+export const bitOrderSchema = z.enum(BIT_ORDERS);
 
 export const lineSettingsSchema = z.object({
   bitRate: z.coerce
@@ -49,7 +51,8 @@ export type RigInput = z.input<typeof rigInputSchema>;
 export const rigPatchSchema = z.object(rigFields).partial();
 export type RigPatch = z.input<typeof rigPatchSchema>;
 
-export const stationRoleSchema = z.enum(['server', 'station']);
+export const STATION_ROLES = ['server', 'station'] as const;
+export const stationRoleSchema = z.enum(STATION_ROLES);
 
 /** HDLC address octet, entered as decimal or 0x-prefixed hex */
 export const addressSchema = z.preprocess(

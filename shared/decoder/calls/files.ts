@@ -43,7 +43,8 @@ import type { FieldMap } from './field-map';
 export type RecordCoverage = 'seen' | 'missing' | 'conflict';
 
 /** Where a recovered file's size came from (see above). */
-export type FileSizeSource = 'end-of-file' | 'compute-file-size' | 'open' | 'written' | 'records-seen';
+export const FILE_SIZE_SOURCES = ['end-of-file', 'compute-file-size', 'open', 'written', 'records-seen'] as const;
+export type FileSizeSource = (typeof FILE_SIZE_SOURCES)[number];
 
 /** the server's answer to a request for a lock another station holds */
 export type LockConflictOutcome = 'granted' | 'refused' | 'unanswered';
@@ -59,7 +60,8 @@ export interface LockConflict {
   outcome: LockConflictOutcome;
 }
 
-export type RecoveredFileKind = 'file' | 'boot-image';
+export const RECOVERED_FILE_KINDS = ['file', 'boot-image'] as const;
+export type RecoveredFileKind = (typeof RECOVERED_FILE_KINDS)[number];
 
 export interface RecoveredFile {
   /** "0:HYMNS.TXT" (user number and name) or "boot:WRENBOOT.SYS" */

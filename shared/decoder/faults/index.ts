@@ -43,15 +43,16 @@ export interface FollowerRef extends FrameRef {
   status: FrameStatus;
 }
 
-export type RetransmissionSearch =
-  /** found: `retransmission` is set */
-  | 'found'
-  /** the station sent `lookahead` frames on the link without repeating it */
-  | 'not-found'
-  /** the capture ended before `lookahead` frames of the station came */
-  | 'capture-ended'
-  /** nothing to match on: not an I frame and no call-layer key (S/U frames, unreadable damage), or a good frame */
-  | 'not-applicable';
+/**
+ * found: `retransmission` is set; not-found: the station sent `lookahead` frames on the link without
+ * repeating it; capture-ended: the capture ended before `lookahead` frames of the station came;
+ * not-applicable: nothing to match on (not an I frame and no call-layer key: S/U frames,
+ * unreadable damage), or a good frame.
+ */
+export const RETRANSMISSION_SEARCHES = ['found', 'not-found', 'capture-ended', 'not-applicable'] as const;
+export type RetransmissionSearch = (typeof RETRANSMISSION_SEARCHES)[number];
+/** how a retransmission was matched: by the call layer's key, or by the I frame's N(S) */
+export const RETRANSMISSION_MATCHES = ['call', 'ns'] as const;
 
 export interface FaultRow {
   link: string;
@@ -81,7 +82,7 @@ export interface FaultRow {
   anomalies: LineAnomaly[];
   /** the next frame on the same link from the same station (any status) */
   next: FollowerRef | null;
-  retransmission: (FollowerRef & { by: 'call' | 'ns' }) | null;
+  retransmission: (FollowerRef & { by: (typeof RETRANSMISSION_MATCHES)[number] }) | null;
   retransmissionSearch: RetransmissionSearch;
   /** what shows a race signature (the race causes; octet timing also on damaged frames), else null */
   race: RaceDetail | null;
@@ -312,7 +313,7 @@ export class FaultDesk {
       const row = this.rows[p.row];
       if (row.next === null) row.next = ref;
       p.seen++;
-      let by: 'call' | 'ns' | null = null;
+      let by: (typeof RETRANSMISSION_MATCHES)[number] | null = null;
       if (row.callKey !== null && callKey !== null && row.callKey === callKey) by = 'call';
       else if (row.kind === 'I' && row.ns !== null && kind === 'I' && ns === row.ns) by = 'ns';
       if (by) {
