@@ -357,6 +357,8 @@ export class Deframer {
         }
         prev = s;
       }
+      // the same settling of a byte taken whole as at the top of the loop, written out twice on
+      // purpose: as a function it would hand back eight locals, which the hot loop cannot afford
       if (fastAt >= 0) {
         const z = (fastE >> 16) & 7;
         const onesOut = (fastE >> 12) & 15;
