@@ -9,6 +9,7 @@ import { ensureBuiltInMap } from './field-map-store';
 import { badRequest, conflict, notFound } from '../../http/errors';
 import type { CallsModule } from './module';
 import { markdownWithFieldNotes } from '../field-notes';
+import type { RowOf } from '../../db/rows';
 
 const mapColumns = {
   id: fieldMaps.id,
@@ -18,7 +19,7 @@ const mapColumns = {
   latestVersion: fieldMaps.latestVersion,
   updatedAt: fieldMaps.updatedAt,
 };
-type MapRow = { [K in keyof typeof mapColumns]: (typeof fieldMaps.$inferSelect)[K] };
+type MapRow = RowOf<typeof mapColumns>;
 const ph = sql.placeholder;
 
 export function findMap(m: CallsModule, rigId: number, mapId: number): MapRow {

@@ -9,6 +9,7 @@ import { fileLockConflictDetail } from './call-results';
 import { visibleRun } from './capture-layer';
 import { stationNames } from './exchanges';
 import type { CallsModule } from './module';
+import type { RowOf } from '../../db/rows';
 
 const COLUMNS = {
   id: recoveredFiles.id,
@@ -26,7 +27,7 @@ const COLUMNS = {
   sizeExchangeId: recoveredFiles.sizeExchangeId,
   lockConflicts: recoveredFiles.lockConflicts,
 };
-type Row = { [K in keyof typeof COLUMNS]: (typeof recoveredFiles.$inferSelect)[K] };
+type Row = RowOf<typeof COLUMNS>;
 const ph = sql.placeholder;
 const COVERAGE: Record<string, RecordCoverage> = { s: 'seen', m: 'missing', c: 'conflict' };
 
