@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode';
 import { Deframer, type RawFrame } from '../../shared/decoder';
-import { bitsOf, deframeBits } from './deframe-helpers';
+import { bitsOf, deframeBits, pushInChunks } from './deframe-helpers';
 
 const FLAG = '01111110';
 
@@ -57,14 +57,7 @@ describe('Deframer', () => {
         for (const bitwise of [false, true]) {
           const frames: RawFrame[] = [];
           const d = new Deframer('L', { frame: (f) => frames.push(f), event: () => {} }, { bitwise });
-          let at = 0;
-          let k = 0;
-          const samples = Float64Array.from(bits, (_, i) => i);
-          while (at < bits.length) {
-            const end = Math.min(bits.length, at + sizes[k++ % sizes.length]);
-            d.push({ bits: bits.subarray(at, end), samples: samples.subarray(at, end), n: end - at });
-            at = end;
-          }
+          pushInChunks(d, bits, sizes);
           d.finish();
           expect(frames).toHaveLength(1);
           expect(frames[0].lastSample).toBe(stuffedLast ? s.endBit - 2 : s.endBit - 1);
@@ -340,12 +333,7 @@ describe('Deframer rule edges', () => {
       for (const bitwise of [false, true]) {
         const frames: RawFrame[] = [];
         const d = new Deframer('L', { frame: (f) => frames.push(f), event: () => {} }, { bitwise });
-        const samples = Float64Array.from(bits, (_, i) => i);
-        for (let at = 0, k = 0; at < bits.length; ) {
-          const end = Math.min(bits.length, at + sizes[k++ % sizes.length]);
-          d.push({ bits: bits.subarray(at, end), samples: samples.subarray(at, end), n: end - at });
-          at = end;
-        }
+        pushInChunks(d, bits, sizes);
         d.finish();
         expect(frames.map((f) => [f.status, f.bitLength, f.firstSample, f.lastSample])).toEqual(sent.map((s) => ['ok', s.wire.length * 8, s.startBit, s.lastBit]));
         expect(frames.map((f) => Array.from(f.bytes))).toEqual(sent.map((s) => Array.from(s.wire)));
@@ -364,12 +352,7 @@ describe('Deframer chunk ends after a whole line byte', () => {
     const events: unknown[] = [];
     const d = new Deframer('L', { frame: (f) => frames.push(f), event: (e) => events.push(e) }, { bitwise });
     const bits = bitsOf(line);
-    const samples = Float64Array.from(bits, (_, i) => i);
-    for (let at = 0, k = 0; at < bits.length; ) {
-      const end = Math.min(bits.length, at + sizes[k++ % sizes.length]);
-      d.push({ bits: bits.subarray(at, end), samples: samples.subarray(at, end), n: end - at });
-      at = end;
-    }
+    pushInChunks(d, bits, sizes);
     d.finish();
     return { frames, events, bitsSeen: d.bitsSeen };
   };
