@@ -91,7 +91,11 @@ describe('Schedule', () => {
       await panel.waitFor();
       await shot(page, 'exchange-open');
       await panel.getByRole('link', { name: /^Request · frame \d+$/ }).click();
-      await page.waitForURL(/\/frames\/\d+/, { timeout: 30_000, waitUntil: 'commit' });
+      await page.waitForURL(/\/frames\/\d+/, { timeout: 30_000, waitUntil: 'commit' }).catch(async (e: unknown) => {
+        // what the page showed when the link did not lead on, for the one who reads the failure
+        await shot(page, 'request-link-did-not-lead-on');
+        throw new Error(`still at ${page.url()} after following the request link`, { cause: e });
+      });
     } finally {
       await context.close();
     }

@@ -1,5 +1,5 @@
 import { memo, useCallback, useEffect, useRef, useState } from 'react';
-import { useSearchParams } from 'react-router';
+import { useNavigation, useSearchParams } from 'react-router';
 import type { ServiceReport } from '../../../../shared/decoder/timing';
 import type { ExchangeRow, RigDetail } from '../../../../shared/schemas';
 import { Button } from '../../../components/button';
@@ -40,6 +40,10 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
   const [fetched, setFetched] = useState<Fetched | null>(null);
   const area = useRef<HTMLDivElement>(null);
   const drawTimes = useRef<number[]>([]);
+  // a link the user followed is pending while its loaders run; a range write then would cancel it
+  const navigation = useNavigation();
+  const leaving = useRef(false);
+  leaving.current = navigation.state !== 'idle';
 
   const setParam = useCallback(
     (changes: Record<string, string | null>) =>
@@ -73,6 +77,7 @@ export function ScheduleView({ rig, captureId }: { rig: RigDetail; captureId: nu
     if (!view) return;
     const t = setTimeout(() => {
       // unchanged: writing it again would cancel a navigation the user started meanwhile
+      if (leaving.current) return;
       const now = new URLSearchParams(window.location.search);
       const from = view.from.toFixed(9);
       const to = view.to.toFixed(9);
