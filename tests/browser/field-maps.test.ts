@@ -62,6 +62,15 @@ describe('field-map editor', () => {
       const decoded = page.getByRole('table', { name: 'Decoded values' });
       await decoded.getByRole('row').nth(1).waitFor();
       expect(await decoded.getByRole('cell', { name: 'probe', exact: true }).count()).toBe(0);
+      // every octet of the frame, as the frame inspector shows it (not cut at the timeline's 64)
+      const preview = page.getByRole('region', { name: 'Preview' });
+      const caption = await preview.getByText(/^Frame \d+ · /).textContent();
+      const shownId = Number(/^Frame (\d+) · /.exec(caption ?? '')![1]);
+      const octets = await page.getByLabel('Preview octets').locator('span').allTextContents();
+      const captureId = await page.getByLabel('Preview capture').inputValue();
+      const inspected = await page.evaluate(async (url) => ((await (await fetch(url)).json()) as { frame: { hexAll: string } }).frame.hexAll, `/api/rigs/${rigId}/captures/${captureId}/frames/${shownId}`);
+      expect(octets.join('')).toBe(inspected.toUpperCase());
+      expect(await page.getByLabel('Preview frame', { exact: true }).inputValue()).toBe(String(shownId));
       await page.getByRole('button', { name: 'Show this layout' }).click();
       await shot(page, 'copied-with-preview');
 
@@ -132,6 +141,31 @@ describe('field-map editor', () => {
       await second.getByRole('button', { name: 'Reload version 3 (drop my changes)' }).click();
       await second.getByText('Loaded version 3.').waitFor();
       expect(await second.getByLabel('Map name').inputValue()).toBe('Saved first');
+    } finally {
+      await context.close();
+    }
+  });
+
+  it('says why the preview is empty on a rig without a decoded capture, and leads to the upload', async () => {
+    const { context, page } = await newPage(browser);
+    try {
+      await signInAsDemo(page, baseUrl, 'analyst@demo.test');
+      const rigId = await page.evaluate(async (name) => {
+        const session = (await (await fetch('/api/session')).json()) as { csrfToken: string };
+        const res = await fetch('/api/rigs', {
+          method: 'POST',
+          headers: { 'content-type': 'application/json', accept: 'application/json', 'x-csrf-token': session.csrfToken },
+          body: JSON.stringify({ name, lineSettings: { bitRate: 19_200, encoding: 'nrzi', clockEdge: 'rising', bitOrder: 'lsb-first' } }),
+        });
+        return ((await res.json()) as { id: number }).id;
+      }, unique('Empty bench'));
+      await page.goto(`${baseUrl}/rigs/${rigId}/field-maps`);
+      await page.getByRole('list', { name: 'Field maps' }).getByRole('link').first().click();
+      const empty = page.getByTestId('preview-empty');
+      await empty.getByText('No capture on this rig has decoded frames yet: the preview applies the map to a frame of one. Upload a capture and decode it.').waitFor();
+      expect(await page.getByLabel('Preview capture').inputValue()).toBe('');
+      await empty.getByRole('link', { name: 'Upload a capture' }).click();
+      await page.waitForURL(`${baseUrl}/rigs/${rigId}/captures/new`);
     } finally {
       await context.close();
     }

@@ -83,7 +83,7 @@ export function previewFrames(m: CallsModule, rigId: number, q: PreviewFramesQue
   const names = m.timeline.stationNames(rigId);
   let captureId: number | null;
   let jobId: number | null;
-  let captureName = '';
+  let captureName: string;
   if (q.capture !== undefined) {
     // 404 for a capture of another rig or none
     const c = findCapture(m, rigId, q.capture);

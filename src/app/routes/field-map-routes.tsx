@@ -6,7 +6,7 @@ import { fieldMapsQueryOptions } from '../../features/field-maps/api/get-field-m
 import { FieldMapEditor, type EditorViewState } from '../../features/field-maps/components/field-map-editor';
 import { FieldMapList } from '../../features/field-maps/components/field-map-list';
 import { checkDraft } from '../../features/field-maps/components/kept-results';
-import { prefetchDefaultPreview } from '../../lib/preview-frame';
+import { prefetchPreviewFrames } from '../../features/field-maps/api/get-preview-frames';
 import { fieldNotesQueryOptions } from '../../features/notes/api/field-notes';
 import { FieldNotes } from '../../features/notes/components/field-notes';
 import { queryClient } from '../query-client';
@@ -30,8 +30,8 @@ const editorLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs
   const map = idParam.safeParse(params.mapId);
   if (rig.success && map.success) {
     const search = new URL(request.url).searchParams;
-    // the preview's chain (captures → frames → one frame) starts now rather than after the first paint; the page does not wait for it
-    void prefetchDefaultPreview(queryClient, rig.data, num(search.get('capture')), num(search.get('frame'))).catch(() => undefined);
+    // the preview's frames (one request) load beside the map; the page does not wait for them
+    void prefetchPreviewFrames(queryClient, rig.data, num(search.get('capture')), num(search.get('frame'))).catch(() => undefined);
     await Promise.all([
       queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data)).then(() => {
         // the version list (below the form) diffs the latest version against the one before: the
