@@ -181,6 +181,22 @@ describe('field-map editor', () => {
       expect(await page.getByRole('button', { name: 'Add a field' }).count()).toBe(0);
       expect(await page.getByLabel(/^Field \d+ id$/).count()).toBe(0);
       await page.getByRole('link', { name: 'Protocol write-up' }).first().waitFor();
+
+      // a frame typed by id (a supervisory frame, never among the preview's I frames) shows whole
+      const captureId = await page.getByLabel('Preview capture').inputValue();
+      const rigPath = new URL(copiedMapUrl).pathname.replace(/\/field-maps\/\d+$/, '');
+      const rr = await page.evaluate(async (url) => {
+        const page = (await (await fetch(url)).json()) as { rows: { id: number }[] };
+        const detail = (await (await fetch(url.replace(/\/timeline\?.*$/, `/frames/${page.rows[0].id}`))).json()) as { frame: { hexAll: string } };
+        return { id: page.rows[0].id, hexAll: detail.frame.hexAll };
+      }, `/api${rigPath}/captures/${captureId}/timeline?kind=S&limit=1&events=0`);
+      await page.getByLabel('Preview frame id').fill(String(rr.id));
+      await page.getByRole('button', { name: 'Show', exact: true }).click();
+      const preview = page.getByRole('region', { name: 'Preview' });
+      await preview.getByText(new RegExp(`^Frame ${rr.id} · `)).waitFor();
+      expect((await preview.getByLabel('Preview octets').locator('span').allTextContents()).join('')).toBe(rr.hexAll.toUpperCase());
+      expect(await page.getByLabel('Preview frame', { exact: true }).inputValue()).toBe(String(rr.id));
+
       await page.goto(copiedMapUrl.replace(/\/\d+$/, ''));
       await page.getByRole('list', { name: 'Field maps' }).getByRole('listitem').first().waitFor();
       expect(await page.getByRole('button', { name: /^Copy / }).count()).toBe(0);
