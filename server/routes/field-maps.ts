@@ -1,9 +1,10 @@
 import { Router } from 'express';
-import { captureFieldMapSchema, fieldMapCreateSchema, fieldMapQuerySchema, fieldMapSaveSchema } from '../../shared/schemas';
+import { captureFieldMapSchema, fieldMapCreateSchema, fieldMapQuerySchema, fieldMapSaveSchema, previewFramesQuerySchema } from '../../shared/schemas';
 import { currentUser, rigAccess, type Guard } from '../auth/guard';
 import { parseBody, parseId } from '../http/errors';
 import { findCapture } from '../services/captures/rows';
 import { captureCallLayer, chooseCaptureMap } from '../services/calls/capture-layer';
+import { previewFrames } from '../services/calls/field-map-preview';
 import { createFieldMap, fieldMapDetail, fieldMapMarkdown, listFieldMaps, saveFieldMap } from '../services/calls/field-maps';
 import type { CallsModule } from '../services/calls/module';
 import { safeFileName } from '../services/calls/files';
@@ -20,6 +21,11 @@ export function fieldMapRoutes(m: CallsModule, guard: Guard): Router {
 
   router.post(base, guard.requireRigRole('analyst'), (req, res) => {
     res.status(201).json(createFieldMap(m, rigAccess(res).rigId, currentUser(req).id, parseBody(fieldMapCreateSchema, req.body)));
+  });
+
+  // before `/:mapId`, which would take "preview-frames" for a map id
+  router.get(`${base}/preview-frames`, guard.requireRigRole('viewer'), (req, res) => {
+    res.json(previewFrames(m, rigAccess(res).rigId, parseBody(previewFramesQuerySchema, req.query)));
   });
 
   router.get(`${base}/:mapId`, guard.requireRigRole('viewer'), (req, res) => {

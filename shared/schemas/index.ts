@@ -8,3 +8,4 @@ export * from './faults';
 export * from './discovery';
 export * from './decoded-upload';
 export * from './timing';
+export * from './field-map-preview';

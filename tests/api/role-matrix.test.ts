@@ -78,6 +78,7 @@ const MATRIX: Record<string, Row> = {
   'GET /api/rigs/:rigId/captures/:captureId/export.json': MEMBER(200),
   'GET /api/rigs/:rigId/field-maps': MEMBER(200),
   'POST /api/rigs/:rigId/field-maps': ANALYST(201),
+  'GET /api/rigs/:rigId/field-maps/preview-frames': MEMBER(200),
   'GET /api/rigs/:rigId/field-maps/:mapId': MEMBER(200),
   'PUT /api/rigs/:rigId/field-maps/:mapId': ANALYST(200),
   'GET /api/rigs/:rigId/field-maps/:mapId/export.md': MEMBER(200),

@@ -62,6 +62,15 @@ describe('field-map editor', () => {
       const decoded = page.getByRole('table', { name: 'Decoded values' });
       await decoded.getByRole('row').nth(1).waitFor();
       expect(await decoded.getByRole('cell', { name: 'probe', exact: true }).count()).toBe(0);
+      // every octet of the frame, as the frame inspector shows it (not cut at the timeline's 64)
+      const preview = page.getByRole('region', { name: 'Preview' });
+      const caption = await preview.getByText(/^Frame \d+ · /).textContent();
+      const shownId = Number(/^Frame (\d+) · /.exec(caption ?? '')![1]);
+      const octets = await page.getByLabel('Preview octets').locator('span').allTextContents();
+      const captureId = await page.getByLabel('Preview capture').inputValue();
+      const inspected = await page.evaluate(async (url) => ((await (await fetch(url)).json()) as { frame: { hexAll: string } }).frame.hexAll, `/api/rigs/${rigId}/captures/${captureId}/frames/${shownId}`);
+      expect(octets.join('')).toBe(inspected.toUpperCase());
+      expect(await page.getByLabel('Preview frame', { exact: true }).inputValue()).toBe(String(shownId));
       await page.getByRole('button', { name: 'Show this layout' }).click();
       await shot(page, 'copied-with-preview');
 
@@ -137,6 +146,31 @@ describe('field-map editor', () => {
     }
   });
 
+  it('says why the preview is empty on a rig without a decoded capture, and leads to the upload', async () => {
+    const { context, page } = await newPage(browser);
+    try {
+      await signInAsDemo(page, baseUrl, 'analyst@demo.test');
+      const rigId = await page.evaluate(async (name) => {
+        const session = (await (await fetch('/api/session')).json()) as { csrfToken: string };
+        const res = await fetch('/api/rigs', {
+          method: 'POST',
+          headers: { 'content-type': 'application/json', accept: 'application/json', 'x-csrf-token': session.csrfToken },
+          body: JSON.stringify({ name, lineSettings: { bitRate: 19_200, encoding: 'nrzi', clockEdge: 'rising', bitOrder: 'lsb-first' } }),
+        });
+        return ((await res.json()) as { id: number }).id;
+      }, unique('Empty bench'));
+      await page.goto(`${baseUrl}/rigs/${rigId}/field-maps`);
+      await page.getByRole('list', { name: 'Field maps' }).getByRole('link').first().click();
+      const empty = page.getByTestId('preview-empty');
+      await empty.getByText('No capture on this rig has decoded frames yet: the preview applies the map to a frame of one. Upload a capture and decode it.').waitFor();
+      expect(await page.getByLabel('Preview capture').inputValue()).toBe('');
+      await empty.getByRole('link', { name: 'Upload a capture' }).click();
+      await page.waitForURL(`${baseUrl}/rigs/${rigId}/captures/new`);
+    } finally {
+      await context.close();
+    }
+  });
+
   it('shows a viewer the map without edit controls', async () => {
     const { context, page } = await newPage(browser);
     try {
@@ -147,6 +181,22 @@ describe('field-map editor', () => {
       expect(await page.getByRole('button', { name: 'Add a field' }).count()).toBe(0);
       expect(await page.getByLabel(/^Field \d+ id$/).count()).toBe(0);
       await page.getByRole('link', { name: 'Protocol write-up' }).first().waitFor();
+
+      // a frame typed by id (a supervisory frame, never among the preview's I frames) shows whole
+      const captureId = await page.getByLabel('Preview capture').inputValue();
+      const rigPath = new URL(copiedMapUrl).pathname.replace(/\/field-maps\/\d+$/, '');
+      const rr = await page.evaluate(async (url) => {
+        const page = (await (await fetch(url)).json()) as { rows: { id: number }[] };
+        const detail = (await (await fetch(url.replace(/\/timeline\?.*$/, `/frames/${page.rows[0].id}`))).json()) as { frame: { hexAll: string } };
+        return { id: page.rows[0].id, hexAll: detail.frame.hexAll };
+      }, `/api${rigPath}/captures/${captureId}/timeline?kind=S&limit=1&events=0`);
+      await page.getByLabel('Preview frame id').fill(String(rr.id));
+      await page.getByRole('button', { name: 'Show', exact: true }).click();
+      const preview = page.getByRole('region', { name: 'Preview' });
+      await preview.getByText(new RegExp(`^Frame ${rr.id} · `)).waitFor();
+      expect((await preview.getByLabel('Preview octets').locator('span').allTextContents()).join('')).toBe(rr.hexAll.toUpperCase());
+      expect(await page.getByLabel('Preview frame', { exact: true }).inputValue()).toBe(String(rr.id));
+
       await page.goto(copiedMapUrl.replace(/\/\d+$/, ''));
       await page.getByRole('list', { name: 'Field maps' }).getByRole('listitem').first().waitFor();
       expect(await page.getByRole('button', { name: /^Copy / }).count()).toBe(0);

@@ -6,7 +6,7 @@ import { fieldMapsQueryOptions } from '../../features/field-maps/api/get-field-m
 import { FieldMapEditor, type EditorViewState } from '../../features/field-maps/components/field-map-editor';
 import { FieldMapList } from '../../features/field-maps/components/field-map-list';
 import { checkDraft } from '../../features/field-maps/components/kept-results';
-import { prefetchDefaultPreview } from '../../lib/preview-frame';
+import { prefetchPreviewFrames } from '../../features/field-maps/api/get-preview-frames';
 import { fieldNotesQueryOptions } from '../../features/notes/api/field-notes';
 import { FieldNotes } from '../../features/notes/components/field-notes';
 import { queryClient } from '../query-client';
@@ -30,24 +30,24 @@ const editorLoader = whenSignedIn(async ({ params, request }: LoaderFunctionArgs
   const map = idParam.safeParse(params.mapId);
   if (rig.success && map.success) {
     const search = new URL(request.url).searchParams;
-    // the preview's chain (captures → frames → one frame) starts now rather than after the first paint; the page does not wait for it
-    void prefetchDefaultPreview(queryClient, rig.data, num(search.get('capture')), num(search.get('frame'))).catch(() => undefined);
-    await Promise.all([
-      queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data)).then(() => {
-        // the version list (below the form) diffs the latest version against the one before: the
-        // latest is the answer just read, the one before loads while the page paints
-        const latest = queryClient.getQueryData(fieldMapQueryOptions(rig.data, map.data).queryKey);
-        if (latest) {
-          // the form's check of the map (tens of milliseconds on a large one) runs while the notes
-          // and the preview's requests are out, not in the page's first render
-          checkDraft(latest.document);
-          const to = latest.latestVersion;
-          if (latest.version === to) queryClient.setQueryData(fieldMapQueryOptions(rig.data, map.data, to).queryKey, (cached) => cached ?? latest);
-          if (to > 1) void queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data, to - 1));
-        }
-      }),
-      queryClient.prefetchQuery(fieldNotesQueryOptions(rig.data, map.data)),
-    ]);
+    // the map first: the server answers in the order asked, and the page waits for the map alone
+    const mapRead = queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data));
+    // the preview's frames (one request) and the fields' notes load beside it; the page paints
+    // without waiting for them (a field's notes button counts "…" for that moment)
+    void prefetchPreviewFrames(queryClient, rig.data, num(search.get('capture')), num(search.get('frame'))).catch(() => undefined);
+    void queryClient.prefetchQuery(fieldNotesQueryOptions(rig.data, map.data));
+    await mapRead;
+    // the version list (below the form) diffs the latest version against the one before: the
+    // latest is the answer just read, the one before loads while the page paints
+    const latest = queryClient.getQueryData(fieldMapQueryOptions(rig.data, map.data).queryKey);
+    if (latest) {
+      // the form's check of the map (tens of milliseconds on a large one) runs here, before the
+      // first render, so that render paints the preview rather than a second one after it
+      checkDraft(latest.document);
+      const to = latest.latestVersion;
+      if (latest.version === to) queryClient.setQueryData(fieldMapQueryOptions(rig.data, map.data, to).queryKey, (cached) => cached ?? latest);
+      if (to > 1) void queryClient.prefetchQuery(fieldMapQueryOptions(rig.data, map.data, to - 1));
+    }
   }
 });
 

@@ -8,8 +8,12 @@ export const fieldMapKeys = {
   version: (rigId: number, mapId: number, version: number | 'latest') => [...fieldMapKeys.detail(rigId, mapId), version] as const,
   // the preview reads captures: its keys sit under the rig's capture lists and the capture's decoded views (lib/scope)
   previewCaptures: (rigId: number) => [...captureListKey(rigId), 'field-map-preview'] as const,
-  previewFrames: (rigId: number, captureId: number) => [...captureScope(rigId, captureId).decoded, 'field-map-preview', 'frames'] as const,
-  previewFrame: (rigId: number, captureId: number, frameId: number) => [...captureScope(rigId, captureId).decoded, 'field-map-preview', 'frame', frameId] as const,
+  // the preview's frames: of the newest decoded capture (which a new capture changes) or of a chosen
+  // one, with a frame asked for by id or without
+  previewFrames: (rigId: number, captureId: number | null, frameId: number | null) =>
+    captureId === null
+      ? ([...captureListKey(rigId), 'field-map-preview', 'newest', frameId ?? 'first'] as const)
+      : ([...captureScope(rigId, captureId).decoded, 'field-map-preview', frameId ?? 'first'] as const),
 };
 
 export function fieldMapsPath(rigId: number): string {

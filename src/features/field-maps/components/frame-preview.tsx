@@ -1,7 +1,9 @@
 import { useMemo, useState } from 'react';
+import { Link } from 'react-router';
 import { applyFieldMap, type CallDirection, type FieldMap } from '../../../../shared/decoder/calls';
+import type { PreviewEmpty, PreviewFrame } from '../../../../shared/schemas';
 import { ErrorNotice } from '../../../components/notice';
-import { decodedNewestFirst, usePreviewCaptures, usePreviewFrame, usePreviewFrames } from '../../../lib/preview-frame';
+import { usePreviewFrames } from '../api/get-preview-frames';
 import { swatch } from './field-colours';
 
 interface Props {
@@ -19,49 +21,64 @@ interface Props {
 const hex2 = (b: number) => b.toString(16).toUpperCase().padStart(2, '0');
 const control = 'rounded border border-line bg-surface px-2 py-1 text-sm';
 
+function hexToBytes(hex: string): Uint8Array {
+  const out = new Uint8Array(hex.length >> 1);
+  for (let i = 0; i < out.length; i++) out[i] = parseInt(hex.slice(i * 2, i * 2 + 2), 16);
+  return out;
+}
+
 /** The draft applied in the browser to one frame's information field: coloured octets and decoded values. */
 export function FramePreview({ rigId, map, draftValid, captureId, frameId, onPick, onShowLayout }: Props) {
-  const captures = usePreviewCaptures(rigId);
-  const decoded = useMemo(() => decodedNewestFirst(captures.data ?? []), [captures.data]);
-  const capture = captureId ?? decoded[0]?.id ?? null;
-  const frames = usePreviewFrames(rigId, capture);
-  const frameChoice = frameId ?? frames.data?.[0]?.id ?? null;
-  const frame = usePreviewFrame(rigId, capture, frameChoice);
+  // one request gives the captures, the first I frames (every octet) and, from the link, a frame by id
+  const list = usePreviewFrames(rigId, captureId, null);
+  const capture = list.data?.captureId ?? captureId;
+  const frames = list.data?.frames;
+  const listed = frameId === null ? frames?.[0] : frames?.find((f) => f.id === frameId);
+  // a frame typed by id, or not among the first ones: asked for on its own
+  const asked = usePreviewFrames(rigId, captureId, frameId, frameId !== null && list.isSuccess && !listed);
+  const shown: PreviewFrame | undefined = listed ?? asked.data?.frame ?? undefined;
+  const frameChoice = frameId ?? shown?.id ?? null;
+  const frame = useMemo(() => {
+    if (!shown) return null;
+    const bytes = hexToBytes(shown.octets);
+    return { frame: shown, bytes, infoOffset: shown.infoOffset, info: bytes.subarray(shown.infoOffset, shown.infoOffset + shown.infoLength) };
+  }, [shown]);
   const [directionChoice, setDirectionChoice] = useState<'auto' | CallDirection>('auto');
   const [typedId, setTypedId] = useState('');
 
   const direction: CallDirection = useMemo(() => {
     if (directionChoice !== 'auto') return directionChoice;
     const cc = map?.callCode;
-    const info = frame.data?.info;
+    const info = frame?.info;
     // a response sets the map's response bits in the call code (the built-in sets 0x80)
     if (cc && cc.responseMask && info && info.length > cc.offset && (info[cc.offset] & cc.responseMask & 0xff) !== 0) return 'response';
     return 'request';
-  }, [directionChoice, map, frame.data]);
+  }, [directionChoice, map, frame]);
 
-  const call = useMemo(() => (map && frame.data ? applyFieldMap(map, frame.data.info, direction) : null), [map, frame.data, direction]);
+  const call = useMemo(() => (map && frame ? applyFieldMap(map, frame.info, direction) : null), [map, frame, direction]);
 
   // octet index of the whole frame → field index
   const owner = useMemo(() => {
     const out = new Map<number, number>();
-    if (!call || !frame.data) return out;
+    if (!call || !frame) return out;
     call.fields.forEach((f, i) => {
-      for (let k = 0; k < f.available; k++) out.set(frame.data!.infoOffset + f.offset + k, i);
+      for (let k = 0; k < f.available; k++) out.set(frame!.infoOffset + f.offset + k, i);
     });
     return out;
-  }, [call, frame.data]);
+  }, [call, frame]);
   const layoutIndex = map && call?.layout ? map.layouts.findIndex((l) => l.id === call.layout) : -1;
   const fieldIndexInLayout = (id: string) => (layoutIndex >= 0 ? map!.layouts[layoutIndex].fields.findIndex((f) => f.id === id) : -1);
 
   return (
     <section aria-label="Preview" className="space-y-3">
-      {(frame.data && call) || (captures.data && decoded.length === 0) ? <span hidden data-testid="preview-ready" /> : null}
+      {(frame && call) || list.data?.empty ? <span hidden data-testid="preview-ready" /> : null}
       <div className="flex flex-wrap items-end gap-3">
         <label className="text-sm font-medium">
           Capture{' '}
           <select aria-label="Preview capture" className={control} value={capture ?? ''} onChange={(e) => onPick(e.target.value ? Number(e.target.value) : null, null)}>
-            {decoded.length === 0 ? <option value="">no decoded capture</option> : null}
-            {decoded.map((c) => (
+            {list.data && list.data.captures.length === 0 ? <option value="">no decoded capture</option> : null}
+            {capture !== null && list.data && !list.data.captures.some((c) => c.id === capture) ? <option value={capture}>capture id {capture}</option> : null}
+            {(list.data?.captures ?? []).map((c) => (
               <option key={c.id} value={c.id}>
                 {c.name}
               </option>
@@ -71,8 +88,8 @@ export function FramePreview({ rigId, map, draftValid, captureId, frameId, onPic
         <label className="text-sm font-medium">
           Frame{' '}
           <select aria-label="Preview frame" className={control} value={frameChoice ?? ''} onChange={(e) => onPick(capture, e.target.value ? Number(e.target.value) : null)}>
-            {frameChoice !== null && !frames.data?.some((f) => f.id === frameChoice) ? <option value={frameChoice}>frame id {frameChoice}</option> : null}
-            {(frames.data ?? []).map((f) => (
+            {frameChoice !== null && !frames?.some((f) => f.id === frameChoice) ? <option value={frameChoice}>frame id {frameChoice}</option> : null}
+            {(frames ?? []).map((f) => (
               <option key={f.id} value={f.id}>
                 {f.link} #{f.seq} · {f.infoLength} octets · {f.summary}
               </option>
@@ -103,16 +120,15 @@ export function FramePreview({ rigId, map, draftValid, captureId, frameId, onPic
           </select>
         </label>
       </div>
-      {captures.error ? <ErrorNotice error={captures.error} /> : null}
-      {frames.error ? <ErrorNotice error={frames.error} /> : null}
-      {frame.error ? <ErrorNotice error={frame.error} /> : null}
+      {list.error ? <ErrorNotice error={list.error} /> : null}
+      {asked.error ? <ErrorNotice error={asked.error} /> : null}
       {!draftValid ? <p className="text-sm text-flare-700">The draft has problems; the preview shows the last valid draft.</p> : null}
-      {capture !== null && frames.data && frames.data.length === 0 && frameId === null ? <p className="text-sm text-muted">This capture has no I frame with an information field near its start; type a frame id.</p> : null}
-      {frame.data && call ? (
+      {list.data?.empty && !shown ? <EmptyPreview rigId={rigId} captureId={capture} empty={list.data.empty} /> : null}
+      {frame && call ? (
         <div className="grid gap-4 lg:grid-cols-[minmax(0,1fr)_minmax(0,1fr)]">
           <div>
             <p className="mb-1 text-xs text-muted">
-              Frame {frame.data.frame.id} · {frame.data.frame.link} #{frame.data.frame.seq} · information field from octet {frame.data.infoOffset} · layout{' '}
+              Frame {frame.frame.id} · {frame.frame.link} #{frame.frame.seq} · information field from octet {frame.infoOffset} · layout{' '}
               <span className="font-mono">{call.layout ?? 'none matched'}</span>
               {layoutIndex >= 0 ? (
                 <button type="button" className="ml-2 text-link hover:underline" onClick={() => onShowLayout(layoutIndex)}>
@@ -121,9 +137,9 @@ export function FramePreview({ rigId, map, draftValid, captureId, frameId, onPic
               ) : null}
             </p>
             <div aria-label="Preview octets" className="flex flex-wrap gap-x-0.5 gap-y-1 font-mono text-xs">
-              {Array.from(frame.data.bytes, (b, k) => {
+              {Array.from(frame.bytes, (b, k) => {
                 const f = owner.get(k);
-                const outside = k < frame.data!.infoOffset || k >= frame.data!.infoOffset + frame.data!.info.length;
+                const outside = k < frame!.infoOffset || k >= frame!.infoOffset + frame!.info.length;
                 const field = f !== undefined ? call.fields[f] : null;
                 const colourIndex = field ? fieldIndexInLayout(field.id) : -1;
                 return (
@@ -163,7 +179,7 @@ export function FramePreview({ rigId, map, draftValid, captureId, frameId, onPic
                     <span className="font-mono">{f.id}</span>
                   </td>
                   <td className="px-2 py-1 font-mono text-xs">
-                    {frame.data!.infoOffset + f.offset}+{f.length}
+                    {frame!.infoOffset + f.offset}+{f.length}
                     {f.truncated ? ` (only ${f.available})` : ''}
                   </td>
                   <td className="break-all px-2 py-1 font-mono text-xs">{f.display}</td>
@@ -172,9 +188,32 @@ export function FramePreview({ rigId, map, draftValid, captureId, frameId, onPic
             </tbody>
           </table>
         </div>
-      ) : frame.isLoading ? (
+      ) : list.isPending || asked.isLoading ? (
         <p className="text-sm text-muted">Loading the frame…</p>
       ) : null}
     </section>
+  );
+}
+
+/** Why there is no frame to preview, and the way to one. */
+function EmptyPreview({ rigId, captureId, empty }: { rigId: number; captureId: number | null; empty: PreviewEmpty }) {
+  const capturePage = captureId === null ? null : `/rigs/${rigId}/captures/${captureId}`;
+  const fix =
+    empty.reason === 'no-capture'
+      ? { to: `/rigs/${rigId}/captures/new`, label: 'Upload a capture' }
+      : empty.reason === 'not-decoded' && capturePage
+        ? { to: `${capturePage}/setup`, label: 'Open its channel roles to decode it' }
+        : capturePage
+          ? { to: `${capturePage}/timeline`, label: 'Open its timeline to find a frame' }
+          : null;
+  return (
+    <div role="status" data-testid="preview-empty" className="rounded border border-dashed border-line p-3 text-sm">
+      <p>{empty.message}</p>
+      {fix ? (
+        <Link to={fix.to} className="mt-1 inline-block text-link hover:underline">
+          {fix.label}
+        </Link>
+      ) : null}
+    </div>
   );
 }
