@@ -237,7 +237,13 @@ export class BitRecovery {
   }
 
   private emit(e: LineEvent): void {
-    // bits before the event reach the sink first, so a consumer sees them in time order
+    // Bits sampled before the event reach the sink first, so a consumer sees them in time order.
+    // Without a clock, every line is known up to the event's sample (transitions come in time
+    // order), so each tracker first hands on its cells up to there. The exception: a data change
+    // less than 35 % of a bit before the event (or the first of two such changes in a row) may
+    // still turn out to be a glitch, and the cells after it wait for that verdict; the first of
+    // them can be sampled before the event and still follow it.
+    for (const tracker of this.trackers) tracker.reach(e.sample, false);
     for (const out of this.outs) out.flush();
     this.sink.event(e);
   }

@@ -543,7 +543,7 @@ describe('bit recovery without a clock: batches and the end of the capture', () 
   // worked out by hand from those rules on transitions that fall exactly on cell boundaries.
   const opts = { samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], edge: 'rising' as const, encoding: 'nrz' as const, invert: false };
 
-  it('puts every cell before the last sample of a batch ahead of a line event in the next batch (bits reach the sink in time order with events)', () => {
+  it('puts every cell sampled before a line event in the next batch ahead of it (bits reach the sink in time order with events)', () => {
     const sink = orderSink();
     const br = new BitRecovery({ ...opts, handshake: [{ channel: 4, name: 'rts', link: 'd' }] }, sink);
     // lock at 100 (line to 0), a change at 160 (to 1) still pending at the batch's end
@@ -564,16 +564,17 @@ describe('bit recovery without a clock: batches and the end of the capture', () 
       ]),
     );
     br.finish();
+    // the change at 160 is 10 samples old at 170 (no glitch), so the cell at 165 is known by then
     expect(sink.log.map((e) => (e.kind === 'event' ? ['event', e.sample] : ['bits', e.first, e.last]))).toEqual([
-      ['bits', 105, 155],
+      ['bits', 105, 165],
       ['event', 170],
-      ['bits', 165, 215],
+      ['bits', 175, 215],
     ]);
     expect(sink.r.bits.get('d')).toEqual([0, 0, 0, 0, 0, 0, 1, 1, 1, 0, 0, 0]);
     expect(sink.r.samples.get('d')).toEqual([105, 115, 125, 135, 145, 155, 165, 175, 185, 195, 205, 215]);
   });
 
-  it('puts the cells up to a batch\'s last sample ahead of the next batch\'s line events also when no change is pending at the batch\'s end', () => {
+  it('puts the cells up to a line event\'s sample ahead of it also when no change is pending at the end of the batch before', () => {
     const sink = orderSink();
     const br = new BitRecovery({ ...opts, handshake: [{ channel: 4, name: 'rts', link: 'd' }] }, sink);
     // lock at 100, back to 1 at 130; the batch ends with rts rising at 160, long after the last change
@@ -595,9 +596,60 @@ describe('bit recovery without a clock: batches and the end of the capture', () 
     br.finish();
     const at170 = sink.log.findIndex((e) => e.kind === 'event' && e.sample === 170);
     const before = sink.log.slice(0, at170).flatMap((e) => (e.kind === 'bits' ? [e.last] : []));
-    expect(Math.max(...before)).toBe(155);
+    expect(Math.max(...before)).toBe(165);
     expect(sink.r.bits.get('d')).toEqual([0, 0, 0, 1, 1, 1, 1, 1, 1, 1]);
     expect(sink.r.samples.get('d')).toEqual([105, 115, 125, 135, 145, 155, 165, 175, 185, 195]);
+  });
+
+  it('hands on the cells sampled before a line event ahead of it when the event comes mid-batch', () => {
+    const sink = orderSink();
+    const br = new BitRecovery({ ...opts, handshake: [{ channel: 4, name: 'rts', link: 'd' }] }, sink);
+    // lock at 100 (to 0), back to 1 at 130; rts rises at 160 in the same batch, then the line
+    // goes to 0 at 200 and the capture ends at 220
+    br.transitions(
+      tr([
+        [1, 0, 1],
+        [4, 0, 0],
+        [1, 100, 0],
+        [1, 130, 1],
+        [4, 160, 1],
+        [1, 200, 0],
+        [1, 220, 0],
+      ]),
+    );
+    br.finish();
+    expect(sink.log.map((e) => (e.kind === 'event' ? ['event', e.sample] : ['bits', e.first, e.last]))).toEqual([
+      ['bits', 105, 155],
+      ['event', 160],
+      ['bits', 165, 215],
+    ]);
+    expect(sink.r.bits.get('d')).toEqual([0, 0, 0, 1, 1, 1, 1, 1, 1, 1, 0, 0]);
+  });
+
+  it('lets a cell sampled after a data change that may still be a glitch (under 35 % of a bit before a line event) follow the event', () => {
+    const sink = orderSink();
+    // 40 samples a bit: cells in the middle of each, a glitch is shorter than 14 samples
+    const br = new BitRecovery({ ...opts, bitRate: 2.5e5, handshake: [{ channel: 4, name: 'rts', link: 'd' }] }, sink);
+    // lock at 100 (to 0): cells at 120, 160, …; a change to 1 at 159 is 12 samples old when rts
+    // rises at 171, so it may still be a glitch and what follows it waits. It is none (the line
+    // stays 1): the clock moves half its error (19 samples) later, so the next cell is sampled at
+    // 169.5, rounded to 170, before the event but handed on after it.
+    br.transitions(
+      tr([
+        [1, 0, 1],
+        [4, 0, 0],
+        [1, 100, 0],
+        [1, 159, 1],
+        [4, 171, 1],
+        [1, 260, 1],
+      ]),
+    );
+    br.finish();
+    expect(sink.log.map((e) => (e.kind === 'event' ? ['event', e.sample] : ['bits', e.first, e.last]))).toEqual([
+      ['bits', 120, 120],
+      ['event', 171],
+      ['bits', 170, 250],
+    ]);
   });
 
   it('drops a short pulse right at the end of the capture as a glitch: the cell it covers keeps the line level', () => {

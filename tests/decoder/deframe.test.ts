@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { encodeLineBits, randomFrame, seededRng } from '../../shared/decoder/encode';
-import { Deframer, type RawFrame } from '../../shared/decoder';
+import { Deframer, type DeframerOptions, type LineEvent, type RawFrame } from '../../shared/decoder';
 import { bitsOf, deframeBits, pushInChunks } from './deframe-helpers';
 
 const FLAG = '01111110';
@@ -402,5 +402,57 @@ describe('Deframer.pendingFrom before any bit and after the end', () => {
     expect(d.pendingFrom()).toBe(100);
     d.finish();
     expect(d.pendingFrom()).toBe(100 + bits.length - 1 + 0.5);
+  });
+});
+
+// The deframer's own options (shared/decoder/deframe.ts, DeframerOptions); the line patterns are
+// ISO/IEC 13239:2002 flag 01111110 and idle of fifteen or more 1s (from memory; the idle threshold
+// is common practice). Each runs bit-at-a-time and byte-at-a-time.
+describe('Deframer options', () => {
+  const run = (bits: Uint8Array, options: DeframerOptions) =>
+    [false, true].map((bitwise) => {
+      const frames: RawFrame[] = [];
+      const events: LineEvent[] = [];
+      const d = new Deframer('L', { frame: (f) => frames.push(f), event: (e) => events.push(e) }, { ...options, bitwise });
+      d.push({ bits, samples: Float64Array.from(bits, (_, i) => i), n: bits.length });
+      d.finish();
+      return { frames, events };
+    });
+
+  it('closes a frame at the longest allowed also when that limit is no doubling of the first buffer (300 octets)', () => {
+    // 400 octets of 0x55 (line 10101010, nothing stuffed), then a frame of four octets
+    const line = FLAG + '10101010'.repeat(400) + FLAG + '10000000'.repeat(4) + FLAG;
+    for (const { frames } of run(bitsOf(line), { maxFrameOctets: 300 })) {
+      // closed at the bit before the one completing octet 301, as with a limit inside the first buffer
+      expect(frames.map((f) => [f.status, f.firstSample, f.lastSample, f.bytes.length])).toEqual([
+        ['abort', 8, 8 + 300 * 8 + 6, 300],
+        ['ok', 8 + 400 * 8 + 8, 8 + 400 * 8 + 8 + 31, 4],
+      ]);
+      expect(Array.from(frames[0].bytes)).toEqual(new Array(300).fill(0x55));
+    }
+  });
+
+  it('makes no line event at all with events: false, idle and fill flags included, and the same frames', () => {
+    const line = FLAG + FLAG + FLAG + '10000000'.repeat(4) + FLAG + '1'.repeat(20) + '0' + FLAG + '10000000'.repeat(4) + FLAG + '1'.repeat(16);
+    const on = run(bitsOf(line), {});
+    const off = run(bitsOf(line), { events: false });
+    for (const r of on) expect(r.events.map((e) => e.kind)).toEqual(['flags', 'idle', 'idle']);
+    for (let k = 0; k < 2; k++) {
+      expect(off[k].events).toEqual([]);
+      expect(off[k].frames).toEqual(on[k].frames);
+      expect(off[k].frames).toHaveLength(2);
+    }
+  });
+
+  it('gives each frame its own buffer unless asked to share blocks', () => {
+    const line = FLAG + '10000000'.repeat(4) + FLAG + '01000000'.repeat(5) + FLAG;
+    for (const { frames } of run(bitsOf(line), {})) {
+      expect(frames.map((f) => Array.from(f.bytes))).toEqual([
+        [1, 1, 1, 1],
+        [2, 2, 2, 2, 2],
+      ]);
+      for (const f of frames) expect([f.bytes.byteOffset, f.bytes.buffer.byteLength]).toEqual([0, f.bytes.length]);
+    }
+    for (const { frames } of run(bitsOf(line), { sharedBytes: true })) expect(frames[1].bytes.buffer).toBe(frames[0].bytes.buffer);
   });
 });
