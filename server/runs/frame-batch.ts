@@ -180,8 +180,8 @@ export interface BatchSink {
 
 /**
  * Replays a batch into `sink` in record order. `strings` is the run's string table, kept by the
- * caller across batches (this appends the batch's new strings). A frame's octets are a view into
- * the batch's buffer, which nothing else writes to.
+ * caller across batches (this appends the batch's new strings). A frame's octets are a Buffer
+ * view into the batch's buffer, which nothing else writes to.
  */
 export function unpackBatch(batch: FrameBatch, strings: string[], sink: BatchSink): void {
   for (const s of batch.strings) strings.push(s);
@@ -219,7 +219,8 @@ export function unpackBatch(batch: FrameBatch, strings: string[], sink: BatchSin
               infoLength: v[n++],
             }
           : null;
-      const bytes = new Uint8Array(octets, o, length);
+      // a Buffer, which the row writer binds as it is
+      const bytes = Buffer.from(octets, o, length);
       o += length;
       sink.frame({ link, seq, firstSample, lastSample, bytes, bitLength, stuffed, status, fcsReceived, fcsComputed, flippedBit, decode });
     } else if (tag === EVENT) {
