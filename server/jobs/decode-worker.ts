@@ -165,8 +165,9 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
         bytesTotal,
         seconds: period > 0 ? writer.lastSample * period : null,
       } satisfies DecodeWorkerProgress);
-    heartbeat();
-    let lastReport = Date.now();
+    // the first report waits for the decoder thread's first batch: until then that thread is still
+    // loading its code, which the queue's watchdog allows for until a worker's first report
+    let lastReport = 0;
     // time this thread works on batches (the rest, until the decoder's end, it waits for them)
     let busy = 0;
     let storing = 0;
