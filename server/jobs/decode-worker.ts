@@ -18,7 +18,7 @@ import { loadMapVersion, type RunInputs } from '../runs/inputs';
 import { RunWriter } from '../runs/run-writer';
 import { indexSearch } from '../runs/search-index';
 import { threadCpuMs } from '../runs/thread-cpu';
-import type { DecodeThreadData, DecodeThreadExchanges, DecodeThreadMessage } from './decode-thread';
+import { decodeCapture, type DecodeThreadData, type DecodeThreadExchanges, type DecodeThreadMessage } from './decode-capture';
 import { decodeNice, lowerThreadPriority, nameThread } from './thread-priority';
 import * as schema from '../db/schema';
 import { callRuns, captures, decodeJobs, seekPoints } from '../db/schema';
@@ -92,14 +92,17 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
   db.pragma('temp_store = MEMORY');
   db.pragma('wal_autocheckpoint = 4096');
   const d = drizzle(db, { schema });
-  let thread: Worker | null = null;
+  let thread: DecodeThread | null = null;
   try {
     const cpuStart = threadCpuMs();
     const started = performance.now();
-    // the decoder runs in a thread of its own from the start; this thread stores what it hands over
+    // the decoder runs in a thread of its own from the start (a small capture's here, first);
+    // this thread stores what it hands over
+    const bytesTotal = fs.statSync(data.filePath).size;
     const taken = new Int32Array(new SharedArrayBuffer(4));
     const inbox = new DecodeThreadInbox();
-    thread = startDecodeThread({ dbPath: data.dbPath, filePath: data.filePath, inputs: data.inputs, taken: taken.buffer as SharedArrayBuffer }, inbox);
+    const threadData: DecodeThreadData = { dbPath: data.dbPath, filePath: data.filePath, inputs: data.inputs, taken: taken.buffer as SharedArrayBuffer };
+    thread = bytesTotal < INLINE_BYTES ? decodeHere({ ...threadData, taken: null }, inbox) : startDecodeThread(threadData, inbox);
     // the seconds per sample of the records being stored, as the decoder had it when it let them out
     let period = 0;
     const writer = new RunWriter(db, data.jobId, data.captureId, () => period);
@@ -155,7 +158,6 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       .where(and(eq(decodeJobs.id, data.jobId), eq(decodeJobs.state, 'running')))
       .prepare();
     const progress = { run: (bytesRead: number, frames: number, events: number, stage: string) => progressUpdate.run({ bytesRead, frames, events, stage }) };
-    const bytesTotal = fs.statSync(data.filePath).size;
     d.update(decodeJobs).set({ stage: 'decoding', bytesTotal }).where(eq(decodeJobs.id, data.jobId)).run();
     let bytes = 0;
     const heartbeat = () =>
@@ -311,6 +313,32 @@ class DecodeThreadInbox {
     if (this.failure) return Promise.reject(this.failure);
     return new Promise((resolve, reject) => (this.waiting = { resolve, reject }));
   }
+}
+
+/** the decoder side as the worker talks to it: a thread, or the same calls made here */
+interface DecodeThread {
+  postMessage(m: DecodeThreadExchanges): void;
+  terminate(): Promise<unknown> | void;
+}
+
+/**
+ * Captures below this size are decoded inside the worker before their rows are written: starting
+ * a second thread (and, from sources, its TypeScript loader) would cost more than the overlap saves.
+ */
+const INLINE_BYTES = 4 << 20;
+
+/** The decoder side run here, to its end, its batches queued in the inbox; then it waits for the exchanges. */
+function decodeHere(data: DecodeThreadData, inbox: DecodeThreadInbox): DecodeThread {
+  let answer: ((m: DecodeThreadExchanges) => void) | null = null;
+  decodeCapture(data, {
+    postMessage: (m) => inbox.put(m),
+    once: (_event, listener) => (answer = listener),
+    close: () => {},
+  });
+  return {
+    postMessage: (m) => answer?.(m),
+    terminate: () => {},
+  };
 }
 
 function startDecodeThread(data: DecodeThreadData, inbox: DecodeThreadInbox): Worker {
