@@ -3,8 +3,9 @@
 // `npm start` and the decode CLI need no TypeScript loader at run time.
 //   node server/cli/server-build.mjs          builds (npm run build:server)
 // All outputs sit flat in dist/server/, two levels below the repository like their sources:
-// server/db/client.ts finds the repository from its own file's URL, and the decode queue (server/runs/decode-queue.ts) and
-// the read pool (server/db/read-pool.ts) start their bundled workers beside themselves, whose names this build gives them (`define` below).
+// server/db/client.ts finds the repository from its own file's URL, and the decode queue (server/runs/decode-queue.ts), the
+// decode worker (its decoder thread) and the read pool (server/db/read-pool.ts) start their bundled workers beside themselves,
+// whose names this build gives them (`define` below).
 import fs from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -19,6 +20,7 @@ export const SERVER_ENTRIES = {
   start: 'server/cli/start.ts',
   decode: 'server/cli/decode.ts',
   'decode-worker-entry': 'server/jobs/decode-worker.ts',
+  'decode-thread-entry': 'server/jobs/decode-thread.ts',
   'read-worker-entry': 'server/db/read-worker.ts',
 };
 
@@ -74,9 +76,13 @@ export async function buildServer() {
       splitting: true,
       chunkNames: '[name]-[hash]',
       packages: 'external',
-      // the decode queue and the read pool start the bundled workers that sit beside them
-      // (server/runs/decode-queue.ts, server/db/read-pool.ts)
-      define: { BUNDLED_DECODE_WORKER: JSON.stringify('./decode-worker-entry.mjs'), BUNDLED_READ_WORKER: JSON.stringify('./read-worker-entry.mjs') },
+      // the decode queue, the decode worker and the read pool start the bundled workers that sit
+      // beside them (server/runs/decode-queue.ts, server/jobs/decode-worker.ts, server/db/read-pool.ts)
+      define: {
+        BUNDLED_DECODE_WORKER: JSON.stringify('./decode-worker-entry.mjs'),
+        BUNDLED_DECODE_THREAD: JSON.stringify('./decode-thread-entry.mjs'),
+        BUNDLED_READ_WORKER: JSON.stringify('./read-worker-entry.mjs'),
+      },
     }),
     // The CLI is one file with its one small package (crc) inside: every module node resolves
     // and loads is start-up time, and the CLI must answer within 150 ms.

@@ -1,27 +1,25 @@
-// One decode run, in a worker thread: streams the stored capture into the decoder and writes
-// frames and line events into SQLite through its own connection, tagged with the run's job id.
-// The run's rows become visible only in the final transaction, which points the capture at it.
+// One decode run, in a worker thread: the capture is decoded in a thread of its own (the decoder
+// thread, decode-thread.ts, started from here), and this thread writes what it hands over —
+// frames and line events into SQLite through its own connection, tagged with the run's job id —
+// runs the call layer beside it, stores the fault desk's report, and makes the run visible in
+// the final transaction, which points the capture at it. Then it builds the search index.
 import fs from 'node:fs';
-import { parentPort, workerData } from 'node:worker_threads';
+import { parentPort, Worker, workerData } from 'node:worker_threads';
 import Database from 'better-sqlite3';
 import { and, eq, sql } from 'drizzle-orm';
 import { drizzle } from 'drizzle-orm/better-sqlite3';
-import { createDecoder, type Decoder } from '../../shared/decoder';
-import type { DecodeIssue } from '../../shared/decoder';
 import type { Exchange } from '../../shared/decoder/calls';
 import type { FieldMap } from '../../shared/decoder/calls';
 import { createCallRun, switchToCallRun } from '../runs/call-runs';
 import { dropCallRows, InStreamCalls, runCallStage } from '../runs/call-stage';
-import { decoderOptions } from '../../shared/decoder-options';
-import { FaultRecorder, faultCallKey, storeFaultReport } from '../runs/fault-rows';
+import { storeFaultReport } from '../runs/fault-rows';
+import { type BatchSink, type FrameBatch, unpackBatch } from '../runs/frame-batch';
 import { loadMapVersion, type RunInputs } from '../runs/inputs';
 import { RunWriter } from '../runs/run-writer';
 import { indexSearch } from '../runs/search-index';
 import { threadCpuMs } from '../runs/thread-cpu';
+import { decodeCapture, type DecodeThreadData, type DecodeThreadExchanges, type DecodeThreadMessage } from './decode-capture';
 import { decodeNice, lowerThreadPriority, nameThread } from './thread-priority';
-import { CsvSeekTracker } from '../runs/seek/csv-seek';
-import { type SeekPoint, VcdSeekTracker } from '../runs/seek/vcd-seek';
-import { raceDeskOptions } from '../runs/fault-races';
 import * as schema from '../db/schema';
 import { callRuns, captures, decodeJobs, seekPoints } from '../db/schema';
 
@@ -38,12 +36,17 @@ export interface DecodeWorkerData {
 
 /** milliseconds per phase of a finished run, for the ingest benchmark */
 export interface IngestTimings {
-  /** reading and decoding, without the row writer and fault desk */
+  /** reading and decoding (decoder thread), without packing and the fault desk */
   decode: number;
+  /** packing frames and events for the hand-over (decoder thread) */
+  pack: number;
+  /** unpacking them and storing seek points (this thread) */
+  unpack: number;
   /** building frame and event rows */
   rows: number;
   /** batched inserts of frames and events */
   inserts: number;
+  /** the fault desk (decoder thread) and storing its report */
   faults: number;
   calls: number;
   commit: number;
@@ -51,8 +54,15 @@ export interface IngestTimings {
   visible: number;
   /** building the search index, after the run became visible */
   searchIndex: number;
-  /** CPU milliseconds of the worker thread: decode with rows and inserts, start to visible, search index */
-  cpu: { decodeAndRows: number; toVisible: number; searchIndex: number };
+  /** the decoder thread waiting for this one to take its batches: the writing is the slower side */
+  decoderWaiting: number;
+  /** this thread waiting for batches until the decoder's end: the decoding is the slower side */
+  writerWaiting: number;
+  /**
+   * CPU milliseconds of the worker thread (decode with rows and inserts, start to visible, search
+   * index) and of the decoder thread
+   */
+  cpu: { decodeAndRows: number; toVisible: number; searchIndex: number; decoderThread: number };
 }
 export type DecodeWorkerMessage = { type: 'done'; frames: number; events: number; timings: IngestTimings } | { type: 'failed'; error: string };
 /** the run became its capture's visible one; the worker goes on with the search index */
@@ -69,12 +79,6 @@ export interface DecodeWorkerProgress {
 }
 
 const PROGRESS_MS = 250;
-const CHUNK = 1 << 20;
-
-export function describeIssue(issue: DecodeIssue): string {
-  const where = issue.line !== undefined ? `line ${issue.line}, byte ${issue.offset}` : `byte ${issue.offset}`;
-  return `${issue.message} (at ${where})`;
-}
 
 async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
   const db = new Database(data.dbPath);
@@ -88,21 +92,27 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
   db.pragma('temp_store = MEMORY');
   db.pragma('wal_autocheckpoint = 4096');
   const d = drizzle(db, { schema });
+  let thread: DecodeThread | null = null;
   try {
     const cpuStart = threadCpuMs();
+    const started = performance.now();
+    // the decoder runs in a thread of its own from the start (a small capture's here, first);
+    // this thread stores what it hands over
+    const bytesTotal = fs.statSync(data.filePath).size;
+    const taken = new Int32Array(new SharedArrayBuffer(4));
+    const inbox = new DecodeThreadInbox();
+    const threadData: DecodeThreadData = { dbPath: data.dbPath, filePath: data.filePath, inputs: data.inputs, taken: taken.buffer as SharedArrayBuffer };
+    thread = bytesTotal < INLINE_BYTES ? decodeHere({ ...threadData, taken: null }, inbox) : startDecodeThread(threadData, inbox);
+    // the seconds per sample of the records being stored, as the decoder had it when it let them out
     let period = 0;
-    // Frames reach the writer during push(), as soon as the reader's header has set the time base,
-    // so the writer asks the decoder itself rather than a copy taken between pushes.
-    const periodNow = () => decoder.samplePeriodSeconds ?? period;
-    const writer = new RunWriter(db, data.jobId, data.captureId, periodNow);
-    const faults = new FaultRecorder(periodNow, faultCallKey(db, data.inputs), raceDeskOptions(db, data.inputs));
+    const writer = new RunWriter(db, data.jobId, data.captureId, () => period);
     // the call layer runs beside the decoder; it is created with the first item, once the time base is known
     const callRun = startCallRun(db, data);
     let calls: InStreamCalls | null = null;
     let callsPeriod = 0;
     const inStream = (): InStreamCalls | null => {
       if (calls || !callRun.map) return calls;
-      callsPeriod = periodNow();
+      callsPeriod = period;
       calls = new InStreamCalls(
         db,
         { captureId: data.captureId, runId: callRun.runId!, map: callRun.map, inputs: data.inputs, samplePeriod: callsPeriod },
@@ -112,48 +122,42 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       writer.afterFlush = () => c.afterFlush();
       return calls;
     };
-    const decoder: Decoder = createDecoder(
-      { ...decoderOptions(data.inputs.capture), anomalies: faults },
-      {
-        frame: (f) => {
-          const t = performance.now();
-          const ordinal = writer.frames;
-          writer.frame(f);
-          const u = performance.now();
-          faults.frame(f);
-          const v = performance.now();
-          inStream()?.frame(f, ordinal, f.firstSample * periodNow());
-          sinkRows += u - t;
-          sinkFaults += v - u;
-          sinkCalls += performance.now() - v;
-        },
-        event: (e) => {
-          writer.event(e);
-          faults.event(e);
-          inStream()?.event(e);
-        },
-      },
-    );
-    // time spent inside the decoder's sink: subtracted from the decode phase
+    // time in the row writer (with the inserts of the batches it filled) and in the call layer
     let sinkRows = 0;
-    let sinkFaults = 0;
+    let sinkInserts = 0;
     let sinkCalls = 0;
-    const started = performance.now();
+    const sink: BatchSink = {
+      period: (p) => (period = p),
+      frame: (f) => {
+        const t = performance.now();
+        const inserted = writer.insertMs;
+        const ordinal = writer.frames;
+        writer.frame(f);
+        const u = performance.now();
+        inStream()?.frame(f, ordinal, f.firstSample * period);
+        sinkRows += u - t;
+        sinkInserts += writer.insertMs - inserted;
+        sinkCalls += performance.now() - u;
+      },
+      event: (e) => {
+        const t = performance.now();
+        const inserted = writer.insertMs;
+        writer.event(e);
+        const u = performance.now();
+        inStream()?.event(e);
+        sinkRows += u - t;
+        sinkInserts += writer.insertMs - inserted;
+        sinkCalls += performance.now() - u;
+      },
+    };
+    const strings: string[] = [];
     const addSeek = d.insert(seekPoints).values({ jobId: data.jobId, byteOffset: ph('byteOffset'), sample: ph('sample'), levels: ph('levels') }).prepare();
-    const addPoint = (p: SeekPoint) => addSeek.run({ byteOffset: p.byteOffset, sample: p.sample, levels: JSON.stringify(p.levels) });
-    const seek =
-      data.inputs.capture.format === 'vcd'
-        ? new VcdSeekTracker(addPoint)
-        : data.inputs.capture.format === 'csv'
-          ? new CsvSeekTracker({ sampleRate: data.inputs.capture.sampleRate ?? undefined }, addPoint)
-          : null;
     const progressUpdate = d
       .update(decodeJobs)
       .set({ bytesRead: sql`${ph('bytesRead')}`, frames: sql`${ph('frames')}`, events: sql`${ph('events')}`, stage: sql`${ph('stage')}` })
       .where(and(eq(decodeJobs.id, data.jobId), eq(decodeJobs.state, 'running')))
       .prepare();
     const progress = { run: (bytesRead: number, frames: number, events: number, stage: string) => progressUpdate.run({ bytesRead, frames, events, stage }) };
-    const bytesTotal = fs.statSync(data.filePath).size;
     d.update(decodeJobs).set({ stage: 'decoding', bytesTotal }).where(eq(decodeJobs.id, data.jobId)).run();
     let bytes = 0;
     const heartbeat = () =>
@@ -163,28 +167,42 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
         bytesTotal,
         seconds: period > 0 ? writer.lastSample * period : null,
       } satisfies DecodeWorkerProgress);
-    heartbeat();
-    let lastReport = Date.now();
-    for await (const chunk of fs.createReadStream(data.filePath, { highWaterMark: CHUNK })) {
-      const bytesIn = new Uint8Array((chunk as Buffer).buffer, (chunk as Buffer).byteOffset, (chunk as Buffer).length);
-      decoder.push(bytesIn);
-      seek?.push(bytesIn, bytes);
-      bytes += bytesIn.length;
-      if (decoder.fatal()) break;
-      period = decoder.samplePeriodSeconds ?? period;
+    // the first report waits for the decoder thread's first batch: until then that thread is still
+    // loading its code, which the queue's watchdog allows for until a worker's first report
+    let lastReport = 0;
+    // time this thread works on batches (the rest, until the decoder's end, it waits for them)
+    let busy = 0;
+    let storing = 0;
+    const store = (batch: FrameBatch) => {
+      const t = performance.now();
+      unpackBatch(batch, strings, sink);
+      for (const p of batch.seek) addSeek.run({ byteOffset: p.byteOffset, sample: p.sample, levels: JSON.stringify(p.levels) });
+      bytes = batch.bytesRead;
+      storing += performance.now() - t;
+    };
+    let end: Extract<DecodeThreadMessage, { type: 'end' }> | null = null;
+    while (!end) {
+      const m = await inbox.next();
+      if (m.type === 'report') throw new Error('the decoder thread reported before its end');
+      store(m.batch);
+      if (m.type === 'end') end = m;
+      else {
+        Atomics.add(taken, 0, 1);
+        Atomics.notify(taken, 0);
+      }
       const now = Date.now();
       if (now - lastReport >= PROGRESS_MS) {
         // the rows reported are the rows stored: a run stopped here leaves exactly these to clear
+        const t = performance.now();
         writer.flush();
         progress.run(bytes, writer.frames, writer.events, 'decoding');
+        busy += performance.now() - t;
         heartbeat();
         lastReport = now;
       }
     }
-    if (!decoder.fatal()) decoder.finish();
-    period = decoder.samplePeriodSeconds ?? period;
-    const fatal = decoder.fatal();
-    if (fatal) return { type: 'failed', error: describeIssue(fatal) };
+    if (end.fatal) return { type: 'failed', error: end.fatal };
+    period = end.period;
     writer.flush();
     writer.afterFlush = null;
     const decoded = performance.now();
@@ -192,12 +210,15 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
     progress.run(bytes, writer.frames, writer.events, 'calls');
     heartbeat();
     // the call layer's exchanges reach the fault desk (receiver over-run symptoms) before its report is stored
-    const callCounts = await finishCalls(db, data, callRun, calls as InStreamCalls | null, callsPeriod, period, heartbeat, (e) => faults.exchange(e));
+    const exchanges: Exchange[] = [];
+    const callCounts = await finishCalls(db, data, callRun, calls as InStreamCalls | null, callsPeriod, period, heartbeat, (e) => exchanges.push(e));
     const called = performance.now();
-    const report = faults.report(writer.lastSample);
-    storeFaultReport(db, data.jobId, data.captureId, period, report);
+    thread.postMessage({ type: 'exchanges', exchanges, lastSample: writer.lastSample } satisfies DecodeThreadExchanges);
+    const answer = await inbox.next();
+    if (answer.type !== 'report') throw new Error('the decoder thread sent no fault report');
+    const reported = performance.now();
+    storeFaultReport(db, data.jobId, data.captureId, period, answer.report);
     const faulted = performance.now();
-    const issues = decoder.issues.slice(0, 20).map(describeIssue);
     const committed = db.transaction(() => {
       // the search index is built after the switch: frames above search_indexed_to up to
       // last_frame_id are searched directly until it is (search-index.ts)
@@ -210,9 +231,9 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
           frames: writer.frames,
           events: writer.events,
           samplePeriod: period,
-          links: JSON.stringify(decoder.links),
+          links: JSON.stringify(end.links),
           lastSample: writer.lastSample,
-          issues: JSON.stringify(issues),
+          issues: JSON.stringify(end.issues),
           finishedAt: new Date(),
           searchIndexedTo: Math.max(0, writer.firstId - 1),
           lastFrameId: writer.lastId,
@@ -234,24 +255,111 @@ async function run(data: DecodeWorkerData): Promise<DecodeWorkerMessage> {
       indexSearch(db, data.jobId, { range: { lo: writer.firstId, hi: writer.lastId }, onChunk: heartbeat });
       d.update(decodeJobs).set({ stage: 'done' }).where(and(eq(decodeJobs.id, data.jobId), eq(decodeJobs.stage, 'search index'))).run();
     }
-    // row building time includes the inserts of the batches it filled
-    const rows = sinkRows - writer.insertMs;
     const timings: IngestTimings = {
-      decode: decoded - started - sinkRows - sinkFaults - sinkCalls,
-      rows,
+      decode: end.timings.decode,
+      pack: end.timings.pack,
+      unpack: storing - sinkRows - sinkCalls,
+      rows: sinkRows - sinkInserts,
       inserts: writer.insertMs,
-      faults: sinkFaults + (faulted - called),
+      faults: end.timings.faults + answer.faultsMs + (faulted - reported),
       calls: sinkCalls + (called - decoded),
       commit: visible - faulted,
       visible: visible - started,
       searchIndex: performance.now() - visible,
-      cpu: { decodeAndRows: cpuDecoded - cpuStart, toVisible: cpuVisible - cpuStart, searchIndex: threadCpuMs() - cpuVisible },
+      decoderWaiting: end.timings.waiting,
+      writerWaiting: decoded - started - storing - busy,
+      cpu: {
+        decodeAndRows: cpuDecoded - cpuStart,
+        toVisible: cpuVisible - cpuStart,
+        searchIndex: threadCpuMs() - cpuVisible,
+        decoderThread: end.timings.cpu + answer.cpuMs,
+      },
     };
     return { type: 'done', frames: writer.frames, events: writer.events, timings };
   } finally {
+    // a failure here leaves no thread decoding on
+    if (thread) void thread.terminate();
     db.close();
   }
 }
+
+/**
+ * Messages of the decoder thread, taken one at a time in order; its errors and an early exit
+ * reject the next take.
+ */
+class DecodeThreadInbox {
+  private readonly queue: DecodeThreadMessage[] = [];
+  private waiting: { resolve: (m: DecodeThreadMessage) => void; reject: (err: Error) => void } | null = null;
+  private failure: Error | null = null;
+
+  put(m: DecodeThreadMessage): void {
+    const w = this.waiting;
+    if (w) {
+      this.waiting = null;
+      w.resolve(m);
+    } else this.queue.push(m);
+  }
+
+  fail(err: Error): void {
+    this.failure ??= err;
+    const w = this.waiting;
+    this.waiting = null;
+    w?.reject(this.failure);
+  }
+
+  next(): Promise<DecodeThreadMessage> {
+    const m = this.queue.shift();
+    if (m) return Promise.resolve(m);
+    if (this.failure) return Promise.reject(this.failure);
+    return new Promise((resolve, reject) => (this.waiting = { resolve, reject }));
+  }
+}
+
+/** the decoder side as the worker talks to it: a thread, or the same calls made here */
+interface DecodeThread {
+  postMessage(m: DecodeThreadExchanges): void;
+  terminate(): Promise<unknown> | void;
+}
+
+/**
+ * Captures below this size are decoded inside the worker before their rows are written: starting
+ * a second thread (and, from sources, its TypeScript loader) would cost more than the overlap saves.
+ */
+const INLINE_BYTES = 4 << 20;
+
+/** The decoder side run here, to its end, its batches queued in the inbox; then it waits for the exchanges. */
+function decodeHere(data: DecodeThreadData, inbox: DecodeThreadInbox): DecodeThread {
+  let answer: ((m: DecodeThreadExchanges) => void) | null = null;
+  decodeCapture(data, {
+    postMessage: (m) => inbox.put(m),
+    once: (_event, listener) => (answer = listener),
+    close: () => {},
+  });
+  return {
+    postMessage: (m) => answer?.(m),
+    terminate: () => {},
+  };
+}
+
+function startDecodeThread(data: DecodeThreadData, inbox: DecodeThreadInbox): Worker {
+  const thread = new Worker(decodeThreadModule(), { workerData: data });
+  thread.on('message', (m: DecodeThreadMessage) => inbox.put(m));
+  thread.on('error', (err) => inbox.fail(err));
+  thread.on('exit', () => inbox.fail(new Error('The decoder thread stopped unexpectedly.')));
+  return thread;
+}
+
+/**
+ * Compiled: the build names the bundled decoder thread beside this bundle. From sources: a
+ * JavaScript entry that registers tsx, as this worker's own.
+ */
+function decodeThreadModule(): URL {
+  const bundled = typeof BUNDLED_DECODE_THREAD === 'string' ? BUNDLED_DECODE_THREAD : undefined;
+  return new URL(bundled ?? './decode-thread-entry.mjs', import.meta.url);
+}
+
+/** replaced by the server build (server/cli/server-build.mjs, esbuild `define`); undeclared when run from sources */
+declare const BUNDLED_DECODE_THREAD: string | undefined;
 
 interface CallRunStart {
   runId: number | null;

@@ -7,7 +7,8 @@ import { frames, lineEvents } from '../db/schema';
 // batched transactions with prepared statements. The search index is search-index.ts, the
 // removal of replaced runs sweep.ts.
 
-const PRINTABLE = Array.from({ length: 256 }, (_, b) => (b >= 32 && b < 127 ? String.fromCharCode(b) : '.'));
+/** each octet as the text column shows it: printable ASCII as itself, anything else as '.' */
+const PRINTABLE = Uint8Array.from({ length: 256 }, (_, b) => (b >= 32 && b < 127 ? b : 0x2e));
 
 /** Octets of address..info: an aborted frame has no FCS; a frame too short for one keeps all it has. */
 export function payloadLength(f: { bytes: Uint8Array; status: string }): number {
@@ -16,10 +17,15 @@ export function payloadLength(f: { bytes: Uint8Array; status: string }): number 
   return total - 2 >= 2 ? total - 2 : total;
 }
 
+/** scratch octets for asciiOf: the string is made in one native step instead of a character at a time */
+let scratch = Buffer.alloc(4096);
+
 export function asciiOf(bytes: Uint8Array, from: number, to: number): string {
-  let s = '';
-  for (let i = from; i < to; i++) s += PRINTABLE[bytes[i]];
-  return s;
+  const n = to - from;
+  if (n <= 0) return '';
+  if (n > scratch.length) scratch = Buffer.alloc(Math.max(n, scratch.length * 2));
+  for (let i = 0; i < n; i++) scratch[i] = PRINTABLE[bytes[from + i]];
+  return scratch.toString('latin1', 0, n);
 }
 
 /**
@@ -48,7 +54,11 @@ const EVENT_COLUMNS = ['jobId', 'captureId', 'link', 'channel', 'kind', 'sample'
  * one transaction per batch with a prepared ROWS_PER_INSERT-row statement.
  */
 export class RunWriter {
-  private frameValues: unknown[] = [];
+  /** the batch's frame values, FRAME_COLUMNS per row; the array is kept across batches (no regrowth) */
+  private readonly frameValues: unknown[] = new Array<unknown>(BATCH * FRAME_COLUMNS.length);
+  private frameCount = 0;
+  /** one statement's values, refilled for each run of the many-row insert */
+  private readonly manyArgs: unknown[] = new Array<unknown>(ROWS_PER_INSERT * FRAME_COLUMNS.length);
   private eventValues: unknown[] = [];
   private readonly insertFrame: Database.Statement;
   /** one statement for ROWS_PER_INSERT rows: far fewer statement steps in the bulk insert */
@@ -84,12 +94,17 @@ export class RunWriter {
     this.flushTx = db.transaction(() => {
       const v = this.frameValues;
       const n = FRAME_COLUMNS.length;
+      const count = this.frameCount;
+      const filled = count * n;
       const many = n * ROWS_PER_INSERT;
+      const args = this.manyArgs;
       let i = 0;
       let last = 0;
-      for (; i + many <= v.length; i += many) last = Number(this.insertFrames.run(v.slice(i, i + many)).lastInsertRowid);
-      for (; i < v.length; i += n) last = Number(this.insertFrame.run(v.slice(i, i + n)).lastInsertRowid);
-      const count = v.length / n;
+      for (; i + many <= filled; i += many) {
+        for (let j = 0; j < many; j++) args[j] = v[i + j];
+        last = Number(this.insertFrames.run(args).lastInsertRowid);
+      }
+      for (; i < filled; i += n) last = Number(this.insertFrame.run(v.slice(i, i + n)).lastInsertRowid);
       if (count > 0) {
         // one writer holds the lock for the whole transaction, so the rows' ids are consecutive
         const first = last - count + 1;
@@ -100,7 +115,8 @@ export class RunWriter {
       }
       const e = this.eventValues;
       for (let j = 0; j < e.length; j += EVENT_COLUMNS.length) this.insertEvent.run(e.slice(j, j + EVENT_COLUMNS.length));
-      this.frameValues = [];
+      // the values stay until overwritten; only the count says what the next batch holds
+      this.frameCount = 0;
       this.eventValues = [];
       this.afterFlush?.();
     });
@@ -127,39 +143,40 @@ export class RunWriter {
     const payload = payloadLength(f);
     const infoFrom = d ? d.infoOffset : payload;
     const infoTo = d ? Math.min(payload, d.infoOffset + d.infoLength) : payload;
-    const buf = Buffer.from(f.bytes.buffer, f.bytes.byteOffset, f.bytes.length);
+    const buf = Buffer.isBuffer(f.bytes) ? f.bytes : Buffer.from(f.bytes.buffer, f.bytes.byteOffset, f.bytes.length);
     // FRAME_COLUMNS' order
-    this.frameValues.push(
-      this.jobId,
-      this.captureId,
-      f.link,
-      f.seq,
-      f.firstSample,
-      f.lastSample,
-      f.firstSample * p,
-      f.lastSample * p,
-      f.status,
-      d ? d.address : null,
-      d ? d.control : null,
-      d ? d.kind : null,
-      d ? d.command : null,
-      d ? d.ns : null,
-      d ? d.nr : null,
-      d ? (d.pf ? 1 : 0) : null,
-      d ? d.infoLength : 0,
-      f.bitLength,
-      // the decoder's octets are the frame's own copy, and the driver copies what it binds
-      buf,
-      f.fcsReceived,
-      f.fcsComputed,
-      f.flippedBit,
-      f.stuffed.length === 0 ? '[]' : JSON.stringify(f.stuffed),
-      buf.toString('hex', 0, payload),
-      asciiOf(f.bytes, infoFrom, infoTo),
-    );
+    const v = this.frameValues;
+    let k = this.frameCount * FRAME_COLUMNS.length;
+    v[k++] = this.jobId;
+    v[k++] = this.captureId;
+    v[k++] = f.link;
+    v[k++] = f.seq;
+    v[k++] = f.firstSample;
+    v[k++] = f.lastSample;
+    v[k++] = f.firstSample * p;
+    v[k++] = f.lastSample * p;
+    v[k++] = f.status;
+    v[k++] = d ? d.address : null;
+    v[k++] = d ? d.control : null;
+    v[k++] = d ? d.kind : null;
+    v[k++] = d ? d.command : null;
+    v[k++] = d ? d.ns : null;
+    v[k++] = d ? d.nr : null;
+    v[k++] = d ? (d.pf ? 1 : 0) : null;
+    v[k++] = d ? d.infoLength : 0;
+    v[k++] = f.bitLength;
+    // the decoder's octets are the frame's own copy, and the driver copies what it binds
+    v[k++] = buf;
+    v[k++] = f.fcsReceived;
+    v[k++] = f.fcsComputed;
+    v[k++] = f.flippedBit;
+    v[k++] = f.stuffed.length === 0 ? '[]' : JSON.stringify(f.stuffed);
+    v[k++] = buf.toString('hex', 0, payload);
+    v[k] = asciiOf(f.bytes, infoFrom, infoTo);
+    this.frameCount++;
     this.frames++;
     if (f.lastSample > this.lastSample) this.lastSample = f.lastSample;
-    if (this.frameValues.length >= BATCH * FRAME_COLUMNS.length) this.flush();
+    if (this.frameCount >= BATCH) this.flush();
   }
 
   event(e: LineEvent): void {
@@ -185,7 +202,7 @@ export class RunWriter {
   }
 
   flush(): void {
-    if (this.frameValues.length === 0 && this.eventValues.length === 0) return;
+    if (this.frameCount === 0 && this.eventValues.length === 0) return;
     const t = performance.now();
     this.flushTx.immediate();
     this.insertMs += performance.now() - t;
