@@ -130,10 +130,9 @@ async function decode(file: File, settings: CaptureSettings): Promise<void> {
   for (;;) {
     const { done, value } = await chunks.next();
     if (done) break;
-    hash.update(value);
     // until the first frames are out, the decoder takes the bytes in small steps, each followed by
     // a look for frames: the first frames then go out without waiting for a whole read (1 MB, which
-    // the decoder takes slowly while it is not yet compiled)
+    // the decoder and the hash take slowly while they are not yet compiled); the hash follows
     let at = 0;
     while (first === null && at < value.length && !enc.fatal()) {
       enc.push(value.subarray(at, Math.min(value.length, at + FIRST_STEP)));
@@ -144,6 +143,7 @@ async function decode(file: File, settings: CaptureSettings): Promise<void> {
       }
     }
     if (at < value.length) enc.push(value.subarray(at));
+    hash.update(value);
     bytes += value.length;
     if (enc.fatal()) break;
     for (const part of enc.takeParts()) output.write(part);
