@@ -1,5 +1,5 @@
 // `npm run bench -- --memory [MB]`: peak memory of the browser's decode worker on a large local
-// file. The worker (src/features/local-decode/decode.worker.ts) is bundled alone and run in
+// file. The worker (src/features/captures/local-decode/decode.worker.ts) is bundled alone and run in
 // Chromium from a bare page on a local HTTP server, on a raw capture in a temp folder; the RSS of
 // Chromium's processes comes from /proc while it runs (performance.measureUserAgentSpecificMemory
 // needs cross-origin isolation and reports the JavaScript heap only).
@@ -64,7 +64,7 @@ function isRenderer(pid: number): boolean {
 export async function measureBrowserWorker(file: string, settings: CaptureSettings, dir: string): Promise<WorkerMemory> {
   const { buildSync } = await import('esbuild');
   const workerJs = join(dir, 'decode-worker.js');
-  buildSync({ entryPoints: [join(process.cwd(), 'src/features/local-decode/decode.worker.ts')], bundle: true, platform: 'browser', format: 'esm', outfile: workerJs, logLevel: 'warning' });
+  buildSync({ entryPoints: [join(process.cwd(), 'src/features/captures/local-decode/decode.worker.ts')], bundle: true, platform: 'browser', format: 'esm', outfile: workerJs, logLevel: 'warning' });
   writeFileSync(join(dir, 'page.html'), PAGE);
   const server = createServer((req, res) => {
     if (req.url === '/decode-worker.js') {

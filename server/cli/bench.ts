@@ -373,7 +373,7 @@ function readThrough(file: string, push: (bytes: Uint8Array) => void): void {
   closeSync(fd);
 }
 
-const STAGES = ['read', 'bits', 'frames', 'ndjson', 'tap', 'tap-general'] as const;
+const STAGES = ['read', 'bits', 'frames', 'ndjson', 'worker', 'tap', 'tap-general'] as const;
 type Stage = (typeof STAGES)[number];
 
 /**
@@ -383,7 +383,8 @@ type Stage = (typeof STAGES)[number];
  *   bits    + bit recovery (the fused raw path), bits dropped
  *   frames  + deframing, FCS, link decode, time order (createDecoder)
  *   ndjson  + the CLI's NDJSON writer, output dropped
- *   tap     frames with the fault desk's anomaly tap, as the app's worker decodes
+ *   worker  frames as the app's worker takes them (a buffer per frame, line events), no tap
+ *   tap     the same with the fault desk's anomaly tap, as the app's worker decodes
  *   tap-general  the same through transitions and bit recovery (the general path, no fused loop)
  */
 function runStage(stage: Stage, file: string, spb: number): void {
@@ -406,8 +407,9 @@ function runStage(stage: Stage, file: string, spb: number): void {
     const out = new NdjsonWriter(() => {}, 4);
     const write = stage === 'ndjson';
     const tap = stage === 'tap' || stage === 'tap-general';
-    // frames and ndjson as the CLI decodes; the taps as the app's worker (a buffer per frame)
-    const dec = createDecoder({ ...options, anomalies: tap ? { anomaly: () => {} } : undefined, rawFastPath: stage !== 'tap-general', sharedFrameBytes: !tap, lineEvents: tap }, {
+    const asWorker = tap || stage === 'worker';
+    // frames and ndjson as the CLI decodes; worker and the taps as the app's worker (a buffer per frame)
+    const dec = createDecoder({ ...options, anomalies: tap ? { anomaly: () => {} } : undefined, rawFastPath: stage !== 'tap-general', sharedFrameBytes: !asWorker, lineEvents: asWorker }, {
       frame: (f) => {
         frames++;
         if (write) out.frame(f, period);

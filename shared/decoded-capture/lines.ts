@@ -3,14 +3,8 @@
 // writes with it, the server reads with it, tests hold both ends to each other.
 import type { LineAnomaly } from '../decoder/faults/anomalies';
 import type { DecodedFrame, LineEvent, RawFrame } from '../decoder/types';
-import {
-  DECODED_FORMAT,
-  DECODED_VERSION,
-  type DecodedAnomalyLine,
-  type DecodedEventLine,
-  type DecodedFrameLine,
-  type DecodedHeader,
-} from '../schemas/decoded-upload';
+import { DECODED_FORMAT, DECODED_VERSION } from '../schemas/decoded-format';
+import type { DecodedAnomalyLine, DecodedEventLine, DecodedFrameLine, DecodedHeader } from '../schemas/decoded-upload';
 
 const HEX = Array.from({ length: 256 }, (_, b) => b.toString(16).padStart(2, '0'));
 

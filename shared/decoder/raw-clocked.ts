@@ -13,6 +13,15 @@ const TAP_SLICE = 65536;
  */
 const WARM_SLICE = 2048;
 const WARM_SCANS = 64;
+/** the largest gap (in samples) the screen's bit history covers: 4 new samples and 12 before them, 2 lines */
+const PAIR_GAP = 12;
+
+/** Σ 2^(s - 6i) for i = 0…3: moves bit 8i + d of a word to s - 6i + 8i + d (see screenPairs) */
+function gatherMultiplier(s: number): number {
+  let m = 0;
+  for (let i = 0; i < 4; i++) m |= 1 << (s - 6 * i);
+  return m;
+}
 
 /**
  * Raw binary samples with a clock channel, straight to packed line bits: one pass over the
@@ -434,7 +443,12 @@ export class ClockedRawBits {
     const count = (to - head) >> 2;
     prev = this.screenBytes(bytes, from, head, base, prev);
     if (prev < 0) return true;
-    if (count > 0 && this.links <= 2) {
+    const gap = Math.ceil(this.screen) - 1;
+    if (count > 0 && this.links <= 2 && gap >= 1 && gap <= PAIR_GAP) {
+      const words = new Int32Array(bytes.buffer, bytes.byteOffset + head, count);
+      if (this.screenPairs(words, base + head, prev, gap)) return true;
+      prev = words[count - 1] >>> 24;
+    } else if (count > 0 && this.links <= 2) {
       // one or two lines, their state in locals: screenChange written out
       const words = new Int32Array(bytes.buffer, bytes.byteOffset + head, count);
       const lanes = mask * 0x01010101;
@@ -484,6 +498,65 @@ export class ClockedRawBits {
       }
     }
     return this.screenBytes(bytes, head + 4 * count, to, base, prev) < 0;
+  }
+
+  /**
+   * The screen over whole words (four 1-byte samples each, the first at sample at0) of one or two
+   * lines, without a branch per change: a change is suspect when it comes at most `gap` samples
+   * after the line's previous one (gap = ⌈screen⌉ - 1: sample indices are whole).
+   *
+   * The changes go into a bit history `h`, newest at the top: line k's change p samples before the
+   * newest sample sets bit base_k + 6 - 2p (base_k 24 or 25, so the lines take alternate bits).
+   * h · (4 + 4² + … + 4^gap) adds to each change a run over the positions of the `gap` samples after
+   * it on its own line. While no two changes of a line are within `gap`, those runs neither overlap
+   * nor carry, and no change lies in one: h & that product is 0. When some are, the lowest change
+   * with an earlier one within `gap` has no overlap or carry below it, so its own bit is set in the
+   * product: h & product is not 0. One multiply per word decides, whatever `gap` is.
+   * True when suspect; else the lines' last changes are set, as the change-by-change screen sets them.
+   */
+  private screenPairs(words: Int32Array, at0: number, prevBefore: number, gap: number): boolean {
+    let near = 0;
+    for (let j = 1; j <= gap; j++) near |= 1 << (2 * j);
+    // per line: its change bits (bit d of each byte) and the multiplier that gathers sample i of
+    // the word to bit base + 2i, shifting bit 8i + d by base - 6i - d (never below 0: a line on
+    // bit 7 takes base 25); the products' other terms stay below bit 24 and do not carry
+    const two = this.links === 2;
+    const d0 = this.dataBit[0];
+    const d1 = two ? this.dataBit[1] : 0;
+    const base0 = d0 === 7 ? 25 : 24;
+    const base1 = 49 - base0;
+    const lane0 = 0x01010101 << d0;
+    const lane1 = two ? 0x01010101 << d1 : 0;
+    const gather0 = gatherMultiplier(base0 - d0);
+    const gather1 = two ? gatherMultiplier(base1 - d1) : 0;
+    let h = 0;
+    for (let k = 0; k < this.links; k++) {
+      // the last change before the first word, where it can be within `gap` of it
+      const p = at0 - 1 - this.lastChange[k];
+      if (p >= 0 && p <= 11) h |= 1 << ((k === 0 ? base0 : base1) + 6 - 2 * p);
+    }
+    let prev = prevBefore;
+    const count = words.length;
+    for (let j = 0; j < count; j++) {
+      const w = words[j];
+      // byte k of (w << 8) | prev is the sample before byte k of w
+      const d = w ^ ((w << 8) | prev);
+      prev = w >>> 24;
+      h = (h >>> 8) | ((Math.imul(d & lane0, gather0) | Math.imul(d & lane1, gather1)) & -0x1000000);
+      if ((h & Math.imul(h, near)) !== 0) return true;
+    }
+    // each line's last change: the last word with one, its latest sample
+    for (let k = 0; k < this.links; k++) {
+      const bit = this.dataBit[k];
+      for (let j = count - 1; j >= 0; j--) {
+        const w = words[j];
+        const x = ((w ^ ((w << 8) | (j > 0 ? words[j - 1] >>> 24 : prevBefore))) >>> bit) & 0x01010101;
+        if (x === 0) continue;
+        this.lastChange[k] = at0 + 4 * j + ((31 - Math.clz32(x)) >> 3);
+        break;
+      }
+    }
+    return false;
   }
 
   /** the screen over 1-byte samples bytes[from, to) one at a time; the last sample, or -1 when suspect */

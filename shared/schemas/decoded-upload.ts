@@ -10,12 +10,9 @@ import { z } from 'zod';
 import { captureSettingsSchema, frameStatusSchema, lineEventKindSchema } from './captures';
 import { anomalyKindSchema } from './faults';
 
-export const DECODED_FORMAT = 'flagline-decoded';
-export const DECODED_VERSION = 1;
-/** the media type the upload is sent with */
-export const DECODED_MEDIA_TYPE = 'application/x-ndjson';
-/** longest frame accepted, in octets: far beyond any record-sized frame, short of a runaway between lost flags */
-export const DECODED_MAX_FRAME_OCTETS = 65_536;
+import { DECODED_FORMAT, DECODED_MAX_FRAME_OCTETS, DECODED_VERSION } from './decoded-format';
+
+export { DECODED_FORMAT, DECODED_MAX_FRAME_OCTETS, DECODED_MEDIA_TYPE, DECODED_VERSION } from './decoded-format';
 
 const sampleIndex = z.number().nonnegative().max(2 ** 53);
 const hex = (max: number) =>

@@ -314,6 +314,40 @@ describe('anomaly tap, quiet stretches', () => {
     expect(ra.spreads).toHaveLength(1);
     expect(ra.spreads).toEqual(rb.spreads);
   });
+
+  it('takes stretches of one interval length in one step, at the period a step of that length leaves as it is and while the period still moves toward it', () => {
+    // intervals of 10 samples at a nominal 10 (the period stays), at a nominal 10.5 (every step
+    // moves the period), of 11 at a nominal 10 (declined: the period grows past the screen);
+    // the last stretch alternates two lengths
+    for (const [rate, length] of [[1e5, 10], [1e6 / 10.5, 10], [1e5, 11]] as const) {
+      const edges = Float64Array.from({ length: 1200 }, (_, k) => 5 + length * k + (k >= 800 ? k % 2 : 0));
+      const ra = recorder();
+      const rb = recorder();
+      const o = { ...options, bitRate: rate };
+      const quiet = new AnomalyTap(o, ra.sink);
+      const exact = new AnomalyTap(o, rb.sink);
+      quiet.transitions(first);
+      exact.transitions(first);
+      const cuts = [0, 200, 400, 800, 1200];
+      for (let k = 0; k + 1 < cuts.length; k++) {
+        const change = Float64Array.of(edges[cuts[k + 1] - 1] - 3);
+        const taken = quiet.quiet(edges, cuts[k], cuts[k + 1], quiet.quietScreen(), Int32Array.of(1), change);
+        // declined (the period would grow past what the screen allowed): edge by edge, as the fused path does
+        if (!taken) quiet.edges(edges, cuts[k], cuts[k + 1], Uint8Array.of(1), change, 1);
+        exact.edges(edges, cuts[k], cuts[k + 1], Uint8Array.of(1), change, 1);
+        expect(quiet.samplesPerBit, `${rate} bit/s, ${length} samples, stretch ${k}`).toBe(exact.samplesPerBit);
+        if (rate === 1e5 && length === 10) expect(taken).toBe(true);
+      }
+      const rest = Float64Array.of(edges[1199] + 35);
+      for (const t of [quiet, exact]) {
+        t.edges(rest, 0, 1, Uint8Array.of(1, 1), Float64Array.of(edges[1199] + 20, edges[1199] + 22), 2);
+        t.finish();
+      }
+      expect(ra.anomalies.map((x) => x.kind).sort()).toEqual(['clock-missing', 'glitch']);
+      expect(ra.anomalies).toEqual(rb.anomalies);
+      expect(ra.spreads).toEqual(rb.spreads);
+    }
+  });
 });
 
 describe('reused input buffers', () => {

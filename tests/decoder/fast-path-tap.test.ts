@@ -4,8 +4,8 @@
 // period spread must match the general path (reader → transitions → bit recovery, the tap fed
 // every transition) for any split of the input. The bit patterns are ISO/IEC 13239:2002 HDLC
 // (flag 01111110, zero-bit insertion; from memory); the faults are our encoder's.
-import { describe, expect, it } from 'vitest';
-import type { AnomalySink, LineAnomaly } from '../../shared/decoder/faults';
+import { afterEach, describe, expect, it, vi } from 'vitest';
+import { AnomalyTap, type AnomalySink, type LineAnomaly } from '../../shared/decoder/faults';
 import { ClockPeriodHistogram, type ClockSpread } from '../../shared/decoder/timing';
 import { collect, rawChunks, renderWaveform, seededRng } from '../../shared/decoder/encode';
 import type { DecoderOptions } from '../../shared/decoder';
@@ -73,6 +73,78 @@ describe('fused raw path with the tap, long quiet captures', () => {
         expect(fused.events).toEqual(general.events);
       }
     }
+  });
+});
+
+/** the capture's bytes with channel c moved to bit positions[c] (1-byte samples) */
+function moveChannels(bytes: Uint8Array, positions: number[]): Uint8Array {
+  const out = new Uint8Array(bytes.length);
+  for (let i = 0; i < bytes.length; i++) {
+    let v = 0;
+    for (let c = 0; c < positions.length; c++) if ((bytes[i] >> c) & 1) v |= 1 << positions[c];
+    out[i] = v;
+  }
+  return out;
+}
+
+describe('fused raw path with the tap, data pulses at the limit of the screen', () => {
+  afterEach(() => vi.restoreAllMocks());
+
+  // The screen passes a stretch to the tap in one step only when no data line changes twice
+  // within ⌈screen⌉ - 1 samples; a pulse of just that width, alone in an otherwise quiet
+  // stretch, must still come out as the general path reports it (a glitch when under half a bit).
+  it('gives what the general path gives for pulses one sample either side of the limit, one or two lines on any bit (seeded PRNG)', () => {
+    const quietTaken = { n: 0 };
+    const quiet = AnomalyTap.prototype.quiet;
+    vi.spyOn(AnomalyTap.prototype, 'quiet').mockImplementation(function (this: AnomalyTap, ...args) {
+      const taken = quiet.apply(this, args);
+      if (taken) quietTaken.n++;
+      return taken;
+    });
+    const rng = seededRng(16);
+    let glitches = 0;
+    // 9 and 11 samples per bit: a pulse of ⌈screen⌉ - 1 samples is under half a bit; 26: past the bit history's reach
+    for (const spb of [5, 7, 9, 10, 11, 13, 20, 26]) {
+      for (const linkCount of [1, 2]) {
+        const names = ['a', 'b'].slice(0, linkCount);
+        const limit = Math.ceil(0.5 * spb * 1.0625) - 1;
+        const widths = [limit - 1, limit, limit + 1, limit + 2].filter((w) => w >= 1);
+        // one pulse per stretch of the fused feed (65 536 samples), each line in turn
+        const pulses = names.flatMap((channel, k) => widths.map((width, j) => ({ channel, sample: (1 + j + k * widths.length) * 70_000 + Math.floor(rng() * 1000), width })));
+        const bits = Math.ceil((pulses.length + 2) * 70_000 / spb);
+        const links = names.map((name, k) => ({ name, bits: mixedLine(spb * 10 + k, Math.ceil(bits / 150)) }));
+        const w = renderWaveform({ links, samplesPerBit: spb, samplePeriodSeconds: 1e-6, encoding: 'nrz', clock: { name: 'clk', edge: 'rising' }, faults: { glitches: pulses } });
+        // the data lines on random bits, bit 7 among them (its gathering differs)
+        const positions = [0, 1, 2, 3, 4, 5, 6, 7];
+        for (let k = 7; k > 0; k--) {
+          const j = Math.floor(rng() * (k + 1));
+          [positions[k], positions[j]] = [positions[j], positions[k]];
+        }
+        if (spb % 2 === 1) {
+          const at7 = positions.indexOf(7);
+          positions[at7] = positions[1];
+          positions[1] = 7;
+        }
+        const bytes = moveChannels(collect(rawChunks(w)), positions.slice(0, w.channels.length));
+        const channelNames = Array.from({ length: 8 }, (_, k) => `unused${k}`);
+        for (const c of w.channels) channelNames[positions[c.index]] = c.name;
+        const options: DecoderOptions = { format: 'raw', sampleRate: 1e6, channelNames, clock: 'clk', data: names, encoding: 'nrz', ...(linkCount === 2 ? { bitRate: 1e6 / spb } : {}) };
+        const what = `${spb} samples/bit, ${linkCount} line(s) on bits ${names.map((n) => channelNames.indexOf(n)).join(', ')}`;
+        const general = runWithTap({ ...options, rawFastPath: false }, bytes, [bytes.length]);
+        expect(general.dec.fatal(), what).toBeNull();
+        glitches += general.anomalies.filter((a) => a.kind === 'glitch').length;
+        const before = quietTaken.n;
+        for (const split of [[bytes.length], [1 + Math.floor(rng() * 100_000), 1 + Math.floor(rng() * 7)]]) {
+          const fused = runWithTap({ ...options, rawFastPath: true }, bytes, split);
+          expect(fused.anomalies, what).toEqual(general.anomalies);
+          expect(fused.spreads, what).toEqual(general.spreads);
+          expect(fused.frames, what).toEqual(general.frames);
+        }
+        // the fast feed took part: most stretches are quiet
+        expect(quietTaken.n - before, what).toBeGreaterThan(pulses.length);
+      }
+    }
+    expect(glitches).toBeGreaterThan(10);
   });
 });
 

@@ -260,6 +260,7 @@ export class AnomalyTap {
     // the same limits as classifyEdge: anything but an on-time edge is reported there. (d >= a·p
     // for any of a = silence, 1.5, stretch is d >= min(a)·p: p > 0 and rounding keeps the order.)
     const late = Math.min(this.silenceBits, 1.5, this.stretchFraction);
+    if (first < to && this.steady(clockEdges, first, to, start, late, screen)) return this.taken(clockEdges[to - 1], dataChannels, lastChange);
     // intervals counted by length while they are small whole numbers (raw samples give those),
     // so the histogram takes each length once
     const tally = this.tally;
@@ -305,7 +306,38 @@ export class AnomalyTap {
       }
     }
     this.period = p;
-    this.lastEdge = last;
+    return this.taken(last, dataChannels, lastChange);
+  }
+
+  /**
+   * quiet()'s shortcut, without the period's chain of dependent steps (each interval's step waits
+   * for the one before): when every interval of clockEdges[first, to) (from `start`) is one whole
+   * length and the period is already where a step of that length leaves it, the period stays as it
+   * is through the stretch. Then the checks are those of quiet() at that period, and the intervals
+   * go into the histogram in one step; true when taken (the period and histogram are set, the last
+   * edge and changes are the caller's), false to leave the stretch to the full loop.
+   */
+  private steady(clockEdges: Float64Array, first: number, to: number, start: number, late: number, screen: number): boolean {
+    let lo = clockEdges[first] - start;
+    let hi = lo;
+    let at = clockEdges[first];
+    for (let k = first + 1; k < to; k++) {
+      const s = clockEdges[k];
+      const d = s - at;
+      lo = Math.min(lo, d);
+      hi = Math.max(hi, d);
+      at = s;
+    }
+    const p = this.period;
+    if (lo !== hi || !(lo < TALLY && (lo | 0) === lo) || p + (lo - p) / 64 !== p) return false;
+    if (lo < 0.5 * p || lo >= late * p || this.glitchFraction * p > screen) return false;
+    this.histogram.addRepeated(lo, to - first, p);
+    return true;
+  }
+
+  /** a stretch taken by quiet(): the last accepted edge and each data line's last change move */
+  private taken(lastEdge: number, dataChannels: Int32Array, lastChange: Float64Array): boolean {
+    this.lastEdge = lastEdge;
     for (let k = 0; k < dataChannels.length; k++) {
       const c = dataChannels[k];
       if (this.role[c] === DATA) this.lastChange[c] = lastChange[k];

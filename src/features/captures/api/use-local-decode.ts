@@ -1,5 +1,5 @@
 import { useCallback, useEffect, useRef, useState } from 'react';
-import type { CaptureSettings } from '../../../../shared/schemas';
+import { captureSettingsSchema, type CaptureSettings } from '../../../../shared/schemas';
 import type { FromWorker, LocalHints, LocalResult, PreviewFrame, ToWorker } from '../local-decode/messages';
 
 export type LocalDecodeState =
@@ -41,17 +41,19 @@ export function useLocalDecode() {
           case 'find-progress':
             setState({ phase: 'finding', bytesRead: m.bytesRead, budget: m.budget });
             break;
-          case 'found':
+          case 'found': {
             summary = m.summary;
-            if (!m.settings) {
+            const parsed = m.candidate ? captureSettingsSchema.safeParse(m.candidate) : null;
+            if (!parsed?.success) {
               setState({ phase: 'not-found', summary: m.summary, advice: m.advice });
               stop();
               break;
             }
-            settings = m.settings;
+            settings = parsed.data;
             setState({ phase: 'decoding', settings, summary, bytesRead: 0, total: file.size, frames: 0 });
             send({ type: 'decode', file, settings });
             break;
+          }
           case 'progress':
             if (settings) setState({ phase: 'decoding', settings, summary, bytesRead: m.bytesRead, total: m.total, frames: m.frames });
             break;

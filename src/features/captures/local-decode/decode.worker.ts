@@ -8,7 +8,10 @@ import { DecodedCaptureEncoder } from '../../../../shared/decoded-capture/encode
 import { Sha256 } from '../../../../shared/decoded-capture/sha256';
 import { discover, type CaptureSource } from '../../../../shared/decoder/finder';
 import type { DecodedFrame } from '../../../../shared/decoder';
-import { captureSettingsSchema, DECODED_MEDIA_TYPE, type CaptureSettings } from '../../../../shared/schemas';
+// the decoded-capture file's names without its schemas: the worker loads no validation library,
+// which took a quarter of a second of its start (the page validates the settings it is sent)
+import { DECODED_MEDIA_TYPE } from '../../../../shared/schemas/decoded-format';
+import type { CaptureSettings } from '../../../../shared/schemas';
 import { decoderOptions } from '../../../../shared/decoder-options';
 import { fingerprintLine } from '../../../../shared/decoded-capture/lines';
 import { openDecodedOutput } from './decoded-output';
@@ -27,12 +30,8 @@ function fileSource(file: File): CaptureSource {
 
 async function find(file: File, hints: LocalHints): Promise<void> {
   const d = await discover(fileSource(file), hints, (p) => post({ type: 'find-progress', bytesRead: p.bytesRead, budget: p.budget }));
-  let settings: CaptureSettings | null = null;
-  if (d.settings) {
-    const parsed = captureSettingsSchema.safeParse({ ...d.settings, sampleRate: d.settings.sampleRate ?? hints.sampleRate ?? null });
-    if (parsed.success) settings = parsed.data;
-  }
-  post({ type: 'found', settings, summary: d.finder.summary, advice: d.finder.found ? [] : [...d.finder.advice, ...d.finder.cautions] });
+  const candidate = d.settings ? { ...d.settings, sampleRate: d.settings.sampleRate ?? hints.sampleRate ?? null } : null;
+  post({ type: 'found', candidate, summary: d.finder.summary, advice: d.finder.found ? [] : [...d.finder.advice, ...d.finder.cautions] });
 }
 
 function summaryOf(f: DecodedFrame): string {
@@ -50,6 +49,8 @@ function preview(f: DecodedFrame, period: number): PreviewFrame {
 
 /** bytes read per step, into one buffer that goes back and forth with the stream */
 const READ_BYTES = 1 << 20;
+/** bytes the decoder takes at a time until the first frame is out */
+const FIRST_STEP = 1 << 16;
 
 /**
  * The file's bytes through File.stream(). A byte stream is read into one reused buffer (BYOB):
@@ -129,8 +130,20 @@ async function decode(file: File, settings: CaptureSettings): Promise<void> {
   for (;;) {
     const { done, value } = await chunks.next();
     if (done) break;
+    // until the first frames are out, the decoder takes the bytes in small steps, each followed by
+    // a look for frames: the first frames then go out without waiting for a whole read (1 MB, which
+    // the decoder and the hash take slowly while they are not yet compiled); the hash follows
+    let at = 0;
+    while (first === null && at < value.length && !enc.fatal()) {
+      enc.push(value.subarray(at, Math.min(value.length, at + FIRST_STEP)));
+      at += FIRST_STEP;
+      if (shown.length > 0) {
+        post({ type: 'frames', frames: shown });
+        shown = [];
+      }
+    }
+    if (at < value.length) enc.push(value.subarray(at));
     hash.update(value);
-    enc.push(value);
     bytes += value.length;
     if (enc.fatal()) break;
     for (const part of enc.takeParts()) output.write(part);

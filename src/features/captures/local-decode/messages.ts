@@ -44,7 +44,8 @@ export interface LocalResult {
 
 export type FromWorker =
   | { type: 'find-progress'; bytesRead: number; budget: number }
-  | { type: 'found'; settings: CaptureSettings | null; summary: string; advice: string[] }
+  /** the finder's settings, not yet validated (the page checks them against the settings schema) */
+  | { type: 'found'; candidate: Record<string, unknown> | null; summary: string; advice: string[] }
   | { type: 'progress'; bytesRead: number; total: number; frames: number }
   | { type: 'frames'; frames: PreviewFrame[] }
   | { type: 'done'; result: LocalResult }
