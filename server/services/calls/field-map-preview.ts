@@ -5,7 +5,7 @@
 import { and, asc, desc, eq, gt, isNotNull, sql } from 'drizzle-orm';
 import type { PreviewEmpty, PreviewFrame, PreviewFrames, PreviewFramesQuery } from '../../../shared/schemas';
 import { prepared } from '../../db/prepared';
-import { allRows } from '../../db/rows';
+import { allRows, type RowOf } from '../../db/rows';
 import { captures, frames } from '../../db/schema';
 import { payloadLength } from '../../runs/run-writer';
 import { findCapture } from '../captures/rows';
@@ -31,7 +31,7 @@ const frameColumns = {
   flippedBit: frames.flippedBit,
   bytes: frames.bytes,
 };
-type Row = { [K in keyof typeof frameColumns]: (typeof frames.$inferSelect)[K] };
+type Row = RowOf<typeof frameColumns>;
 
 function toPreview(r: Row, names: Map<number, string>): PreviewFrame {
   const stationName = r.address === null ? null : (names.get(r.address) ?? null);
