@@ -1,4 +1,6 @@
-// Capture ingest and timeline benchmarks: `npx tsx server/cli/bench-captures.ts [--frames 1000000]`.
+// Capture ingest and timeline benchmarks: `npx tsx server/cli/bench-captures.ts [--frames 1000000] [--built]`.
+// `--built` runs the same code as `npm start` does, bundled beside dist/server's workers, so worker
+// start-up is not the TypeScript loader compiling them.
 // Generates a line-bit capture with our own encoder, decodes it through the real job runner and
 // worker into a fresh database, then times timeline pages, counts, frame detail and waveform
 // windows server-side (service calls, no HTTP). Targets are printed beside the figures, not asserted.
@@ -16,7 +18,12 @@ import { findCapture, parseSettings } from '../services/captures/rows';
 import { waveformWindow } from '../services/captures/waveform';
 
 const { values } = parseArgs({
-  options: { frames: { type: 'string', default: '1000000' }, 'vcd-frames': { type: 'string', default: '6000' }, keep: { type: 'boolean', default: false } },
+  options: {
+    frames: { type: 'string', default: '1000000' },
+    'vcd-frames': { type: 'string', default: '6000' },
+    keep: { type: 'boolean', default: false },
+    built: { type: 'boolean', default: false },
+  },
 });
 const FRAMES = Number(values.frames);
 const BLOCK = 5000;
@@ -231,8 +238,27 @@ async function main() {
   }
 }
 
+/** Bundles this benchmark into dist/server beside the built workers and runs it there. */
+async function runBuilt(): Promise<number> {
+  const { ensureServerBuild, serverDist, BUNDLED_WORKERS } = await import('./server-build.mjs');
+  await ensureServerBuild('start');
+  const { build } = await import('esbuild');
+  const out = path.join(serverDist, `bench-captures-${process.pid}.mjs`);
+  const here = new URL(import.meta.url).pathname;
+  await build({ entryPoints: [here], outfile: out, bundle: true, format: 'esm', platform: 'node', target: 'node20', packages: 'external', logLevel: 'warning', define: { ...BUNDLED_WORKERS, BENCH_BUNDLED: 'true' } });
+  try {
+    const args = process.argv.slice(2).filter((a) => a !== '--built');
+    const { spawnSync } = await import('node:child_process');
+    return spawnSync(process.execPath, [out, ...args], { stdio: 'inherit' }).status ?? 1;
+  } finally {
+    fs.rmSync(out, { force: true });
+  }
+}
+declare const BENCH_BUNDLED: boolean | undefined;
+
 // exits when done: a handle the benchmark does not close (the timeline services', say) would keep it running
-main().then(() => process.exit(0), (err: unknown) => {
+if (values.built && typeof BENCH_BUNDLED === 'undefined') void runBuilt().then((code) => process.exit(code));
+else main().then(() => process.exit(0), (err: unknown) => {
   console.error(err);
   process.exit(1);
 });

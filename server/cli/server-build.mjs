@@ -24,6 +24,13 @@ export const SERVER_ENTRIES = {
   'read-worker-entry': 'server/db/read-worker.ts',
 };
 
+/** what a bundle in dist/server is told about the workers that sit beside it */
+export const BUNDLED_WORKERS = {
+  BUNDLED_DECODE_WORKER: JSON.stringify('./decode-worker-entry.mjs'),
+  BUNDLED_DECODE_THREAD: JSON.stringify('./decode-thread-entry.mjs'),
+  BUNDLED_READ_WORKER: JSON.stringify('./read-worker-entry.mjs'),
+};
+
 /** Besides the bundled sources, a change to these makes the build stale (dependencies, options). */
 const ALSO = ['package.json', 'tsconfig.json', 'server/cli/server-build.mjs'];
 
@@ -78,11 +85,7 @@ export async function buildServer() {
       packages: 'external',
       // the decode queue, the decode worker and the read pool start the bundled workers that sit
       // beside them (server/runs/decode-queue.ts, server/jobs/decode-worker.ts, server/db/read-pool.ts)
-      define: {
-        BUNDLED_DECODE_WORKER: JSON.stringify('./decode-worker-entry.mjs'),
-        BUNDLED_DECODE_THREAD: JSON.stringify('./decode-thread-entry.mjs'),
-        BUNDLED_READ_WORKER: JSON.stringify('./read-worker-entry.mjs'),
-      },
+      define: BUNDLED_WORKERS,
     }),
     // The CLI is one file with its one small package (crc) inside: every module node resolves
     // and loads is start-up time, and the CLI must answer within 150 ms.
