@@ -435,6 +435,49 @@ describe('clocked bit recovery: links that fill their chunks at different edges'
     expect(recovered.r.bits.get('d')).toEqual([0, 0, 0, 1, 1]);
     expect(recovered.r.samples.get('d')).toEqual([105, 115, 125, 135, 145]);
   });
+
+  it('keeps the recovered cells that are certain at a batch end when the capture then ends without a repeated level', () => {
+    // 10 samples a bit: the line falls at 100 (lock) and rises at 130; at the batch's last
+    // transition (a fall at 170) every cell before it is certain. The batch hands them on itself:
+    // a source that does not repeat the last level at the end (as the readers do) loses none
+    const sink = recoverySink();
+    const b = new BitRecovery({ samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false }, sink);
+    b.transitions(
+      tr([
+        [1, 0, 1],
+        [1, 100, 0],
+        [1, 130, 1],
+        [1, 170, 0],
+      ]),
+    );
+    b.finish();
+    expect(sink.r.bits.get('d')).toEqual([0, 0, 0, 1, 1, 1, 1]);
+    expect(sink.r.samples.get('d')).toEqual([105, 115, 125, 135, 145, 155, 165]);
+  });
+
+  it("ends a recovered-clock batch at its own last sample, not at a stale later one past n (the line is not known beyond it yet)", () => {
+    // the first batch's arrays hold stale entries (up to sample 200) after its n valid ones; the
+    // line rises at 130 in the next batch, so cells from 135 on are ones
+    const first = tr([
+      [1, 0, 1],
+      [1, 100, 0],
+      [1, 190, 0],
+      [1, 200, 0],
+    ]);
+    first.n = 2;
+    const sink = recoverySink();
+    const b = new BitRecovery({ samplePeriodSeconds: 1e-7, bitRate: 1e6, data: [{ channel: 1, link: 'd' }], edge: 'rising', encoding: 'nrz', invert: false }, sink);
+    b.transitions(first);
+    b.transitions(
+      tr([
+        [1, 130, 1],
+        [1, 150, 1],
+      ]),
+    );
+    b.finish();
+    expect(sink.r.bits.get('d')).toEqual([0, 0, 0, 1, 1]);
+    expect(sink.r.samples.get('d')).toEqual([105, 115, 125, 135, 145]);
+  });
 });
 
 describe('clocked bit recovery: edge cases of the sampled level', () => {
