@@ -7,6 +7,7 @@
 import fs from 'node:fs';
 import os from 'node:os';
 import path from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import { encodeLineBits, type LineItem, renderWaveform, octetsFromLineBits, vcdChunks } from '../../shared/decoder/encode';
 import { captureSettingsSchema, timelineQuerySchema, type TimelineQuery } from '../../shared/schemas';
@@ -244,8 +245,7 @@ async function runBuilt(): Promise<number> {
   await ensureServerBuild('start');
   const { build } = await import('esbuild');
   const out = path.join(serverDist, `bench-captures-${process.pid}.mjs`);
-  const here = new URL(import.meta.url).pathname;
-  await build({ entryPoints: [here], outfile: out, bundle: true, format: 'esm', platform: 'node', target: 'node20', packages: 'external', logLevel: 'warning', define: { ...BUNDLED_WORKERS, BENCH_BUNDLED: 'true' } });
+  await build({ entryPoints: [fileURLToPath(import.meta.url)], outfile: out, bundle: true, format: 'esm', platform: 'node', target: 'node20', packages: 'external', logLevel: 'warning', define: { ...BUNDLED_WORKERS, BENCH_BUNDLED: 'true' } });
   try {
     const args = process.argv.slice(2).filter((a) => a !== '--built');
     const { spawnSync } = await import('node:child_process');
